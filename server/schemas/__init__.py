@@ -1,0 +1,1 @@
+"""Pydantic schemas of the JSON API, one module per resource."""

@@ -1,0 +1,198 @@
+"""Schemas of POST /api/v1/cycle: a press cycle scenario and its results.
+
+Inputs take numbers in SI base units or strings with units ("5 bar"); results are in
+SI base units, listed in the response's ``units`` map.
+"""
+
+from typing import Literal
+
+from pydantic import BaseModel, ConfigDict, Field, model_validator
+
+from .quantities import quantity
+
+Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
+Density = quantity("density", ge=100.0, le=25000.0, description="Density")
+Viscosity = quantity("viscosity", ge=1e-5, le=10.0, description="Viscosity")
+Temperature = quantity("temperature", gt=273.15, lt=373.15, description="Temperature")
+Pressure = quantity("pressure", gt=0.0, le=1e8, description="Pressure")
+Length = quantity("length", gt=0.0, le=0.5, description="Chamber thickness")
+
+
+def _exactly_one(model: BaseModel, names: tuple[str, ...], required: bool = True) -> None:
+    given = [n for n in names if getattr(model, n) is not None]
+    listing = " or ".join(names)
+    if len(given) > 1:
+        raise ValueError(f"give only one of {listing}; got {' and '.join(given)}")
+    if required and not given:
+        raise ValueError(f"give one of {listing}")
+
+
+class Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid")
+
+
+class SlurryIn(Strict):
+    solids_mass_fraction: Fraction01 | None = Field(
+        None, description="Solids mass fraction of the slurry [-], e.g. \"12 %\""
+    )
+    solids_concentration: quantity(
+        "density", gt=0.0, le=5000.0, description="Dry solids per volume of slurry"
+    ) | None = None
+    solids_density: Density = Field(description="Density of the dry solids [kg/m³]")
+    liquid_density: Density | None = Field(
+        None, description="Filtrate density [kg/m³]; default water at the temperature, or 998 kg/m³"
+    )
+    viscosity: Viscosity | None = Field(None, description="Filtrate viscosity [Pa·s]")
+    temperature: Temperature | None = Field(
+        None, description="Slurry temperature for a water-like filtrate [K]; bare numbers in °C"
+    )
+
+    @model_validator(mode="after")
+    def _alternatives(self):
+        _exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
+        _exactly_one(self, ("viscosity", "temperature"))
+        return self
+
+
+class CakeIn(Strict):
+    resistance: quantity(
+        "specific_resistance", ge=1e5, le=1e17,
+        description="Average specific cake resistance at the reference pressure",
+    ) = Field(description="alpha_ref [m/kg]")
+    reference_pressure: Pressure | None = Field(
+        None, description="Pressure at which resistance applies [Pa]; needed when compressibility > 0"
+    )
+    compressibility: quantity(
+        "fraction", ge=0.0, lt=1.0, description="Cake compressibility s in alpha = alpha_ref (dP/p_ref)^s"
+    ) = 0.0
+    moisture: Fraction01 | None = Field(None, description="Liquid mass / wet cake mass [-]")
+    wet_to_dry_ratio: quantity(
+        "fraction", gt=1.0, le=100.0, description="Wet cake mass / dry cake mass"
+    ) | None = None
+    porosity: Fraction01 | None = Field(None, description="Cake void fraction [-]")
+
+    @model_validator(mode="after")
+    def _alternatives(self):
+        _exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
+        if self.compressibility > 0.0 and self.reference_pressure is None:
+            raise ValueError(
+                "give reference_pressure: with compressibility above 0 the resistance "
+                "is only defined at a stated pressure"
+            )
+        return self
+
+
+class PressIn(Strict):
+    filter_area: quantity("area", gt=0.0, le=1e4, description="Total filter area, both faces of every chamber") | None = None
+    plate_face_area: quantity("area", gt=0.0, le=50.0, description="Filtering area of one chamber face") | None = None
+    chambers: int | None = Field(None, ge=1, le=1000, description="Number of chambers [-]")
+    chamber_thickness: Length = Field(description="Chamber (frame) thickness [m]")
+    fill_fraction: quantity(
+        "fraction", gt=0.0, le=1.0, description="Fraction of the chamber volume the cake may fill"
+    ) = 1.0
+
+    @model_validator(mode="after")
+    def _geometry(self):
+        plates = self.plate_face_area is not None or self.chambers is not None
+        if self.filter_area is not None and plates:
+            raise ValueError("give either filter_area or plate_face_area with chambers, not both")
+        if self.filter_area is None:
+            if not plates:
+                raise ValueError("give filter_area, or plate_face_area with chambers")
+            if self.plate_face_area is None or self.chambers is None:
+                raise ValueError("plate_face_area and chambers go together: give both")
+        return self
+
+
+class ConstantPressureFeedIn(Strict):
+    mode: Literal["constant_pressure"] = "constant_pressure"
+    pressure: Pressure = Field(description="Pressure drop across cake and cloth [Pa]")
+
+
+class CycleIn(Strict):
+    downtime: quantity(
+        "time", gt=0.0, le=1e6, description="Open, discharge, clean, close per cycle"
+    ) = Field(description="[s]")
+    wash_ratio: quantity("fraction", ge=0.0, le=100.0, description="Wash volume / filtrate volume") = 0.0
+    washing: Literal["through", "simple"] = Field(
+        "through", description="through: wash rate 1/4 of final rate; simple: equal to it"
+    )
+    wash_pressure: Pressure | None = Field(None, description="[Pa]; default: the filtration pressure")
+    wash_viscosity: Viscosity | None = Field(None, description="[Pa·s]; default: the filtrate's")
+
+
+class CycleRequest(Strict):
+    slurry: SlurryIn
+    cake: CakeIn
+    medium_resistance: quantity(
+        "medium_resistance", ge=0.0, le=1e15, description="Filter medium (cloth) resistance R_m; 0 neglects it"
+    ) = Field(description="[1/m]")
+    press: PressIn
+    feed: ConstantPressureFeedIn
+    cycle: CycleIn
+    compare_thicknesses: list[Length] = Field(
+        default_factory=list, max_length=50, description="Chamber thicknesses to compare [m]"
+    )
+
+
+# ---- responses -------------------------------------------------------------------
+
+
+class DerivedOut(BaseModel):
+    c: float = Field(description="Dry solids deposited per filtrate volume [kg/m³]")
+    cake_volume_ratio: float = Field(description="Cake volume per filtrate volume [-]")
+    porosity: float = Field(description="Cake porosity [-]")
+    wet_to_dry_ratio: float = Field(description="Wet cake mass / dry cake mass [-]")
+    moisture: float = Field(description="Cake moisture, liquid / wet cake mass [-]")
+    solids_mass_fraction: float = Field(description="Solids mass fraction of the slurry [-]")
+    liquid_density: float = Field(description="[kg/m³]")
+    viscosity: float = Field(description="Filtrate viscosity [Pa·s]")
+    resistance_at_feed: float = Field(description="Specific cake resistance at the feed pressure [m/kg]")
+    filter_area: float = Field(description="[m²]")
+    chamber_volume: float = Field(description="Total chamber volume A L / 2 [m³]")
+    chambers_full_volume: float = Field(description="Filtrate volume when the chambers are full [m³]")
+    cake_constant: float | None = Field(description="K_p in t = K_p V²/2 + B V [s/m⁶]")
+    medium_constant: float | None = Field(description="B in t = K_p V²/2 + B V [s/m³]")
+    matched_chamber_thickness: float = Field(
+        description="Chamber thickness that the cake just fills at the unconstrained optimum [m]"
+    )
+    throughput_gain_unconstrained: float = Field(
+        description="Unconstrained optimum throughput / best feasible throughput - 1 [-]"
+    )
+
+
+class CycleOut(BaseModel):
+    filtrate_volume: float = Field(description="Filtrate per cycle [m³]")
+    filtration_time: float = Field(description="[s]")
+    wash_volume: float = Field(description="[m³]")
+    wash_time: float = Field(description="[s]")
+    downtime: float = Field(description="[s]")
+    cycle_time: float = Field(description="Filtration + wash + downtime [s]")
+    filtrate_throughput: float = Field(description="Filtrate per unit time over whole cycles [m³/s]")
+    solids_throughput: float = Field(description="Dry solids per unit time [kg/s]")
+    cake_thickness: float = Field(description="Cake thickness on each face [m]")
+    chamber_fill: float = Field(description="Cake volume / chamber volume [-]")
+    dry_cake_mass: float = Field(description="Dry cake per cycle [kg]")
+    wet_cake_mass: float = Field(description="Wet cake per cycle [kg]")
+    final_rate: float = Field(description="Filtrate flow at the end of filtration [m³/s]")
+    final_pressure: float = Field(description="Pressure at the end of filtration [Pa]")
+    limited_by: Literal["optimum", "chambers_full"]
+    feasible: bool = Field(description="The cake fits in the chambers (within fill_fraction)")
+
+
+class ThicknessOut(BaseModel):
+    chamber_thickness: float = Field(description="[m]")
+    best: CycleOut
+    chambers_full: CycleOut
+
+
+class CycleResponse(BaseModel):
+    derived: DerivedOut
+    best: CycleOut
+    unconstrained_optimum: CycleOut
+    chambers_full: CycleOut
+    thickness_comparison: list[ThicknessOut]
+    warnings: list[str]
+    cautions: list[str]
+    units: dict[str, str]
+    solver_version: str

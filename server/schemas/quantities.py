@@ -1,0 +1,61 @@
+"""Quantity fields: a number in SI or a string with a unit, parsed and range-checked.
+
+``quantity("pressure", gt=0, le=1e8)`` makes a pydantic field type that accepts 5e5 or
+"5 bar", stores SI floats, and refuses out-of-range values with a message that names
+the allowed range in the field's units (never silently clamps).
+"""
+
+from typing import Annotated
+
+from pydantic import BeforeValidator, WithJsonSchema
+
+from ..units import KINDS, UnitError, example, parse_quantity
+
+
+def _fmt(value: float, kind: str) -> str:
+    if kind == "temperature":
+        return f"{value - 273.15:.6g} degC"
+    label = KINDS[kind].label
+    text = f"{value:.6g}"
+    return text if label == "-" else f"{text} {label}"
+
+
+def range_text(kind, gt=None, ge=None, lt=None, le=None) -> str:
+    parts = []
+    if gt is not None:
+        parts.append(f"above {_fmt(gt, kind)}")
+    if ge is not None:
+        parts.append(f"at least {_fmt(ge, kind)}")
+    if lt is not None:
+        parts.append(f"below {_fmt(lt, kind)}")
+    if le is not None:
+        parts.append(f"at most {_fmt(le, kind)}")
+    return " and ".join(parts)
+
+
+def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str = ""):
+    """An Annotated float field type for one kind of quantity with an allowed range (SI)."""
+    allowed = range_text(kind, gt, ge, lt, le)
+
+    def parse(value):
+        try:
+            si = parse_quantity(value, kind)
+        except UnitError as exc:
+            raise ValueError(str(exc)) from None
+        ok = (
+            (gt is None or si > gt) and (ge is None or si >= ge)
+            and (lt is None or si < lt) and (le is None or si <= le)
+        )
+        if not ok:
+            raise ValueError(f"must be {allowed}; got {_fmt(si, kind)}")
+        return si
+
+    schema = {
+        "anyOf": [{"type": "number"}, {"type": "string"}],
+        "description": (
+            f"{description} [{KINDS[kind].label}]; a bare number is in "
+            f"{KINDS[kind].bare_unit or KINDS[kind].label}, or give a string with a unit "
+            f"such as {example(kind)}. Allowed: {allowed}."
+        ).strip(),
+    }
+    return Annotated[float, BeforeValidator(parse), WithJsonSchema(schema)]

@@ -1,0 +1,173 @@
+"""Slurry and cake mass balances (saturated cake, no dissolved solids).
+
+Nomenclature (SI): x solids mass fraction of the slurry [-]; c_s solids per volume of
+slurry [kg/m^3]; c dry solids deposited per volume of filtrate [kg/m^3]; m mass of wet
+cake / mass of dry cake [-]; w cake moisture, liquid mass / wet cake mass [-];
+epsilon cake porosity [-]; rho_s, rho_l solids and liquid density [kg/m^3];
+v cake volume per filtrate volume [-].
+
+References: Geankoplis, Transport Processes and Separation Process Principles,
+section 14.2 (c = rho x / (1 - m x)); Coulson & Richardson's Chemical Engineering
+Vol. 2, 5th ed., section 7.2 (cake volume per filtrate volume).
+"""
+
+from .errors import SolverInputError
+
+
+def wet_to_dry_from_moisture(moisture: float) -> float:
+    r"""Wet-to-dry cake mass ratio from moisture on a wet basis, :math:`m = 1/(1 - w)`.
+
+    Parameters
+    ----------
+    moisture : float
+        Liquid mass / wet cake mass [-], 0 < w < 1.
+
+    Examples
+    --------
+    >>> wet_to_dry_from_moisture(0.5)
+    2.0
+    """
+    if not (0.0 < moisture < 1.0):
+        raise SolverInputError("moisture", f"must be between 0 and 1 (0 % and 100 %); got {moisture:.6g}")
+    return 1.0 / (1.0 - moisture)
+
+
+def moisture_from_wet_to_dry(wet_to_dry_ratio: float) -> float:
+    r"""Moisture on a wet basis from the wet-to-dry mass ratio, :math:`w = 1 - 1/m`."""
+    _check_ratio(wet_to_dry_ratio)
+    return 1.0 - 1.0 / wet_to_dry_ratio
+
+
+def wet_to_dry_from_porosity(porosity: float, solids_density: float, liquid_density: float) -> float:
+    r"""Wet-to-dry mass ratio of a saturated cake,
+    :math:`m = 1 + \varepsilon\rho_l / ((1 - \varepsilon)\rho_s)`.
+
+    Parameters
+    ----------
+    porosity : float
+        Cake void fraction [-], 0 < epsilon < 1.
+    solids_density, liquid_density : float
+        [kg/m^3].
+
+    Examples
+    --------
+    >>> round(wet_to_dry_from_porosity(0.4, 3000.0, 1000.0), 6)
+    1.222222
+    """
+    if not (0.0 < porosity < 1.0):
+        raise SolverInputError("porosity", f"must be between 0 and 1 (exclusive); got {porosity:.6g}")
+    return 1.0 + porosity * liquid_density / ((1.0 - porosity) * solids_density)
+
+
+def porosity_from_wet_to_dry(wet_to_dry_ratio: float, solids_density: float, liquid_density: float) -> float:
+    r"""Porosity of a saturated cake from its wet-to-dry mass ratio (inverse of
+    :func:`wet_to_dry_from_porosity`),
+    :math:`\varepsilon = (m - 1)\rho_s / ((m - 1)\rho_s + \rho_l)`."""
+    _check_ratio(wet_to_dry_ratio)
+    liquid_per_solid = (wet_to_dry_ratio - 1.0) * solids_density
+    return liquid_per_solid / (liquid_per_solid + liquid_density)
+
+
+def _check_ratio(wet_to_dry_ratio: float) -> None:
+    if not wet_to_dry_ratio > 1.0:
+        raise SolverInputError(
+            "wet_to_dry_ratio", f"wet cake is heavier than dry cake: must be > 1; got {wet_to_dry_ratio:.6g}"
+        )
+
+
+def solids_per_filtrate_from_mass_fraction(
+    solids_mass_fraction: float, wet_to_dry_ratio: float, liquid_density: float
+) -> float:
+    r"""Dry solids deposited per volume of filtrate from the slurry's solids mass fraction.
+
+    .. math:: c = \frac{\rho_l x}{1 - m x}
+
+    Parameters
+    ----------
+    solids_mass_fraction : float
+        x [-], 0 < x < 1 and m x < 1.
+    wet_to_dry_ratio : float
+        m [-], > 1.
+    liquid_density : float
+        rho_l [kg/m^3].
+
+    Returns
+    -------
+    c : float
+        [kg/m^3].
+
+    References
+    ----------
+    Geankoplis, Transport Processes and Separation Process Principles, section 14.2,
+    and its Example 14.2-4.
+
+    Examples
+    --------
+    >>> round(solids_per_filtrate_from_mass_fraction(0.191, 2.0, 996.9), 1)
+    308.1
+    """
+    x, m = solids_mass_fraction, wet_to_dry_ratio
+    if not (0.0 < x < 1.0):
+        raise SolverInputError("solids_mass_fraction", f"must be between 0 and 1 (exclusive); got {x:.6g}")
+    if m * x >= 1.0:
+        raise SolverInputError(
+            "solids_mass_fraction",
+            f"the wet cake would hold all the liquid and leave no filtrate: needs solids mass fraction "
+            f"x < 1/m = {1.0 / m:.4g} with wet-to-dry ratio m = {m:.4g}; got x = {x:.4g}",
+        )
+    return liquid_density * x / (1.0 - m * x)
+
+
+def solids_per_filtrate_from_concentration(
+    solids_concentration: float, wet_to_dry_ratio: float, solids_density: float, liquid_density: float
+) -> float:
+    r"""Dry solids deposited per volume of filtrate from solids per volume of slurry.
+
+    One m^3 of slurry holds c_s kg of solids (volume c_s/rho_s); the cake keeps
+    (m - 1) c_s kg of liquid; the rest of the liquid is filtrate:
+
+    .. math:: c = \frac{c_s}{1 - c_s/\rho_s - (m - 1) c_s/\rho_l}
+
+    Parameters
+    ----------
+    solids_concentration : float
+        c_s [kg/m^3 of slurry], > 0.
+    wet_to_dry_ratio : float
+        m [-], > 1.
+    solids_density, liquid_density : float
+        [kg/m^3].
+
+    Examples
+    --------
+    >>> round(solids_per_filtrate_from_concentration(100.0, 2.0, 2500.0, 1000.0), 4)
+    116.2791
+    """
+    cs, m = solids_concentration, wet_to_dry_ratio
+    if not cs > 0.0:
+        raise SolverInputError("solids_concentration", f"must be > 0 kg/m^3; got {cs:.6g}")
+    filtrate_fraction = 1.0 - cs / solids_density - (m - 1.0) * cs / liquid_density
+    if filtrate_fraction <= 0.0:
+        limit = 1.0 / (1.0 / solids_density + (m - 1.0) / liquid_density)
+        raise SolverInputError(
+            "solids_concentration",
+            f"the cake would take up all the slurry and leave no filtrate: needs less than "
+            f"{limit:.4g} kg/m^3 with wet-to-dry ratio {m:.4g}; got {cs:.4g} kg/m^3",
+        )
+    return cs / filtrate_fraction
+
+
+def mass_fraction_from_solids_per_filtrate(c: float, wet_to_dry_ratio: float, liquid_density: float) -> float:
+    r"""Inverse of :func:`solids_per_filtrate_from_mass_fraction`,
+    :math:`x = c / (\rho_l + m c)`."""
+    return c / (liquid_density + wet_to_dry_ratio * c)
+
+
+def cake_volume_ratio(c: float, porosity: float, solids_density: float) -> float:
+    r"""Cake volume per filtrate volume, :math:`v = c / (\rho_s (1 - \varepsilon))` [-].
+
+    Examples
+    --------
+    >>> round(cake_volume_ratio(102.27, 0.4, 3000.0), 4)
+    0.0568
+    """
+    return c / (solids_density * (1.0 - porosity))

@@ -1,0 +1,140 @@
+"""Unit parsing at the web edge: "5 bar", "32 mm", "25 min", "12 %" -> SI floats.
+
+The solver never sees a unit. Every quantity field of the API accepts either a bare
+number in SI base units (temperature: degC) or a string "<number> <unit>" that pint
+can read, of the field's dimension.
+"""
+
+import math
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+
+import pint
+
+
+@dataclass(frozen=True)
+class Kind:
+    """A kind of quantity the API takes."""
+
+    name: str
+    si_unit: str  # pint spelling of the SI unit the solver uses
+    label: str  # how the SI unit is written for people
+    bare_unit: str | None = None  # unit of a bare number when not the SI unit
+
+
+KINDS = {
+    k.name: k
+    for k in [
+        Kind("pressure", "Pa", "Pa"),
+        Kind("length", "m", "m"),
+        Kind("area", "m**2", "m²"),
+        Kind("volume", "m**3", "m³"),
+        Kind("time", "s", "s"),
+        Kind("viscosity", "Pa*s", "Pa·s"),
+        Kind("density", "kg/m**3", "kg/m³"),
+        Kind("specific_resistance", "m/kg", "m/kg"),
+        Kind("medium_resistance", "1/m", "1/m"),
+        Kind("fraction", "dimensionless", "-"),
+        Kind("temperature", "K", "K", bare_unit="degC"),
+        Kind("flow", "m**3/s", "m³/s"),
+        Kind("flux", "m/s", "m³/(m²·s)"),
+        Kind("mass", "kg", "kg"),
+    ]
+}
+
+_NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_REPLACEMENTS = [
+    ("·", "*"), ("⋅", "*"), ("×", "*"), ("²", "^2"), ("³", "^3"), ("⁻¹", "^-1"),
+    ("µ", "u"), ("μ", "u"), ("°C", "degC"), ("°F", "degF"), ("℃", "degC"), ("wt%", "%"),
+    ("wt.%", "%"),
+]
+_POWER_SUFFIX = re.compile(r"\b(m|cm|mm|dm|ft|in)([23])\b")
+MAX_LENGTH = 64
+
+
+class UnitError(ValueError):
+    """A quantity string that cannot be read, or is of the wrong dimension."""
+
+
+@lru_cache(maxsize=1)
+def registry() -> pint.UnitRegistry:
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    # Gauge pressure is the pressure drop across cake and cloth when the filtrate
+    # leaves at atmospheric pressure, which is how presses are run.
+    ureg.define("barg = bar")
+    ureg.define("psig = psi")
+    ureg.define("gpm = gallon / minute")
+    return ureg
+
+
+def _normalise(unit: str) -> str:
+    for old, new in _REPLACEMENTS:
+        unit = unit.replace(old, new)
+    return _POWER_SUFFIX.sub(r"\1^\2", unit)
+
+
+def parse_quantity(value, kind: str) -> float:
+    """A number in SI (temperature: degC) or a "<number> <unit>" string -> SI float.
+
+    Raises UnitError with a message fit for a person when the string cannot be read,
+    the unit is unknown, or its dimension does not fit ``kind``.
+    """
+    k = KINDS[kind]
+    ureg = registry()
+    if isinstance(value, bool):
+        raise UnitError(f"expected a number or a quantity such as {example(kind)}")
+    if isinstance(value, int | float):
+        number, unit = float(value), None
+    elif isinstance(value, str):
+        if len(value) > MAX_LENGTH:
+            raise UnitError(f"a quantity is at most {MAX_LENGTH} characters")
+        match = _NUMBER.match(value)
+        if not match:
+            raise UnitError(
+                f"could not read {value!r}: write a number and a unit, such as {example(kind)}"
+            )
+        number, unit = float(match.group(1)), _normalise(match.group(2)) or None
+    else:
+        raise UnitError(f"expected a number or a quantity such as {example(kind)}")
+    if not math.isfinite(number):
+        raise UnitError("must be a finite number")
+    if unit is None:
+        if k.bare_unit is None:
+            return number
+        unit = k.bare_unit
+    try:
+        parsed = ureg.parse_units(unit)
+    except Exception:  # pint raises several kinds for unreadable units
+        raise UnitError(f"unknown unit {unit!r}; use, for example, {example(kind)}") from None
+    target = ureg.parse_units(k.si_unit)
+    if parsed.dimensionality != target.dimensionality:
+        raise UnitError(
+            f"{unit!r} is not a unit of {kind.replace('_', ' ')}; use, for example, {example(kind)}"
+        )
+    si = ureg.Quantity(number, parsed).to(target).magnitude
+    if not math.isfinite(si):
+        raise UnitError("must be a finite number")
+    return float(si)
+
+
+_EXAMPLES = {
+    "pressure": '"5 bar" or "70 psi"',
+    "length": '"32 mm" or "1.25 in"',
+    "area": '"120 m^2" or "1300 ft^2"',
+    "volume": '"2.5 m^3" or "250 L"',
+    "time": '"25 min" or "1.5 h"',
+    "viscosity": '"1.0 mPa*s" or "1 cP"',
+    "density": '"2650 kg/m^3" or "1.0 g/cm^3"',
+    "specific_resistance": '"1.5e11 m/kg" or "2.2e11 ft/lb"',
+    "medium_resistance": '"1e10 1/m" or "3e9 1/ft"',
+    "fraction": '"12 %" or 0.12',
+    "temperature": '"20 degC", "68 degF" or 20 (degC)',
+    "flow": '"30 m^3/h" or "120 gpm"',
+    "flux": '"150 L/(m^2*h)"',
+    "mass": '"12 kg" or "25 lb"',
+}
+
+
+def example(kind: str) -> str:
+    return _EXAMPLES[kind]

@@ -1,0 +1,27 @@
+import copy
+
+import pytest
+from fastapi.testclient import TestClient
+
+from server.app import create_app
+
+#: A plain constant-pressure scenario in SI numbers (invented, for the API tests).
+BASE_REQUEST = {
+    "slurry": {"solids_mass_fraction": 0.2, "solids_density": 2600.0, "viscosity": 1.0e-3},
+    "cake": {"resistance": 1.0e11, "wet_to_dry_ratio": 1.6},
+    "medium_resistance": 5.0e10,
+    "press": {"filter_area": 50.0, "chamber_thickness": 0.04},
+    "feed": {"mode": "constant_pressure", "pressure": 5.0e5},
+    "cycle": {"downtime": 1200.0},
+}
+
+
+@pytest.fixture(scope="session")
+def client():
+    with TestClient(create_app()) as c:
+        yield c
+
+
+@pytest.fixture
+def base_request():
+    return copy.deepcopy(BASE_REQUEST)

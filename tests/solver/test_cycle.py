@@ -1,0 +1,201 @@
+"""The cycle optimum, the chamber limit and the thickness comparison."""
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy.optimize import minimize_scalar
+
+from server.solver import (
+    ConstantPressure,
+    CycleSettings,
+    Filtration,
+    Press,
+    PressCase,
+    SolverInputError,
+    compare_thicknesses,
+    numeric_optimum_volume,
+    solve_cycle,
+)
+from server.solver import slurry as sb
+
+
+def make_case(alpha=1e11, R_m=5e10, area=50.0, L=0.04, dP=5e5, t_d=1200.0, wash_ratio=0.0,
+              washing="through", wash_pressure=None, wash_viscosity=None, mu=1e-3, c=250.0,
+              v=0.15, s=0.0, fill=1.0):
+    f = Filtration(c, v, 1.6, mu, alpha, 5e5, s, R_m)
+    return PressCase(
+        f, Press(area, L, fill), ConstantPressure(dP),
+        CycleSettings(t_d, wash_ratio, washing, wash_pressure, wash_viscosity),
+    )
+
+
+def brute_force_throughput(case):
+    """Throughput written out again from the domain primer, independently of the solver."""
+    f, p, cyc = case.filtration, case.press, case.cycle
+    dP = case.feed.pressure
+    alpha = f.resistance_ref * (dP / f.reference_pressure) ** f.compressibility
+    K_p = f.viscosity * alpha * f.solids_per_filtrate / (p.filter_area**2 * dP)
+    B = f.viscosity * f.medium_resistance / (p.filter_area * dP)
+    phi = {"through": 4.0, "simple": 1.0}[cyc.washing]
+    mu_w = cyc.wash_viscosity or f.viscosity
+    dP_w = cyc.wash_pressure or dP
+
+    def Q(V):
+        t_f = K_p * V * V / 2 + B * V
+        t_w = phi * cyc.wash_ratio * V * (K_p * V + B) * (mu_w / f.viscosity) * (dP / dP_w)
+        return V / (t_f + t_w + cyc.downtime)
+
+    return Q, K_p, B
+
+
+def test_at_the_optimum_filtration_time_is_downtime_plus_medium_term():
+    # Classic result (McCabe, Smith & Harriott, "Filtration"; domain primer): t_f* = t_d + B V*.
+    case = make_case(L=0.2)
+    sol = solve_cycle(case)
+    u = sol.unconstrained_optimum
+    assert u.filtration_time == pytest.approx(case.cycle.downtime + sol.B * u.filtrate_volume, rel=1e-12)
+
+
+def test_with_washing_filtration_plus_wash_is_downtime_plus_medium_term():
+    # Domain primer: t_f* + t_w* = t_d + B (1 + a) V*, a = phi r (mu_w/mu)(dP/dP_w).
+    case = make_case(L=0.3, wash_ratio=1.5, wash_pressure=3e5, wash_viscosity=0.8e-3)
+    sol = solve_cycle(case)
+    u = sol.unconstrained_optimum
+    a = 4 * 1.5 * 0.8 * (5e5 / 3e5)
+    assert u.filtration_time + u.wash_time == pytest.approx(
+        case.cycle.downtime + sol.B * (1 + a) * u.filtrate_volume, rel=1e-12
+    )
+
+
+def test_without_medium_resistance_filtration_time_equals_downtime():
+    sol = solve_cycle(make_case(R_m=0.0, L=0.3))
+    assert sol.unconstrained_optimum.filtration_time == pytest.approx(1200.0, rel=1e-12)
+
+
+@pytest.mark.parametrize("wash_ratio,washing", [(0.0, "through"), (1.0, "through"), (2.5, "simple")])
+@pytest.mark.parametrize("R_m", [0.0, 5e10, 2e12])
+def test_optimum_agrees_with_brute_force_scipy_to_1e_6(wash_ratio, washing, R_m):
+    case = make_case(R_m=R_m, wash_ratio=wash_ratio, washing=washing, L=0.5)
+    Q, _, _ = brute_force_throughput(case)
+    V_star = solve_cycle(case).unconstrained_optimum.filtrate_volume
+    res = minimize_scalar(lambda V: -Q(V), bounds=(1e-9, 100 * V_star), method="bounded",
+                          options={"xatol": 1e-12 * V_star, "maxiter": 2000})
+    assert res.x == pytest.approx(V_star, rel=1e-6)
+    assert Q(V_star) >= -res.fun * (1 - 1e-12)
+
+
+def test_numeric_optimum_matches_closed_form_to_1e_6():
+    # The general path (used by feed modes without a closed form) against the closed form.
+    case = make_case(wash_ratio=0.7, L=0.5)
+    Q, _, _ = brute_force_throughput(case)
+    closed = solve_cycle(case).unconstrained_optimum.filtrate_volume
+    assert numeric_optimum_volume(Q, 0.01) == pytest.approx(closed, rel=1e-6)
+
+
+@pytest.mark.parametrize("area", [5.0, 50.0, 400.0])
+def test_without_medium_fill_time_is_independent_of_filter_area(area):
+    # Domain primer: with B = 0 the time to fill the chambers does not depend on A.
+    ref = solve_cycle(make_case(R_m=0.0, area=50.0)).chambers_full.filtration_time
+    assert solve_cycle(make_case(R_m=0.0, area=area)).chambers_full.filtration_time == pytest.approx(ref, rel=1e-12)
+
+
+def test_without_medium_fill_time_scales_with_thickness_squared():
+    t1 = solve_cycle(make_case(R_m=0.0, L=0.025)).chambers_full.filtration_time
+    t2 = solve_cycle(make_case(R_m=0.0, L=0.05)).chambers_full.filtration_time
+    assert t2 == pytest.approx(4 * t1, rel=1e-12)
+
+
+@pytest.mark.reference
+def test_optimum_frame_thickness_coulson_richardson_example_7_2():
+    # Coulson & Richardson Vol. 2 (5th ed.), Example 7.2: whiting, 100 kg per m^3 water,
+    # solids 3000 kg/m^3, porosity 0.4, mu = 1 mPa*s, 1000 kN/m^2, cloth neglected,
+    # r = 8.25e13 m^-2 per unit cake volume (alpha c = r v), downtime 900 s.
+    # Printed optimum frame thickness 69.7 mm; 70.4 mm with v = 0.0568 used consistently.
+    eps, rho_s, rho_l = 0.4, 3000.0, 1000.0
+    m = sb.wet_to_dry_from_porosity(eps, rho_s, rho_l)
+    c = sb.solids_per_filtrate_from_mass_fraction(100 / 1100, m, rho_l)
+    v = sb.cake_volume_ratio(c, eps, rho_s)
+    alpha = 8.25e13 * v / c
+    f = Filtration(c, v, m, 1e-3, alpha, 1e6, 0.0, 0.0)
+    case = PressCase(f, Press(10.0, 0.05), ConstantPressure(1e6), CycleSettings(900.0))
+    sol = solve_cycle(case)
+    assert sol.matched_chamber_thickness == pytest.approx(0.0704, abs=1e-4)
+    assert sol.matched_chamber_thickness == pytest.approx(0.0697, rel=0.015)
+    # and at that thickness the chambers fill exactly when filtration time equals downtime
+    full = solve_cycle(PressCase(f, Press(10.0, sol.matched_chamber_thickness), case.feed, case.cycle))
+    assert full.chambers_full.filtration_time == pytest.approx(900.0, rel=1e-9)
+
+
+def test_best_cycle_is_capped_where_the_chambers_fill():
+    thin = solve_cycle(make_case(L=0.01))
+    assert thin.best.limited_by == "chambers_full"
+    assert thin.best == thin.chambers_full
+    assert thin.best.chamber_fill == pytest.approx(1.0)
+    assert thin.throughput_gain_unconstrained > 0
+    thick = solve_cycle(make_case(L=0.3))
+    assert thick.best.limited_by == "optimum"
+    assert thick.best == thick.unconstrained_optimum
+    assert thick.throughput_gain_unconstrained == 0.0
+
+
+def test_fill_fraction_stops_the_press_early():
+    full = solve_cycle(make_case(L=0.01, fill=1.0)).chambers_full
+    part = solve_cycle(make_case(L=0.01, fill=0.8)).chambers_full
+    assert part.filtrate_volume == pytest.approx(0.8 * full.filtrate_volume)
+    assert part.chamber_fill == pytest.approx(0.8)
+
+
+def test_thickness_comparison_rises_until_the_matched_thickness_then_stays():
+    case = make_case()
+    L_match = solve_cycle(case).matched_chamber_thickness
+    Ls = np.array([0.3, 0.6, 0.9, 1.2, 1.5]) * L_match
+    rows = compare_thicknesses(case, Ls)
+    Q = [sol.best.filtrate_throughput for _, sol in rows]
+    assert Q[0] < Q[1] < Q[2] < Q[3]
+    assert Q[3] == pytest.approx(Q[4], rel=1e-12)
+    assert [sol.best.limited_by for _, sol in rows] == ["chambers_full"] * 3 + ["optimum"] * 2
+
+
+def test_low_chamber_fill_at_the_optimum_gives_a_warning():
+    sol = solve_cycle(make_case(L=0.5))
+    assert sol.best.chamber_fill < 0.5
+    assert any("partly filled" in w for w in sol.warnings)
+
+
+def test_zero_downtime_is_refused():
+    with pytest.raises(SolverInputError) as err:
+        CycleSettings(0.0)
+    assert err.value.parameter == "downtime"
+
+
+def test_unknown_washing_is_refused():
+    with pytest.raises(SolverInputError):
+        CycleSettings(600.0, 1.0, "sideways")
+
+
+log_uniform = lambda lo, hi: st.floats(min_value=math.log(lo), max_value=math.log(hi)).map(math.exp)  # noqa: E731
+
+
+@settings(max_examples=150, deadline=None)
+@given(
+    alpha=log_uniform(1e8, 1e15), R_m=st.one_of(st.just(0.0), log_uniform(1e8, 1e13)),
+    area=log_uniform(0.1, 2000), L=log_uniform(0.005, 0.3), dP=log_uniform(1e4, 3e6),
+    t_d=log_uniform(10, 2e4), wash_ratio=st.floats(0, 5), s=st.floats(0, 0.95),
+    mu=log_uniform(2e-4, 0.5), c=log_uniform(1, 5000), v=log_uniform(1e-3, 3),
+)
+def test_random_cases_are_finite_and_best_beats_every_feasible_volume(
+    alpha, R_m, area, L, dP, t_d, wash_ratio, s, mu, c, v
+):
+    case = make_case(alpha=alpha, R_m=R_m, area=area, L=L, dP=dP, t_d=t_d,
+                     wash_ratio=wash_ratio, s=s, mu=mu, c=c, v=v)
+    sol = solve_cycle(case)
+    for r in (sol.best, sol.unconstrained_optimum, sol.chambers_full):
+        for value in r.__dict__.values():
+            if isinstance(value, float):
+                assert math.isfinite(value)
+    Q, _, _ = brute_force_throughput(case)
+    grid = np.linspace(1e-6, 1.0, 400) * sol.chambers_full_volume
+    assert sol.best.filtrate_throughput >= Q(grid).max() * (1 - 1e-9)
