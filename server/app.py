@@ -11,6 +11,16 @@ from .solver import SOLVER_VERSION
 from .views import register_filters
 
 
+class CachedStatic(StaticFiles):
+    """Static files; a URL with a content hash (?v=) may be cached for a year."""
+
+    async def get_response(self, path, scope):
+        response = await super().get_response(path, scope)
+        if b"v=" in scope.get("query_string", b"") and response.status_code == 200:
+            response.headers["cache-control"] = "public, max-age=31536000, immutable"
+        return response
+
+
 def create_app(settings: Settings | None = None) -> FastAPI:
     settings = settings or get_settings()
     app = FastAPI(
@@ -19,10 +29,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         description="Batch filter press cycles from lab filtration data. Quantities accept units.",
     )
     templates = Jinja2Templates(directory=PROJECT_ROOT / "templates")
-    register_filters(templates.env)
+    register_filters(templates.env, PROJECT_ROOT / "static")
     app.state.templates = templates
     app.state.settings = settings
-    app.mount("/static", StaticFiles(directory=PROJECT_ROOT / "static"), name="static")
+    app.mount("/static", CachedStatic(directory=PROJECT_ROOT / "static"), name="static")
     app.include_router(cycle.router)
     app.include_router(pages.router)
     errors.install(app, templates)

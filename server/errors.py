@@ -8,7 +8,7 @@ import logging
 
 from fastapi import Request
 from fastapi.exceptions import RequestValidationError
-from fastapi.responses import HTMLResponse, JSONResponse
+from fastapi.responses import JSONResponse
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
 log = logging.getLogger("presscycle")

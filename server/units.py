@@ -81,7 +81,6 @@ def parse_quantity(value, kind: str) -> float:
     the unit is unknown, or its dimension does not fit ``kind``.
     """
     k = KINDS[kind]
-    ureg = registry()
     if isinstance(value, bool):
         raise UnitError(f"expected a number or a quantity such as {example(kind)}")
     if isinstance(value, int | float):
@@ -103,19 +102,29 @@ def parse_quantity(value, kind: str) -> float:
         if k.bare_unit is None:
             return number
         unit = k.bare_unit
+    to_si = _converter(unit, k.si_unit, kind)
+    si = to_si(number)
+    if not math.isfinite(si):
+        raise UnitError("must be a finite number")
+    return float(si)
+
+
+@lru_cache(maxsize=512)
+def _converter(unit: str, si_unit: str, kind: str):
+    """A function number -> SI for one unit string (cached: pint parsing is slow)."""
+    ureg = registry()
     try:
         parsed = ureg.parse_units(unit)
     except Exception:  # pint raises several kinds for unreadable units
         raise UnitError(f"unknown unit {unit!r}; use, for example, {example(kind)}") from None
-    target = ureg.parse_units(k.si_unit)
+    target = ureg.parse_units(si_unit)
     if parsed.dimensionality != target.dimensionality:
         raise UnitError(
             f"{unit!r} is not a unit of {kind.replace('_', ' ')}; use, for example, {example(kind)}"
         )
-    si = ureg.Quantity(number, parsed).to(target).magnitude
-    if not math.isfinite(si):
-        raise UnitError("must be a finite number")
-    return float(si)
+    zero = ureg.Quantity(0.0, parsed).to(target).magnitude
+    scale = ureg.Quantity(1.0, parsed).to(target).magnitude - zero
+    return lambda number: zero + scale * number
 
 
 _EXAMPLES = {

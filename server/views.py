@@ -1,5 +1,6 @@
 """Formatting for pages: every number a person sees carries its unit."""
 
+import hashlib
 import math
 
 
@@ -18,5 +19,22 @@ def fmt(value, digits: int = 3) -> str:
     return f"{value:,.{decimals}f}"
 
 
-def register_filters(env) -> None:
+def register_filters(env, static_root) -> None:
     env.filters["fmt"] = fmt
+    env.globals["static_url"] = StaticUrls(static_root)
+
+
+class StaticUrls:
+    """URLs of static files with a content hash, so browsers may cache them for long."""
+
+    def __init__(self, root, prefix: str = "/static"):
+        self.root = root
+        self.prefix = prefix
+        self._hashes: dict[str, str] = {}
+
+    def __call__(self, path: str) -> str:
+        digest = self._hashes.get(path)
+        if digest is None:
+            digest = hashlib.sha256((self.root / path).read_bytes()).hexdigest()[:12]
+            self._hashes[path] = digest
+        return f"{self.prefix}/{path}?v={digest}"

@@ -11,11 +11,12 @@ from pydantic import BaseModel, ConfigDict, Field, model_validator
 from .quantities import quantity
 
 Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
+SolidsFraction = quantity("fraction", ge=1e-6, lt=1.0, description="Solids mass fraction of the slurry")
 Density = quantity("density", ge=100.0, le=25000.0, description="Density")
 Viscosity = quantity("viscosity", ge=1e-5, le=10.0, description="Viscosity")
 Temperature = quantity("temperature", gt=273.15, lt=373.15, description="Temperature")
-Pressure = quantity("pressure", gt=0.0, le=1e8, description="Pressure")
-Length = quantity("length", gt=0.0, le=0.5, description="Chamber thickness")
+Pressure = quantity("pressure", ge=100.0, le=1e8, description="Pressure")
+Length = quantity("length", ge=1e-3, le=0.5, description="Chamber thickness")
 
 
 def _exactly_one(model: BaseModel, names: tuple[str, ...], required: bool = True) -> None:
@@ -32,11 +33,11 @@ class Strict(BaseModel):
 
 
 class SlurryIn(Strict):
-    solids_mass_fraction: Fraction01 | None = Field(
+    solids_mass_fraction: SolidsFraction | None = Field(
         None, description="Solids mass fraction of the slurry [-], e.g. \"12 %\""
     )
     solids_concentration: quantity(
-        "density", gt=0.0, le=5000.0, description="Dry solids per volume of slurry"
+        "density", ge=1e-3, le=5000.0, description="Dry solids per volume of slurry"
     ) | None = None
     solids_density: Density = Field(description="Density of the dry solids [kg/m³]")
     liquid_density: Density | None = Field(
@@ -83,12 +84,16 @@ class CakeIn(Strict):
 
 
 class PressIn(Strict):
-    filter_area: quantity("area", gt=0.0, le=1e4, description="Total filter area, both faces of every chamber") | None = None
-    plate_face_area: quantity("area", gt=0.0, le=50.0, description="Filtering area of one chamber face") | None = None
+    filter_area: quantity(
+        "area", ge=1e-3, le=1e4, description="Total filter area, both faces of every chamber"
+    ) | None = None
+    plate_face_area: quantity(
+        "area", ge=1e-3, le=50.0, description="Filtering area of one chamber face"
+    ) | None = None
     chambers: int | None = Field(None, ge=1, le=1000, description="Number of chambers [-]")
     chamber_thickness: Length = Field(description="Chamber (frame) thickness [m]")
     fill_fraction: quantity(
-        "fraction", gt=0.0, le=1.0, description="Fraction of the chamber volume the cake may fill"
+        "fraction", ge=0.01, le=1.0, description="Fraction of the chamber volume the cake may fill"
     ) = 1.0
 
     @model_validator(mode="after")
@@ -111,7 +116,7 @@ class ConstantPressureFeedIn(Strict):
 
 class CycleIn(Strict):
     downtime: quantity(
-        "time", gt=0.0, le=1e6, description="Open, discharge, clean, close per cycle"
+        "time", ge=1.0, le=1e6, description="Open, discharge, clean, close per cycle"
     ) = Field(description="[s]")
     wash_ratio: quantity("fraction", ge=0.0, le=100.0, description="Wash volume / filtrate volume") = 0.0
     washing: Literal["through", "simple"] = Field(

@@ -12,11 +12,16 @@ from pydantic import BeforeValidator, WithJsonSchema
 from ..units import KINDS, UnitError, example, parse_quantity
 
 
-def _fmt(value: float, kind: str) -> str:
+def _number(value: float, digits: int) -> str:
+    text = f"{value:.{digits}g}"
+    return text.replace("e+0", "e").replace("e+", "e").replace("e-0", "e-")
+
+
+def _fmt(value: float, kind: str, digits: int = 6) -> str:
     if kind == "temperature":
-        return f"{value - 273.15:.6g} degC"
+        return f"{_number(value - 273.15, digits)} degC"
     label = KINDS[kind].label
-    text = f"{value:.6g}"
+    text = _number(value, digits)
     return text if label == "-" else f"{text} {label}"
 
 
@@ -47,7 +52,7 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
             and (lt is None or si < lt) and (le is None or si <= le)
         )
         if not ok:
-            raise ValueError(f"must be {allowed}; got {_fmt(si, kind)}")
+            raise ValueError(f"must be {allowed}; got {_fmt(si, kind, 15)}")
         return si
 
     schema = {

@@ -1,0 +1,226 @@
+"""POST /api/v1/cycle: the contract, units at the edge, and bad input."""
+
+import copy
+import json
+import math
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from tests.conftest import BASE_REQUEST
+
+RESULT_FIELDS = {"filtrate_volume", "filtration_time", "wash_time", "cycle_time",
+                 "filtrate_throughput", "solids_throughput", "cake_thickness", "chamber_fill",
+                 "limited_by"}
+DERIVED_FIELDS = {"c", "cake_volume_ratio", "porosity", "wet_to_dry_ratio", "viscosity",
+                  "resistance_at_feed"}
+
+
+def post(client, body):
+    return client.post("/api/v1/cycle", json=body)
+
+
+def test_response_has_every_contract_field(client, base_request):
+    base_request["compare_thicknesses"] = [0.03, 0.05]
+    r = post(client, base_request)
+    assert r.status_code == 200
+    data = r.json()
+    assert DERIVED_FIELDS <= set(data["derived"])
+    for key in ("best", "unconstrained_optimum", "chambers_full"):
+        assert RESULT_FIELDS <= set(data[key])
+    assert [row["chamber_thickness"] for row in data["thickness_comparison"]] == [0.03, 0.05]
+    assert RESULT_FIELDS <= set(data["thickness_comparison"][0]["best"])
+    assert isinstance(data["warnings"], list)
+    assert data["unconstrained_optimum"]["limited_by"] == "optimum"
+    assert data["chambers_full"]["limited_by"] == "chambers_full"
+
+
+def test_results_are_the_solvers_in_si(client, base_request):
+    data = post(client, base_request).json()
+    b = data["best"]
+    assert b["cycle_time"] == pytest.approx(b["filtration_time"] + b["wash_time"] + b["downtime"])
+    assert b["filtrate_throughput"] == pytest.approx(b["filtrate_volume"] / b["cycle_time"])
+    assert b["solids_throughput"] == pytest.approx(data["derived"]["c"] * b["filtrate_throughput"])
+    # cake thickness is per face: chambers full at half the chamber thickness
+    full = data["chambers_full"]
+    assert full["cake_thickness"] == pytest.approx(base_request["press"]["chamber_thickness"] / 2)
+    assert full["chamber_fill"] == pytest.approx(1.0)
+
+
+def test_unit_strings_give_the_same_answer_as_si_numbers(client, base_request):
+    si = post(client, base_request).json()
+    text = copy.deepcopy(base_request)
+    text["slurry"].update(solids_mass_fraction="20 %", solids_density="2.6 g/cm^3", viscosity="1 cP")
+    text["cake"]["resistance"] = "1e11 m/kg"
+    text["medium_resistance"] = "5e10 1/m"
+    text["press"].update(filter_area="50 m^2", chamber_thickness="40 mm")
+    text["feed"]["pressure"] = "5 bar"
+    text["cycle"]["downtime"] = "20 min"
+    assert post(client, text).json()["best"] == pytest.approx(si["best"])
+
+
+def test_plates_and_chambers_give_the_filter_area(client, base_request):
+    base_request["press"] = {"plate_face_area": "1.25 m^2", "chambers": 20, "chamber_thickness": "40 mm"}
+    data = post(client, base_request).json()
+    assert data["derived"]["filter_area"] == pytest.approx(50.0)
+
+
+def test_temperature_gives_water_viscosity_and_density(client, base_request):
+    del base_request["slurry"]["viscosity"]
+    base_request["slurry"]["temperature"] = 20
+    d = post(client, base_request).json()["derived"]
+    assert d["viscosity"] == pytest.approx(1.0016e-3, rel=1e-3)  # IAPWS 2008 at 20 degC
+    assert d["liquid_density"] == pytest.approx(998.2, abs=0.1)
+
+
+def test_default_liquid_density_is_998_without_temperature(client, base_request):
+    assert post(client, base_request).json()["derived"]["liquid_density"] == 998.0
+
+
+def test_compressible_cake_resistance_follows_the_feed_pressure(client, base_request):
+    base_request["cake"].update(compressibility=0.5, reference_pressure="1 bar")
+    d = post(client, base_request).json()["derived"]
+    assert d["resistance_at_feed"] == pytest.approx(1e11 * 5**0.5)
+
+
+def test_washing_lengthens_the_cycle(client, base_request):
+    dry = post(client, base_request).json()["best"]
+    base_request["cycle"].update(wash_ratio=1.0, washing="through")
+    washed = post(client, base_request).json()["best"]
+    assert washed["wash_time"] > 0 and dry["wash_time"] == 0
+    assert washed["filtrate_throughput"] < dry["filtrate_throughput"]
+
+
+def errors_of(response):
+    assert response.status_code == 422, response.text
+    return {e["field"]: e["msg"] for e in response.json()["detail"]}
+
+
+@pytest.mark.parametrize(
+    "change,field,fragment",
+    [
+        (lambda b: b["slurry"].update(solids_concentration=100), "slurry", "only one of"),
+        (lambda b: b["slurry"].pop("solids_mass_fraction"), "slurry", "give one of"),
+        (lambda b: b["slurry"].update(temperature=20), "slurry", "only one of"),
+        (lambda b: b["slurry"].update(solids_mass_fraction=0.7), "slurry.solids_mass_fraction", "no filtrate"),
+        (lambda b: b["cake"].update(porosity=0.4), "cake", "only one of"),
+        (lambda b: b["cake"].pop("wet_to_dry_ratio") and b["cake"].update(porosity=1.0), "cake.porosity", "below 1"),
+        (lambda b: b["cake"].update(compressibility=1.0, reference_pressure=1e5), "cake.compressibility", "below 1"),
+        (lambda b: b["cake"].update(compressibility=0.3), "cake", "reference_pressure"),
+        (lambda b: b["cake"].update(resistance=0), "cake.resistance", "at least"),
+        (lambda b: b["cake"].update(resistance=-1e11), "cake.resistance", "at least"),
+        (lambda b: b.update(medium_resistance=-1), "medium_resistance", "at least 0"),
+        (lambda b: b["press"].update(filter_area=0), "press.filter_area", "at least 0.001"),
+        (lambda b: b["press"].update(chamber_thickness=-0.01), "press.chamber_thickness", "at least 0.001 m"),
+        (lambda b: b["press"].update(chambers=10), "press", "not both"),
+        (lambda b: b["feed"].update(pressure=0), "feed.pressure", "at least 100 Pa"),
+        (lambda b: b["feed"].update(pressure="5 kg"), "feed.pressure", "not a unit of pressure"),
+        (lambda b: b["feed"].update(pressure="5 blorps"), "feed.pressure", "unknown unit"),
+        (lambda b: b["slurry"].update(viscosity=0), "slurry.viscosity", "at least"),
+        (lambda b: b["cycle"].update(downtime=0), "cycle.downtime", "at least 1 s"),
+        (lambda b: b["cycle"].update(washing="sideways"), "cycle.washing", "through"),
+        (lambda b: b["cycle"].update(presure=1), "cycle.presure", "unknown field"),
+        (lambda b: b.update(compare_thicknesses=[0.03, -1]), "compare_thicknesses.1", "at least"),
+        (lambda b: b.pop("medium_resistance"), "medium_resistance", "required"),
+    ],
+)
+def test_bad_input_is_a_422_naming_the_field(client, base_request, change, field, fragment):
+    change(base_request)
+    errs = errors_of(post(client, base_request))
+    assert field in errs, errs
+    assert fragment in errs[field]
+
+
+def test_zero_medium_resistance_is_allowed(client, base_request):
+    base_request["medium_resistance"] = 0
+    assert post(client, base_request).status_code == 200
+
+
+def test_range_messages_name_the_allowed_range_with_units(client, base_request):
+    base_request["feed"]["pressure"] = "-3 bar"
+    msg = errors_of(post(client, base_request))["feed.pressure"]
+    assert "at least 100 Pa" in msg and "-300000 Pa" in msg
+
+
+def test_malformed_json_is_a_422_not_a_500(client):
+    r = client.post("/api/v1/cycle", content=b"{not json", headers={"content-type": "application/json"})
+    assert r.status_code == 422
+
+
+def _all_finite(obj):
+    if isinstance(obj, float):
+        return math.isfinite(obj)
+    if isinstance(obj, dict):
+        return all(_all_finite(v) for v in obj.values())
+    if isinstance(obj, list):
+        return all(_all_finite(v) for v in obj)
+    return True
+
+
+def log_uniform(lo, hi):
+    return st.floats(min_value=math.log(lo), max_value=math.log(hi)).map(math.exp)
+
+
+valid_bodies = st.fixed_dictionaries({
+    "slurry": st.fixed_dictionaries({
+        "solids_mass_fraction": st.floats(0.001, 0.3),
+        "solids_density": st.floats(1000, 8000),
+        "temperature": st.floats(1, 99),
+    }),
+    "cake": st.fixed_dictionaries({
+        "resistance": log_uniform(1e6, 1e16),
+        "reference_pressure": log_uniform(1e3, 1e7),
+        "compressibility": st.floats(0, 0.99),
+        "porosity": st.floats(0.05, 0.95),
+    }),
+    "medium_resistance": st.one_of(st.just(0.0), log_uniform(1e6, 1e14)),
+    "press": st.fixed_dictionaries({
+        "filter_area": log_uniform(0.01, 1e4), "chamber_thickness": log_uniform(1e-3, 0.5),
+        "fill_fraction": st.floats(0.05, 1.0),
+    }),
+    "feed": st.fixed_dictionaries({"mode": st.just("constant_pressure"), "pressure": log_uniform(1e3, 1e8)}),
+    "cycle": st.fixed_dictionaries({
+        "downtime": log_uniform(1, 1e6), "wash_ratio": st.floats(0, 100),
+        "washing": st.sampled_from(["through", "simple"]),
+    }),
+    "compare_thicknesses": st.lists(log_uniform(1e-3, 0.5), max_size=3),
+})
+
+
+@settings(max_examples=120, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(body=valid_bodies)
+def test_random_valid_inputs_give_finite_answers_or_a_plain_422(client, body):
+    r = post(client, body)
+    assert r.status_code in (200, 422), r.text
+    if r.status_code == 200:
+        data = r.json()
+        assert _all_finite(data)
+        assert data["best"]["filtrate_throughput"] > 0
+    else:
+        assert r.json()["detail"][0]["msg"]
+
+
+junk = st.one_of(
+    st.none(), st.booleans(), st.integers(-10**6, 10**6), st.floats(allow_nan=True, allow_infinity=True),
+    st.text(max_size=20), st.lists(st.integers(), max_size=3),
+    st.dictionaries(st.text(max_size=5), st.integers(), max_size=2),
+)
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(section=st.sampled_from(["slurry", "cake", "press", "feed", "cycle"]), key=st.text(max_size=25), value=junk,
+       pick=st.integers(0, 10))
+def test_random_invalid_inputs_never_give_a_500_or_nan(client, section, key, value, pick):
+    body = copy.deepcopy(BASE_REQUEST)
+    keys = list(body[section])
+    name = keys[pick % len(keys)] if pick < 6 else key
+    body[section][name] = value
+    r = client.post("/api/v1/cycle", content=json.dumps(body, allow_nan=True),
+                    headers={"content-type": "application/json"})
+    assert r.status_code in (200, 422), r.text
+    json.loads(r.text, parse_constant=_refuse_constant)  # no NaN or Infinity in the body
+
+
+def _refuse_constant(name):
+    raise AssertionError(f"response contains {name}")

@@ -1,0 +1,78 @@
+"""HTML pages and the demo cases: they load, tell their story, and fetch nothing from outside."""
+
+import re
+
+import pytest
+
+from server.cases import solve_request
+from server.demo import load_demo_cases
+from server.schemas.cycle import CycleRequest
+from server.settings import PROJECT_ROOT
+
+DEMOS = load_demo_cases(PROJECT_ROOT / "demo_cases")
+
+
+def test_home_lists_every_demo_case(client):
+    r = client.get("/")
+    assert r.status_code == 200
+    for d in DEMOS:
+        assert f"/demo/{d.slug}" in r.text
+    assert "licensed" in r.text  # the caution is on the page
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=lambda d: d.slug)
+def test_each_demo_page_shows_figures_with_units_and_the_caution(client, demo):
+    r = client.get(f"/demo/{demo.slug}")
+    assert r.status_code == 200
+    for unit in ("min", "m³/h", "kg/h", "mm", "%"):
+        assert unit in r.text
+    assert "Caution" in r.text
+
+
+def test_unknown_demo_is_a_404_page(client):
+    r = client.get("/demo/no-such-case")
+    assert r.status_code == 404
+    assert "Not found" in r.text
+
+
+def test_pages_load_nothing_from_another_host(client):
+    for path in ["/"] + [f"/demo/{d.slug}" for d in DEMOS]:
+        html = client.get(path).text
+        for url in re.findall(r'(?:src|href)="([^"]+)"', html):
+            assert not re.match(r"^(https?:)?//", url), (path, url)
+            if url.startswith("/static/"):
+                assert client.get(url).status_code == 200
+
+
+def test_there_are_at_least_four_invented_demo_cases():
+    assert len(DEMOS) >= 4
+    for d in DEMOS:
+        assert "Invented" in d.description
+
+
+def _solve(slug):
+    demo = next(d for d in DEMOS if d.slug == slug)
+    return solve_request(CycleRequest.model_validate(demo.inputs))
+
+
+def test_demo_chamber_limited_case_is_limited_by_the_chambers():
+    r = _solve("gypsum_chamber_limited")
+    assert r["best"]["limited_by"] == "chambers_full"
+    assert r["derived"]["throughput_gain_unconstrained"] > 0.2
+
+
+def test_demo_washed_case_spends_time_washing():
+    r = _solve("iron_oxide_pigment")
+    assert r["best"]["wash_time"] > r["best"]["filtration_time"]
+
+
+def test_demo_sludge_case_is_compressible_and_slow():
+    r = _solve("hydroxide_sludge")
+    assert r["derived"]["resistance_at_feed"] > 1e12
+    assert r["best"]["filtration_time"] > 20 * 60
+
+
+def test_demo_concentrate_case_reaches_its_optimum_before_the_chambers_fill():
+    r = _solve("copper_concentrate")
+    assert r["best"]["limited_by"] == "optimum"
+    assert r["best"]["chamber_fill"] > 0.5

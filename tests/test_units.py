@@ -1,0 +1,81 @@
+"""Unit parsing at the edge, against pint and NIST SP 811 exact conversions."""
+
+import pint
+import pytest
+
+from server.units import UnitError, parse_quantity
+
+UREG = pint.UnitRegistry()
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize(
+    "text,kind,si",
+    [
+        # NIST SP 811 (2008), appendix B: exact by definition.
+        ("1 atm", "pressure", 101325.0),
+        ("1 bar", "pressure", 1e5),
+        ("1 ft", "length", 0.3048),
+        ("1 in", "length", 0.0254),
+        ("1 ft^2", "area", 0.09290304),
+        ("1 ft^3", "volume", 0.028316846592),
+        ("1 gal", "volume", 3.785411784e-3),  # US gallon = 231 in^3 exactly
+        ("1 lb", "mass", 0.45359237),
+        ("1 cP", "viscosity", 1e-3),
+        ("1 h", "time", 3600.0),
+        ("1 L", "volume", 1e-3),
+        ("32 degF", "temperature", 273.15),
+        ("212 degF", "temperature", 373.15),
+    ],
+)
+def test_exact_conversions_of_nist_sp_811(text, kind, si):
+    assert parse_quantity(text, kind) == pytest.approx(si, rel=1e-12)
+
+
+@pytest.mark.reference
+def test_psi_matches_nist_sp_811():
+    # NIST SP 811: 1 psi = 6.894 757 E+03 Pa (lbf/in^2 from exact lb, ft and g_n).
+    assert parse_quantity("1 psi", "pressure") == pytest.approx(6894.757, rel=1e-7)
+    # domain primer check value: 2 atm = 4232.4 lbf/ft^2
+    ratio = parse_quantity("2 atm", "pressure") / parse_quantity("1 lbf/ft^2", "pressure")
+    assert ratio == pytest.approx(4232.4, rel=2e-5)
+
+
+@pytest.mark.parametrize(
+    "text,kind,unit",
+    [
+        ("5 bar", "pressure", "Pa"), ("6.7 psi", "pressure", "Pa"), ("338 kN/m^2", "pressure", "Pa"),
+        ("32 mm", "length", "m"), ("440 cm^2", "area", "m^2"), ("250 mL", "volume", "m^3"),
+        ("25 min", "time", "s"), ("23.5 g/L", "density", "kg/m^3"), ("1.5e11 m/kg", "specific_resistance", "m/kg"),
+        ("2e11 ft/lb", "specific_resistance", "m/kg"), ("3e9 1/ft", "medium_resistance", "1/m"),
+        ("30 m^3/h", "flow", "m^3/s"), ("1.2 mPa*s", "viscosity", "Pa*s"), ("62.4 lb/ft^3", "density", "kg/m^3"),
+    ],
+)
+def test_parsing_agrees_with_pint(text, kind, unit):
+    assert parse_quantity(text, kind) == pytest.approx(UREG.Quantity(text).to(unit).magnitude, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    "text,kind,si",
+    [("12 %", "fraction", 0.12), ("12 wt%", "fraction", 0.12), ("1 m²", "area", 1.0),
+     ("1 mPa·s", "viscosity", 1e-3), ("20 °C", "temperature", 293.15), ("30 m3/h", "flow", 30 / 3600),
+     ("5 barg", "pressure", 5e5), (" 7.5e5   Pa ", "pressure", 7.5e5), ("0.12", "fraction", 0.12)],
+)
+def test_engineering_spellings_are_read(text, kind, si):
+    assert parse_quantity(text, kind) == pytest.approx(si, rel=1e-12)
+
+
+def test_bare_numbers_are_si_except_temperature_in_celsius():
+    assert parse_quantity(5e5, "pressure") == 5e5
+    assert parse_quantity(20, "temperature") == pytest.approx(293.15)
+
+
+@pytest.mark.parametrize(
+    "value,kind,fragment",
+    [("5 kg", "pressure", "not a unit of pressure"), ("5 blorp", "pressure", "unknown unit"),
+     ("bar", "pressure", "could not read"), ("1e999 Pa", "pressure", "finite"), (True, "pressure", "expected"),
+     ("1" * 80, "pressure", "at most"), ("3 m", "area", "not a unit of area")],
+)
+def test_bad_quantities_get_plain_messages(value, kind, fragment):
+    with pytest.raises(UnitError, match=fragment):
+        parse_quantity(value, kind)
