@@ -8,16 +8,18 @@ Three layers, each tested on its own (see DEVELOPERS.md):
 """
 
 from .cycle import (
+    CurveCycle,
     CycleResult,
     CycleSettings,
     CycleSolution,
+    EndCriterion,
     PressCase,
     compare_thicknesses,
     numeric_optimum_volume,
     solve_cycle,
 )
 from .errors import SolverInputError
-from .feeds import ConstantPressure, Filtration
+from .feeds import ConstantPressure, ConstantRate, Filtration, PressureSteps, PumpCurve
 from .press import Press, filter_area_from_plates
 
 SOLVER_VERSION = "0.1.0"
@@ -25,6 +27,11 @@ SOLVER_VERSION = "0.1.0"
 __all__ = [
     "SOLVER_VERSION",
     "ConstantPressure",
+    "ConstantRate",
+    "CurveCycle",
+    "EndCriterion",
+    "PressureSteps",
+    "PumpCurve",
     "CycleResult",
     "CycleSettings",
     "CycleSolution",

@@ -93,5 +93,15 @@ def volume_at_time(t, K_p, B):
 
 
 def rate_at_volume(V, K_p, B):
-    r"""Filtrate flow when V has been collected, :math:`dV/dt = 1/(K_p V + B)` [m^3/s]."""
-    return 1.0 / (K_p * V + B)
+    r"""Filtrate flow when V has been collected, :math:`dV/dt = 1/(K_p V + B)` [m^3/s].
+
+    Infinite at V = 0 when B = 0 (no cloth resistance): the first instant's flow is unbounded.
+    """
+    return reciprocal(K_p * np.asarray(V, dtype=float) + B)
+
+
+def reciprocal(x):
+    """1/x for floats or arrays, inf where x = 0 (no warning)."""
+    with np.errstate(divide="ignore"):
+        out = np.divide(1.0, np.asarray(x, dtype=float))
+    return out if out.ndim else float(out)

@@ -98,90 +98,206 @@ class PressCase:
     cycle: CycleSettings
 
 
+END_CRITERIA = ("best", "chambers_full", "time", "flow", "pressure")
+
+
+@dataclass(frozen=True)
+class EndCriterion:
+    """How the engineer ends filtration (all SI).
+
+    criterion "best" (highest throughput within the chambers), "chambers_full", "time"
+    (``time`` [s]), "flow" (one of ``flow`` [m^3/s], ``flow_per_area`` [m/s] or
+    ``flow_fraction`` of the initial flow [-]) or "pressure" (``pressure`` [Pa]).
+    """
+
+    criterion: str = "best"
+    time: float | None = None
+    flow: float | None = None
+    flow_per_area: float | None = None
+    flow_fraction: float | None = None
+    pressure: float | None = None
+
+    def __post_init__(self):
+        if self.criterion not in END_CRITERIA:
+            raise SolverInputError(
+                "criterion", f"must be one of {', '.join(END_CRITERIA)}; got {self.criterion!r}"
+            )
+        needs = {"time": ("time",), "pressure": ("pressure",),
+                 "flow": ("flow", "flow_per_area", "flow_fraction")}
+        names = needs.get(self.criterion, ())
+        given = [n for n in names if getattr(self, n) is not None]
+        if names and len(given) != 1:
+            raise SolverInputError(
+                names[0], f"the {self.criterion!r} end criterion needs exactly one of {' or '.join(names)}"
+            )
+        for n in given:
+            value = getattr(self, n)
+            if not value > 0.0 or (n == "flow_fraction" and not value < 1.0):
+                allowed = "between 0 and 1 (exclusive)" if n == "flow_fraction" else "> 0"
+                raise SolverInputError(n, f"must be {allowed}; got {value:.6g}")
+
+
+@dataclass(frozen=True)
+class EndResult:
+    cycle: CycleResult
+    end_reason: str  # optimum, chambers_full, time, flow or pressure
+    throughput_ratio_to_best: float
+
+
 @dataclass(frozen=True)
 class CycleSolution:
     best: CycleResult
     unconstrained_optimum: CycleResult
     chambers_full: CycleResult
+    at_end: EndResult
     chambers_full_volume: float  # m^3
     matched_chamber_thickness: float  # m: the chambers just fill at the optimum
     throughput_gain_unconstrained: float  # Q*/Q_best - 1: what the chamber limit costs
+    curves: dict
     K_p: float | None = None
     B: float | None = None
     warnings: list[str] = field(default_factory=list)
 
 
-class _CycleModel:
-    """The curve of one case, with the wash and downtime that turn it into cycles."""
+class CurveCycle:
+    """A feed's filtration curve with the wash and downtime that turn it into cycles.
 
-    def __init__(self, case: PressCase):
-        self.case = case
-        self.curve = case.feed.curve(case.filtration, case.press.filter_area)
-        self.v = case.filtration.cake_volume_ratio
+    Independent of chamber thickness: one CurveCycle serves a whole thickness comparison.
+    """
+
+    def __init__(self, filtration: Filtration, filter_area: float, feed, cycle: CycleSettings, V_needed: float):
+        self.filtration, self.filter_area, self.feed, self.cycle = filtration, filter_area, feed, cycle
+        self.curve = feed.curve(filtration, filter_area, 4.0 * V_needed)
+        self.V_star = self._optimum_volume(V_needed)
+        # A tabulated curve must reach well past the optimum; extend it when it does not.
+        for _ in range(8):
+            limit = getattr(self.curve, "V_max", None)
+            if limit is None or self.V_star <= 0.5 * limit:
+                break
+            self.curve = feed.curve(filtration, filter_area, 4.0 * self.V_star)
+            self.V_star = self._optimum_volume(V_needed)
 
     def wash_time(self, V):
-        c = self.case.cycle
+        c = self.cycle
         if c.wash_ratio == 0.0:
             return np.zeros_like(np.asarray(V, dtype=float)) if np.ndim(V) else 0.0
         final_pressure = self.curve.pressure_at(V)
+        mu = self.filtration.viscosity
         return wash_time(
-            c.wash_ratio * V,
-            self.curve.rate(V),
-            c.washing,
-            self.case.filtration.viscosity,
-            c.wash_viscosity or self.case.filtration.viscosity,
-            final_pressure,
-            c.wash_pressure if c.wash_pressure is not None else final_pressure,
+            c.wash_ratio * V, self.curve.rate(V), c.washing, mu, c.wash_viscosity or mu,
+            final_pressure, c.wash_pressure if c.wash_pressure is not None else final_pressure,
         )
 
     def throughput(self, V):
         """Filtrate throughput V / (t_f + t_w + t_d) [m^3/s], vectorised."""
-        return V / (self.curve.time(V) + self.wash_time(V) + self.case.cycle.downtime)
+        return V / (self.curve.time(V) + self.wash_time(V) + self.cycle.downtime)
 
-    def wash_coefficient(self) -> float | None:
-        """a in t_w = a V / rate(V), when the wash pressure ratio is constant."""
-        c = self.case.cycle
-        mu = self.case.filtration.viscosity
-        mu_w = c.wash_viscosity or mu
-        p = getattr(self.curve, "pressure", None)
-        if p is None or not np.isscalar(p):
-            return None
-        p_w = c.wash_pressure if c.wash_pressure is not None else p
-        return wash_rate_divisor(c.washing) * c.wash_ratio * (mu_w / mu) * (p / p_w)
-
-    def optimum_volume(self, V_scale: float) -> float:
+    def _optimum_volume(self, V_scale: float) -> float:
         closed_form = getattr(self.curve, "optimum_volume", None)
-        a = self.wash_coefficient()
-        if closed_form is not None and a is not None:
-            return closed_form(self.case.cycle.downtime, a)
+        if closed_form is not None:
+            c, mu = self.cycle, self.filtration.viscosity
+            p = self.curve.pressure
+            p_w = c.wash_pressure if c.wash_pressure is not None else p
+            a = wash_rate_divisor(c.washing) * c.wash_ratio * ((c.wash_viscosity or mu) / mu) * (p / p_w)
+            return closed_form(c.downtime, a)
         return numeric_optimum_volume(self.throughput, V_scale)
 
-    def result(self, V: float, limited_by: str) -> CycleResult:
-        press, filtration = self.case.press, self.case.filtration
+    def result(self, press: Press, V: float, limited_by: str) -> CycleResult:
+        v = self.filtration.cake_volume_ratio
+        V = float(V)
         t_f = float(self.curve.time(V))
         t_w = float(self.wash_time(V))
-        t_d = self.case.cycle.downtime
+        t_d = self.cycle.downtime
         T = t_f + t_w + t_d
-        c = filtration.solids_per_filtrate
-        fill = float(press.chamber_fill(V, self.v))
+        c = self.filtration.solids_per_filtrate
+        fill = float(press.chamber_fill(V, v))
         return CycleResult(
-            filtrate_volume=float(V),
-            filtration_time=t_f,
-            wash_volume=self.case.cycle.wash_ratio * float(V),
-            wash_time=t_w,
-            downtime=t_d,
-            cycle_time=T,
-            filtrate_throughput=float(V) / T,
-            solids_throughput=c * float(V) / T,
-            cake_thickness=float(press.cake_thickness(V, self.v)),
-            chamber_fill=fill,
-            dry_cake_mass=c * float(V),
-            wet_cake_mass=filtration.wet_to_dry_ratio * c * float(V),
-            final_rate=float(self.curve.rate(V)),
-            final_pressure=float(self.curve.pressure_at(V)),
-            limited_by=limited_by,
+            filtrate_volume=V, filtration_time=t_f, wash_volume=self.cycle.wash_ratio * V, wash_time=t_w,
+            downtime=t_d, cycle_time=T, filtrate_throughput=V / T, solids_throughput=c * V / T,
+            cake_thickness=float(press.cake_thickness(V, v)), chamber_fill=fill, dry_cake_mass=c * V,
+            wet_cake_mass=self.filtration.wet_to_dry_ratio * c * V, final_rate=float(self.curve.rate(V)),
+            final_pressure=float(self.curve.pressure_at(V)), limited_by=limited_by,
             feasible=fill <= press.fill_fraction * (1.0 + 1e-12),
         )
+
+    def end_volume(self, end: EndCriterion, V_best: float, V_full: float) -> tuple[float, str]:
+        """Filtrate volume at which the end criterion stops filtration, and why."""
+        if end.criterion == "best":
+            return V_best, (LIMITED_BY_OPTIMUM if V_best < V_full else LIMITED_BY_CHAMBERS)
+        if end.criterion == "chambers_full":
+            return V_full, LIMITED_BY_CHAMBERS
+        if end.criterion == "time":
+            V = float(self.curve.volume(end.time))
+            return (V, "time") if V < V_full else (V_full, LIMITED_BY_CHAMBERS)
+        if end.criterion == "flow":
+            return self._flow_end(end, V_full)
+        return self._pressure_end(end, V_full)
+
+    def _flow_end(self, end: EndCriterion, V_full: float) -> tuple[float, str]:
+        with np.errstate(divide="ignore"):
+            q0 = float(self.curve.rate(0.0))
+        if end.flow_fraction is not None and not np.isfinite(q0):
+            raise SolverInputError(
+                "flow_fraction", "without cloth resistance the initial flow is unbounded: "
+                "give the threshold as flow or flow_per_area instead",
+            )
+        if end.flow is not None:
+            threshold, name = end.flow, "flow"
+        elif end.flow_per_area is not None:
+            threshold, name = end.flow_per_area * self.filter_area, "flow_per_area"
+        else:
+            threshold, name = end.flow_fraction * q0, "flow_fraction"
+        if threshold >= q0:
+            raise SolverInputError(
+                name, f"the threshold {threshold * 3600:.4g} m³/h is not below the initial flow "
+                f"{q0 * 3600:.4g} m³/h: filtration would end at once",
+            )
+        return self._first_crossing(lambda V: threshold - self.curve.rate(V), V_full, "flow")
+
+    def _pressure_end(self, end: EndCriterion, V_full: float) -> tuple[float, str]:
+        top = float(self.feed.pressure_cap)
+        start = float(self.curve.pressure_at(0.0))
+        if end.pressure > top:
+            raise SolverInputError(
+                "pressure", f"the feed never reaches {end.pressure:.6g} Pa: its highest pressure is {top:.6g} Pa"
+            )
+        if start >= end.pressure:
+            raise SolverInputError(
+                "pressure", f"the feed is at {start:.6g} Pa from the start, not below the terminal "
+                f"pressure {end.pressure:.6g} Pa: filtration would end at once",
+            )
+        return self._first_crossing(lambda V: self.curve.pressure_at(V) - end.pressure, V_full, "pressure")
+
+    @staticmethod
+    def _first_crossing(g, V_full: float, reason: str) -> tuple[float, str]:
+        """First V in (0, V_full] where g(V) >= 0 (g rising through zero), else V_full."""
+        grid = np.linspace(0.0, V_full, 4001)
+        hits = np.nonzero(g(grid) >= 0.0)[0]
+        if hits.size == 0:
+            return V_full, LIMITED_BY_CHAMBERS
+        k = int(hits[0])
+        lo, hi = grid[max(k - 1, 0)], grid[k]
+        for _ in range(80):  # bisection: g may step (pressure stages), where brentq would not help
+            mid = 0.5 * (lo + hi)
+            if g(mid) >= 0.0:
+                hi = mid
+            else:
+                lo = mid
+        return float(hi), reason
+
+    def curves(self, press: Press, V_full: float, n: int = 241) -> dict:
+        """Equal-length arrays from the start of filtration to the chambers-full point (SI)."""
+        V = np.linspace(0.0, V_full, n)
+        with np.errstate(divide="ignore"):
+            if not np.isfinite(self.curve.rate(0.0)):  # no cloth: the first instant's flow is unbounded
+                V = np.linspace(0.0, V_full, n + 1)[1:]
+        return {
+            "time": self.curve.time(V),
+            "filtrate_volume": V,
+            "pressure": np.asarray(self.curve.pressure_at(V), dtype=float) * np.ones_like(V),
+            "flow": self.curve.rate(V),
+            "cake_thickness": press.cake_thickness(V, self.filtration.cake_volume_ratio),
+        }
 
 
 def numeric_optimum_volume(throughput, V_scale: float) -> float:
@@ -214,19 +330,31 @@ def numeric_optimum_volume(throughput, V_scale: float) -> float:
     return float(res.x)
 
 
-def solve_cycle(case: PressCase) -> CycleSolution:
-    """Unconstrained optimum, chambers-full cycle and best feasible cycle of a case."""
-    model = _CycleModel(case)
+def _scalar_or_none(x):
+    return float(x) if x is not None and np.isscalar(x) else None
+
+
+def solve_cycle(case: PressCase, end: EndCriterion | None = None, model: CurveCycle | None = None) -> CycleSolution:
+    """Unconstrained optimum, chambers-full and best feasible cycles, and the cycle at the end criterion."""
+    end = end or EndCriterion()
     press = case.press
-    V_full = press.chambers_full_volume(model.v)
-    V_star = model.optimum_volume(V_full)
+    v = case.filtration.cake_volume_ratio
+    V_full = press.chambers_full_volume(v)
+    if model is None:
+        model = CurveCycle(case.filtration, press.filter_area, case.feed, case.cycle, V_full)
+    V_star = model.V_star
 
-    unconstrained = model.result(V_star, LIMITED_BY_OPTIMUM)
-    full = model.result(V_full, LIMITED_BY_CHAMBERS)
+    unconstrained = model.result(press, V_star, LIMITED_BY_OPTIMUM)
+    full = model.result(press, V_full, LIMITED_BY_CHAMBERS)
     best = unconstrained if V_star <= V_full else full
-    matched = 2.0 * model.v * V_star / (press.fill_fraction * press.filter_area)
+    matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
 
-    warnings = []
+    V_end, reason = model.end_volume(end, best.filtrate_volume, V_full)
+    end_cycle = model.result(press, V_end, reason)
+    at_end = EndResult(end_cycle, reason, end_cycle.filtrate_throughput / best.filtrate_throughput)
+
+    feed_warnings = getattr(case.feed, "warnings", None)
+    warnings = list(feed_warnings(case.filtration, press.filter_area)) if feed_warnings else []
     if best.chamber_fill < LOW_FILL_WARNING * press.fill_fraction:
         warnings.append(
             f"At the best cycle the cake fills only {100 * best.chamber_fill:.0f} % of the "
@@ -237,19 +365,33 @@ def solve_cycle(case: PressCase) -> CycleSolution:
         best=best,
         unconstrained_optimum=unconstrained,
         chambers_full=full,
+        at_end=at_end,
         chambers_full_volume=V_full,
         matched_chamber_thickness=matched,
         throughput_gain_unconstrained=unconstrained.filtrate_throughput / best.filtrate_throughput - 1.0,
-        K_p=getattr(model.curve, "K_p", None),
-        B=getattr(model.curve, "B", None),
+        curves=model.curves(press, V_full),
+        K_p=_scalar_or_none(getattr(model.curve, "K_p", None)),
+        B=_scalar_or_none(getattr(model.curve, "B", None)),
         warnings=warnings,
     )
 
 
-def compare_thicknesses(case: PressCase, thicknesses) -> list[tuple[float, CycleSolution]]:
-    """The same press and slurry at each chamber thickness [m]: its cycle solution."""
+def compare_thicknesses(
+    case: PressCase, thicknesses, end: EndCriterion | None = None
+) -> list[tuple[float, CycleSolution]]:
+    """The same press and slurry at each chamber thickness [m]: its cycle solution.
+
+    The filtration curve and the optimum do not depend on the thickness, so they are
+    computed once, for the thickest chamber.
+    """
+    thicknesses = [float(L) for L in thicknesses]
+    if not thicknesses:
+        return []
+    v = case.filtration.cake_volume_ratio
+    V_needed = case.press.with_thickness(max(thicknesses)).chambers_full_volume(v)
+    model = CurveCycle(case.filtration, case.press.filter_area, case.feed, case.cycle, V_needed)
     out = []
     for L in thicknesses:
-        variant = PressCase(case.filtration, case.press.with_thickness(float(L)), case.feed, case.cycle)
-        out.append((float(L), solve_cycle(variant)))
+        variant = PressCase(case.filtration, case.press.with_thickness(L), case.feed, case.cycle)
+        out.append((L, solve_cycle(variant, end, model)))
     return out

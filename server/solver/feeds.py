@@ -5,15 +5,19 @@ filtration curve with time(V), volume(t), rate(V) and pressure(V), all vectorise
 A curve may also offer ``optimum_volume`` in closed form; the cycle optimiser falls
 back to a numeric search for curves that do not.
 
-To add a feed mode, write a dataclass with a ``curve(filtration, filter_area)`` method
-returning an object with those four methods (see DEVELOPERS.md).
+To add a feed mode, write a dataclass with a ``curve(filtration, filter_area, V_max)``
+method returning an object with those four methods (see DEVELOPERS.md). ``V_max`` is the
+largest filtrate volume the cycle will ask about; closed-form curves ignore it.
 """
 
 from dataclasses import dataclass
 
 import numpy as np
 
+from scipy.interpolate import PchipInterpolator
+
 from . import constant_pressure as cp
+from .curves import GeneralisedInverse, TabulatedCurve, operating_point, volume_grid
 from .errors import SolverInputError
 from .resistance import specific_resistance
 
@@ -126,7 +130,15 @@ class ConstantPressure:
         if not self.pressure > 0.0:
             raise SolverInputError("pressure", f"must be > 0 Pa; got {self.pressure:.6g}")
 
-    def curve(self, filtration: Filtration, filter_area: float) -> ConstantPressureCurve:
+    @property
+    def pressure_cap(self) -> float:
+        return self.pressure
+
+    def supply_flow(self, pressure):
+        """Unlimited flow below the set pressure (used to test the general path)."""
+        return np.full_like(np.asarray(pressure, dtype=float), np.inf)
+
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0) -> ConstantPressureCurve:
         alpha = filtration.specific_resistance(self.pressure)
         K_p = cp.cake_constant(
             filtration.viscosity, alpha, filtration.solids_per_filtrate, filter_area, self.pressure
@@ -135,3 +147,282 @@ class ConstantPressure:
             filtration.viscosity, filtration.medium_resistance, filter_area, self.pressure
         )
         return ConstantPressureCurve(self.pressure, K_p, B)
+
+
+def _constants(filtration: Filtration, filter_area: float, pressure):
+    """K_p [s/m^6] and B [s/m^3] at a pressure drop (alpha at that pressure)."""
+    alpha = filtration.specific_resistance(pressure)
+    K_p = cp.cake_constant(filtration.viscosity, alpha, filtration.solids_per_filtrate, filter_area, pressure)
+    B = cp.medium_constant(filtration.viscosity, filtration.medium_resistance, filter_area, pressure)
+    return K_p, B
+
+
+@dataclass(frozen=True)
+class RateThenPressureCurve:
+    r"""Constant rate Q_0 until the pressure reaches dP_max, then constant pressure.
+
+    Switch volume and time, with K_p and B at dP_max:
+
+    .. math:: V_1 = (1/Q_0 - B)/K_p = \frac{A^2}{\alpha c}\left(\frac{\Delta P_{max}}{\mu Q_0}
+              - \frac{R_m}{A}\right),\quad t_1 = V_1 / Q_0
+
+    then t = t_1 + (K_p/2)(V^2 - V_1^2) + B (V - V_1). The same holds for a compressible
+    cake: during the rate stage the flow is fixed, and after it alpha is at dP_max.
+    During the rate stage the pressure is the one at which the cake passes Q_0.
+    """
+
+    flow: float
+    max_pressure: float
+    K_p: float
+    B: float
+    V1: float
+    filtration: Filtration
+    filter_area: float
+
+    @property
+    def t1(self) -> float:
+        return self.V1 / self.flow
+
+    def time(self, V):
+        V = np.asarray(V, dtype=float)
+        W = np.maximum(V - self.V1, 0.0)
+        out = np.minimum(V, self.V1) / self.flow + 0.5 * self.K_p * W * (V + self.V1) + self.B * W
+        return out if out.ndim else float(out)
+
+    def volume(self, t):
+        t = np.asarray(t, dtype=float)
+        dt = np.maximum(t - self.t1, 0.0)
+        b = 1.0 / self.flow if self.V1 > 0 else self.B
+        W = 2.0 * dt / (b + np.sqrt(b * b + 2.0 * self.K_p * dt))
+        out = np.where(t <= self.t1, self.flow * t, self.V1 + W)
+        return out if out.ndim else float(out)
+
+    def rate(self, V):
+        out = np.minimum(self.flow, cp.reciprocal(self.K_p * np.asarray(V, dtype=float) + self.B))
+        return out if np.ndim(out) else float(out)
+
+    def pressure_at(self, V):
+        V = np.asarray(V, dtype=float)
+        supply = lambda p: np.full_like(p, self.flow)  # noqa: E731
+        P, _ = operating_point(supply, self.max_pressure, V, self.filtration, self.filter_area)
+        out = np.where(V >= self.V1, self.max_pressure, P)
+        return out if out.ndim else float(out)
+
+
+@dataclass(frozen=True)
+class ConstantRate:
+    """A positive-displacement pump: a set flow up to a maximum pressure, then that pressure.
+
+    Attributes
+    ----------
+    flow : float
+        Set filtrate flow [m^3/s], > 0.
+    max_pressure : float
+        Relief or set pressure [Pa], > 0.
+    """
+
+    flow: float
+    max_pressure: float
+    mode = "constant_rate"
+
+    def __post_init__(self):
+        if not self.flow > 0.0:
+            raise SolverInputError("flow", f"must be > 0 m^3/s; got {self.flow:.6g}")
+        if not self.max_pressure > 0.0:
+            raise SolverInputError("max_pressure", f"must be > 0 Pa; got {self.max_pressure:.6g}")
+
+    @property
+    def pressure_cap(self) -> float:
+        return self.max_pressure
+
+    def supply_flow(self, pressure):
+        return np.full_like(np.asarray(pressure, dtype=float), self.flow)
+
+    def clean_cloth_flow(self, filtration: Filtration, filter_area: float) -> float:
+        """Flow the clean cloth alone passes at the maximum pressure [m^3/s] (inf: no cloth)."""
+        _, B = _constants(filtration, filter_area, self.max_pressure)
+        return np.inf if B == 0.0 else 1.0 / B
+
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0) -> RateThenPressureCurve:
+        K_p, B = _constants(filtration, filter_area, self.max_pressure)
+        V1 = max((1.0 / self.flow - B) / K_p, 0.0)
+        return RateThenPressureCurve(self.flow, self.max_pressure, K_p, B, V1, filtration, filter_area)
+
+    def warnings(self, filtration: Filtration, filter_area: float) -> list[str]:
+        q_clean = self.clean_cloth_flow(filtration, filter_area)
+        if self.flow >= q_clean:
+            return [
+                f"The clean cloth alone passes only {q_clean * 3600:.4g} m³/h at the maximum pressure, "
+                f"less than the set flow of {self.flow * 3600:.4g} m³/h: the cycle runs at the "
+                f"maximum pressure from the start."
+            ]
+        return []
+
+
+def _supply_curve(feed, filtration: Filtration, filter_area: float, V_max: float, n: int) -> TabulatedCurve:
+    """Operating points on a volume grid, with a node where the supply reaches its cap
+    (1/Q has a kink there, which a node keeps exact)."""
+    V = volume_grid(V_max, n)
+    cap = feed.pressure_cap
+    K_p, B = _constants(filtration, filter_area, cap)
+    q_cap = float(feed.supply_flow(cap))
+    V_cap = (1.0 / q_cap - B) / K_p if q_cap > 0 else -1.0
+    if 0.0 < V_cap < V_max:
+        V = np.unique(np.append(V, V_cap))
+    P, Q = operating_point(feed.supply_flow, feed.pressure_cap, V, filtration, filter_area)
+    return TabulatedCurve(V, P, Q)
+
+
+@dataclass(frozen=True)
+class PumpCurve:
+    """A centrifugal pump: pressure falls as flow rises along measured (flow, pressure) points.
+
+    The points are joined by a monotone cubic (PCHIP: Fritsch & Carlson, SIAM J. Numer.
+    Anal. 17 (1980) 238), which keeps a falling curve falling. Below the curve's lowest
+    pressure the pump gives its highest listed flow; it never exceeds the curve's
+    highest pressure (its lowest listed flow) nor ``max_pressure``.
+
+    Attributes
+    ----------
+    points : tuple of (flow [m^3/s], pressure [Pa])
+        At least two; pressure must not rise with flow.
+    max_pressure : float or None
+        Relief pressure [Pa].
+    """
+
+    points: tuple
+    max_pressure: float | None = None
+    grid_points: int = 2000
+    mode = "pump_curve"
+
+    def __post_init__(self):
+        pts = sorted((float(q), float(p)) for q, p in self.points)
+        if len(pts) < 2:
+            raise SolverInputError("points", "a pump curve needs at least two (flow, pressure) points")
+        for i, (q, p) in enumerate(pts):
+            if q < 0.0 or not p > 0.0:
+                raise SolverInputError("points", f"flows must be >= 0 and pressures > 0; point {i + 1} is ({q:.6g} m^3/s, {p:.6g} Pa)")
+        for (q0, p0), (q1, p1) in zip(pts, pts[1:]):
+            if q1 == q0:
+                raise SolverInputError("points", f"two points have the same flow {q0:.6g} m^3/s")
+            if p1 > p0:
+                raise SolverInputError(
+                    "points",
+                    f"the pump curve rises from {p0:.6g} Pa at {q0:.6g} m^3/s to {p1:.6g} Pa at "
+                    f"{q1:.6g} m^3/s: a centrifugal pump's pressure must fall (or stay) as flow rises",
+                )
+        if pts[-1][0] <= 0.0:
+            raise SolverInputError("points", "the pump curve needs a point with flow > 0")
+        if self.max_pressure is not None and not self.max_pressure > 0.0:
+            raise SolverInputError("max_pressure", f"must be > 0 Pa; got {self.max_pressure:.6g}")
+        object.__setattr__(self, "points", tuple(pts))
+        q = np.array([p[0] for p in pts])
+        P = np.array([p[1] for p in pts])
+        dense_q = np.unique(np.concatenate((q, np.linspace(q[0], q[-1], max(4 * q.size, 2000)))))
+        dense_p = PchipInterpolator(q, P)(dense_q)
+        object.__setattr__(self, "_supply", GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p)))
+
+    @property
+    def pressure_cap(self) -> float:
+        top = self.points[0][1]
+        return top if self.max_pressure is None else min(top, self.max_pressure)
+
+    def supply_flow(self, pressure):
+        return self._supply(pressure)
+
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 1.0) -> TabulatedCurve:
+        return _supply_curve(self, filtration, filter_area, V_max, self.grid_points)
+
+    def warnings(self, filtration: Filtration, filter_area: float) -> list[str]:
+        q_max = self.points[-1][0]
+        if cake_flow_at_start(filtration, filter_area, self.points[-1][1]) > q_max:
+            return [
+                f"At the start the press would take more than the pump curve's highest flow "
+                f"({q_max * 3600:.4g} m³/h); the flow is taken as that until the cake builds up."
+            ]
+        return []
+
+
+def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: float) -> float:
+    """Flow the clean cloth passes at a pressure [m^3/s] (inf without cloth resistance)."""
+    if filtration.medium_resistance == 0.0:
+        return np.inf
+    return pressure * filter_area / (filtration.viscosity * filtration.medium_resistance)
+
+
+@dataclass(frozen=True)
+class SteppedPressureCurve:
+    """Constant pressure in stages; the last stage is held. Closed form stage by stage."""
+
+    pressures: np.ndarray  # Pa, per stage
+    starts: np.ndarray  # s, stage start times
+    V_starts: np.ndarray  # m^3 at each stage start
+    K_p: np.ndarray
+    B: np.ndarray
+
+    def _stage_of_volume(self, V):
+        return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, self.K_p.size - 1)
+
+    def time(self, V):
+        V = np.asarray(V, dtype=float)
+        i = self._stage_of_volume(V)
+        V0 = self.V_starts[i]
+        out = self.starts[i] + 0.5 * self.K_p[i] * (V * V - V0 * V0) + self.B[i] * (V - V0)
+        return out if out.ndim else float(out)
+
+    def volume(self, t):
+        t = np.asarray(t, dtype=float)
+        i = np.clip(np.searchsorted(self.starts, t, side="right") - 1, 0, self.K_p.size - 1)
+        V0, dt = self.V_starts[i], t - self.starts[i]
+        b = self.K_p[i] * V0 + self.B[i]
+        out = V0 + 2.0 * dt / (b + np.sqrt(b * b + 2.0 * self.K_p[i] * dt))
+        return out if out.ndim else float(out)
+
+    def rate(self, V):
+        V = np.asarray(V, dtype=float)
+        i = self._stage_of_volume(V)
+        return cp.reciprocal(self.K_p[i] * V + self.B[i])
+
+    def pressure_at(self, V):
+        out = self.pressures[self._stage_of_volume(np.asarray(V, dtype=float))]
+        return out if np.ndim(out) else float(out)
+
+
+@dataclass(frozen=True)
+class PressureSteps:
+    """A schedule of (pressure, duration) stages; the last stage is held to the end.
+
+    Attributes
+    ----------
+    steps : tuple of (pressure [Pa], duration [s])
+        Pressures > 0, durations > 0 (the last stage's duration is how long it is
+        planned, but it is held for as long as the cycle needs).
+    """
+
+    steps: tuple
+    mode = "pressure_steps"
+
+    def __post_init__(self):
+        if len(self.steps) < 1:
+            raise SolverInputError("steps", "give at least one (pressure, duration) stage")
+        for i, (p, d) in enumerate(self.steps):
+            if not p > 0.0:
+                raise SolverInputError("steps", f"stage {i + 1}: pressure must be > 0 Pa; got {p:.6g}")
+            if not d > 0.0:
+                raise SolverInputError("steps", f"stage {i + 1}: duration must be > 0 s; got {d:.6g}")
+
+    @property
+    def pressure_cap(self) -> float:
+        return max(p for p, _ in self.steps)
+
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0) -> SteppedPressureCurve:
+        P = np.array([p for p, _ in self.steps], dtype=float)
+        K_p, B = _constants(filtration, filter_area, P)
+        K_p, B = np.atleast_1d(K_p).astype(float), np.atleast_1d(B * np.ones_like(P)).astype(float)
+        starts, V_starts = [0.0], [0.0]
+        for i, (_, duration) in enumerate(self.steps[:-1]):
+            V0 = V_starts[-1]
+            b = K_p[i] * V0 + B[i]
+            V_starts.append(V0 + 2.0 * duration / (b + np.sqrt(b * b + 2.0 * K_p[i] * duration)))
+            starts.append(starts[-1] + duration)
+        return SteppedPressureCurve(P, np.array(starts), np.array(V_starts), K_p, B)
