@@ -32,6 +32,16 @@ FIELD_PATHS = {
     "chamber_thickness": ("body", "press", "chamber_thickness"),
     "fill_fraction": ("body", "press", "fill_fraction"),
     "pressure": ("body", "feed", "pressure"),
+    "flow": ("body", "feed", "flow"),
+    "max_pressure": ("body", "feed", "max_pressure"),
+    "points": ("body", "feed", "points"),
+    "steps": ("body", "feed", "steps"),
+    "end.criterion": ("body", "cycle", "end", "criterion"),
+    "end.time": ("body", "cycle", "end", "time"),
+    "end.flow": ("body", "cycle", "end", "flow"),
+    "end.flow_per_area": ("body", "cycle", "end", "flow_per_area"),
+    "end.flow_fraction": ("body", "cycle", "end", "flow_fraction"),
+    "end.pressure": ("body", "cycle", "end", "pressure"),
     "downtime": ("body", "cycle", "downtime"),
     "wash_ratio": ("body", "cycle", "wash_ratio"),
     "washing": ("body", "cycle", "washing"),
@@ -56,7 +66,8 @@ RESULT_UNITS = {
     "liquid_density": "kg/m^3", "viscosity": "Pa*s", "resistance_at_feed": "m/kg",
     "filter_area": "m^2", "chamber_volume": "m^3", "chambers_full_volume": "m^3",
     "cake_constant": "s/m^6", "medium_constant": "s/m^3", "matched_chamber_thickness": "m",
-    "throughput_gain_unconstrained": "1",
+    "throughput_gain_unconstrained": "1", "throughput_ratio_to_best": "1", "time": "s",
+    "pressure": "Pa", "flow": "m^3/s",
 }
 
 
@@ -67,8 +78,9 @@ def _path(parameter: str, override: tuple | None = None) -> tuple:
 class Built:
     """A solver case built from a request, with the slurry figures derived on the way."""
 
-    def __init__(self, case: solver.PressCase, derived: dict):
+    def __init__(self, case: solver.PressCase, end: solver.EndCriterion, derived: dict):
         self.case = case
+        self.end = end
         self.derived = derived
 
 
@@ -109,26 +121,39 @@ def _build(req: CycleRequest) -> Built:
         area = solver.filter_area_from_plates(p.plate_face_area, p.chambers)
     press = solver.Press(area, p.chamber_thickness, p.fill_fraction)
 
-    p_ref = k.reference_pressure if k.reference_pressure is not None else req.feed.pressure
+    feed = _feed(req.feed)
+    p_ref = k.reference_pressure if k.reference_pressure is not None else feed.pressure_cap
     filtration = solver.Filtration(
         solids_per_filtrate=c, cake_volume_ratio=v, wet_to_dry_ratio=m, viscosity=mu,
         resistance_ref=k.resistance, reference_pressure=p_ref,
         compressibility=k.compressibility, medium_resistance=req.medium_resistance,
     )
-    feed = solver.ConstantPressure(req.feed.pressure)
     cyc = req.cycle
     settings = solver.CycleSettings(
         downtime=cyc.downtime, wash_ratio=cyc.wash_ratio, washing=cyc.washing,
         wash_pressure=cyc.wash_pressure, wash_viscosity=cyc.wash_viscosity,
     )
+    e = cyc.end
+    end = solver.EndCriterion(e.criterion, e.time, e.flow, e.flow_per_area, e.flow_fraction, e.pressure)
     derived = {
-        "c": c, "cake_volume_ratio": v, "porosity": eps, "wet_to_dry_ratio": m,
+        "feed_mode": req.feed.mode, "c": c, "cake_volume_ratio": v, "porosity": eps, "wet_to_dry_ratio": m,
         "moisture": 1.0 - 1.0 / m, "solids_mass_fraction": sb.mass_fraction_from_solids_per_filtrate(c, m, rho_l),
         "liquid_density": rho_l, "viscosity": mu,
-        "resistance_at_feed": filtration.specific_resistance(feed.pressure),
+        "resistance_at_feed": filtration.specific_resistance(feed.pressure_cap),
         "filter_area": area, "chamber_volume": press.chamber_volume,
     }
-    return Built(solver.PressCase(filtration, press, feed, settings), derived)
+    return Built(solver.PressCase(filtration, press, feed, settings), end, derived)
+
+
+def _feed(f):
+    """The solver's feed mode for a feed schema."""
+    if f.mode == "constant_pressure":
+        return solver.ConstantPressure(f.pressure)
+    if f.mode == "constant_rate":
+        return solver.ConstantRate(f.flow, f.max_pressure)
+    if f.mode == "pump_curve":
+        return solver.PumpCurve(tuple(f.points), f.max_pressure)
+    return solver.PressureSteps(tuple(f.steps))
 
 
 def _cycle_dict(r: solver.CycleResult) -> dict:
@@ -138,7 +163,12 @@ def _cycle_dict(r: solver.CycleResult) -> dict:
 def solve_request(req: CycleRequest) -> dict:
     """The whole /api/v1/cycle answer as plain data (SI), checked finite."""
     built = build_case(req)
-    sol = solver.solve_cycle(built.case)
+    try:
+        model = solver.curve_cycle_for(built.case, req.compare_thicknesses)
+        sol = solver.solve_cycle(built.case, built.end, model)
+        rows = solver.compare_thicknesses(built.case, req.compare_thicknesses, built.end, model)
+    except solver.SolverInputError as exc:
+        raise InputError([(_path(exc.parameter), exc.message)]) from None
     derived = dict(built.derived)
     derived.update(
         chambers_full_volume=sol.chambers_full_volume,
@@ -146,22 +176,19 @@ def solve_request(req: CycleRequest) -> dict:
         matched_chamber_thickness=sol.matched_chamber_thickness,
         throughput_gain_unconstrained=sol.throughput_gain_unconstrained,
     )
-    comparison = []
-    for i, L in enumerate(req.compare_thicknesses):
-        try:
-            (_, tsol), = solver.compare_thicknesses(built.case, [L])
-        except solver.SolverInputError as exc:
-            raise InputError([(("body", "compare_thicknesses", i), exc.message)]) from None
-        comparison.append(
-            {"chamber_thickness": L, "best": _cycle_dict(tsol.best),
-             "chambers_full": _cycle_dict(tsol.chambers_full)}
-        )
+    at_end = _cycle_dict(sol.at_end.cycle)
+    at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     out = {
         "derived": derived,
         "best": _cycle_dict(sol.best),
         "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
         "chambers_full": _cycle_dict(sol.chambers_full),
-        "thickness_comparison": comparison,
+        "at_end": at_end,
+        "curves": {k: [float(x) for x in v] for k, v in sol.curves.items()},
+        "thickness_comparison": [
+            {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
+            for L, t in rows
+        ],
         "warnings": list(sol.warnings),
         "cautions": CAUTIONS,
         "units": RESULT_UNITS,

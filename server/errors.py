@@ -11,6 +11,8 @@ from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
+from .schemas.cycle import FEED_MODES
+
 log = logging.getLogger("presscycle")
 
 
@@ -25,6 +27,8 @@ class InputError(Exception):
 _PLAIN = {
     "missing": "required",
     "extra_forbidden": "unknown field (check the spelling)",
+    "union_tag_invalid": f"mode must be one of {', '.join(FEED_MODES)}",
+    "union_tag_not_found": f"give mode: one of {', '.join(FEED_MODES)}",
 }
 
 
@@ -37,11 +41,8 @@ def _clean(err: dict) -> dict:
     msg = _PLAIN.get(err.get("type"), err.get("msg", "invalid"))
     if msg.startswith("Value error, "):
         msg = msg[len("Value error, ") :]
-    loc = list(err.get("loc", ()))
-    # A BeforeValidator on a union member adds the member type to the path.
-    loc = [p for p in loc if not (isinstance(p, str) and p.startswith("function-"))]
-    if loc and loc[-1] in ("float", "int", "str", "constant_pressure"):
-        loc = loc[:-1] if len(loc) > 1 and loc[-1] != "constant_pressure" else loc
+    # Validators and the feed union add their own names to the path; people want fields.
+    loc = [p for p in err.get("loc", ()) if not (isinstance(p, str) and (p.startswith("function-") or p in FEED_MODES))]
     return {"loc": loc, "field": _field(loc), "msg": msg, "type": err.get("type", "value_error")}
 
 

@@ -179,7 +179,16 @@ valid_bodies = st.fixed_dictionaries({
         "filter_area": log_uniform(0.01, 1e4), "chamber_thickness": log_uniform(1e-3, 0.5),
         "fill_fraction": st.floats(0.05, 1.0),
     }),
-    "feed": st.fixed_dictionaries({"mode": st.just("constant_pressure"), "pressure": log_uniform(1e3, 1e8)}),
+    "feed": st.one_of(
+        st.fixed_dictionaries({"mode": st.just("constant_pressure"), "pressure": log_uniform(1e3, 1e8)}),
+        st.fixed_dictionaries({"mode": st.just("constant_rate"), "flow": log_uniform(1e-6, 10),
+                               "max_pressure": log_uniform(1e3, 1e8)}),
+        st.lists(st.tuples(log_uniform(1e-6, 10), log_uniform(1e3, 1e8)), min_size=2, max_size=8, unique_by=lambda p: p[0])
+        .map(lambda pts: {"mode": "pump_curve", "points": [
+            [q, p] for q, p in zip(sorted(q for q, _ in pts), sorted((p for _, p in pts), reverse=True))]}),
+        st.lists(st.tuples(log_uniform(1e3, 1e8), log_uniform(1, 1e5)), min_size=1, max_size=5)
+        .map(lambda steps: {"mode": "pressure_steps", "steps": [list(x) for x in steps]}),
+    ),
     "cycle": st.fixed_dictionaries({
         "downtime": log_uniform(1, 1e6), "wash_ratio": st.floats(0, 100),
         "washing": st.sampled_from(["through", "simple"]),

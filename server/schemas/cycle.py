@@ -4,7 +4,7 @@ Inputs take numbers in SI base units or strings with units ("5 bar"); results ar
 SI base units, listed in the response's ``units`` map.
 """
 
-from typing import Literal
+from typing import Annotated, Literal
 
 from pydantic import BaseModel, ConfigDict, Field, model_validator
 
@@ -109,9 +109,71 @@ class PressIn(Strict):
         return self
 
 
+Flow = quantity("flow", ge=1e-9, le=100.0, description="Filtrate flow")
+PumpFlow = quantity("flow", ge=0.0, le=100.0, description="Pump flow")
+Duration = quantity("time", gt=0.0, le=1e6, description="Stage duration")
+
+
 class ConstantPressureFeedIn(Strict):
-    mode: Literal["constant_pressure"] = "constant_pressure"
+    mode: Literal["constant_pressure"]
     pressure: Pressure = Field(description="Pressure drop across cake and cloth [Pa]")
+
+
+class ConstantRateFeedIn(Strict):
+    mode: Literal["constant_rate"]
+    flow: Flow = Field(description="Set flow of a positive-displacement pump [m³/s]")
+    max_pressure: Pressure = Field(description="Relief or set pressure, then held [Pa]")
+
+
+class PumpCurveFeedIn(Strict):
+    mode: Literal["pump_curve"]
+    points: list[tuple[PumpFlow, Pressure]] = Field(
+        min_length=2, max_length=5000,
+        description="Centrifugal pump curve as [flow, pressure] pairs; pressure must fall as flow rises",
+    )
+    max_pressure: Pressure | None = Field(None, description="Relief pressure [Pa]")
+
+
+class PressureStepsFeedIn(Strict):
+    mode: Literal["pressure_steps"]
+    steps: list[tuple[Pressure, Duration]] = Field(
+        min_length=1, max_length=100,
+        description="[pressure, duration] stages in order; the last stage is held",
+    )
+
+
+FeedIn = Annotated[
+    ConstantPressureFeedIn | ConstantRateFeedIn | PumpCurveFeedIn | PressureStepsFeedIn,
+    Field(discriminator="mode"),
+]
+FEED_MODES = ("constant_pressure", "constant_rate", "pump_curve", "pressure_steps")
+
+
+class EndIn(Strict):
+    criterion: Literal["best", "chambers_full", "time", "flow", "pressure"] = Field(
+        "best", description="How filtration ends: best throughput, full chambers, a time, a flow or a pressure"
+    )
+    time: quantity("time", gt=0.0, le=1e6, description="Filtration time") | None = None
+    flow: Flow | None = Field(None, description="End when the filtrate flow falls below this [m³/s]")
+    flow_per_area: quantity(
+        "flux", gt=0.0, le=1.0, description="End when flow per filter area falls below this"
+    ) | None = None
+    flow_fraction: Fraction01 | None = Field(
+        None, description="End when flow falls below this share of the initial flow"
+    )
+    pressure: Pressure | None = Field(None, description="End at this terminal feed pressure [Pa]")
+
+    @model_validator(mode="after")
+    def _threshold(self):
+        needs = {"time": ("time",), "pressure": ("pressure",), "flow": ("flow", "flow_per_area", "flow_fraction")}
+        names = needs.get(self.criterion, ())
+        if names:
+            _exactly_one(self, names)
+        extra = [n for n in ("time", "flow", "flow_per_area", "flow_fraction", "pressure")
+                 if n not in names and getattr(self, n) is not None]
+        if extra:
+            raise ValueError(f"{' and '.join(extra)} do not apply to the {self.criterion!r} end criterion")
+        return self
 
 
 class CycleIn(Strict):
@@ -124,6 +186,7 @@ class CycleIn(Strict):
     )
     wash_pressure: Pressure | None = Field(None, description="[Pa]; default: the filtration pressure")
     wash_viscosity: Viscosity | None = Field(None, description="[Pa·s]; default: the filtrate's")
+    end: EndIn = Field(default_factory=lambda: EndIn(), description="How filtration ends; default: best")
 
 
 class CycleRequest(Strict):
@@ -133,7 +196,7 @@ class CycleRequest(Strict):
         "medium_resistance", ge=0.0, le=1e15, description="Filter medium (cloth) resistance R_m; 0 neglects it"
     ) = Field(description="[1/m]")
     press: PressIn
-    feed: ConstantPressureFeedIn
+    feed: FeedIn
     cycle: CycleIn
     compare_thicknesses: list[Length] = Field(
         default_factory=list, max_length=50, description="Chamber thicknesses to compare [m]"
@@ -144,6 +207,7 @@ class CycleRequest(Strict):
 
 
 class DerivedOut(BaseModel):
+    feed_mode: str
     c: float = Field(description="Dry solids deposited per filtrate volume [kg/m³]")
     cake_volume_ratio: float = Field(description="Cake volume per filtrate volume [-]")
     porosity: float = Field(description="Cake porosity [-]")
@@ -185,6 +249,20 @@ class CycleOut(BaseModel):
     feasible: bool = Field(description="The cake fits in the chambers (within fill_fraction)")
 
 
+class AtEndOut(CycleOut):
+    limited_by: str = Field(description="Same as end_reason")
+    end_reason: Literal["optimum", "chambers_full", "time", "flow", "pressure"]
+    throughput_ratio_to_best: float = Field(description="Filtrate throughput / that of the best cycle [-]")
+
+
+class CurvesOut(BaseModel):
+    time: list[float] = Field(description="[s]")
+    filtrate_volume: list[float] = Field(description="[m³]")
+    pressure: list[float] = Field(description="[Pa]")
+    flow: list[float] = Field(description="Filtrate flow [m³/s]")
+    cake_thickness: list[float] = Field(description="Per face [m]")
+
+
 class ThicknessOut(BaseModel):
     chamber_thickness: float = Field(description="[m]")
     best: CycleOut
@@ -196,6 +274,8 @@ class CycleResponse(BaseModel):
     best: CycleOut
     unconstrained_optimum: CycleOut
     chambers_full: CycleOut
+    at_end: AtEndOut
+    curves: CurvesOut
     thickness_comparison: list[ThicknessOut]
     warnings: list[str]
     cautions: list[str]

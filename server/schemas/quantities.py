@@ -52,7 +52,7 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
             and (lt is None or si < lt) and (le is None or si <= le)
         )
         if not ok:
-            raise ValueError(f"must be {allowed}; got {_fmt(si, kind, 15)}")
+            raise ValueError(f"must be {allowed}; got {_fmt(si, kind, 17)}")
         return si
 
     schema = {

@@ -15,6 +15,7 @@ from .cycle import (
     EndCriterion,
     PressCase,
     compare_thicknesses,
+    curve_cycle_for,
     numeric_optimum_volume,
     solve_cycle,
 )
@@ -40,6 +41,7 @@ __all__ = [
     "PressCase",
     "SolverInputError",
     "compare_thicknesses",
+    "curve_cycle_for",
     "filter_area_from_plates",
     "numeric_optimum_volume",
     "solve_cycle",

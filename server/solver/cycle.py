@@ -120,7 +120,7 @@ class EndCriterion:
     def __post_init__(self):
         if self.criterion not in END_CRITERIA:
             raise SolverInputError(
-                "criterion", f"must be one of {', '.join(END_CRITERIA)}; got {self.criterion!r}"
+                "end.criterion", f"must be one of {', '.join(END_CRITERIA)}; got {self.criterion!r}"
             )
         needs = {"time": ("time",), "pressure": ("pressure",),
                  "flow": ("flow", "flow_per_area", "flow_fraction")}
@@ -128,13 +128,13 @@ class EndCriterion:
         given = [n for n in names if getattr(self, n) is not None]
         if names and len(given) != 1:
             raise SolverInputError(
-                names[0], f"the {self.criterion!r} end criterion needs exactly one of {' or '.join(names)}"
+                f"end.{names[0]}", f"the {self.criterion!r} end criterion needs exactly one of {' or '.join(names)}"
             )
         for n in given:
             value = getattr(self, n)
             if not value > 0.0 or (n == "flow_fraction" and not value < 1.0):
                 allowed = "between 0 and 1 (exclusive)" if n == "flow_fraction" else "> 0"
-                raise SolverInputError(n, f"must be {allowed}; got {value:.6g}")
+                raise SolverInputError(f"end.{n}", f"must be {allowed}; got {value:.6g}")
 
 
 @dataclass(frozen=True)
@@ -238,7 +238,7 @@ class CurveCycle:
             q0 = float(self.curve.rate(0.0))
         if end.flow_fraction is not None and not np.isfinite(q0):
             raise SolverInputError(
-                "flow_fraction", "without cloth resistance the initial flow is unbounded: "
+                "end.flow_fraction", "without cloth resistance the initial flow is unbounded: "
                 "give the threshold as flow or flow_per_area instead",
             )
         if end.flow is not None:
@@ -249,7 +249,7 @@ class CurveCycle:
             threshold, name = end.flow_fraction * q0, "flow_fraction"
         if threshold >= q0:
             raise SolverInputError(
-                name, f"the threshold {threshold * 3600:.4g} m³/h is not below the initial flow "
+                f"end.{name}", f"the threshold {threshold * 3600:.4g} m³/h is not below the initial flow "
                 f"{q0 * 3600:.4g} m³/h: filtration would end at once",
             )
         return self._first_crossing(lambda V: threshold - self.curve.rate(V), V_full, "flow")
@@ -259,11 +259,11 @@ class CurveCycle:
         start = float(self.curve.pressure_at(0.0))
         if end.pressure > top:
             raise SolverInputError(
-                "pressure", f"the feed never reaches {end.pressure:.6g} Pa: its highest pressure is {top:.6g} Pa"
+                "end.pressure", f"the feed never reaches {end.pressure:.6g} Pa: its highest pressure is {top:.6g} Pa"
             )
         if start >= end.pressure:
             raise SolverInputError(
-                "pressure", f"the feed is at {start:.6g} Pa from the start, not below the terminal "
+                "end.pressure", f"the feed is at {start:.6g} Pa from the start, not below the terminal "
                 f"pressure {end.pressure:.6g} Pa: filtration would end at once",
             )
         return self._first_crossing(lambda V: self.curve.pressure_at(V) - end.pressure, V_full, "pressure")
@@ -334,8 +334,14 @@ def _scalar_or_none(x):
     return float(x) if x is not None and np.isscalar(x) else None
 
 
-def solve_cycle(case: PressCase, end: EndCriterion | None = None, model: CurveCycle | None = None) -> CycleSolution:
-    """Unconstrained optimum, chambers-full and best feasible cycles, and the cycle at the end criterion."""
+def solve_cycle(
+    case: PressCase, end: EndCriterion | None = None, model: CurveCycle | None = None, with_curves: bool = True
+) -> CycleSolution:
+    """Unconstrained optimum, chambers-full and best feasible cycles, and the cycle at the end criterion.
+
+    ``model`` reuses a CurveCycle built for this case's feed and area; ``with_curves``
+    False leaves ``curves`` empty (a thickness comparison does not need them).
+    """
     end = end or EndCriterion()
     press = case.press
     v = case.filtration.cake_volume_ratio
@@ -369,29 +375,34 @@ def solve_cycle(case: PressCase, end: EndCriterion | None = None, model: CurveCy
         chambers_full_volume=V_full,
         matched_chamber_thickness=matched,
         throughput_gain_unconstrained=unconstrained.filtrate_throughput / best.filtrate_throughput - 1.0,
-        curves=model.curves(press, V_full),
+        curves=model.curves(press, V_full) if with_curves else {},
         K_p=_scalar_or_none(getattr(model.curve, "K_p", None)),
         B=_scalar_or_none(getattr(model.curve, "B", None)),
         warnings=warnings,
     )
 
 
+def curve_cycle_for(case: PressCase, thicknesses=()) -> CurveCycle:
+    """One CurveCycle that serves the case at its own and all the given thicknesses [m]."""
+    L = max([case.press.chamber_thickness, *[float(x) for x in thicknesses]])
+    V_needed = case.press.with_thickness(L).chambers_full_volume(case.filtration.cake_volume_ratio)
+    return CurveCycle(case.filtration, case.press.filter_area, case.feed, case.cycle, V_needed)
+
+
 def compare_thicknesses(
-    case: PressCase, thicknesses, end: EndCriterion | None = None
+    case: PressCase, thicknesses, end: EndCriterion | None = None, model: CurveCycle | None = None
 ) -> list[tuple[float, CycleSolution]]:
     """The same press and slurry at each chamber thickness [m]: its cycle solution.
 
     The filtration curve and the optimum do not depend on the thickness, so they are
-    computed once, for the thickest chamber.
+    computed once (or taken from ``model``) for all thicknesses.
     """
     thicknesses = [float(L) for L in thicknesses]
     if not thicknesses:
         return []
-    v = case.filtration.cake_volume_ratio
-    V_needed = case.press.with_thickness(max(thicknesses)).chambers_full_volume(v)
-    model = CurveCycle(case.filtration, case.press.filter_area, case.feed, case.cycle, V_needed)
+    model = model or curve_cycle_for(case, thicknesses)
     out = []
     for L in thicknesses:
         variant = PressCase(case.filtration, case.press.with_thickness(L), case.feed, case.cycle)
-        out.append((L, solve_cycle(variant, end, model)))
+        out.append((L, solve_cycle(variant, end, model, with_curves=False)))
     return out

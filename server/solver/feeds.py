@@ -13,11 +13,10 @@ largest filtrate volume the cycle will ask about; closed-form curves ignore it.
 from dataclasses import dataclass
 
 import numpy as np
-
 from scipy.interpolate import PchipInterpolator
 
 from . import constant_pressure as cp
-from .curves import GeneralisedInverse, TabulatedCurve, operating_point, volume_grid
+from .curves import GeneralisedInverse, TabulatedCurve, UniformTable, operating_point, volume_grid
 from .errors import SolverInputError
 from .resistance import specific_resistance
 
@@ -301,7 +300,9 @@ class PumpCurve:
             raise SolverInputError("points", "a pump curve needs at least two (flow, pressure) points")
         for i, (q, p) in enumerate(pts):
             if q < 0.0 or not p > 0.0:
-                raise SolverInputError("points", f"flows must be >= 0 and pressures > 0; point {i + 1} is ({q:.6g} m^3/s, {p:.6g} Pa)")
+                raise SolverInputError(
+                    "points", f"flows must be >= 0 and pressures > 0; point {i + 1} is ({q:.6g} m^3/s, {p:.6g} Pa)"
+                )
         for (q0, p0), (q1, p1) in zip(pts, pts[1:]):
             if q1 == q0:
                 raise SolverInputError("points", f"two points have the same flow {q0:.6g} m^3/s")
@@ -320,7 +321,8 @@ class PumpCurve:
         P = np.array([p[1] for p in pts])
         dense_q = np.unique(np.concatenate((q, np.linspace(q[0], q[-1], max(4 * q.size, 2000)))))
         dense_p = PchipInterpolator(q, P)(dense_q)
-        object.__setattr__(self, "_supply", GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p)))
+        inverse = GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p))
+        object.__setattr__(self, "_supply", UniformTable(inverse, float(P.min()), float(P.max())))
 
     @property
     def pressure_cap(self) -> float:

@@ -239,9 +239,9 @@ def test_an_end_past_full_chambers_stops_at_full_chambers():
 
 @pytest.mark.parametrize(
     "feed,end,parameter",
-    [(ConstantPressure(5e5), EndCriterion("pressure", pressure=6e5), "pressure"),
-     (ConstantPressure(5e5), EndCriterion("pressure", pressure=4e5), "pressure"),
-     (ConstantPressure(5e5), EndCriterion("flow", flow=1e3), "flow")],
+    [(ConstantPressure(5e5), EndCriterion("pressure", pressure=6e5), "end.pressure"),
+     (ConstantPressure(5e5), EndCriterion("pressure", pressure=4e5), "end.pressure"),
+     (ConstantPressure(5e5), EndCriterion("flow", flow=1e3), "end.flow")],
 )
 def test_end_criteria_that_cannot_happen_are_refused(feed, end, parameter):
     with pytest.raises(SolverInputError) as err:
