@@ -5,7 +5,8 @@ from fastapi.staticfiles import StaticFiles
 from fastapi.templating import Jinja2Templates
 
 from . import errors
-from .routers import cycle, pages
+from .limits import BodySizeLimit
+from .routers import cycle, labfit, pages
 from .settings import PROJECT_ROOT, Settings, get_settings
 from .solver import SOLVER_VERSION
 from .views import register_filters
@@ -34,8 +35,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.settings = settings
     app.mount("/static", CachedStatic(directory=PROJECT_ROOT / "static"), name="static")
     app.include_router(cycle.router)
+    app.include_router(labfit.router)
     app.include_router(pages.router)
     errors.install(app, templates)
+    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
     return app
 
 

@@ -194,7 +194,7 @@ def solve_request(req: CycleRequest) -> dict:
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    bad = _first_non_finite(out)
+    bad = first_non_finite(out)
     if bad is not None:
         raise InputError(
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
@@ -202,7 +202,7 @@ def solve_request(req: CycleRequest) -> dict:
     return out
 
 
-def _first_non_finite(obj, path="") -> str | None:
+def first_non_finite(obj, path="") -> str | None:
     if isinstance(obj, float):
         return None if math.isfinite(obj) else path or "result"
     if isinstance(obj, dict):
@@ -212,7 +212,7 @@ def _first_non_finite(obj, path="") -> str | None:
     else:
         return None
     for key, value in items:
-        found = _first_non_finite(value, f"{path}.{key}" if path else str(key))
+        found = first_non_finite(value, f"{path}.{key}" if path else str(key))
         if found:
             return found
     return None

@@ -12,7 +12,7 @@ class Settings(BaseSettings):
     model_config = SettingsConfigDict(env_prefix="PRESSCYCLE_")
 
     demo_dir: Path = PROJECT_ROOT / "demo_cases"
-    max_body_bytes: int = 1_000_000
+    max_body_bytes: int = 2_000_000
 
 
 @lru_cache(maxsize=1)

@@ -233,3 +233,9 @@ def test_random_invalid_inputs_never_give_a_500_or_nan(client, section, key, val
 
 def _refuse_constant(name):
     raise AssertionError(f"response contains {name}")
+
+
+def test_oversized_request_body_is_a_413(client):
+    r = client.post("/api/v1/cycle", content=b"{" + b" " * 3_000_000 + b"}", headers={"content-type": "application/json"})
+    assert r.status_code == 413
+    assert "larger than" in r.json()["detail"]

@@ -1,0 +1,135 @@
+"""From a validated /api/v1/lab-fit request to the solver's lab evaluation, and back."""
+
+import numpy as np
+
+from . import solver
+from .cases import DEFAULT_LIQUID_DENSITY, first_non_finite
+from .errors import InputError
+from .labdata import CsvError, parse_readings
+from .schemas.labfit import LabFitRequest, LabTestIn
+from .solver import labfit, water
+from .solver import slurry as sb
+
+LAB_UNITS = {
+    "pressure": "Pa", "area": "m^2", "viscosity": "Pa*s", "c": "kg/m^3", "slope": "s/m^6",
+    "intercept": "s/m^3", "resistance": "m/kg", "medium_resistance": "1/m", "resistance_ref": "m/kg",
+    "reference_pressure": "Pa", "compressibility": "1", "readings": "[s, m^3]", "line.x": "m^3", "line.y": "s/m^3",
+}
+
+
+def _loc(i: int, *rest) -> tuple:
+    return ("body", "tests", i, *rest)
+
+
+def _solids_per_filtrate(t: LabTestIn, readings, i: int) -> float:
+    if t.c is not None:
+        return t.c
+    if t.dry_cake_mass is not None:
+        V_final = t.final_filtrate_volume if t.final_filtrate_volume is not None else readings[-1][1]
+        if not V_final > 0:
+            raise InputError([(_loc(i, "final_filtrate_volume"), "must be > 0 m³ to give c from the dry cake mass")])
+        return t.dry_cake_mass / V_final
+    rho_l = t.liquid_density
+    if rho_l is None:
+        rho_l = water.water_density(t.temperature) if t.temperature is not None else DEFAULT_LIQUID_DENSITY
+    rho_s = t.solids_density
+    if t.wet_to_dry_ratio is not None:
+        m = t.wet_to_dry_ratio
+    elif t.moisture is not None:
+        m = sb.wet_to_dry_from_moisture(t.moisture)
+    else:
+        m = sb.wet_to_dry_from_porosity(t.porosity, rho_s, rho_l)
+    if t.solids_mass_fraction is not None:
+        return sb.solids_per_filtrate_from_mass_fraction(t.solids_mass_fraction, m, rho_l)
+    return sb.solids_per_filtrate_from_concentration(t.solids_concentration, m, rho_s, rho_l)
+
+
+def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:
+    if t.csv is not None:
+        try:
+            readings = parse_readings(t.csv).points
+        except CsvError as exc:
+            raise InputError([(_loc(i, "csv"), str(exc))]) from None
+    else:
+        readings = [tuple(p) for p in t.points]
+    try:
+        mu = t.viscosity if t.viscosity is not None else water.water_viscosity(t.temperature)
+        c = _solids_per_filtrate(t, readings, i)
+    except solver.SolverInputError as exc:
+        raise InputError([(_loc(i, exc.parameter), exc.message)]) from None
+    start = t.start or None
+    test = labfit.LabTest(
+        pressure=t.pressure, area=t.area, viscosity=mu, solids_per_filtrate=c,
+        time=tuple(p[0] for p in readings), volume=tuple(p[1] for p in readings),
+        start_time=start.time if start else 0.0, start_volume=start.volume if start else 0.0,
+        use=tuple(t.use) if t.use is not None else None,
+    )
+    return test, readings
+
+
+def fit_request(req: LabFitRequest) -> dict:
+    """The whole /api/v1/lab-fit answer as plain data (SI), checked finite."""
+    tests_out, fits, warnings = [], [], []
+    for i, t in enumerate(req.tests):
+        test, readings = _test(t, i)
+        try:
+            fit = labfit.evaluate_test(test)
+        except solver.SolverInputError as exc:
+            field = "csv" if (exc.parameter == "points" and t.csv is not None) else exc.parameter
+            raise InputError([(_loc(i, field), exc.message)]) from None
+        fits.append(fit)
+        used = set(fit.points_used)
+        tests_out.append({
+            "name": t.name, "pressure": test.pressure, "area": test.area, "viscosity": test.viscosity,
+            "c": test.solids_per_filtrate, "slope": fit.slope, "slope_stderr": fit.slope_stderr,
+            "intercept": fit.intercept, "intercept_stderr": fit.intercept_stderr, "r_squared": fit.r_squared,
+            "resistance": fit.resistance, "resistance_stderr": fit.resistance_stderr,
+            "medium_resistance": fit.medium_resistance, "medium_resistance_stderr": fit.medium_resistance_stderr,
+            "points_used": fit.points_used, "region": fit.region,
+            "readings": [[float(a), float(b)] for a, b in readings],
+            "line": {
+                "index": fit.indices, "x": [float(v) for v in fit.x], "y": [float(v) for v in fit.y],
+                "used": [k in used for k in fit.indices],
+                "fitted": [float(fit.intercept + fit.slope * v) for v in fit.x],
+            },
+            "warnings": fit.warnings,
+        })
+        label = t.name or f"test {i + 1}"
+        warnings.extend(f"{label}: {w}" for w in fit.warnings)
+    try:
+        combined = labfit.combine_tests(
+            [f["pressure"] for f in tests_out], [f.resistance for f in fits],
+            [f.medium_resistance for f in fits], req.reference_pressure,
+        )
+    except solver.SolverInputError as exc:
+        raise InputError([(("body", "tests"), exc.message)]) from None
+    warnings.extend(combined.warnings)
+    s = combined.compressibility
+    for_cycle = {
+        "cake": {
+            "resistance": combined.resistance_ref,
+            "reference_pressure": combined.reference_pressure,
+            "compressibility": s if s is not None and 0.0 <= s < 1.0 else 0.0,
+        },
+        "medium_resistance": max(combined.medium_resistance, 0.0),
+    }
+    if s is not None and not 0.0 <= s < 1.0:
+        warnings.append("for_cycle takes the compressibility as 0 because the fitted value is outside [0, 1).")
+    if combined.medium_resistance < 0:
+        warnings.append("for_cycle takes the medium resistance as 0 because the fitted mean is negative.")
+    out = {
+        "tests": tests_out,
+        "compressibility": s, "compressibility_stderr": combined.compressibility_stderr,
+        "resistance_ref": combined.resistance_ref, "resistance_ref_stderr": combined.resistance_ref_stderr,
+        "reference_pressure": combined.reference_pressure,
+        "medium_resistance": combined.medium_resistance,
+        "medium_resistance_spread": combined.medium_resistance_spread,
+        "for_cycle": for_cycle, "warnings": warnings, "units": LAB_UNITS,
+    }
+    bad = first_non_finite(out)
+    if bad is not None:
+        raise InputError([(("body", "tests"), f"these readings give a result out of numeric range ({bad})")])
+    return out
+
+
+__all__ = ["fit_request", "np"]

@@ -1,0 +1,45 @@
+"""POST /api/v1/lab-fit: cake and cloth resistance from lab filtration tests."""
+
+from fastapi import APIRouter, HTTPException, Request, UploadFile
+
+from ..errors import InputError
+from ..labdata import CsvError, parse_readings
+from ..labfits import fit_request
+from ..schemas.labfit import LabFitRequest, LabFitResponse
+
+router = APIRouter(prefix="/api/v1", tags=["lab-fit"])
+MAX_CSV_BYTES = 1_000_000
+
+
+@router.post("/lab-fit", response_model=LabFitResponse)
+def post_lab_fit(req: LabFitRequest) -> dict:
+    """Fit t/V against V for each test; alpha_ref and s over several pressures.
+
+    Quantities accept unit strings ("440 cm^2", "23.5 g/L", "6.7 psi", "250 mL").
+    """
+    return fit_request(req)
+
+
+@router.post("/lab-readings")
+async def post_lab_readings(request: Request, file: UploadFile | None = None) -> dict:
+    """Read (t, V) readings from an uploaded CSV file or a text/csv body; returns SI points.
+
+    The header names the columns and their units, e.g. ``time [min], filtrate [mL]``.
+    """
+    if file is not None:
+        raw = await file.read(MAX_CSV_BYTES + 1)
+    else:
+        raw = await request.body()
+    if len(raw) > MAX_CSV_BYTES:
+        raise HTTPException(413, f"the CSV is larger than {MAX_CSV_BYTES // 1000} kB")
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError([(("body",), "the file is not UTF-8 text")]) from None
+    try:
+        r = parse_readings(text)
+    except CsvError as exc:
+        raise InputError([(("body",), str(exc))]) from None
+    return {"points": [list(p) for p in r.points], "time_unit": r.time_unit, "volume_unit": r.volume_unit,
+            "separator": r.separator, "decimal": r.decimal, "ignored_columns": r.ignored_columns,
+            "units": {"points": "[s, m^3]"}}

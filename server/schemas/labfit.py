@@ -1,0 +1,115 @@
+"""Schemas of POST /api/v1/lab-fit: constant-pressure lab tests in, alpha and R_m out."""
+
+from pydantic import BaseModel, Field, model_validator
+
+from .cycle import Density, SolidsFraction, Strict, Temperature, Viscosity, _exactly_one
+from .quantities import quantity
+
+Pressure = quantity("pressure", ge=1.0, le=1e8, description="Pressure")
+Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
+Time = quantity("time", ge=0.0, le=1e7, description="Time since the start of filtration")
+Volume = quantity("volume", ge=0.0, le=1e3, description="Cumulative filtrate volume")
+
+
+class StartIn(Strict):
+    time: Time = Field(description="Time at which constant pressure was reached [s]")
+    volume: Volume = Field(description="Filtrate collected by then [m³]")
+
+
+class LabTestIn(Strict):
+    name: str | None = Field(None, max_length=120, description="A label for the test")
+    pressure: Pressure = Field(description="Pressure drop across cake and cloth [Pa]")
+    area: quantity("area", ge=1e-6, le=100.0, description="Filter area of the test cell") = Field(
+        description="[m²]"
+    )
+    viscosity: Viscosity | None = Field(None, description="Filtrate viscosity [Pa·s]")
+    temperature: Temperature | None = Field(None, description="For a water-like filtrate [K]; bare numbers in °C")
+    c: quantity("density", ge=1e-3, le=1e5, description="Dry solids per filtrate volume") | None = None
+    # c from slurry and cake data, as in /api/v1/cycle
+    solids_mass_fraction: SolidsFraction | None = None
+    solids_concentration: quantity("density", ge=1e-3, le=5000.0, description="Solids per slurry volume") | None = None
+    solids_density: Density | None = None
+    liquid_density: Density | None = None
+    moisture: Fraction01 | None = None
+    wet_to_dry_ratio: quantity("fraction", gt=1.0, le=100.0, description="Wet / dry cake mass") | None = None
+    porosity: Fraction01 | None = None
+    # c from the test itself
+    dry_cake_mass: quantity("mass", gt=0.0, le=1e4, description="Dry cake from the test") | None = None
+    final_filtrate_volume: Volume | None = Field(
+        None, description="Total filtrate of the test [m³]; default: the last reading"
+    )
+    points: list[tuple[Time, Volume]] | None = Field(
+        None, min_length=3, max_length=20000, description="[time, cumulative filtrate volume] readings"
+    )
+    csv: str | None = Field(
+        None, max_length=1_000_000,
+        description="Readings as CSV text with a header naming columns and units, e.g. 'time [min], filtrate [mL]'",
+    )
+    start: StartIn | None = Field(None, description="Start of constant pressure, for tests with a filling period")
+    use: tuple[int, int] | None = Field(
+        None, description="0-based [first, last] readings to fit (inclusive); default: chosen automatically"
+    )
+
+    @model_validator(mode="after")
+    def _alternatives(self):
+        _exactly_one(self, ("viscosity", "temperature"))
+        _exactly_one(self, ("points", "csv"))
+        ways = {
+            "c": self.c is not None,
+            "slurry and cake data": self.solids_mass_fraction is not None or self.solids_concentration is not None,
+            "dry_cake_mass": self.dry_cake_mass is not None,
+        }
+        given = [k for k, v in ways.items() if v]
+        if len(given) != 1:
+            raise ValueError(
+                "give c in exactly one way: c, or slurry and cake data (solids_mass_fraction or "
+                "solids_concentration with moisture, wet_to_dry_ratio or porosity), or dry_cake_mass"
+                + (f"; got {' and '.join(given)}" if given else "")
+            )
+        if given == ["slurry and cake data"]:
+            _exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
+            _exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
+            if self.solids_density is None and (self.porosity is not None or self.solids_concentration is not None):
+                raise ValueError("give solids_density: porosity or solids_concentration need it")
+        return self
+
+
+class LabFitRequest(Strict):
+    tests: list[LabTestIn] = Field(min_length=1, max_length=50)
+    reference_pressure: Pressure = Field(1e5, description="Pressure at which resistance_ref is given [Pa]")
+
+
+class TestOut(BaseModel):
+    name: str | None
+    pressure: float = Field(description="[Pa]")
+    area: float = Field(description="[m²]")
+    viscosity: float = Field(description="[Pa·s]")
+    c: float = Field(description="[kg/m³]")
+    slope: float = Field(description="K_p/2 [s/m⁶]")
+    slope_stderr: float | None = Field(description="[s/m⁶]")
+    intercept: float = Field(description="B [s/m³]")
+    intercept_stderr: float | None = Field(description="[s/m³]")
+    r_squared: float
+    resistance: float = Field(description="Specific cake resistance alpha [m/kg]")
+    resistance_stderr: float | None = Field(description="[m/kg]")
+    medium_resistance: float = Field(description="R_m [1/m]")
+    medium_resistance_stderr: float | None = Field(description="[1/m]")
+    points_used: list[int] = Field(description="0-based indices of the readings in the fit")
+    region: str = Field(description="How the readings were chosen")
+    readings: list[tuple[float, float]] = Field(description="[t s, V m³] as read")
+    line: dict = Field(description="x = V + V0 [m³], y = (t - t0)/(V - V0) [s/m³], used, fitted y")
+    warnings: list[str]
+
+
+class LabFitResponse(BaseModel):
+    tests: list[TestOut]
+    compressibility: float | None = Field(description="s [-]; null with one pressure")
+    compressibility_stderr: float | None
+    resistance_ref: float = Field(description="alpha at reference_pressure [m/kg]")
+    resistance_ref_stderr: float | None
+    reference_pressure: float = Field(description="[Pa]")
+    medium_resistance: float = Field(description="Mean over the tests [1/m]")
+    medium_resistance_spread: float | None = Field(description="Sample standard deviation over the tests [1/m]")
+    for_cycle: dict = Field(description="The cake and medium_resistance fields of an /api/v1/cycle request")
+    warnings: list[str]
+    units: dict[str, str]

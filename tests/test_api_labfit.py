@@ -1,0 +1,143 @@
+"""POST /api/v1/lab-fit and /api/v1/lab-readings."""
+
+from pathlib import Path
+
+import pytest
+
+DATA = Path(__file__).resolve().parent / "data"
+EXAMPLE = {
+    "name": "Geankoplis Example 14.2-1", "pressure": "338 kN/m^2", "area": "0.0439 m^2",
+    "viscosity": "0.8937 mPa*s", "c": "23.47 kg/m^3",
+    "csv": (DATA / "geankoplis_14_2_1.csv").read_text(),
+}
+PROBLEM = {
+    "name": "Geankoplis Problem 14.2-1", "pressure": "6.70 psi", "area": "0.0439 m^2",
+    "viscosity": "0.8937 cP", "c": "23.47 g/L",
+    "points": [["17.3 s", "500 mL"], ["41.3 s", "1000 mL"], ["72.0 s", "1.5 L"], [108.3, 2.0e-3],
+               [152.0, 2.5e-3], [201.7, 3.0e-3]],
+}
+
+
+def post(client, body):
+    return client.post("/api/v1/lab-fit", json=body)
+
+
+def errors_of(r):
+    assert r.status_code == 422, r.text
+    return {e["field"]: e["msg"] for e in r.json()["detail"]}
+
+
+@pytest.mark.reference
+def test_one_test_gives_the_printed_resistances_and_the_fields(client):
+    # Geankoplis (3rd ed.) Example 14.2-1, printed alpha = 1.863e11 m/kg, R_m = 10.63e10 1/m (from memory).
+    r = post(client, {"tests": [EXAMPLE]})
+    assert r.status_code == 200, r.text
+    data = r.json()
+    t = data["tests"][0]
+    for key in ("slope", "intercept", "r_squared", "resistance", "resistance_stderr", "medium_resistance",
+                "medium_resistance_stderr", "points_used"):
+        assert key in t
+    assert t["resistance"] == pytest.approx(1.863e11, rel=0.01)
+    assert t["medium_resistance"] == pytest.approx(10.63e10, rel=0.01)
+    assert t["points_used"] == list(range(1, 10))
+    assert data["compressibility"] is None
+    assert data["for_cycle"]["cake"]["reference_pressure"] == pytest.approx(338e3)
+    assert any("One pressure" in w for w in data["warnings"])
+
+
+@pytest.mark.reference
+def test_two_pressures_give_compressibility_and_a_cycle_ready_cake(client):
+    # Example and Problem 14.2-1 of Geankoplis (3rd ed.): s about 0.26 (6.70 psi = 46.2 kN/m^2).
+    r = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "1 bar"})
+    data = r.json()
+    assert data["compressibility"] == pytest.approx(0.262, abs=0.01)
+    assert data["reference_pressure"] == 1e5
+    assert data["tests"][1]["resistance"] == pytest.approx(1.106e11, rel=0.005)
+    assert data["medium_resistance_spread"] > 0
+    # the result drops straight into a cycle request
+    cycle = {
+        "slurry": {"solids_mass_fraction": "2.3 %", "solids_density": "2710 kg/m^3", "temperature": 25},
+        "cake": {**data["for_cycle"]["cake"], "porosity": 0.5},
+        "medium_resistance": data["for_cycle"]["medium_resistance"],
+        "press": {"filter_area": "17.46 m^2", "chamber_thickness": "30 mm"},
+        "feed": {"mode": "constant_pressure", "pressure": "338 kN/m^2"},
+        "cycle": {"downtime": "20 min"},
+    }
+    res = client.post("/api/v1/cycle", json=cycle)
+    assert res.status_code == 200, res.text
+    assert res.json()["derived"]["resistance_at_feed"] == pytest.approx(data["tests"][0]["resistance"], rel=0.01)
+
+
+def test_c_from_slurry_data_and_from_dry_cake_mass(client):
+    # Holdich's sheet (tests/data/README.md): x = 0.1, wet/dry = 1280/635 gives c = 125.25 kg/m^3.
+    base = {"pressure": "3 bar", "area": "2.72 m^2", "viscosity": "1 mPa*s",
+            "csv": (DATA / "holdich_constant_pressure.csv").read_text()}
+    a = post(client, {"tests": [{**base, "solids_mass_fraction": 0.1, "wet_to_dry_ratio": 1280 / 635,
+                                 "liquid_density": 1000}]}).json()["tests"][0]
+    assert a["c"] == pytest.approx(125.24655, rel=1e-6)
+    assert a["resistance"] == pytest.approx(5.215e11, rel=1e-3)
+    b = post(client, {"tests": [{**base, "dry_cake_mass": "13.276 kg"}]}).json()["tests"][0]
+    assert b["c"] == pytest.approx(13.276 / 0.106)
+
+
+def test_user_region_by_index(client):
+    r = post(client, {"tests": [{**EXAMPLE, "use": [0, 9]}]}).json()["tests"][0]
+    assert r["points_used"] == list(range(10))
+    assert r["resistance"] == pytest.approx(1.863e11 * 0.96, rel=0.01)
+
+
+def test_start_offset_is_accepted(client):
+    r = post(client, {"tests": [{**EXAMPLE, "start": {"time": "4.4 s", "volume": "0.498 L"}}]})
+    assert r.status_code == 200
+    t = r.json()["tests"][0]
+    assert 0 not in t["points_used"]
+    assert any("not used" in w for w in t["warnings"])
+
+
+@pytest.mark.parametrize(
+    "change,field,fragment",
+    [
+        (lambda t: t.update(c=None), "tests.0", "give c in exactly one way"),
+        (lambda t: t.update(dry_cake_mass="1 kg"), "tests.0", "exactly one way"),
+        (lambda t: t.update(temperature=20), "tests.0", "only one of viscosity or temperature"),
+        (lambda t: t.update(points=[[1, 1e-4]] * 3), "tests.0", "only one of points or csv"),
+        (lambda t: t.update(pressure="5 kg"), "tests.0.pressure", "not a unit of pressure"),
+        (lambda t: t.update(area=0), "tests.0.area", "at least"),
+        (lambda t: t.update(csv="time [s], filtrate\n1, 2\n"), "tests.0.csv", "line 1"),
+        (lambda t: t.update(csv="time [s], filtrate [L]\n1, 2\n2, x\n"), "tests.0.csv", "line 3"),
+        (lambda t: t.update(csv="time [s], filtrate [L]\n1, 2\n2, 1\n3, 3\n"), "tests.0.csv", "volumes must increase"),
+        (lambda t: t.update(use=[5, 20]), "tests.0.use", "first < last"),
+    ],
+)
+def test_bad_lab_input_is_a_422_naming_the_field(client, change, field, fragment):
+    test = dict(EXAMPLE)
+    change(test)
+    errs = errors_of(post(client, {"tests": [test]}))
+    assert field in errs, errs
+    assert fragment in errs[field], errs[field]
+
+
+def test_same_pressure_twice_cannot_give_compressibility(client):
+    errs = errors_of(post(client, {"tests": [EXAMPLE, EXAMPLE]}))
+    assert "two or more different pressures" in errs["tests"]
+
+
+def test_csv_upload_returns_si_points(client):
+    r = client.post("/api/v1/lab-readings", files={"file": ("p.csv", (DATA / "geankoplis_p14_2_1.csv").read_bytes())})
+    assert r.status_code == 200
+    assert r.json()["points"][0] == pytest.approx([17.3, 0.5e-3])
+    assert r.json()["decimal"] == "comma"
+
+
+def test_csv_paste_with_a_bad_row_is_a_422_naming_the_line(client):
+    r = client.post("/api/v1/lab-readings", content=b"time [min], filtrate [mL]\n1, 2\n2;3\n",
+                    headers={"content-type": "text/csv"})
+    assert r.status_code == 422
+    assert "line 3" in r.json()["detail"][0]["msg"]
+
+
+def test_oversized_upload_is_refused(client):
+    big = b"time [s], filtrate [L]\n" + b"1, 2\n" * 300_000
+    r = client.post("/api/v1/lab-readings", content=big, headers={"content-type": "text/csv"})
+    assert r.status_code == 413
+    assert "larger than" in r.json()["detail"]
