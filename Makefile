@@ -5,7 +5,7 @@ BIN    := $(VENV)/bin
 HOST   ?= 127.0.0.1
 PORT   ?= 8000
 
-.PHONY: run test lint bench clean
+.PHONY: run test lint bench clean browser
 
 $(BIN)/python:
 	$(PYTHON) -m venv $(VENV)
@@ -21,7 +21,16 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 run: $(VENV)/.installed
 	$(BIN)/uvicorn server.app:app --host $(HOST) --port $(PORT)
 
-test: $(VENV)/.installed-test
+# Debian's Chromium for the browser tests (playwright drives it; its own browser download
+# does not work here). Installed when missing and we may install packages.
+browser:
+	@command -v chromium >/dev/null 2>&1 || { \
+	  if [ "$$(id -u)" = 0 ]; then SUDO=; elif command -v sudo >/dev/null 2>&1; then SUDO=sudo; else SUDO=none; fi; \
+	  if [ "$$SUDO" = none ]; then echo "chromium is missing and cannot be installed: browser tests will skip (fail in CI)"; \
+	  else echo "installing Debian's chromium for the browser tests"; \
+	    $$SUDO apt-get update -qq && DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y -qq chromium >/dev/null; fi; }
+
+test: $(VENV)/.installed-test browser
 	$(BIN)/python -m pytest
 
 lint: $(VENV)/.installed-test

@@ -6,7 +6,7 @@ from fastapi.templating import Jinja2Templates
 
 from . import errors
 from .limits import BodySizeLimit
-from .routers import cycle, labfit, pages
+from .routers import cycle, labfit, pages, ui
 from .settings import PROJECT_ROOT, Settings, get_settings
 from .solver import SOLVER_VERSION
 from .views import register_filters
@@ -36,6 +36,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.mount("/static", CachedStatic(directory=PROJECT_ROOT / "static"), name="static")
     app.include_router(cycle.router)
     app.include_router(labfit.router)
+    app.include_router(ui.router)
     app.include_router(pages.router)
     errors.install(app, templates)
     app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)

@@ -162,6 +162,18 @@ def _cycle_dict(r: solver.CycleResult) -> dict:
 
 def solve_request(req: CycleRequest) -> dict:
     """The whole /api/v1/cycle answer as plain data (SI), checked finite."""
+    return solve_full(req).answer
+
+
+class Solved:
+    """The API answer with the solver objects behind it (for charts)."""
+
+    def __init__(self, answer, built, model, solution):
+        self.answer, self.built, self.model, self.solution = answer, built, model, solution
+
+
+def solve_full(req: CycleRequest) -> Solved:
+    """Solve a request; keep the solver's model and solution beside the plain answer."""
     built = build_case(req)
     try:
         model = solver.curve_cycle_for(built.case, req.compare_thicknesses)
@@ -199,7 +211,7 @@ def solve_request(req: CycleRequest) -> dict:
         raise InputError(
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
         )
-    return out
+    return Solved(out, built, model, sol)
 
 
 def first_non_finite(obj, path="") -> str | None:

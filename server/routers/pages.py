@@ -1,26 +1,62 @@
-"""HTML pages."""
+"""HTML pages: home, the scenario editor (new or from a demo case), vendor assets."""
 
+from functools import lru_cache
+from pathlib import Path
+
+import plotly
 from fastapi import APIRouter, HTTPException, Request
-from fastapi.responses import HTMLResponse
+from fastapi.responses import FileResponse, HTMLResponse
 
-from ..cases import CAUTIONS, solve_request
+from ..cases import CAUTIONS, solve_full
+from ..charts import all_charts
 from ..demo import load_demo_cases
+from ..display import Units
 from ..errors import InputError
+from ..forms import GROUPS, UNIT_CHOICES, prefill
 from ..schemas.cycle import CycleRequest
 from ..settings import get_settings
 
-router = APIRouter(tags=["pages"])
+router = APIRouter(tags=["pages"], include_in_schema=False)
+PLOTLY_JS = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
 
 
 def _demos():
     return load_demo_cases(get_settings().demo_dir)
 
 
+def _templates(request: Request):
+    return request.app.state.templates
+
+
 @router.get("/", response_class=HTMLResponse)
 def home(request: Request):
-    return request.app.state.templates.TemplateResponse(
-        request, "home.html", {"demos": _demos(), "cautions": CAUTIONS}
-    )
+    return _templates(request).TemplateResponse(request, "home.html", {"demos": _demos(), "cautions": CAUTIONS})
+
+
+def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool):
+    context = {
+        "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
+        "state": prefill(inputs), "plotly_url": f"/vendor/plotly.min.js?v={plotly.__version__}",
+        "initial_html": None, "initial_figures": None,
+    }
+    if solve:
+        try:
+            solved = solve_full(CycleRequest.model_validate(inputs))
+        except (InputError, ValueError):
+            solved = None  # the page still opens; Calculate shows what is wrong
+        if solved is not None:
+            u = Units("si")
+            context["initial_html"] = _templates(request).get_template("_results.html").render(
+                {"r": solved.answer, "u": u, "cautions": CAUTIONS}
+            )
+            context["initial_figures"] = all_charts(solved.model, solved.built.case, solved.solution, u)
+    return _templates(request).TemplateResponse(request, "scenario.html", context)
+
+
+@router.get("/scenario/new", response_class=HTMLResponse)
+def new_scenario(request: Request):
+    return editor_page(request, "New scenario", "Enter your slurry, cake, cloth, press, feed and cycle; "
+                       "every field takes the unit you choose.", {}, solve=False)
 
 
 @router.get("/demo/{slug}", response_class=HTMLResponse)
@@ -28,10 +64,23 @@ def demo_case(request: Request, slug: str):
     demo = next((d for d in _demos() if d.slug == slug), None)
     if demo is None:
         raise HTTPException(404, f"no demo case named {slug!r}")
-    try:
-        results = solve_request(CycleRequest.model_validate(demo.inputs))
-    except InputError as exc:
-        raise HTTPException(500, f"demo case {slug!r} does not solve: {exc}") from None
-    return request.app.state.templates.TemplateResponse(
-        request, "demo.html", {"demo": demo, "r": results, "cautions": CAUTIONS}
-    )
+    return editor_page(request, demo.name, demo.description, demo.inputs, solve=True)
+
+
+@router.get("/favicon.ico", include_in_schema=False)
+def favicon():
+    return FileResponse(Path(__file__).resolve().parents[2] / "static" / "favicon.svg", media_type="image/svg+xml")
+
+
+@lru_cache(maxsize=1)
+def _plotly_exists() -> bool:
+    return PLOTLY_JS.is_file()
+
+
+@router.get("/vendor/plotly.min.js")
+def plotly_js():
+    """plotly.js from the installed plotly package: the intranet has no CDN."""
+    if not _plotly_exists():
+        raise HTTPException(404, "plotly.js is not installed with the plotly package")
+    return FileResponse(PLOTLY_JS, media_type="text/javascript",
+                        headers={"cache-control": "public, max-age=31536000, immutable"})

@@ -1,0 +1,72 @@
+"""Display units for results and charts: SI (metric) or US customary.
+
+The solver and API speak SI base units; people read m³/h, bar, mm and min (or gpm, psi,
+in and min). Each displayed quantity has a unit per system; values are converted with
+the same pint registry as the input parser.
+"""
+
+from dataclasses import dataclass
+from functools import lru_cache
+
+from .units import registry
+
+SYSTEMS = ("si", "us")
+
+
+@dataclass(frozen=True)
+class Shown:
+    label: str  # how people read the unit
+    pint: str  # how pint spells it
+
+
+#: Display unit of each quantity, per system.
+DISPLAY = {
+    "time": {"si": Shown("min", "min"), "us": Shown("min", "min")},
+    "volume": {"si": Shown("m³", "m**3"), "us": Shown("ft³", "ft**3")},
+    "volume_small": {"si": Shown("L", "L"), "us": Shown("US gal", "gallon")},
+    "flow": {"si": Shown("m³/h", "m**3/h"), "us": Shown("US gpm", "gallon/min")},
+    "flux": {"si": Shown("L/(m²·h)", "L/(m**2*h)"), "us": Shown("US gal/(ft²·h)", "gallon/(ft**2*h)")},
+    "mass": {"si": Shown("kg", "kg"), "us": Shown("lb", "lb")},
+    "mass_rate": {"si": Shown("kg/h", "kg/h"), "us": Shown("lb/h", "lb/h")},
+    "mass_per_day": {"si": Shown("t/day", "t/day"), "us": Shown("short ton/day", "short_ton/day")},
+    "thickness": {"si": Shown("mm", "mm"), "us": Shown("in", "inch")},
+    "pressure": {"si": Shown("bar", "bar"), "us": Shown("psi", "psi")},
+    "area": {"si": Shown("m²", "m**2"), "us": Shown("ft²", "ft**2")},
+    "density": {"si": Shown("kg/m³", "kg/m**3"), "us": Shown("lb/ft³", "lb/ft**3")},
+    "viscosity": {"si": Shown("mPa·s", "mPa*s"), "us": Shown("cP", "cP")},
+    "specific_resistance": {"si": Shown("m/kg", "m/kg"), "us": Shown("ft/lb", "ft/lb")},
+    "medium_resistance": {"si": Shown("1/m", "1/m"), "us": Shown("1/ft", "1/ft")},
+    "percent": {"si": Shown("%", "percent"), "us": Shown("%", "percent")},
+}
+
+SI_OF = {
+    "time": "s", "volume": "m**3", "volume_small": "m**3", "flow": "m**3/s", "flux": "m/s", "mass": "kg",
+    "mass_rate": "kg/s", "mass_per_day": "kg/s", "thickness": "m", "pressure": "Pa", "area": "m**2",
+    "density": "kg/m**3", "viscosity": "Pa*s", "specific_resistance": "m/kg", "medium_resistance": "1/m",
+    "percent": "dimensionless",
+}
+
+
+@lru_cache(maxsize=256)
+def _factor(quantity: str, system: str) -> float:
+    ureg = registry()
+    return float(ureg.Quantity(1.0, SI_OF[quantity]).to(DISPLAY[quantity][system].pint).magnitude)
+
+
+class Units:
+    """Converts SI values for display in one unit system."""
+
+    def __init__(self, system: str = "si"):
+        self.system = system if system in SYSTEMS else "si"
+
+    def label(self, quantity: str) -> str:
+        return DISPLAY[quantity][self.system].label
+
+    def __call__(self, quantity: str, value):
+        """SI value (or list of values) in the display unit of ``quantity``."""
+        f = _factor(quantity, self.system)
+        if value is None:
+            return None
+        if isinstance(value, list | tuple):
+            return [None if v is None else v * f for v in value]
+        return value * f

@@ -1,0 +1,256 @@
+"""The scenario editor's fields: one table, used by the template and to prefill the form.
+
+Field names are the API's dotted paths (``slurry.solids_mass_fraction``), so a 422 from
+the API points straight at the input. Alternatives (mass fraction or concentration, ...)
+are choices: only the chosen alternative's fields are sent.
+"""
+
+import re
+from dataclasses import dataclass, field
+
+UNIT_CHOICES = {
+    "pressure": [("bar", "bar"), ("kPa", "kPa"), ("MPa", "MPa"), ("psi", "psi"), ("Pa", "Pa")],
+    "length": [("mm", "mm"), ("in", "in"), ("m", "m")],
+    "area": [("m²", "m^2"), ("ft²", "ft^2"), ("cm²", "cm^2")],
+    "volume": [("m³", "m^3"), ("L", "L"), ("ft³", "ft^3"), ("US gal", "gal")],
+    "time": [("min", "min"), ("h", "h"), ("s", "s")],
+    "viscosity": [("mPa·s", "mPa*s"), ("cP", "cP"), ("Pa·s", "Pa*s")],
+    "density": [("kg/m³", "kg/m^3"), ("g/cm³", "g/cm^3"), ("lb/ft³", "lb/ft^3")],
+    "concentration": [("kg/m³", "kg/m^3"), ("g/L", "g/L"), ("lb/ft³", "lb/ft^3")],
+    "specific_resistance": [("m/kg", "m/kg"), ("ft/lb", "ft/lb")],
+    "medium_resistance": [("1/m", "1/m"), ("1/ft", "1/ft")],
+    "fraction": [("%", "%"), ("fraction", "")],
+    "ratio": [("–", "")],
+    "count": [("–", "")],
+    "temperature": [("°C", "degC"), ("°F", "degF"), ("K", "K")],
+    "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("m³/s", "m^3/s")],
+    "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
+}
+
+
+@dataclass(frozen=True)
+class F:
+    """One input: its API path, label, unit kind, one-line hint with the typical range."""
+
+    path: str
+    label: str
+    kind: str
+    hint: str
+    optional: bool = False
+
+    @property
+    def id(self) -> str:
+        return "f-" + self.path.replace(".", "-")
+
+    @property
+    def units(self):
+        return UNIT_CHOICES[self.kind]
+
+
+@dataclass(frozen=True)
+class Choice:
+    """Alternatives: exactly one option's fields are sent."""
+
+    name: str
+    label: str
+    options: list  # (value, label, [F, ...])
+
+
+@dataclass(frozen=True)
+class Group:
+    key: str
+    title: str
+    items: list = field(default_factory=list)  # F or Choice
+
+
+GROUPS = [
+    Group("slurry", "Slurry", [
+        Choice("slurry.basis", "Solids given as", [
+            ("mass_fraction", "mass fraction", [F("slurry.solids_mass_fraction", "Solids in the slurry", "fraction",
+                                                 "by mass; typically 1–60 %")]),
+            ("concentration", "per slurry volume", [F("slurry.solids_concentration", "Solids per slurry volume",
+                                                       "concentration", "dry solids per m³ of slurry; typically 10–800 kg/m³")]),
+        ]),
+        F("slurry.solids_density", "Solids density", "density", "minerals 2000–5000 kg/m³, organics 1000–1600"),
+        F("slurry.liquid_density", "Filtrate density", "density",
+          "blank: water at the temperature, or 998 kg/m³", optional=True),
+        Choice("slurry.viscosity_basis", "Filtrate viscosity from", [
+            ("temperature", "temperature (water-like)", [F("slurry.temperature", "Slurry temperature", "temperature",
+                                                             "water-like filtrate; 1–99 °C")]),
+            ("viscosity", "measured viscosity", [F("slurry.viscosity", "Filtrate viscosity", "viscosity",
+                                                   "water is 1.0 mPa·s at 20 °C; typically 0.3–5")]),
+        ]),
+    ]),
+    Group("cake", "Cake", [
+        F("cake.resistance", "Specific cake resistance α", "specific_resistance",
+          "from your lab test; 1e9 free-draining to 1e14 m/kg for slimes"),
+        F("cake.reference_pressure", "… measured at", "pressure",
+          "the test pressure of α; needed when s > 0", optional=True),
+        F("cake.compressibility", "Compressibility s", "ratio", "0 incompressible; 0.1–0.9 compressible", optional=True),
+        Choice("cake.liquid_basis", "Cake liquid given as", [
+            ("moisture", "moisture", [F("cake.moisture", "Cake moisture", "fraction",
+                                        "liquid / wet cake mass; typically 8–80 %")]),
+            ("wet_to_dry_ratio", "wet-to-dry ratio", [F("cake.wet_to_dry_ratio", "Wet / dry cake mass", "ratio",
+                                                        "typically 1.1–5; about 2 for fine minerals")]),
+            ("porosity", "porosity", [F("cake.porosity", "Cake porosity", "fraction", "void fraction; typically 30–80 %")]),
+        ]),
+    ]),
+    Group("cloth", "Cloth", [
+        F("medium_resistance", "Cloth resistance R_m", "medium_resistance",
+          "from your lab test; typically 1e9–1e12 1/m; 0 neglects the cloth"),
+    ]),
+    Group("press", "Press", [
+        Choice("press.geometry", "Press given as", [
+            ("area", "total filter area", [F("press.filter_area", "Total filter area", "area",
+                                            "both faces of every chamber")]),
+            ("plates", "plates and chambers", [
+                F("press.plate_face_area", "Filter area per chamber face", "area", "e.g. about 1.8 m² for 1.5 m plates"),
+                F("press.chambers", "Number of chambers", "count", "plates in the pack minus one"),
+            ]),
+        ]),
+        F("press.chamber_thickness", "Chamber thickness", "length", "typically 20–60 mm"),
+        F("press.fill_fraction", "Usable chamber fill", "fraction",
+          "share of chamber volume the cake may fill; 80–100 %", optional=True),
+    ]),
+    Group("feed", "Feed", [
+        Choice("feed.mode", "Feed", [
+            ("constant_pressure", "constant pressure", [F("feed.pressure", "Feed pressure", "pressure",
+                                                          "drop across cake and cloth; presses run 5–16 bar")]),
+            ("constant_rate", "positive-displacement pump", [
+                F("feed.flow", "Set flow", "flow", "filtrate flow while below the maximum pressure"),
+                F("feed.max_pressure", "Maximum pressure", "pressure", "relief or set pressure, then held"),
+            ]),
+            ("pump_curve", "centrifugal pump curve", [
+                F("feed.points", "Pump curve (flow, pressure per line)", "curve", "pressure must fall as flow rises"),
+                F("feed.max_pressure", "Relief pressure", "pressure", "blank: none", optional=True),
+            ]),
+            ("pressure_steps", "pressure in stages", [
+                F("feed.steps", "Stages (pressure, duration per line)", "steps", "the last stage is held"),
+            ]),
+        ]),
+    ]),
+    Group("cycle", "Cycle", [
+        F("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically 10–60 min"),
+        F("cycle.wash_ratio", "Wash ratio", "ratio", "wash volume / filtrate volume; 0 = no washing", optional=True),
+        F("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
+        F("cycle.wash_pressure", "Wash pressure", "pressure", "blank: the filtration pressure", optional=True),
+        F("cycle.wash_viscosity", "Wash liquid viscosity", "viscosity", "blank: the filtrate's", optional=True),
+        Choice("cycle.end.criterion", "End filtration at", [
+            ("best", "best throughput", []),
+            ("chambers_full", "full chambers", []),
+            ("time", "a set time", [F("cycle.end.time", "Filtration time", "time", "from the start of feeding")]),
+            ("flow", "a filtrate flow", [F("cycle.end.flow", "Flow below", "flow", "filtrate flow that ends filtration")]),
+            ("pressure", "a terminal pressure", [F("cycle.end.pressure", "Terminal pressure", "pressure",
+                                                   "for pump feeds whose pressure rises")]),
+        ]),
+    ]),
+    Group("compare", "Compare", [
+        F("compare_thicknesses", "Chamber thicknesses to compare", "length_list", "e.g. 25, 32, 40", optional=True),
+    ]),
+]
+
+_NUM_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+
+
+def split_quantity(value, kind: str) -> tuple[str, str]:
+    """A stored input ("58 %", 0.18, "7 bar") as (number text, unit choice) for the form."""
+    choices = [u for _, u in UNIT_CHOICES.get(kind, [("", "")])]
+    if isinstance(value, bool) or value is None:
+        return "", choices[0]
+    if isinstance(value, int | float):
+        bare = {"temperature": "degC", "fraction": ""}.get(kind, "" if "" in choices else None)
+        if bare is not None and bare in choices:
+            return repr(value) if isinstance(value, float) else str(value), bare
+        return _si_to_choice(float(value), kind, choices)
+    m = _NUM_UNIT.match(str(value))
+    if not m:
+        return str(value), choices[0]
+    number, unit = m.group(1), m.group(2)
+    normal = unit.replace("**", "^").replace(" ", "")
+    for u in choices:
+        if u.replace(" ", "") == normal:
+            return number, u
+    return _si_to_choice(_parse_si(str(value), kind), kind, choices)
+
+
+def _parse_si(text: str, kind: str) -> float:
+    from .units import parse_quantity
+
+    return parse_quantity(text, _UNIT_KIND.get(kind, kind))
+
+
+_UNIT_KIND = {"concentration": "density", "ratio": "fraction", "count": "fraction", "curve": "fraction"}
+
+
+def _si_to_choice(si: float, kind: str, choices) -> tuple[str, str]:
+    """An SI value shown in the field's first unit choice."""
+    from .units import parse_quantity
+
+    unit = choices[0]
+    one = parse_quantity(f"1 {unit}", _UNIT_KIND.get(kind, kind)) if unit else 1.0
+    zero = parse_quantity(f"0 {unit}", _UNIT_KIND.get(kind, kind)) if unit else 0.0
+    return f"{(si - zero) / (one - zero):.6g}", unit
+
+
+def _get(inputs: dict, path: str):
+    node = inputs
+    for part in path.split("."):
+        if not isinstance(node, dict) or part not in node:
+            return None
+        node = node[part]
+    return node
+
+
+def prefill(inputs: dict) -> dict:
+    """Form state from a stored request: {path: (number, unit)} and {choice name: option}."""
+    values, choices = {}, {}
+    for group in GROUPS:
+        for item in group.items:
+            if isinstance(item, Choice):
+                picked = item.options[0][0]
+                for value, _, fields in item.options:
+                    if item.name == "feed.mode":
+                        if _get(inputs, "feed.mode") == value:
+                            picked = value
+                    elif item.name == "cycle.end.criterion":
+                        if _get(inputs, "cycle.end.criterion") == value:
+                            picked = value
+                    elif any(_get(inputs, f.path) is not None for f in fields):
+                        picked = value
+                choices[item.name] = picked
+                for value, _, fields in item.options:
+                    for f in fields:
+                        if value == picked or f.path not in values:
+                            _fill(values, f, inputs, value == picked)
+            else:
+                _fill(values, item, inputs, True)
+    return {"values": values, "choices": choices}
+
+
+def _fill(values: dict, f: F, inputs: dict, chosen: bool) -> None:
+    raw = _get(inputs, f.path) if chosen else None
+    if f.kind == "curve":
+        pts = raw or []
+        values[f.path] = ("\n".join(f"{_num(q, 'flow')}, {_num(p, 'pressure')}" for q, p in pts), "m^3/h|bar")
+    elif f.kind == "steps":
+        st = raw or []
+        values[f.path] = ("\n".join(f"{_num(p, 'pressure')}, {_num(d, 'time')}" for p, d in st), "bar|min")
+    elif f.kind == "length_list":
+        Ls = raw or []
+        values[f.path] = (", ".join(_num(L, "length") for L in Ls), "mm")
+    elif f.kind == "washing":
+        values[f.path] = (raw or "through", "")
+    else:
+        values[f.path] = split_quantity(raw, f.kind) if raw is not None else ("", f.units[0][1])
+
+
+def _num(value, kind: str) -> str:
+    """A stored list entry in the list's fixed unit (m³/h, bar, min, mm)."""
+    unit = {"flow": "m^3/h", "pressure": "bar", "time": "min", "length": "mm"}[kind]
+    number, u = split_quantity(value, kind)
+    if u == unit:
+        return number
+    return _si_to_choice(_parse_si(value if isinstance(value, str) else f"{value} {_SI[kind]}", kind), kind, [unit])[0]
+
+
+_SI = {"flow": "m^3/s", "pressure": "Pa", "time": "s", "length": "m"}

@@ -1,0 +1,193 @@
+// The scenario editor: collects the form as an /api/v1/cycle request (values with the units
+// the engineer chose), asks the server for the results and charts, and marks bad fields.
+(function () {
+  "use strict";
+  const form = document.getElementById("scenario");
+  const results = document.getElementById("results");
+  const status = document.getElementById("status");
+  let figures = {};
+  let lastBody = null;
+
+  function visible(el) {
+    return !el.closest(".option[hidden]");
+  }
+
+  function setPath(obj, path, value) {
+    const parts = path.split(".");
+    let node = obj;
+    for (let i = 0; i < parts.length - 1; i++) {
+      node[parts[i]] = node[parts[i]] || {};
+      node = node[parts[i]];
+    }
+    node[parts[parts.length - 1]] = value;
+  }
+
+  function num(text) {
+    const t = text.trim();
+    return t.indexOf(".") < 0 ? t.replace(",", ".") : t;
+  }
+
+  function unitOf(path, suffix) {
+    const sel = Array.from(form.querySelectorAll(`[name="${path}@${suffix || "unit"}"]`)).find(visible);
+    return sel ? sel.value : "";
+  }
+
+  function quantity(value, unit) {
+    if (!unit) return Number(value);
+    return `${value} ${unit}`;
+  }
+
+  function lines(text) {
+    return text.split(/\r?\n/).map((l) => l.trim()).filter((l) => l && !l.startsWith("#"));
+  }
+
+  function pairs(el, path) {
+    const u0 = unitOf(path, "unit0"), u1 = unitOf(path, "unit1");
+    return lines(el.value).map((l) => {
+      const cells = l.split(/[;\t]|,(?=\s)|\s+/).map((c) => c.trim()).filter(Boolean);
+      return [quantity(num(cells[0] || ""), u0), quantity(num(cells[1] || ""), u1)];
+    });
+  }
+
+  function collect() {
+    const body = {};
+    form.querySelectorAll("[data-choice]").forEach((c) => {
+      const name = c.dataset.choice;
+      const value = c.querySelector(`[name="${name}@choice"]`).value;
+      if (name === "feed.mode" || name === "cycle.end.criterion") setPath(body, name, value);
+    });
+    form.querySelectorAll("input[name], textarea[name], select[name]").forEach((el) => {
+      const path = el.name;
+      if (path.indexOf("@") >= 0 || !visible(el)) return;
+      const raw = el.value.trim();
+      if (raw === "") return;
+      const kind = el.dataset.kind || "";
+      let value;
+      if (kind === "curve" || kind === "steps") value = pairs(el, path);
+      else if (kind === "list") value = raw.split(/[\s;,]+/).filter(Boolean).map((x) => quantity(num(x), unitOf(path)));
+      else if (kind === "count") value = Number(num(raw));
+      else if (el.tagName === "SELECT") value = raw;
+      else value = quantity(num(raw), unitOf(path));
+      setPath(body, path, value);
+    });
+    return body;
+  }
+
+  function clearErrors() {
+    form.querySelectorAll(".error").forEach((e) => { e.hidden = true; e.textContent = ""; });
+    form.querySelectorAll("[aria-invalid]").forEach((e) => e.removeAttribute("aria-invalid"));
+  }
+
+  function fieldFor(path) {
+    let parts = path.split(".").filter((p) => !/^\d+$/.test(p) || true);
+    while (parts.length) {
+      const p = parts.join(".");
+      const field = Array.from(form.querySelectorAll(`.field[data-path="${p}"]`)).find(visible);
+      if (field) return field;
+      const group = form.querySelector(`.group-error[data-path="${p}"]`);
+      if (group) return group;
+      parts = parts.slice(0, -1);
+    }
+    return null;
+  }
+
+  function showErrors(detail) {
+    let first = null;
+    detail.forEach((d) => {
+      const target = fieldFor(d.field || "");
+      const box = target && (target.classList.contains("group-error") ? target : target.querySelector(".error"));
+      if (box) {
+        box.textContent = (box.textContent ? box.textContent + " " : "") + d.msg;
+        box.hidden = false;
+        const input = target.querySelector && target.querySelector("input, textarea, select");
+        if (input) { input.setAttribute("aria-invalid", "true"); first = first || input; }
+      } else {
+        status.textContent = `${d.field}: ${d.msg}`;
+      }
+    });
+    if (first) first.focus();
+    status.textContent = status.textContent || "Please correct the marked fields.";
+  }
+
+  function plotAll() {
+    Object.entries(figures).forEach(([key, fig]) => {
+      const el = document.getElementById(`chart-${key}`);
+      if (el && window.Plotly) {
+        window.Plotly.newPlot(el, fig.data, fig.layout, { responsive: true, displaylogo: false });
+      }
+    });
+    results.querySelectorAll("button.csv").forEach((b) => b.addEventListener("click", () => downloadCsv(b.dataset.chart)));
+  }
+
+  function csvCell(v) {
+    const s = v === null || v === undefined ? "" : String(v);
+    return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+  }
+
+  function downloadCsv(key) {
+    const el = document.getElementById(`chart-${key}`);
+    const fig = figures[key];
+    if (!fig) return;
+    const layout = (el && el.layout) || fig.layout;
+    const title = (ax) => (layout[ax] && layout[ax].title && layout[ax].title.text) || ax;
+    const rows = [];
+    ((el && el.data) || fig.data).forEach((tr) => {
+      const xa = "xaxis" + (tr.xaxis && tr.xaxis !== "x" ? tr.xaxis.slice(1) : "");
+      const ya = "yaxis" + (tr.yaxis && tr.yaxis !== "y" ? tr.yaxis.slice(1) : "");
+      if (tr.type === "contour") {
+        rows.push(["series", title(xa), title(ya), "throughput"]);
+        tr.y.forEach((y, i) => tr.x.forEach((x, j) => rows.push([tr.name, x, y, tr.z[i][j]])));
+      } else {
+        rows.push(["series", title(xa), title(ya)]);
+        tr.x.forEach((x, i) => rows.push([tr.name, x, tr.y[i]]));
+      }
+    });
+    const text = rows.map((r) => r.map(csvCell).join(",")).join("\n") + "\n";
+    const a = document.createElement("a");
+    a.href = URL.createObjectURL(new Blob([text], { type: "text/csv" }));
+    a.download = `presscycle-${key}.csv`;
+    document.body.appendChild(a);
+    a.click();
+    a.remove();
+  }
+
+  async function calculate() {
+    clearErrors();
+    status.textContent = "Calculating…";
+    const body = collect();
+    const units = form.querySelector('[name="@display"]:checked').value;
+    let response;
+    try {
+      response = await fetch(`/ui/results?units=${units}`, {
+        method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body),
+      });
+    } catch (e) {
+      status.textContent = "The server did not answer; check the connection and try again.";
+      return;
+    }
+    const data = await response.json().catch(() => ({}));
+    if (response.status === 422) { showErrors(data.detail || []); return; }
+    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; return; }
+    lastBody = body;
+    results.innerHTML = data.html;
+    figures = data.figures || {};
+    plotAll();
+    status.textContent = "Done.";
+    document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, result: data.result } }));
+  }
+
+  form.addEventListener("submit", (e) => { e.preventDefault(); calculate(); });
+  form.querySelectorAll("[data-choice] > select").forEach((sel) => {
+    sel.addEventListener("change", () => {
+      sel.parentElement.querySelectorAll(":scope > .option").forEach((o) => { o.hidden = o.dataset.option !== sel.value; });
+    });
+  });
+  form.querySelectorAll('[name="@display"]').forEach((r) => r.addEventListener("change", () => { if (lastBody) calculate(); }));
+  window.presscycle = { collect, calculate, lastBody: () => lastBody };
+  const initial = document.getElementById("initial-figures");
+  if (initial) {
+    figures = JSON.parse(initial.textContent);
+    lastBody = collect();
+    plotAll();
+  }
+})();

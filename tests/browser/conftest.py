@@ -1,0 +1,104 @@
+"""Real-browser fixtures: a uvicorn server on 127.0.0.1 and Debian's Chromium via playwright.
+
+In CI (CI=true) a missing Chromium or playwright fails the tests instead of skipping them.
+Every request the page makes is checked: anything not to 127.0.0.1 is blocked and fails.
+"""
+
+import os
+import shutil
+import socket
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[2]
+CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
+CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
+                 "--disable-sync", "--no-first-run", "--disable-quic"]
+
+
+def _unavailable(reason: str):
+    if os.environ.get("CI", "").lower() == "true":
+        pytest.fail(f"browser tests must run in CI: {reason}")
+    pytest.skip(reason)
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture(scope="session")
+def live_server(tmp_path_factory):
+    port = _free_port()
+    env = {**os.environ, "PRESSCYCLE_DB": str(tmp_path_factory.mktemp("db") / "browser.sqlite3")}
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "uvicorn", "server.app:app", "--host", "127.0.0.1", "--port", str(port)],
+        cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+    )
+    deadline = time.time() + 30
+    while time.time() < deadline:
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
+            break
+        except OSError:
+            if proc.poll() is not None:
+                raise RuntimeError(proc.stdout.read().decode()) from None
+            time.sleep(0.2)
+    else:
+        proc.kill()
+        raise RuntimeError("uvicorn did not start")
+    yield f"http://127.0.0.1:{port}"
+    proc.terminate()
+    proc.wait(10)
+
+
+@pytest.fixture(scope="session")
+def browser():
+    if not Path(CHROMIUM).exists():
+        _unavailable("Chromium is not installed (make test installs Debian's chromium when it can)")
+    try:
+        from playwright.sync_api import sync_playwright
+    except ImportError:
+        _unavailable("the playwright package is not installed")
+    with sync_playwright() as p:
+        b = p.chromium.launch(executable_path=CHROMIUM, headless=True, args=CHROMIUM_ARGS)
+        yield b
+        b.close()
+
+
+class PageWatch:
+    """Console errors, failed responses and requests that tried to leave the machine."""
+
+    def __init__(self):
+        self.console_errors, self.bad_responses, self.outside = [], [], []
+
+
+@pytest.fixture
+def page(browser, live_server):
+    context = browser.new_context(viewport={"width": 1440, "height": 1000}, accept_downloads=True)
+    pg = context.new_page()
+    watch = PageWatch()
+
+    def route(r):
+        url = r.request.url
+        if url.startswith(live_server) or url.startswith("blob:") or url.startswith("data:"):
+            r.continue_()
+        else:
+            watch.outside.append(url)
+            r.abort()
+
+    pg.route("**/*", route)
+    pg.on("console", lambda m: watch.console_errors.append(m.text) if m.type == "error" else None)
+    pg.on("pageerror", lambda e: watch.console_errors.append(str(e)))
+    pg.on("response", lambda resp: watch.bad_responses.append((resp.status, resp.url))
+          if resp.status >= 400 and "/ui/results" not in resp.url else None)
+    pg.watch = watch
+    pg.base = live_server
+    yield pg
+    context.close()
+    assert watch.outside == [], f"requests left the machine: {watch.outside}"

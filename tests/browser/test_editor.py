@@ -1,0 +1,149 @@
+"""The scenario editor in a real browser (Debian's Chromium driven by playwright)."""
+
+import re
+
+import pytest
+
+pytestmark = pytest.mark.browser
+
+
+def headline(page) -> dict:
+    out = {}
+    for fig in page.locator("[data-testid=headline] .fig").all():
+        out[fig.get_attribute("data-key")] = fig.locator("dd").inner_text()
+    return out
+
+
+def wait_results(page):
+    page.wait_for_function("document.getElementById('status').textContent === 'Done.'", timeout=20000)
+
+
+def svg_texts(page, selector) -> list[str]:
+    return page.eval_on_selector_all(selector, "els => els.map(e => e.textContent)")
+
+
+def charts_rendered(page) -> int:
+    return page.locator(".chart .plot .main-svg").count()
+
+
+def clean(page):
+    assert page.watch.console_errors == [], page.watch.console_errors
+    assert page.watch.bad_responses == [], page.watch.bad_responses
+
+
+def test_home_opens_a_demo_case_with_figures_and_four_charts(page):
+    page.goto(page.base + "/")
+    assert page.get_by_role("link", name="New scenario").is_visible()
+    page.locator(".card a").first.click()
+    page.wait_for_selector("[data-testid=headline]")
+    page.wait_for_function("document.querySelectorAll('.chart .plot .main-svg').length >= 4")
+    figs = headline(page)
+    assert re.search(r"\d", figs["filtration_time"]) and "min" in figs["filtration_time"]
+    assert "m³/h" in figs["filtrate_throughput"]
+    assert page.get_by_text("Caution.").is_visible()
+    clean(page)
+
+
+def test_change_a_field_and_its_unit_then_calculate(page, tmp_path_factory):
+    page.goto(page.base + "/demo/copper_concentrate")
+    page.wait_for_selector("[data-testid=headline]")
+    before = headline(page)
+    # downtime 18 min -> 1.5 h: a longer downtime means a longer optimum filtration
+    page.fill("#f-cycle-downtime", "1.5")
+    page.select_option("select[name='cycle.downtime@unit']", "h")
+    page.click("#calculate")
+    wait_results(page)
+    after = headline(page)
+    assert after["cycle_time"] != before["cycle_time"]
+    assert after["filtrate_throughput"] != before["filtrate_throughput"]
+    # the form keeps what was typed, with its unit
+    assert page.input_value("#f-cycle-downtime") == "1.5"
+    assert page.locator("select[name='cycle.downtime@unit']").input_value() == "h"
+    assert charts_rendered(page) >= 4
+    shots = tmp_path_factory.mktemp("screenshots")
+    page.screenshot(path=str(shots / "results.png"), full_page=True)
+    print(f"screenshot of the results page: {shots / 'results.png'}")
+    clean(page)
+
+
+def test_switch_results_to_us_customary_units(page):
+    page.goto(page.base + "/demo/hydroxide_sludge")
+    page.wait_for_selector("[data-testid=headline]")
+    page.check("input[name='@display'][value='us']")
+    wait_results(page)
+    figs = headline(page)
+    assert "US gpm" in figs["filtrate_throughput"]
+    assert "lb" in figs["dry_cake_mass"]
+    assert "in" in figs["cake_thickness"]
+    axis = svg_texts(page, "#chart-throughput_time .xtitle, #chart-throughput_time .ytitle")
+    assert any("US gpm" in t for t in axis)
+    clean(page)
+
+
+def test_a_validation_error_is_shown_at_the_field(page):
+    page.goto(page.base + "/demo/iron_oxide_pigment")
+    page.wait_for_selector("[data-testid=headline]")
+    page.fill("#f-slurry-solids_mass_fraction-mass_fraction", "150")
+    page.click("#calculate")
+    error = page.locator(".field[data-path='slurry.solids_mass_fraction'] .error")
+    error.wait_for(state="visible")
+    assert "below 1" in error.inner_text()
+    assert page.get_attribute("#f-slurry-solids_mass_fraction-mass_fraction", "aria-invalid") == "true"
+    # a unit that does not fit
+    page.fill("#f-slurry-solids_mass_fraction-mass_fraction", "12")
+    page.fill("#f-cake-resistance", "2.5e11")
+    page.select_option("select[name='cake.resistance@unit']", "ft/lb")
+    page.fill("#f-press-chamber_thickness", "-3")
+    page.click("#calculate")
+    err = page.locator(".field[data-path='press.chamber_thickness'] .error")
+    err.wait_for(state="visible")
+    assert "at least" in err.inner_text()
+    assert page.locator(".field[data-path='slurry.solids_mass_fraction'] .error").is_hidden()
+
+
+def test_the_form_works_from_the_keyboard(page):
+    page.goto(page.base + "/demo/gypsum_chamber_limited")
+    page.wait_for_selector("[data-testid=headline]")
+    page.focus("#f-press-chamber_thickness")
+    page.keyboard.press("Control+A")
+    page.keyboard.type("40")
+    page.keyboard.press("Enter")  # Enter in a field submits the form
+    wait_results(page)
+    assert "40" in page.locator("[data-testid=comparison]").inner_text()
+    # every visible input has a label
+    unlabeled = page.evaluate("""() => Array.from(document.querySelectorAll('#scenario input[type=text], #scenario textarea'))
+        .filter(el => !el.closest('.option[hidden]'))
+        .filter(el => !document.querySelector(`label[for="${el.id}"]`)).map(el => el.name)""")
+    assert unlabeled == []
+    clean(page)
+
+
+def test_choosing_a_pump_feed_shows_pressure_and_flow(page):
+    page.goto(page.base + "/demo/hydroxide_sludge")
+    page.wait_for_selector("[data-testid=headline]")
+    page.select_option("#c-feed-mode", "pump_curve")
+    page.fill("#f-feed-points-pump_curve", "2, 7\n10, 6.2\n25, 4\n40, 1.5")
+    page.click("#calculate")
+    wait_results(page)
+    titles = svg_texts(page, "#chart-filtration .ytitle, #chart-filtration .y3title, #chart-filtration .y4title")
+    assert any("pressure" in t.lower() for t in titles)
+    clean(page)
+
+
+def test_chart_data_downloads_as_csv(page):
+    page.goto(page.base + "/demo/copper_concentrate")
+    page.wait_for_function("document.querySelectorAll('.chart .plot .main-svg').length >= 4")
+    with page.expect_download() as info:
+        page.locator("button.csv[data-chart='throughput_thickness']").click()
+    text = open(info.value.path(), encoding="utf-8").read()
+    assert text.splitlines()[0].startswith("series,Chamber thickness (mm),Filtrate throughput (m³/h)")
+    assert len(text.splitlines()) > 50
+
+
+def test_new_scenario_page_and_static_assets_load_locally(page):
+    page.goto(page.base + "/scenario/new")
+    page.click("#calculate")
+    page.locator(".error:not([hidden])").first.wait_for(state="visible")
+    shown = page.locator(".error:not([hidden])").all_inner_texts()
+    assert len(shown) >= 3 and all("required" in t or "give" in t for t in shown), shown
+    assert page.watch.bad_responses == []
