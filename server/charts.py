@@ -144,7 +144,7 @@ def throughput_map(model: solver.CurveCycle, case: solver.PressCase, sol: solver
     t_label, L_label, q_label = u.label("time"), u.label("thickness"), u.label("flow")
     traces = [
         {"type": "contour", "name": "throughput", "x": u("time", _list(t)), "y": u("thickness", _list(L)),
-         "z": [u("flow", _list(row)) for row in Q], "colorscale": "Blues", "reversescale": False, "ncontours": 18,
+         "z": [u("flow", _list(row)) for row in Q], "colorscale": [[0.0, "#f7fbff"], [0.5, "#6baed6"], [1.0, "#08306b"]], "ncontours": 18,
          "colorbar": {"title": {"text": f"{q_label}"}},
          "hovertemplate": (f"filtration %{{x:.3g}} {t_label}<br>chamber %{{y:.3g}} {L_label}"
                            f"<br>throughput %{{z:.3g}} {q_label}<extra></extra>")},
@@ -174,8 +174,11 @@ def filtration_curves(sol: solver.CycleSolution, pump_fed: bool, u: Units) -> di
          "y": u("volume", _list(c["filtrate_volume"])),
          "line": {"color": COLORS["main"], "width": 2.5},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {u.label('volume')}<extra>filtrate</extra>"},
-        {"type": "scatter", "mode": "lines", "name": "cake thickness per face", "x": t, "yaxis": "y2",
-         "y": u("thickness", _list(c["cake_thickness"])), "line": {"color": COLORS["full"], "dash": "dash"},
+        # cake thickness grows in step with the filtrate, so its line lies on the volume line:
+        # markers on every 12th point keep it visible
+        {"type": "scatter", "mode": "markers", "name": "cake thickness per face", "x": t[::12], "yaxis": "y2",
+         "y": u("thickness", _list(c["cake_thickness"][::12])),
+         "marker": {"color": COLORS["full"], "symbol": "triangle-up", "size": 8},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {u.label('thickness')}<extra>cake</extra>"},
     ]
     layout = {
