@@ -1,8 +1,10 @@
 """Plotly figures built server-side as plain figure dicts (data + layout), in display units.
 
-One builder per chart; each takes the solved case and a display-unit converter and returns
-a figure dict that the page hands to Plotly.newPlot. Axis titles carry units; hover shows
-values with units. See DEVELOPERS.md, "Adding a chart".
+Two steps per chart: a *series* function computes the chart's data in SI from the solved
+case (these series are also saved with a scenario, so a saved link redraws exactly what was
+computed), and a *figure* function turns series plus the answer's marked cycles into a
+plotly figure in display units. Axis titles carry units; hover shows values with units.
+See DEVELOPERS.md, "Adding a chart".
 """
 
 import numpy as np
@@ -11,6 +13,7 @@ from . import solver
 from .display import Units
 
 COLORS = {"main": "#1f5f8b", "best": "#c2410c", "full": "#15803d", "end": "#7c3aed", "grey": "#6b7280"}
+OVERLAY = ["#1f5f8b", "#c2410c", "#15803d", "#7c3aed"]
 BASE_LAYOUT = {
     "margin": {"l": 70, "r": 70, "t": 40, "b": 60},
     "hovermode": "closest",
@@ -29,43 +32,85 @@ def _list(a) -> list:
     return [float(x) for x in np.asarray(a, dtype=float)]
 
 
-def _marker(name, x, y, color, symbol, hover):
-    return {"type": "scatter", "mode": "markers", "name": name, "x": [x], "y": [y],
-            "marker": {"color": color, "size": 12, "symbol": symbol, "line": {"width": 1, "color": "#111"}},
-            "hovertemplate": hover + "<extra>" + name + "</extra>"}
+def _marker(name, x, y, color, symbol, hover, customdata=None):
+    m = {"type": "scatter", "mode": "markers", "name": name, "x": [x], "y": [y],
+         "marker": {"color": color, "size": 12, "symbol": symbol, "line": {"width": 1, "color": "#111"}},
+         "hovertemplate": hover + "<extra>" + name + "</extra>"}
+    if customdata is not None:
+        m["customdata"] = [customdata]
+    return m
 
 
-def throughput_vs_time(model: solver.CurveCycle, case: solver.PressCase, sol: solver.CycleSolution, u: Units) -> dict:
-    """Chart 1: filtrate throughput against cycle time (button: against filtration time)."""
+def _thickness_grid(L0: float, L_match: float, n: int = 120) -> np.ndarray:
+    lo = max(1e-3, 0.3 * min(L0, L_match))
+    hi = min(0.5, 2.5 * max(L0, L_match))
+    return np.unique(np.concatenate((np.linspace(lo, hi, n), [L0], [min(max(L_match, lo), hi)])))
+
+
+# ---- series (SI) ----------------------------------------------------------------------------
+
+
+def all_series(model: solver.CurveCycle, case: solver.PressCase, sol: solver.CycleSolution) -> dict:
+    """The data of every chart in SI, as plain lists."""
+    press, v = case.press, case.filtration.cake_volume_ratio
+    # 1: throughput against cycle / filtration time, past full chambers too
     V_full = sol.chambers_full_volume
     V_top = 1.6 * max(V_full, sol.unconstrained_optimum.filtrate_volume)
     V = np.concatenate((np.geomspace(V_top * 1e-3, V_full, 150), np.linspace(V_full, V_top, 90)[1:]))
     t_f = model.curve.time(V)
     T = t_f + model.wash_time(V) + case.cycle.downtime
-    Q = V / T
-    feasible = V <= V_full * (1 + 1e-12)
+    # 2: best throughput against chamber thickness
+    L = _thickness_grid(press.chamber_thickness, sol.matched_chamber_thickness)
+    V_best = np.minimum(model.V_star, press.fill_fraction * press.filter_area * L / (2 * v))
+    # 3: throughput map; the press stops at the set time or at full chambers, whichever first
+    Lm = L[::3]
+    t_top = 2.0 * max(sol.unconstrained_optimum.filtration_time, sol.chambers_full.filtration_time)
+    t = np.linspace(t_top / 80, t_top, 80)
+    V_fullm = press.fill_fraction * press.filter_area * Lm / (2 * v)
+    Q_map = model.throughput(np.minimum(model.curve.volume(t)[None, :], V_fullm[:, None]))
+    return {
+        "throughput_time": {"cycle_time": _list(T), "filtration_time": _list(t_f),
+                            "filtrate_throughput": _list(V / T), "feasible": [bool(x) for x in V <= V_full * (1 + 1e-12)]},
+        "throughput_thickness": {"chamber_thickness": _list(L), "filtrate_throughput": _list(model.throughput(V_best)),
+                                 "chamber_fill": _list(v * V_best / (0.5 * press.filter_area * L))},
+        "throughput_map": {"filtration_time": _list(t), "chamber_thickness": _list(Lm),
+                           "filtrate_throughput": [_list(row) for row in Q_map],
+                           "chambers_full_time": _list(model.curve.time(V_fullm))},
+        "filtration": {k: _list(x) for k, x in sol.curves.items()},
+        "pump_fed": not isinstance(case.feed, solver.ConstantPressure),
+        "chamber_thickness": press.chamber_thickness,
+    }
+
+
+# ---- figures (display units) ----------------------------------------------------------------
+
+
+def throughput_vs_time(s: dict, r: dict, u: Units) -> dict:
+    """Chart 1: filtrate throughput against cycle time (button: against filtration time)."""
+    T, t_f, Q = np.array(s["cycle_time"]), np.array(s["filtration_time"]), np.array(s["filtrate_throughput"])
+    feasible = np.array(s["feasible"], dtype=bool)
     q_label, t_label = u.label("flow"), u.label("time")
     hover = (f"cycle %{{customdata[0]:.3g}} {t_label}<br>filtration %{{customdata[1]:.3g}} {t_label}"
              f"<br>throughput %{{y:.3g}} {q_label}")
 
     def line(mask, name, dash):
-        return {"type": "scatter", "mode": "lines", "name": name, "x": u("time", _list(T[mask])),
-                "y": u("flow", _list(Q[mask])), "line": {"color": COLORS["main"], "dash": dash, "width": 2.5},
-                "customdata": [[a, b] for a, b in zip(u("time", _list(T[mask])), u("time", _list(t_f[mask])))],
-                "hovertemplate": hover + "<extra></extra>"}
+        Tm, tm = u("time", _list(T[mask])), u("time", _list(t_f[mask]))
+        return {"type": "scatter", "mode": "lines", "name": name, "x": Tm, "y": u("flow", _list(Q[mask])),
+                "line": {"color": COLORS["main"], "dash": dash, "width": 2.5},
+                "customdata": [[a, b] for a, b in zip(Tm, tm)], "hovertemplate": hover + "<extra></extra>"}
 
     traces = [line(feasible, "cake fits the chambers", "solid"),
               line(~feasible, "chambers overfull (not possible)", "dot")]
-    points = [("unconstrained optimum", sol.unconstrained_optimum, COLORS["best"], "star"),
-              ("chambers full", sol.chambers_full, COLORS["full"], "square"),
-              ("best feasible", sol.best, COLORS["best"], "circle")]
-    if sol.at_end.end_reason not in ("optimum", "chambers_full") or sol.at_end.cycle != sol.best:
-        points.append((f"end at {sol.at_end.end_reason.replace('_', ' ')}", sol.at_end.cycle, COLORS["end"], "diamond"))
-    for name, r, color, symbol in points:
-        m = _marker(name, u("time", r.cycle_time), u("flow", r.filtrate_throughput), color, symbol,
-                    f"cycle %{{x:.3g}} {t_label}<br>throughput %{{y:.3g}} {q_label}")
-        m["customdata"] = [[u("time", r.cycle_time), u("time", r.filtration_time)]]
-        traces.append(m)
+    points = [("unconstrained optimum", r["unconstrained_optimum"], COLORS["best"], "star"),
+              ("chambers full", r["chambers_full"], COLORS["full"], "square"),
+              ("best feasible", r["best"], COLORS["best"], "circle")]
+    end = r["at_end"]
+    if end["end_reason"] not in ("optimum", "chambers_full") or end["filtrate_volume"] != r["best"]["filtrate_volume"]:
+        points.append((f"end at {end['end_reason'].replace('_', ' ')}", end, COLORS["end"], "diamond"))
+    for name, c, color, symbol in points:
+        traces.append(_marker(name, u("time", c["cycle_time"]), u("flow", c["filtrate_throughput"]), color, symbol,
+                              f"cycle %{{x:.3g}} {t_label}<br>throughput %{{y:.3g}} {q_label}",
+                              [u("time", c["cycle_time"]), u("time", c["filtration_time"])]))
     x_cycle = [tr["x"] for tr in traces]
     x_filt = [[c[1] for c in tr["customdata"]] for tr in traces]
     layout = {
@@ -86,33 +131,22 @@ def throughput_vs_time(model: solver.CurveCycle, case: solver.PressCase, sol: so
     return {"data": traces, "layout": layout}
 
 
-def _thickness_grid(L0: float, L_match: float) -> np.ndarray:
-    lo = max(1e-3, 0.3 * min(L0, L_match))
-    hi = min(0.5, 2.5 * max(L0, L_match))
-    return np.unique(np.concatenate((np.linspace(lo, hi, 120), [L0], [min(max(L_match, lo), hi)])))
-
-
-def throughput_vs_thickness(model: solver.CurveCycle, case: solver.PressCase, sol: solver.CycleSolution,
-                            u: Units) -> dict:
+def throughput_vs_thickness(s: dict, r: dict, L_press: float, u: Units) -> dict:
     """Chart 2: best throughput and chamber fill against chamber thickness."""
-    press, v = case.press, case.filtration.cake_volume_ratio
-    L = _thickness_grid(press.chamber_thickness, sol.matched_chamber_thickness)
-    V_full = press.fill_fraction * press.filter_area * L / (2 * v)
-    V_best = np.minimum(model.V_star, V_full)
-    Q = model.throughput(V_best)
-    fill = v * V_best / (0.5 * press.filter_area * L)
+    L = s["chamber_thickness"]
     t_label, q_label = u.label("thickness"), u.label("flow")
     traces = [
-        {"type": "scatter", "mode": "lines", "name": "best throughput", "x": u("thickness", _list(L)),
-         "y": u("flow", _list(Q)), "line": {"color": COLORS["main"], "width": 2.5},
+        {"type": "scatter", "mode": "lines", "name": "best throughput", "x": u("thickness", L),
+         "y": u("flow", s["filtrate_throughput"]), "line": {"color": COLORS["main"], "width": 2.5},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {q_label}<extra>best throughput</extra>"},
         {"type": "scatter", "mode": "lines", "name": "chamber fill at the best cycle", "yaxis": "y2",
-         "x": u("thickness", _list(L)), "y": _list(100 * fill), "line": {"color": COLORS["full"], "dash": "dash"},
+         "x": u("thickness", L), "y": [100 * f for f in s["chamber_fill"]],
+         "line": {"color": COLORS["full"], "dash": "dash"},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} %<extra>chamber fill</extra>"},
-        _marker("this press", u("thickness", press.chamber_thickness), u("flow", sol.best.filtrate_throughput),
+        _marker("this press", u("thickness", L_press), u("flow", r["best"]["filtrate_throughput"]),
                 COLORS["best"], "circle", f"%{{x:.3g}} {t_label}: %{{y:.3g}} {q_label}"),
     ]
-    Lm = u("thickness", sol.matched_chamber_thickness)
+    Lm = u("thickness", r["derived"]["matched_chamber_thickness"])
     layout = {
         **BASE_LAYOUT,
         "title": {"text": "Best throughput against chamber thickness"},
@@ -129,55 +163,45 @@ def throughput_vs_thickness(model: solver.CurveCycle, case: solver.PressCase, so
     return {"data": traces, "layout": layout}
 
 
-def throughput_map(model: solver.CurveCycle, case: solver.PressCase, sol: solver.CycleSolution, u: Units) -> dict:
-    """Chart 3: throughput over set filtration time x chamber thickness; the press stops when
-    the chambers are full, whichever comes first."""
-    press, v = case.press, case.filtration.cake_volume_ratio
-    L = _thickness_grid(press.chamber_thickness, sol.matched_chamber_thickness)[::3]
-    t_top = 2.0 * max(sol.unconstrained_optimum.filtration_time, sol.chambers_full.filtration_time)
-    t = np.linspace(t_top / 80, t_top, 80)
-    V_t = model.curve.volume(t)
-    V_full = press.fill_fraction * press.filter_area * L / (2 * v)
-    V = np.minimum(V_t[None, :], V_full[:, None])
-    Q = model.throughput(V)
-    t_full = model.curve.time(V_full)
+def throughput_map(s: dict, r: dict, L_press: float, u: Units) -> dict:
+    """Chart 3: throughput over set filtration time x chamber thickness, with the chambers-full line."""
     t_label, L_label, q_label = u.label("time"), u.label("thickness"), u.label("flow")
+    t = u("time", s["filtration_time"])
     traces = [
-        {"type": "contour", "name": "throughput", "x": u("time", _list(t)), "y": u("thickness", _list(L)),
-         "z": [u("flow", _list(row)) for row in Q], "colorscale": [[0.0, "#f7fbff"], [0.5, "#6baed6"], [1.0, "#08306b"]], "ncontours": 18,
-         "colorbar": {"title": {"text": f"{q_label}"}},
+        {"type": "contour", "name": "throughput", "x": t, "y": u("thickness", s["chamber_thickness"]),
+         "z": [u("flow", row) for row in s["filtrate_throughput"]],
+         "colorscale": [[0.0, "#f7fbff"], [0.5, "#6baed6"], [1.0, "#08306b"]], "ncontours": 18,
+         "colorbar": {"title": {"text": q_label}},
          "hovertemplate": (f"filtration %{{x:.3g}} {t_label}<br>chamber %{{y:.3g}} {L_label}"
                            f"<br>throughput %{{z:.3g}} {q_label}<extra></extra>")},
-        {"type": "scatter", "mode": "lines", "name": "chambers full", "x": u("time", _list(t_full)),
-         "y": u("thickness", _list(L)), "line": {"color": COLORS["full"], "width": 3},
+        {"type": "scatter", "mode": "lines", "name": "chambers full", "x": u("time", s["chambers_full_time"]),
+         "y": u("thickness", s["chamber_thickness"]), "line": {"color": COLORS["full"], "width": 3},
          "hovertemplate": f"chambers full after %{{x:.3g}} {t_label} at %{{y:.3g}} {L_label}<extra></extra>"},
-        _marker("best for this press", u("time", sol.best.filtration_time), u("thickness", press.chamber_thickness),
+        _marker("best for this press", u("time", r["best"]["filtration_time"]), u("thickness", L_press),
                 COLORS["best"], "star", f"%{{x:.3g}} {t_label}, %{{y:.3g}} {L_label}"),
     ]
     layout = {
         **BASE_LAYOUT,
         "title": {"text": "Throughput map: filtration time and chamber thickness"},
         "xaxis": _axis(f"Set filtration time ({t_label}); the press stops earlier if the chambers fill",
-                       range=[0, u("time", t_top)]),
+                       range=[0, t[-1]]),
         "yaxis": _axis(f"Chamber thickness ({L_label})"),
     }
     return {"data": traces, "layout": layout}
 
 
-def filtration_curves(sol: solver.CycleSolution, pump_fed: bool, u: Units) -> dict:
+def filtration_curves(c: dict, pump_fed: bool, u: Units) -> dict:
     """Chart 4: filtrate volume and cake thickness against time; pressure and flow if pump-fed."""
-    c = sol.curves
-    t = u("time", _list(c["time"]))
+    t = u("time", c["time"])
     t_label = u.label("time")
     traces = [
-        {"type": "scatter", "mode": "lines", "name": "filtrate volume", "x": t,
-         "y": u("volume", _list(c["filtrate_volume"])),
+        {"type": "scatter", "mode": "lines", "name": "filtrate volume", "x": t, "y": u("volume", c["filtrate_volume"]),
          "line": {"color": COLORS["main"], "width": 2.5},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {u.label('volume')}<extra>filtrate</extra>"},
-        # cake thickness grows in step with the filtrate, so its line lies on the volume line:
-        # markers on every 12th point keep it visible
+        # cake thickness grows in step with the filtrate, so its line would lie on the volume
+        # line: markers on every 12th point keep it visible
         {"type": "scatter", "mode": "markers", "name": "cake thickness per face", "x": t[::12], "yaxis": "y2",
-         "y": u("thickness", _list(c["cake_thickness"][::12])),
+         "y": u("thickness", c["cake_thickness"][::12]),
          "marker": {"color": COLORS["full"], "symbol": "triangle-up", "size": 8},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {u.label('thickness')}<extra>cake</extra>"},
     ]
@@ -201,21 +225,57 @@ def filtration_curves(sol: solver.CycleSolution, pump_fed: bool, u: Units) -> di
         layout["height"] = 620
         traces += [
             {"type": "scatter", "mode": "lines", "name": "feed pressure", "x": t, "xaxis": "x2", "yaxis": "y3",
-             "y": u("pressure", _list(c["pressure"])), "line": {"color": COLORS["best"]},
+             "y": u("pressure", c["pressure"]), "line": {"color": COLORS["best"]},
              "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {u.label('pressure')}<extra>pressure</extra>"},
             {"type": "scatter", "mode": "lines", "name": "filtrate flow", "x": t, "xaxis": "x2", "yaxis": "y4",
-             "y": u("flow", _list(c["flow"])), "line": {"color": COLORS["end"], "dash": "dash"},
+             "y": u("flow", c["flow"]), "line": {"color": COLORS["end"], "dash": "dash"},
              "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {u.label('flow')}<extra>flow</extra>"},
         ]
         layout["title"]["text"] = "Filtration, pressure and flow to full chambers"
     return {"data": traces, "layout": layout}
 
 
-def all_charts(model, case, sol, u: Units) -> dict:
-    pump_fed = not isinstance(case.feed, solver.ConstantPressure)
+def figures(series: dict, answer: dict, u: Units) -> dict:
+    """All four charts from saved or fresh series and the API answer."""
+    L = series["chamber_thickness"]
     return {
-        "throughput_time": throughput_vs_time(model, case, sol, u),
-        "throughput_thickness": throughput_vs_thickness(model, case, sol, u),
-        "throughput_map": throughput_map(model, case, sol, u),
-        "filtration": filtration_curves(sol, pump_fed, u),
+        "throughput_time": throughput_vs_time(series["throughput_time"], answer, u),
+        "throughput_thickness": throughput_vs_thickness(series["throughput_thickness"], answer, L, u),
+        "throughput_map": throughput_map(series["throughput_map"], answer, L, u),
+        "filtration": filtration_curves(series["filtration"], series["pump_fed"], u),
+    }
+
+
+def overlay(scenarios: list[tuple[str, dict]], u: Units) -> dict:
+    """Compare view: throughput against cycle time and against thickness, one line per scenario."""
+    q_label = u.label("flow")
+    time_traces, thick_traces = [], []
+    for i, (name, results) in enumerate(scenarios):
+        s = results["chart_series"]
+        color = OVERLAY[i % len(OVERLAY)]
+        st = s["throughput_time"]
+        ok = [k for k, f in enumerate(st["feasible"]) if f]
+        time_traces.append({"type": "scatter", "mode": "lines", "name": name, "line": {"color": color, "width": 2.5},
+                            "x": u("time", [st["cycle_time"][k] for k in ok]),
+                            "y": u("flow", [st["filtrate_throughput"][k] for k in ok]),
+                            "hovertemplate": f"%{{x:.3g}} {u.label('time')}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
+        b = results["best"]
+        time_traces.append(_marker(f"{name}: best", u("time", b["cycle_time"]), u("flow", b["filtrate_throughput"]),
+                                   color, "circle", f"%{{x:.3g}} {u.label('time')}: %{{y:.3g}} {q_label}"))
+        sl = s["throughput_thickness"]
+        thick_traces.append({"type": "scatter", "mode": "lines", "name": name, "line": {"color": color, "width": 2.5},
+                             "x": u("thickness", sl["chamber_thickness"]), "y": u("flow", sl["filtrate_throughput"]),
+                             "hovertemplate": f"%{{x:.3g}} {u.label('thickness')}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
+        thick_traces.append(_marker(f"{name}: this press", u("thickness", s["chamber_thickness"]),
+                                    u("flow", b["filtrate_throughput"]), color, "circle",
+                                    f"%{{x:.3g}} {u.label('thickness')}: %{{y:.3g}} {q_label}"))
+    return {
+        "throughput_time": {"data": time_traces, "layout": {
+            **BASE_LAYOUT, "title": {"text": "Throughput against cycle time (cake within the chambers)"},
+            "xaxis": _axis(f"Cycle time ({u.label('time')})"),
+            "yaxis": _axis(f"Filtrate throughput ({q_label})", rangemode="tozero")}},
+        "throughput_thickness": {"data": thick_traces, "layout": {
+            **BASE_LAYOUT, "title": {"text": "Best throughput against chamber thickness"},
+            "xaxis": _axis(f"Chamber thickness ({u.label('thickness')})"),
+            "yaxis": _axis(f"Filtrate throughput ({q_label})", rangemode="tozero")}},
     }

@@ -8,7 +8,7 @@ from fastapi import APIRouter, HTTPException, Request
 from fastapi.responses import FileResponse, HTMLResponse
 
 from ..cases import CAUTIONS, solve_full
-from ..charts import all_charts
+from ..charts import all_series, figures
 from ..demo import load_demo_cases
 from ..display import Units
 from ..errors import InputError
@@ -49,7 +49,8 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
             context["initial_html"] = _templates(request).get_template("_results.html").render(
                 {"r": solved.answer, "u": u, "cautions": CAUTIONS}
             )
-            context["initial_figures"] = all_charts(solved.model, solved.built.case, solved.solution, u)
+            series = all_series(solved.model, solved.built.case, solved.solution)
+            context["initial_figures"] = figures(series, solved.answer, u)
     return _templates(request).TemplateResponse(request, "scenario.html", context)
 
 

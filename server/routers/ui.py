@@ -7,7 +7,7 @@ the API's 422, which the page marks at the fields.
 from fastapi import APIRouter, Query, Request
 
 from ..cases import CAUTIONS, solve_full
-from ..charts import all_charts
+from ..charts import all_series, figures
 from ..display import Units
 from ..errors import InputError
 from ..schemas.cycle import CycleRequest
@@ -23,12 +23,9 @@ def results_context(solved, units: Units) -> dict:
 def post_results(request: Request, req: CycleRequest, units: str = Query("si", pattern="^(si|us)$")) -> dict:
     solved = solve_full(req)
     u = Units(units)
-    try:
-        figures = all_charts(solved.model, solved.built.case, solved.solution, u)
-    except ValueError:  # a chart that cannot be drawn must not hide the results
-        figures = {}
+    series = all_series(solved.model, solved.built.case, solved.solution)
     html = request.app.state.templates.get_template("_results.html").render(results_context(solved, u))
-    return {"html": html, "figures": figures, "result": solved.answer}
+    return {"html": html, "figures": figures(series, solved.answer, u), "result": solved.answer}
 
 
 __all__ = ["router", "InputError"]

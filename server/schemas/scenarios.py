@@ -1,0 +1,46 @@
+"""Schemas of /api/v1/scenarios: saved, immutable scenarios."""
+
+from pydantic import BaseModel, Field
+
+from .cycle import Strict
+
+
+class ScenarioIn(Strict):
+    name: str = Field(min_length=1, max_length=120, description="A short name")
+    note: str = Field("", max_length=2000, description="Who made it and why")
+    inputs: dict = Field(description="An /api/v1/cycle request, kept as entered (with its units)")
+    parent: str | None = Field(None, max_length=40, description="The scenario this one was copied from")
+
+
+class ScenarioCreated(BaseModel):
+    id: str
+    link: str
+
+
+class ScenarioOut(BaseModel):
+    id: str
+    name: str
+    note: str
+    created: str = Field(description="ISO 8601, UTC")
+    inputs: dict
+    results: dict = Field(description="As computed when saved (SI)")
+    solver_version: str
+    parent: str | None
+    link: str
+
+
+class ScenarioSummary(BaseModel):
+    id: str
+    name: str
+    note: str
+    created: str
+    link: str
+    summary: dict = Field(description="Key figures of the best cycle (SI)")
+
+
+class ScenarioList(BaseModel):
+    items: list[ScenarioSummary]
+    page: int
+    pages: int
+    total: int
+    q: str
