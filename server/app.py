@@ -6,9 +6,10 @@ from fastapi.templating import Jinja2Templates
 
 from . import errors
 from .limits import BodySizeLimit
-from .routers import cycle, labfit, pages, ui
+from .routers import cycle, labfit, pages, scenarios, ui
 from .settings import PROJECT_ROOT, Settings, get_settings
 from .solver import SOLVER_VERSION
+from .storage import SqliteStore, StorageError
 from .views import register_filters
 
 
@@ -33,10 +34,17 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     register_filters(templates.env, PROJECT_ROOT / "static")
     app.state.templates = templates
     app.state.settings = settings
+    try:
+        app.state.store = SqliteStore(settings.db)
+    except StorageError as exc:
+        # a clear start-up error, not a traceback, and nothing written over
+        raise SystemExit(f"presscycle cannot start: {exc}") from None
     app.mount("/static", CachedStatic(directory=PROJECT_ROOT / "static"), name="static")
     app.include_router(cycle.router)
     app.include_router(labfit.router)
     app.include_router(ui.router)
+    app.include_router(scenarios.router)
+    app.include_router(scenarios.pages)
     app.include_router(pages.router)
     errors.install(app, templates)
     app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)

@@ -7,6 +7,8 @@ plotly figure in display units. Axis titles carry units; hover shows values with
 See DEVELOPERS.md, "Adding a chart".
 """
 
+import html
+
 import numpy as np
 
 from . import solver
@@ -70,7 +72,8 @@ def all_series(model: solver.CurveCycle, case: solver.PressCase, sol: solver.Cyc
     Q_map = model.throughput(np.minimum(model.curve.volume(t)[None, :], V_fullm[:, None]))
     return {
         "throughput_time": {"cycle_time": _list(T), "filtration_time": _list(t_f),
-                            "filtrate_throughput": _list(V / T), "feasible": [bool(x) for x in V <= V_full * (1 + 1e-12)]},
+                            "filtrate_throughput": _list(V / T),
+                            "feasible": [bool(x) for x in V <= V_full * (1 + 1e-12)]},
         "throughput_thickness": {"chamber_thickness": _list(L), "filtrate_throughput": _list(model.throughput(V_best)),
                                  "chamber_fill": _list(v * V_best / (0.5 * press.filter_area * L))},
         "throughput_map": {"filtration_time": _list(t), "chamber_thickness": _list(Lm),
@@ -248,9 +251,10 @@ def figures(series: dict, answer: dict, u: Units) -> dict:
 
 def overlay(scenarios: list[tuple[str, dict]], u: Units) -> dict:
     """Compare view: throughput against cycle time and against thickness, one line per scenario."""
-    q_label = u.label("flow")
+    q_label, t_label, L_label = u.label("flow"), u.label("time"), u.label("thickness")
     time_traces, thick_traces = [], []
-    for i, (name, results) in enumerate(scenarios):
+    for i, (raw_name, results) in enumerate(scenarios):
+        name = html.escape(raw_name)  # plotly reads a little HTML in trace names
         s = results["chart_series"]
         color = OVERLAY[i % len(OVERLAY)]
         st = s["throughput_time"]
@@ -258,14 +262,14 @@ def overlay(scenarios: list[tuple[str, dict]], u: Units) -> dict:
         time_traces.append({"type": "scatter", "mode": "lines", "name": name, "line": {"color": color, "width": 2.5},
                             "x": u("time", [st["cycle_time"][k] for k in ok]),
                             "y": u("flow", [st["filtrate_throughput"][k] for k in ok]),
-                            "hovertemplate": f"%{{x:.3g}} {u.label('time')}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
+                            "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
         b = results["best"]
         time_traces.append(_marker(f"{name}: best", u("time", b["cycle_time"]), u("flow", b["filtrate_throughput"]),
                                    color, "circle", f"%{{x:.3g}} {u.label('time')}: %{{y:.3g}} {q_label}"))
         sl = s["throughput_thickness"]
         thick_traces.append({"type": "scatter", "mode": "lines", "name": name, "line": {"color": color, "width": 2.5},
                              "x": u("thickness", sl["chamber_thickness"]), "y": u("flow", sl["filtrate_throughput"]),
-                             "hovertemplate": f"%{{x:.3g}} {u.label('thickness')}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
+                             "hovertemplate": f"%{{x:.3g}} {L_label}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
         thick_traces.append(_marker(f"{name}: this press", u("thickness", s["chamber_thickness"]),
                                     u("flow", b["filtrate_throughput"]), color, "circle",
                                     f"%{{x:.3g}} {u.label('thickness')}: %{{y:.3g}} {q_label}"))

@@ -13,6 +13,9 @@ class Settings(BaseSettings):
 
     demo_dir: Path = PROJECT_ROOT / "demo_cases"
     max_body_bytes: int = 2_000_000
+    #: The SQLite file of saved scenarios (environment: PRESSCYCLE_DB), relative to the
+    #: working folder unless absolute.
+    db: Path = Path("data") / "presscycle.sqlite3"
 
 
 @lru_cache(maxsize=1)

@@ -1,9 +1,15 @@
 import copy
+import os
+import tempfile
 
 import pytest
-from fastapi.testclient import TestClient
 
-from server.app import create_app
+# The app module builds its store at import: point it at a throw-away database first.
+os.environ.setdefault("PRESSCYCLE_DB", os.path.join(tempfile.mkdtemp(prefix="presscycle-test-"), "test.sqlite3"))
+
+from fastapi.testclient import TestClient  # noqa: E402
+
+from server.app import create_app  # noqa: E402
 
 #: A plain constant-pressure scenario in SI numbers (invented, for the API tests).
 BASE_REQUEST = {

@@ -30,11 +30,15 @@ def _templates(request: Request):
 
 @router.get("/", response_class=HTMLResponse)
 def home(request: Request):
-    return _templates(request).TemplateResponse(request, "home.html", {"demos": _demos(), "cautions": CAUTIONS})
+    recent = request.app.state.store.recent(6)
+    return _templates(request).TemplateResponse(
+        request, "home.html", {"demos": _demos(), "cautions": CAUTIONS, "recent": recent}
+    )
 
 
-def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool):
+def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None):
     context = {
+        "parent": parent,
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
         "state": prefill(inputs), "plotly_url": f"/vendor/plotly.min.js?v={plotly.__version__}",
         "initial_html": None, "initial_figures": None,

@@ -58,7 +58,7 @@
     });
     form.querySelectorAll("input[name], textarea[name], select[name]").forEach((el) => {
       const path = el.name;
-      if (path.indexOf("@") >= 0 || !visible(el)) return;
+      if (path.indexOf("@") >= 0 || !visible(el) || el.closest("[data-group=save]")) return;
       const raw = el.value.trim();
       if (raw === "") return;
       const kind = el.dataset.kind || "";
@@ -110,45 +110,7 @@
   }
 
   function plotAll() {
-    Object.entries(figures).forEach(([key, fig]) => {
-      const el = document.getElementById(`chart-${key}`);
-      if (el && window.Plotly) {
-        window.Plotly.newPlot(el, fig.data, fig.layout, { responsive: true, displaylogo: false });
-      }
-    });
-    results.querySelectorAll("button.csv").forEach((b) => b.addEventListener("click", () => downloadCsv(b.dataset.chart)));
-  }
-
-  function csvCell(v) {
-    const s = v === null || v === undefined ? "" : String(v);
-    return /[",\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-  }
-
-  function downloadCsv(key) {
-    const el = document.getElementById(`chart-${key}`);
-    const fig = figures[key];
-    if (!fig) return;
-    const layout = (el && el.layout) || fig.layout;
-    const title = (ax) => (layout[ax] && layout[ax].title && layout[ax].title.text) || ax;
-    const rows = [];
-    ((el && el.data) || fig.data).forEach((tr) => {
-      const xa = "xaxis" + (tr.xaxis && tr.xaxis !== "x" ? tr.xaxis.slice(1) : "");
-      const ya = "yaxis" + (tr.yaxis && tr.yaxis !== "y" ? tr.yaxis.slice(1) : "");
-      if (tr.type === "contour") {
-        rows.push(["series", title(xa), title(ya), "throughput"]);
-        tr.y.forEach((y, i) => tr.x.forEach((x, j) => rows.push([tr.name, x, y, tr.z[i][j]])));
-      } else {
-        rows.push(["series", title(xa), title(ya)]);
-        tr.x.forEach((x, i) => rows.push([tr.name, x, tr.y[i]]));
-      }
-    });
-    const text = rows.map((r) => r.map(csvCell).join(",")).join("\n") + "\n";
-    const a = document.createElement("a");
-    a.href = URL.createObjectURL(new Blob([text], { type: "text/csv" }));
-    a.download = `presscycle-${key}.csv`;
-    document.body.appendChild(a);
-    a.click();
-    a.remove();
+    window.presscycleCharts.plot(results, figures);
   }
 
   async function calculate() {
@@ -176,7 +138,38 @@
     document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, result: data.result } }));
   }
 
+  async function saveScenario() {
+    clearErrors();
+    const saveStatus = document.getElementById("save-status");
+    const body = {
+      name: document.getElementById("save-name").value.trim(),
+      note: document.getElementById("save-note").value.trim(),
+      inputs: collect(),
+    };
+    const parent = document.getElementById("save-parent").value;
+    if (parent) body.parent = parent;
+    saveStatus.textContent = "Saving…";
+    let response;
+    try {
+      response = await fetch("/api/v1/scenarios", {
+        method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body),
+      });
+    } catch (e) {
+      saveStatus.textContent = "The server did not answer; nothing was saved.";
+      return;
+    }
+    const data = await response.json().catch(() => ({}));
+    if (response.status === 201) { window.location.href = data.link; return; }
+    if (response.status === 422) {
+      showErrors((data.detail || []).map((d) => ({ ...d, field: (d.field || "").replace(/^inputs\./, "") })));
+      saveStatus.textContent = "Not saved: please correct the marked fields.";
+      return;
+    }
+    saveStatus.textContent = `Not saved: ${data.detail || response.status}`;
+  }
+
   form.addEventListener("submit", (e) => { e.preventDefault(); calculate(); });
+  document.getElementById("save").addEventListener("click", saveScenario);
   form.querySelectorAll("[data-choice] > select").forEach((sel) => {
     sel.addEventListener("change", () => {
       sel.parentElement.querySelectorAll(":scope > .option").forEach((o) => { o.hidden = o.dataset.option !== sel.value; });
@@ -184,6 +177,9 @@
   });
   form.querySelectorAll('[name="@display"]').forEach((r) => r.addEventListener("change", () => { if (lastBody) calculate(); }));
   window.presscycle = { collect, calculate, lastBody: () => lastBody };
+  // the buttons stay disabled until this script has taken over the form
+  document.getElementById("calculate").disabled = false;
+  document.getElementById("save").disabled = false;
   const initial = document.getElementById("initial-figures");
   if (initial) {
     figures = JSON.parse(initial.textContent);

@@ -6,15 +6,12 @@ Every request the page makes is checked: anything not to 127.0.0.1 is blocked an
 
 import os
 import shutil
-import socket
-import subprocess
-import sys
-import time
 from pathlib import Path
 
 import pytest
 
-ROOT = Path(__file__).resolve().parents[2]
+from tests.liveserver import LiveServer
+
 CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
 CHROMIUM_ARGS = ["--no-sandbox", "--disable-gpu", "--disable-background-networking", "--disable-component-update",
                  "--disable-sync", "--no-first-run", "--disable-quic"]
@@ -26,35 +23,11 @@ def _unavailable(reason: str):
     pytest.skip(reason)
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture(scope="session")
 def live_server(tmp_path_factory):
-    port = _free_port()
-    env = {**os.environ, "PRESSCYCLE_DB": str(tmp_path_factory.mktemp("db") / "browser.sqlite3")}
-    proc = subprocess.Popen(
-        [sys.executable, "-m", "uvicorn", "server.app:app", "--host", "127.0.0.1", "--port", str(port)],
-        cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
-    )
-    deadline = time.time() + 30
-    while time.time() < deadline:
-        try:
-            socket.create_connection(("127.0.0.1", port), timeout=0.5).close()
-            break
-        except OSError:
-            if proc.poll() is not None:
-                raise RuntimeError(proc.stdout.read().decode()) from None
-            time.sleep(0.2)
-    else:
-        proc.kill()
-        raise RuntimeError("uvicorn did not start")
-    yield f"http://127.0.0.1:{port}"
-    proc.terminate()
-    proc.wait(10)
+    server = LiveServer(tmp_path_factory.mktemp("db") / "browser.sqlite3").start()
+    yield server.url
+    server.stop()
 
 
 @pytest.fixture(scope="session")

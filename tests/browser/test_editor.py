@@ -15,7 +15,10 @@ def headline(page) -> dict:
 
 
 def wait_results(page):
-    page.wait_for_function("document.getElementById('status').textContent === 'Done.'", timeout=20000)
+    try:
+        page.wait_for_function("document.getElementById('status').textContent === 'Done.'", timeout=20000)
+    except Exception:
+        raise AssertionError(f"no results: status {page.inner_text('#status')!r}, url {page.url}") from None
 
 
 def svg_texts(page, selector) -> list[str]:
@@ -33,7 +36,7 @@ def clean(page):
 
 def test_home_opens_a_demo_case_with_figures_and_four_charts(page):
     page.goto(page.base + "/")
-    assert page.get_by_role("link", name="New scenario").is_visible()
+    assert page.get_by_role("main").get_by_role("link", name="New scenario").is_visible()
     page.locator(".card a").first.click()
     page.wait_for_selector("[data-testid=headline]")
     page.wait_for_function("document.querySelectorAll('.chart .plot .main-svg').length >= 4")

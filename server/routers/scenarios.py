@@ -1,0 +1,184 @@
+"""Saved scenarios: the JSON API (/api/v1/scenarios) and the pages (/s/<id>, list, compare)."""
+
+import csv
+import io
+import json
+import math
+
+from fastapi import APIRouter, HTTPException, Query, Request, UploadFile
+from fastapi.responses import HTMLResponse, JSONResponse, Response
+
+from .. import solver
+from ..cases import CAUTIONS
+from ..charts import figures, overlay
+from ..display import Units
+from ..errors import InputError
+from ..scenarios import differences, save, solve_inputs
+from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
+from ..storage import Scenario
+
+router = APIRouter(prefix="/api/v1/scenarios", tags=["scenarios"])
+pages = APIRouter(tags=["pages"], include_in_schema=False)
+PER_PAGE = 20
+MAX_IMPORT_BYTES = 2_000_000
+
+
+def _store(request: Request):
+    return request.app.state.store
+
+
+def _link(sid: str) -> str:
+    return f"/s/{sid}"
+
+
+def _out(s: Scenario) -> dict:
+    return {"id": s.id, "name": s.name, "note": s.note, "created": s.created, "inputs": s.inputs,
+            "results": s.results, "solver_version": s.solver_version, "parent": s.parent, "link": _link(s.id)}
+
+
+def _get_or_404(request: Request, sid: str) -> Scenario:
+    s = _store(request).get(sid)
+    if s is None:
+        raise HTTPException(404, f"no saved scenario {sid!r}: check the link")
+    return s
+
+
+@router.post("", response_model=ScenarioCreated, status_code=201)
+def create_scenario(request: Request, body: ScenarioIn) -> dict:
+    """Save a scenario: inputs as entered, results as computed now. Invalid inputs: 422, nothing stored."""
+    s = save(_store(request), body.name, body.note, body.inputs, body.parent)
+    return {"id": s.id, "link": _link(s.id)}
+
+
+@router.get("", response_model=ScenarioList)
+def list_scenarios(request: Request, q: str = Query("", max_length=200), page: int = Query(1, ge=1, le=100000)):
+    """Saved scenarios, newest first; q searches name and note."""
+    items, total = _store(request).search(q.strip(), page, PER_PAGE)
+    return {"items": [{"id": s.id, "name": s.name, "note": s.note, "created": s.created, "link": _link(s.id),
+                       "summary": s.summary} for s in items],
+            "page": page, "pages": max(1, math.ceil(total / PER_PAGE)), "total": total, "q": q}
+
+
+@router.get("/{sid}", response_model=ScenarioOut)
+def get_scenario(request: Request, sid: str) -> dict:
+    return _out(_get_or_404(request, sid))
+
+
+@router.post("/import", response_model=ScenarioCreated, status_code=201)
+async def import_scenario(request: Request, file: UploadFile | None = None) -> dict:
+    """A scenario file exported from presscycle (or any JSON with name and inputs) becomes a new scenario."""
+    raw = await (file.read(MAX_IMPORT_BYTES + 1) if file is not None else request.body())
+    if len(raw) > MAX_IMPORT_BYTES:
+        raise HTTPException(413, f"the file is larger than {MAX_IMPORT_BYTES // 1000} kB")
+    try:
+        data = json.loads(raw.decode("utf-8-sig"))
+    except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+        raise InputError([(("body",), f"the file is not JSON: {exc.__class__.__name__}")]) from None
+    if not isinstance(data, dict) or not isinstance(data.get("inputs"), dict):
+        raise InputError([(("body", "inputs"), "a scenario file needs an inputs object (an /api/v1/cycle request)")])
+    name = str(data.get("name") or "Imported scenario")[:120]
+    note = str(data.get("note") or "")[:2000]
+    s = save(_store(request), name, note, data["inputs"], None)
+    return {"id": s.id, "link": _link(s.id)}
+
+
+# ---- pages -----------------------------------------------------------------------------------
+
+
+def _templates(request: Request):
+    return request.app.state.templates
+
+
+@pages.get("/s/{sid}.json")
+def scenario_json(request: Request, sid: str):
+    s = _get_or_404(request, sid)
+    return JSONResponse(_out(s), headers={"content-disposition": f'inline; filename="presscycle-{sid}.json"'})
+
+
+@pages.get("/s/{sid}/curves.csv")
+def scenario_csv(request: Request, sid: str):
+    s = _get_or_404(request, sid)
+    c = s.results["curves"]
+    buf = io.StringIO()
+    w = csv.writer(buf)
+    w.writerow(["time [s]", "filtrate_volume [m^3]", "pressure [Pa]", "flow [m^3/s]", "cake_thickness [m]"])
+    for row in zip(c["time"], c["filtrate_volume"], c["pressure"], c["flow"], c["cake_thickness"]):
+        w.writerow([repr(float(x)) for x in row])
+    return Response(buf.getvalue(), media_type="text/csv",
+                    headers={"content-disposition": f'attachment; filename="presscycle-{sid}-curves.csv"'})
+
+
+@pages.get("/s/{sid}", response_class=HTMLResponse)
+def scenario_page(request: Request, sid: str, units: str = Query("si", pattern="^(si|us)$")):
+    s = _get_or_404(request, sid)
+    u = Units(units)
+    try:
+        now = solve_inputs(s.inputs)
+        changed = differences(s.results, now)
+    except InputError:
+        now, changed = None, [("inputs", "valid when saved", "refused by this version")]
+    results_html = _templates(request).get_template("_results.html").render(
+        {"r": s.results, "u": u, "cautions": CAUTIONS})
+    parent = _store(request).get(s.parent) if s.parent else None
+    return _templates(request).TemplateResponse(request, "scenario_view.html", {
+        "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
+        "figures": figures(s.results["chart_series"], s.results, u), "changed": changed, "now": now,
+        "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
+        "plotly_url": _plotly_url(),
+    })
+
+
+@pages.get("/s/{sid}/copy", response_class=HTMLResponse)
+def scenario_copy(request: Request, sid: str):
+    from .pages import editor_page
+
+    s = _get_or_404(request, sid)
+    return editor_page(request, f"Copy of {s.name}", f"Edit and save as a new scenario; {s.name!r} stays as it is.",
+                       s.inputs, solve=True, parent=s)
+
+
+@pages.get("/scenarios", response_class=HTMLResponse)
+def scenarios_page(request: Request, q: str = Query("", max_length=200), page: int = Query(1, ge=1, le=100000)):
+    items, total = _store(request).search(q.strip(), page, PER_PAGE)
+    return _templates(request).TemplateResponse(request, "scenarios.html", {
+        "items": items, "q": q, "page": page, "pages": max(1, math.ceil(total / PER_PAGE)), "total": total,
+        "u": Units("si"),
+    })
+
+
+@pages.get("/compare", response_class=HTMLResponse)
+def compare_page(request: Request, ids: str = Query("", max_length=400), units: str = Query("si", pattern="^(si|us)$")):
+    wanted = [i for i in ids.replace(" ", "").split(",") if i]
+    if not 2 <= len(wanted) <= 4:
+        raise HTTPException(400, "pick two to four scenarios to compare")
+    scenarios = [_get_or_404(request, i) for i in wanted]
+    u = Units(units)
+    rows = _input_rows(scenarios)
+    return _templates(request).TemplateResponse(request, "compare.html", {
+        "scenarios": scenarios, "rows": rows, "u": u, "units": units, "ids": ",".join(wanted),
+        "figures": overlay([(s.name, s.results) for s in scenarios], u), "plotly_url": _plotly_url(),
+        "cautions": CAUTIONS,
+    })
+
+
+def _flatten(d, prefix=""):
+    out = {}
+    for k, v in d.items():
+        key = f"{prefix}.{k}" if prefix else k
+        if isinstance(v, dict):
+            out.update(_flatten(v, key))
+        else:
+            out[key] = json.dumps(v, ensure_ascii=False) if isinstance(v, list) else str(v)
+    return out
+
+
+def _input_rows(scenarios):
+    flat = [_flatten(s.inputs) for s in scenarios]
+    keys = sorted({k for f in flat for k in f})
+    return [(k, [f.get(k, "–") for f in flat], len({f.get(k, "–") for f in flat}) > 1) for k in keys]
+
+
+def _plotly_url() -> str:
+    import plotly
+
+    return f"/vendor/plotly.min.js?v={plotly.__version__}"

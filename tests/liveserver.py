@@ -1,0 +1,62 @@
+"""A real uvicorn server on 127.0.0.1 in a child process, for browser and reliability tests."""
+
+import os
+import socket
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+class LiveServer:
+    def __init__(self, db: Path, port: int | None = None):
+        self.db = Path(db)
+        self.port = port or free_port()
+        self.url = f"http://127.0.0.1:{self.port}"
+        self.proc = None
+
+    def start(self, wait: bool = True, timeout: float = 30.0) -> "LiveServer":
+        env = {**os.environ, "PRESSCYCLE_DB": str(self.db)}
+        self.proc = subprocess.Popen(
+            [sys.executable, "-m", "uvicorn", "server.app:app", "--host", "127.0.0.1", "--port", str(self.port),
+             "--log-level", "warning"],
+            cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+        )
+        if wait:
+            deadline = time.time() + timeout
+            while time.time() < deadline:
+                if self.proc.poll() is not None:
+                    raise RuntimeError(f"uvicorn exited: {self.output()}")
+                try:
+                    socket.create_connection(("127.0.0.1", self.port), timeout=0.5).close()
+                    return self
+                except OSError:
+                    time.sleep(0.1)
+            self.kill()
+            raise RuntimeError("uvicorn did not start")
+        return self
+
+    def output(self) -> str:
+        return self.proc.stdout.read().decode(errors="replace") if self.proc and self.proc.stdout else ""
+
+    def stop(self, timeout: float = 15.0) -> None:
+        if self.proc and self.proc.poll() is None:
+            self.proc.terminate()
+            try:
+                self.proc.wait(timeout)
+            except subprocess.TimeoutExpired:
+                self.proc.kill()
+                self.proc.wait()
+
+    def kill(self) -> None:
+        if self.proc and self.proc.poll() is None:
+            self.proc.kill()
+            self.proc.wait()

@@ -1,0 +1,167 @@
+"""Saved scenarios through the API and pages (in-process, temporary database)."""
+
+import json
+import sqlite3
+
+import pytest
+
+from server.settings import PROJECT_ROOT
+
+COPPER = json.loads((PROJECT_ROOT / "demo_cases" / "copper_concentrate.json").read_text())["inputs"]
+
+
+def save(client, name="Press 3 at 7 bar", note="night shift", inputs=None, **extra):
+    r = client.post("/api/v1/scenarios", json={"name": name, "note": note, "inputs": inputs or COPPER, **extra})
+    assert r.status_code == 201, r.text
+    return r.json()
+
+
+def count(client):
+    return client.get("/api/v1/scenarios").json()["total"]
+
+
+def test_save_and_get_back_inputs_as_entered_with_results(client):
+    created = save(client)
+    assert created["link"] == f"/s/{created['id']}"
+    got = client.get(f"/api/v1/scenarios/{created['id']}").json()
+    assert got["inputs"] == COPPER  # as entered, units and all
+    assert got["name"] == "Press 3 at 7 bar" and got["note"] == "night shift"
+    assert got["results"]["best"]["filtrate_throughput"] > 0
+    assert got["solver_version"] and got["created"].endswith("+00:00") and got["parent"] is None
+    fresh = client.post("/api/v1/cycle", json=COPPER).json()
+    assert got["results"]["best"] == pytest.approx(fresh["best"])
+
+
+def test_invalid_inputs_are_refused_and_nothing_is_stored(client):
+    before = count(client)
+    bad = json.loads(json.dumps(COPPER))
+    bad["slurry"]["solids_mass_fraction"] = "95 %"
+    r = client.post("/api/v1/scenarios", json={"name": "bad", "inputs": bad})
+    assert r.status_code == 422
+    assert r.json()["detail"][0]["field"] == "inputs.slurry.solids_mass_fraction"
+    r = client.post("/api/v1/scenarios", json={"name": "", "inputs": COPPER})
+    assert r.status_code == 422 and r.json()["detail"][0]["field"] == "name"
+    r = client.post("/api/v1/scenarios", json={"name": "orphan", "inputs": COPPER, "parent": "nope"})
+    assert r.status_code == 422
+    assert count(client) == before
+
+
+def test_list_is_newest_first_searchable_and_paged(client):
+    ids = [save(client, name=f"thickness study {i}", note="for the capex review")["id"] for i in range(3)]
+    listing = client.get("/api/v1/scenarios", params={"q": "capex"}).json()
+    assert [item["id"] for item in listing["items"][:3]] == ids[::-1]
+    assert all("capex" in item["note"] for item in listing["items"])
+    assert listing["items"][0]["summary"]["filtrate_throughput"] > 0
+    assert client.get("/api/v1/scenarios", params={"q": "no such words"}).json()["total"] == 0
+    for i in range(22):
+        save(client, name=f"bulk {i}")
+    p1 = client.get("/api/v1/scenarios", params={"page": 1}).json()
+    p2 = client.get("/api/v1/scenarios", params={"page": 2}).json()
+    assert len(p1["items"]) == 20 and p1["pages"] >= 2
+    assert not {i["id"] for i in p1["items"]} & {i["id"] for i in p2["items"]}
+
+
+def test_unknown_id_is_a_404_page_and_json(client):
+    r = client.get("/s/doesnotexist")
+    assert r.status_code == 404 and "Not found" in r.text
+    assert client.get("/api/v1/scenarios/doesnotexist").status_code == 404
+    assert client.get("/s/doesnotexist.json").status_code == 404
+
+
+def test_names_and_notes_are_escaped_everywhere(client):
+    evil = "<script>alert(1)</script>"
+    sid = save(client, name=evil, note=evil)["id"]
+    other = save(client)["id"]
+    for path in (f"/s/{sid}", "/scenarios", "/", f"/compare?ids={sid},{other}", f"/s/{sid}/copy"):
+        html = client.get(path).text
+        assert evil not in html, path
+        assert "&lt;script&gt;" in html, path
+
+
+def test_scenario_page_shows_the_saved_figures_and_links(client):
+    created = save(client)
+    html = client.get(created["link"]).text
+    saved = client.get(f"/api/v1/scenarios/{created['id']}").json()["results"]
+    assert "Edit a copy" in html and "Print report" in html and "Caution" in html
+    assert f"/s/{created['id']}.json" in html
+    minutes = f"{saved['best']['filtration_time'] / 60:.3g}"
+    assert minutes in html
+    assert "solver-changed" not in html
+
+
+def test_copy_records_its_parent_and_leaves_the_original_unchanged(client):
+    original = save(client)
+    page = client.get(f"/s/{original['id']}/copy").text
+    assert original["id"] in page  # the parent travels with the copy
+    changed = json.loads(json.dumps(COPPER))
+    changed["press"]["chamber_thickness"] = "50 mm"
+    copy = save(client, name="thicker", inputs=changed, parent=original["id"])
+    got = client.get(f"/api/v1/scenarios/{copy['id']}").json()
+    assert got["parent"] == original["id"]
+    assert client.get(f"/api/v1/scenarios/{original['id']}").json()["inputs"] == COPPER
+
+
+def test_a_changed_solver_is_flagged_with_both_numbers(client, tmp_path):
+    created = save(client)
+    db = client.app.state.store.path
+    conn = sqlite3.connect(db)
+    results = json.loads(conn.execute("SELECT results FROM scenarios WHERE id = ?", (created["id"],)).fetchone()[0])
+    results["best"]["filtrate_throughput"] *= 1.1  # as if an older solver had computed it
+    conn.execute("UPDATE scenarios SET results = ? WHERE id = ?", (json.dumps(results), created["id"]))
+    conn.commit()
+    conn.close()
+    html = client.get(created["link"]).text
+    assert "solver-changed" in html and "best.filtrate_throughput" in html
+
+
+def test_export_and_import_round_trip(client):
+    created = save(client, name="to export")
+    exported = client.get(f"/s/{created['id']}.json")
+    assert exported.status_code == 200
+    data = exported.json()
+    assert data["inputs"] == COPPER and "results" in data
+    r = client.post("/api/v1/scenarios/import", files={"file": ("x.json", exported.content, "application/json")})
+    assert r.status_code == 201
+    imported = client.get(f"/api/v1/scenarios/{r.json()['id']}").json()
+    assert imported["inputs"] == COPPER and imported["name"] == "to export"
+    assert imported["id"] != created["id"]
+
+
+def test_import_validates_like_the_api(client):
+    before = count(client)
+    bad = {"name": "x", "inputs": {**COPPER, "feed": {"mode": "constant_pressure", "pressure": "7 kg"}}}
+    r = client.post("/api/v1/scenarios/import", files={"file": ("x.json", json.dumps(bad).encode())})
+    assert r.status_code == 422 and r.json()["detail"][0]["field"] == "inputs.feed.pressure"
+    r = client.post("/api/v1/scenarios/import", files={"file": ("x.json", b"not json")})
+    assert r.status_code == 422
+    assert count(client) == before
+
+
+def test_curves_download_as_csv(client):
+    created = save(client)
+    r = client.get(f"/s/{created['id']}/curves.csv")
+    lines = r.text.splitlines()
+    assert lines[0].startswith("time [s],filtrate_volume [m^3]")
+    assert len(lines) == 242
+
+
+def test_compare_view_highlights_differing_inputs(client):
+    a = save(client, name="40 mm")
+    changed = json.loads(json.dumps(COPPER))
+    changed["press"]["chamber_thickness"] = "60 mm"
+    b = save(client, name="60 mm", inputs=changed)
+    html = client.get(f"/compare?ids={a['id']},{b['id']}").text
+    assert 'class="differs"><th scope="row">press.chamber_thickness' in html
+    assert client.get(f"/compare?ids={a['id']}").status_code == 400
+    assert client.get(f"/compare?ids={a['id']},nope").status_code == 404
+
+
+def test_home_lists_recent_saved_scenarios(client):
+    created = save(client, name="recent one")
+    assert f"/s/{created['id']}" in client.get("/").text
+
+
+def test_oversized_scenario_body_is_a_413(client):
+    huge = {"name": "x", "note": "", "inputs": {"pad": "x" * 3_000_000}}
+    r = client.post("/api/v1/scenarios", json=huge)
+    assert r.status_code == 413
