@@ -1,10 +1,11 @@
 """HTML pages: home, the scenario editor (new or from a demo case), vendor assets."""
 
+import json
 from functools import lru_cache
 from pathlib import Path
 
 import plotly
-from fastapi import APIRouter, HTTPException, Request
+from fastapi import APIRouter, HTTPException, Query, Request
 from fastapi.responses import FileResponse, HTMLResponse
 
 from ..cases import CAUTIONS, solve_full
@@ -59,9 +60,24 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
 
 
 @router.get("/scenario/new", response_class=HTMLResponse)
-def new_scenario(request: Request):
+def new_scenario(request: Request, prefill: str = Query("", max_length=4000)):
+    """A blank scenario; ``prefill`` (JSON, part of a cycle request) fills some fields, as from a lab fit."""
+    inputs = {}
+    if prefill:
+        try:
+            inputs = json.loads(prefill)
+        except json.JSONDecodeError:
+            raise HTTPException(400, "the prefill parameter is not JSON") from None
+        if not isinstance(inputs, dict):
+            raise HTTPException(400, "the prefill parameter must be a JSON object")
     return editor_page(request, "New scenario", "Enter your slurry, cake, cloth, press, feed and cycle; "
-                       "every field takes the unit you choose.", {}, solve=False)
+                       "every field takes the unit you choose.", inputs, solve=False)
+
+
+@router.get("/lab", response_class=HTMLResponse)
+def lab_page(request: Request):
+    return _templates(request).TemplateResponse(request, "lab.html", {
+        "unit_choices": UNIT_CHOICES, "plotly_url": f"/vendor/plotly.min.js?v={plotly.__version__}"})
 
 
 @router.get("/demo/{slug}", response_class=HTMLResponse)

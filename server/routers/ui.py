@@ -4,13 +4,19 @@ Takes the same body as /api/v1/cycle; answers {"html", "figures", "result"}. Bad
 the API's 422, which the page marks at the fields.
 """
 
+import json
+from urllib.parse import quote
+
 from fastapi import APIRouter, Query, Request
 
 from ..cases import CAUTIONS, solve_full
 from ..charts import all_series, figures
 from ..display import Units
 from ..errors import InputError
+from ..labcharts import lab_figures
+from ..labfits import fit_request
 from ..schemas.cycle import CycleRequest
+from ..schemas.labfit import LabFitRequest
 
 router = APIRouter(prefix="/ui", tags=["ui"], include_in_schema=False)
 
@@ -26,6 +32,27 @@ def post_results(request: Request, req: CycleRequest, units: str = Query("si", p
     series = all_series(solved.model, solved.built.case, solved.solution)
     html = request.app.state.templates.get_template("_results.html").render(results_context(solved, u))
     return {"html": html, "figures": figures(series, solved.answer, u), "result": solved.answer}
+
+
+def scenario_prefill(for_cycle: dict) -> dict:
+    """The lab result as editor inputs, in units people type (m/kg, bar, 1/m)."""
+    cake = for_cycle["cake"]
+    return {
+        "cake": {"resistance": f"{cake['resistance']:.4g} m/kg",
+                 "reference_pressure": f"{cake['reference_pressure'] / 1e5:.4g} bar",
+                 "compressibility": round(cake["compressibility"], 4)},
+        "medium_resistance": f"{for_cycle['medium_resistance']:.4g} 1/m",
+    }
+
+
+@router.post("/lab-fit")
+def post_lab_fit(request: Request, req: LabFitRequest) -> dict:
+    result = fit_request(req)
+    figs = lab_figures(result)
+    link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(result["for_cycle"])))
+    html = request.app.state.templates.get_template("_lab_results.html").render(
+        {"r": result, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
+    return {"html": html, "figures": figs, "result": result}
 
 
 __all__ = ["router", "InputError"]

@@ -1,0 +1,98 @@
+// Lab test page: one block per test, readings pasted or read from a file, fitted by the server.
+(function () {
+  "use strict";
+  const form = document.getElementById("lab");
+  const tests = document.getElementById("tests");
+  const template = document.getElementById("test-template");
+  const status = document.getElementById("status");
+  const results = document.getElementById("results");
+
+  function addTest() {
+    const node = template.content.firstElementChild.cloneNode(true);
+    const n = tests.children.length + 1;
+    node.querySelector("legend").textContent = `Test ${n}`;
+    node.querySelectorAll("input[data-name], textarea[data-name], select[data-unit]").forEach((el) => {
+      const key = el.dataset.name || el.dataset.unit;
+      el.id = `t${n}-${key.replace(".", "-")}${el.dataset.unit ? "-unit" : ""}`;
+    });
+    node.querySelector(".remove").addEventListener("click", () => { if (tests.children.length > 1) node.remove(); });
+    node.querySelector("input[type=file]").addEventListener("change", (e) => {
+      const file = e.target.files[0];
+      if (!file) return;
+      const reader = new FileReader();
+      reader.onload = () => { node.querySelector("textarea[data-name=csv]").value = reader.result; };
+      reader.readAsText(file);
+    });
+    tests.appendChild(node);
+    return node;
+  }
+
+  function value(block, name) {
+    const el = block.querySelector(`[data-name="${name}"]`);
+    const raw = el ? el.value.trim() : "";
+    if (!raw) return undefined;
+    const unit = block.querySelector(`[data-unit="${name}"]`);
+    const v = raw.indexOf(".") < 0 ? raw.replace(",", ".") : raw;
+    return unit && unit.value ? `${v} ${unit.value}` : v;
+  }
+
+  function collect() {
+    const body = { tests: [] };
+    const ref = document.getElementById("ref-p").value.trim();
+    if (ref) body.reference_pressure = `${ref.replace(",", ".")} ${document.getElementById("ref-p-unit").value}`;
+    Array.from(tests.children).forEach((block) => {
+      const t = {};
+      ["name", "pressure", "area", "temperature", "viscosity", "c", "dry_cake_mass"].forEach((k) => {
+        const v = value(block, k);
+        if (v !== undefined) t[k] = k === "name" ? block.querySelector('[data-name="name"]').value.trim() : v;
+      });
+      t.csv = block.querySelector("textarea[data-name=csv]").value;
+      const st = value(block, "start.time"), sv = value(block, "start.volume");
+      if (st !== undefined || sv !== undefined) t.start = { time: st, volume: sv };
+      const use = block.querySelector('[data-name="use"]').value.trim();
+      if (use) t.use = use.split(/[\s,;]+/).map((x) => Number(x) - 1);
+      body.tests.push(t);
+    });
+    return body;
+  }
+
+  function showErrors(detail) {
+    detail.forEach((d) => {
+      const parts = (d.field || "").split(".");
+      let box = null;
+      if (parts[0] === "tests" && /^\d+$/.test(parts[1] || "")) {
+        const block = tests.children[Number(parts[1])];
+        const name = parts.slice(2).join(".");
+        const field = block && (block.querySelector(`.field[data-path="${name}"]`) ||
+                                block.querySelector(`.field[data-path="${parts[2]}"]`));
+        box = field ? field.querySelector(".error") : block && block.querySelector(".group-error");
+      } else {
+        const field = form.querySelector(`.field[data-path="${parts[0]}"]`);
+        box = field && field.querySelector(".error");
+      }
+      if (box) { box.textContent = d.msg; box.hidden = false; } else { status.textContent = `${d.field}: ${d.msg}`; }
+    });
+    if (!status.textContent) status.textContent = "Please correct the marked fields.";
+  }
+
+  async function fit() {
+    form.querySelectorAll(".error").forEach((e) => { e.hidden = true; e.textContent = ""; });
+    status.textContent = "Fitting…";
+    const response = await fetch("/ui/lab-fit", {
+      method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(collect()),
+    }).catch(() => null);
+    if (!response) { status.textContent = "The server did not answer."; return; }
+    const data = await response.json().catch(() => ({}));
+    if (response.status === 422) { status.textContent = ""; showErrors(data.detail || []); return; }
+    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; return; }
+    results.innerHTML = data.html;
+    window.presscycleCharts.plot(results, data.figures || {});
+    status.textContent = "Done.";
+  }
+
+  document.getElementById("add-test").addEventListener("click", addTest);
+  form.addEventListener("submit", (e) => { e.preventDefault(); fit(); });
+  addTest();
+  document.getElementById("fit").disabled = false;
+  window.presscycleLab = { addTest, collect, fit };
+})();
