@@ -92,28 +92,23 @@ def build_case(req: CycleRequest) -> Built:
         raise InputError([(_path(exc.parameter), exc.message)]) from None
 
 
+def liquid_density(given: float | None, temperature: float | None) -> float:
+    """The filtrate density: as given, else water at the temperature, else 998 kg/m³."""
+    if given is not None:
+        return given
+    return water.water_density(temperature) if temperature is not None else DEFAULT_LIQUID_DENSITY
+
+
 def _build(req: CycleRequest) -> Built:
     s, k = req.slurry, req.cake
-    T = s.temperature
-    rho_l = s.liquid_density
-    if rho_l is None:
-        rho_l = water.water_density(T) if T is not None else DEFAULT_LIQUID_DENSITY
-    mu = s.viscosity if s.viscosity is not None else water.water_viscosity(T)
-    rho_s = s.solids_density
-
-    if k.wet_to_dry_ratio is not None:
-        m = k.wet_to_dry_ratio
-    elif k.moisture is not None:
-        m = sb.wet_to_dry_from_moisture(k.moisture)
-    else:
-        m = sb.wet_to_dry_from_porosity(k.porosity, rho_s, rho_l)
-    eps = k.porosity if k.porosity is not None else sb.porosity_from_wet_to_dry(m, rho_s, rho_l)
-
-    if s.solids_mass_fraction is not None:
-        c = sb.solids_per_filtrate_from_mass_fraction(s.solids_mass_fraction, m, rho_l)
-    else:
-        c = sb.solids_per_filtrate_from_concentration(s.solids_concentration, m, rho_s, rho_l)
-    v = sb.cake_volume_ratio(c, eps, rho_s)
+    rho_l = liquid_density(s.liquid_density, s.temperature)
+    mu = s.viscosity if s.viscosity is not None else water.water_viscosity(s.temperature)
+    bal = sb.balance(
+        liquid_density=rho_l, solids_density=s.solids_density, solids_mass_fraction=s.solids_mass_fraction,
+        solids_concentration=s.solids_concentration, moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio,
+        porosity=k.porosity,
+    )
+    c, v, m, eps = bal.solids_per_filtrate, bal.cake_volume_ratio, bal.wet_to_dry_ratio, bal.porosity
 
     p = req.press
     area = p.filter_area
@@ -137,7 +132,7 @@ def _build(req: CycleRequest) -> Built:
     end = solver.EndCriterion(e.criterion, e.time, e.flow, e.flow_per_area, e.flow_fraction, e.pressure)
     derived = {
         "feed_mode": req.feed.mode, "c": c, "cake_volume_ratio": v, "porosity": eps, "wet_to_dry_ratio": m,
-        "moisture": 1.0 - 1.0 / m, "solids_mass_fraction": sb.mass_fraction_from_solids_per_filtrate(c, m, rho_l),
+        "moisture": bal.moisture, "solids_mass_fraction": bal.solids_mass_fraction,
         "liquid_density": rho_l, "viscosity": mu,
         "resistance_at_feed": filtration.specific_resistance(feed.pressure_cap),
         "filter_area": area, "chamber_volume": press.chamber_volume,

@@ -58,7 +58,8 @@ def compressibility(result: dict) -> dict | None:
          "hovertemplate": "%{x:.3g} bar: %{y:.3g} m/kg<extra>power law</extra>"},
     ], "layout": {
         **BASE_LAYOUT, "title": {"text": "Specific cake resistance against pressure"},
-        "xaxis": _axis("Pressure drop (bar)", type="log"), "yaxis": _axis("Specific cake resistance α (m/kg)", type="log"),
+        "xaxis": _axis("Pressure drop (bar)", type="log"),
+        "yaxis": _axis("Specific cake resistance α (m/kg)", type="log"),
     }}
 
 

@@ -3,7 +3,7 @@
 import numpy as np
 
 from . import solver
-from .cases import DEFAULT_LIQUID_DENSITY, first_non_finite
+from .cases import first_non_finite, liquid_density
 from .errors import InputError
 from .labdata import CsvError, parse_readings
 from .schemas.labfit import LabFitRequest, LabTestIn
@@ -29,19 +29,12 @@ def _solids_per_filtrate(t: LabTestIn, readings, i: int) -> float:
         if not V_final > 0:
             raise InputError([(_loc(i, "final_filtrate_volume"), "must be > 0 m³ to give c from the dry cake mass")])
         return t.dry_cake_mass / V_final
-    rho_l = t.liquid_density
-    if rho_l is None:
-        rho_l = water.water_density(t.temperature) if t.temperature is not None else DEFAULT_LIQUID_DENSITY
-    rho_s = t.solids_density
-    if t.wet_to_dry_ratio is not None:
-        m = t.wet_to_dry_ratio
-    elif t.moisture is not None:
-        m = sb.wet_to_dry_from_moisture(t.moisture)
-    else:
-        m = sb.wet_to_dry_from_porosity(t.porosity, rho_s, rho_l)
-    if t.solids_mass_fraction is not None:
-        return sb.solids_per_filtrate_from_mass_fraction(t.solids_mass_fraction, m, rho_l)
-    return sb.solids_per_filtrate_from_concentration(t.solids_concentration, m, rho_s, rho_l)
+    bal = sb.balance(
+        liquid_density=liquid_density(t.liquid_density, t.temperature), solids_density=t.solids_density,
+        solids_mass_fraction=t.solids_mass_fraction, solids_concentration=t.solids_concentration,
+        moisture=t.moisture, wet_to_dry_ratio=t.wet_to_dry_ratio, porosity=t.porosity,
+    )
+    return bal.solids_per_filtrate
 
 
 def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:

@@ -53,7 +53,7 @@ def medium_constant(viscosity, medium_resistance, filter_area, pressure):
     Examples
     --------
     >>> round(medium_constant(8.937e-4, 10.63e10, 0.0439, 338e3))
-    6403
+    6402
     """
     return viscosity * medium_resistance / (filter_area * pressure)
 

@@ -11,6 +11,8 @@ section 14.2 (c = rho x / (1 - m x)); Coulson & Richardson's Chemical Engineerin
 Vol. 2, 5th ed., section 7.2 (cake volume per filtrate volume).
 """
 
+from dataclasses import dataclass
+
 from .errors import SolverInputError
 
 
@@ -171,3 +173,56 @@ def cake_volume_ratio(c: float, porosity: float, solids_density: float) -> float
     0.0568
     """
     return c / (solids_density * (1.0 - porosity))
+
+
+@dataclass(frozen=True)
+class SlurryBalance:
+    """The slurry and cake balance in one place (SI); porosity and v need the solids density."""
+
+    solids_per_filtrate: float  # c [kg/m^3]
+    wet_to_dry_ratio: float  # m [-]
+    moisture: float  # w [-]
+    porosity: float | None  # epsilon [-]
+    cake_volume_ratio: float | None  # v [-]
+    solids_mass_fraction: float  # x [-]
+
+
+def balance(
+    *, liquid_density: float, solids_density: float | None = None,
+    solids_mass_fraction: float | None = None, solids_concentration: float | None = None,
+    moisture: float | None = None, wet_to_dry_ratio: float | None = None, porosity: float | None = None,
+) -> SlurryBalance:
+    """c, m, moisture, porosity and v from one way of giving the solids and one of the cake liquid.
+
+    Exactly one of ``solids_mass_fraction`` / ``solids_concentration`` and exactly one of
+    ``moisture`` / ``wet_to_dry_ratio`` / ``porosity``; porosity and solids_concentration
+    need ``solids_density``. Saturated cake (all pores full of filtrate).
+
+    Examples
+    --------
+    >>> b = balance(liquid_density=996.9, solids_mass_fraction=0.191, wet_to_dry_ratio=2.0)
+    >>> round(b.solids_per_filtrate, 1)
+    308.1
+    """
+    rho_l, rho_s = liquid_density, solids_density
+    if wet_to_dry_ratio is not None:
+        m = wet_to_dry_ratio
+    elif moisture is not None:
+        m = wet_to_dry_from_moisture(moisture)
+    elif porosity is not None:
+        if rho_s is None:
+            raise SolverInputError("solids_density", "the porosity route needs the solids density")
+        m = wet_to_dry_from_porosity(porosity, rho_s, rho_l)
+    else:
+        raise SolverInputError("moisture", "give the cake moisture, wet-to-dry ratio or porosity")
+    if solids_mass_fraction is not None:
+        c = solids_per_filtrate_from_mass_fraction(solids_mass_fraction, m, rho_l)
+    elif solids_concentration is not None:
+        if rho_s is None:
+            raise SolverInputError("solids_density", "the solids concentration route needs the solids density")
+        c = solids_per_filtrate_from_concentration(solids_concentration, m, rho_s, rho_l)
+    else:
+        raise SolverInputError("solids_mass_fraction", "give the solids mass fraction or concentration")
+    eps = porosity if porosity is not None else (porosity_from_wet_to_dry(m, rho_s, rho_l) if rho_s else None)
+    v = cake_volume_ratio(c, eps, rho_s) if rho_s else None
+    return SlurryBalance(c, m, 1.0 - 1.0 / m, eps, v, mass_fraction_from_solids_per_filtrate(c, m, rho_l))
