@@ -76,3 +76,20 @@ def test_demo_concentrate_case_reaches_its_optimum_before_the_chambers_fill():
     r = _solve("copper_concentrate")
     assert r["best"]["limited_by"] == "optimum"
     assert r["best"]["chamber_fill"] > 0.5
+
+
+def test_demo_pump_fed_case_ends_on_the_flow_threshold():
+    r = _solve("kaolin_pump_fed")
+    assert r["derived"]["feed_mode"] == "pump_curve"
+    assert r["at_end"]["end_reason"] == "flow"
+    assert max(r["curves"]["pressure"]) <= 7e5 * (1 + 1e-12)
+
+
+def test_vendor_plotly_and_every_page_load_locally(client):
+    r = client.get("/vendor/plotly.min.js")
+    assert r.status_code == 200 and len(r.content) > 1_000_000
+    for path in ("/scenario/new", "/lab", "/scenarios", "/favicon.ico"):
+        page = client.get(path)
+        assert page.status_code == 200, path
+        for url in re.findall(r'(?:src|href)="([^"]+)"', page.text):
+            assert not re.match(r"^(https?:)?//", url), (path, url)
