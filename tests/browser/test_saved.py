@@ -22,6 +22,15 @@ def test_save_open_the_link_elsewhere_then_edit_a_copy(page, browser):
     assert page.locator("[data-testid=scenario-name]").inner_text() == "Pigment press, 20 mm chambers"
     assert headline(page) == figures
 
+    # the printable report: inputs, results, charts and cautions; no buttons
+    page.emulate_media(media="print")
+    assert page.locator(".saved-actions").is_hidden()
+    assert page.locator("[data-testid=headline]").is_visible()
+    assert page.locator("[data-testid=inputs]").is_visible()
+    assert page.locator(".caution").is_visible()
+    assert page.locator(".chart .plot").first.is_visible()
+    page.emulate_media(media="screen")
+
     # a colleague opens the link in a fresh browser context
     other = browser.new_context()
     colleague = other.new_page()
