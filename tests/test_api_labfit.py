@@ -1,5 +1,6 @@
 """POST /api/v1/lab-fit and /api/v1/lab-readings."""
 
+import json
 from pathlib import Path
 
 import pytest
@@ -141,3 +142,40 @@ def test_oversized_upload_is_refused(client):
     r = client.post("/api/v1/lab-readings", content=big, headers={"content-type": "text/csv"})
     assert r.status_code == 413
     assert "larger than" in r.json()["detail"]
+
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(
+    times=st.lists(st.floats(-10, 1e5, allow_nan=False), min_size=0, max_size=12),
+    volumes=st.lists(st.floats(-1e-3, 1.0, allow_nan=False), min_size=0, max_size=12),
+    pressure=st.one_of(st.floats(-1e5, 1e7, allow_nan=False), st.text(max_size=8)),
+    use=st.one_of(st.none(), st.tuples(st.integers(-2, 14), st.integers(-2, 14))),
+)
+def test_random_lab_input_never_gives_a_500_or_nan(client, times, volumes, pressure, use):
+    pts = [[t, v] for t, v in zip(sorted(times), sorted(volumes))]
+    test = {"pressure": pressure, "area": "100 cm^2", "viscosity": "1 mPa*s", "c": "20 g/L", "points": pts}
+    if use is not None:
+        test["use"] = list(use)
+    r = client.post("/api/v1/lab-fit", json={"tests": [test]})
+    assert r.status_code in (200, 422), r.text
+    json.loads(r.text, parse_constant=lambda name: (_ for _ in ()).throw(AssertionError(name)))
+
+
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(dt=st.lists(st.floats(1e-3, 1e4), min_size=3, max_size=30), dv=st.lists(st.floats(1e-7, 1e-2), min_size=3, max_size=30),
+       p=st.floats(1e3, 5e6), ref=st.floats(1e3, 5e6))
+def test_random_increasing_readings_fit_or_refuse_plainly(client, dt, dv, p, ref):
+    import itertools
+
+    n = min(len(dt), len(dv))
+    pts = [[t, v] for t, v in zip(itertools.accumulate(dt[:n]), itertools.accumulate(dv[:n]))]
+    body = {"reference_pressure": ref, "tests": [
+        {"pressure": p, "area": "100 cm^2", "temperature": 20, "c": "20 g/L", "points": pts},
+        {"pressure": p * 2, "area": "100 cm^2", "temperature": 20, "c": "20 g/L", "points": pts}]}
+    r = client.post("/api/v1/lab-fit", json=body)
+    assert r.status_code in (200, 422), r.text
+    json.loads(r.text, parse_constant=lambda name: (_ for _ in ()).throw(AssertionError(name)))
