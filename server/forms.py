@@ -139,7 +139,11 @@ GROUPS = [
             ("best", "best throughput", []),
             ("chambers_full", "full chambers", []),
             ("time", "a set time", [F("cycle.end.time", "Filtration time", "time", "from the start of feeding")]),
-            ("flow", "a filtrate flow", [F("cycle.end.flow", "Flow below", "flow", "filtrate flow that ends filtration")]),
+            ("flow", "a filtrate flow", [
+                F("cycle.end.flow", "Flow below", "flow", "give one of these three: the filtrate flow", optional=True),
+                F("cycle.end.flow_per_area", "… or flow per filter area below", "flux", "e.g. 20–100 L/(m²·h)", optional=True),
+                F("cycle.end.flow_fraction", "… or share of the initial flow below", "fraction", "e.g. 10 %", optional=True),
+            ]),
             ("pressure", "a terminal pressure", [F("cycle.end.pressure", "Terminal pressure", "pressure",
                                                    "for pump feeds whose pressure rises")]),
         ]),

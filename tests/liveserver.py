@@ -25,10 +25,13 @@ class LiveServer:
 
     def start(self, wait: bool = True, timeout: float = 30.0) -> "LiveServer":
         env = {**os.environ, "PRESSCYCLE_DB": str(self.db)}
+        # output goes to a file: a pipe nobody reads would stall a chatty server
+        self.log = self.db.with_suffix(f".{self.port}.log")
+        self._log_file = open(self.log, "ab")  # noqa: SIM115 (closed in stop/kill)
         self.proc = subprocess.Popen(
             [sys.executable, "-m", "uvicorn", "server.app:app", "--host", "127.0.0.1", "--port", str(self.port),
              "--log-level", "warning"],
-            cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT,
+            cwd=ROOT, env=env, stdout=self._log_file, stderr=subprocess.STDOUT,
         )
         if wait:
             deadline = time.time() + timeout
@@ -45,7 +48,7 @@ class LiveServer:
         return self
 
     def output(self) -> str:
-        return self.proc.stdout.read().decode(errors="replace") if self.proc and self.proc.stdout else ""
+        return self.log.read_text(errors="replace") if self.proc else ""
 
     def stop(self, timeout: float = 15.0) -> None:
         if self.proc and self.proc.poll() is None:
@@ -55,8 +58,15 @@ class LiveServer:
             except subprocess.TimeoutExpired:
                 self.proc.kill()
                 self.proc.wait()
+        self._close()
 
     def kill(self) -> None:
         if self.proc and self.proc.poll() is None:
             self.proc.kill()
             self.proc.wait()
+        self._close()
+
+    def _close(self) -> None:
+        if getattr(self, "_log_file", None) is not None:
+            self._log_file.close()
+            self._log_file = None

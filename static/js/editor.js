@@ -128,7 +128,7 @@
       return;
     }
     const data = await response.json().catch(() => ({}));
-    if (response.status === 422) { showErrors(data.detail || []); return; }
+    if (response.status === 422) { status.textContent = ""; showErrors(data.detail || []); return; }
     if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; return; }
     lastBody = body;
     results.innerHTML = data.html;
@@ -186,4 +186,7 @@
     lastBody = collect();
     plotAll();
   }
+  // the server drew the first results in SI; a choice made before this script ran (or kept by
+  // the browser on going back) still counts
+  if (form.querySelector('[name="@display"]:checked').value !== "si" && lastBody) calculate();
 })();

@@ -91,6 +91,7 @@ def test_a_validation_error_is_shown_at_the_field(page):
     error = page.locator(".field[data-path='slurry.solids_mass_fraction'] .error")
     error.wait_for(state="visible")
     assert "below 1" in error.inner_text()
+    assert page.inner_text("#status") == "Please correct the marked fields."
     assert page.get_attribute("#f-slurry-solids_mass_fraction-mass_fraction", "aria-invalid") == "true"
     # a unit that does not fit
     page.fill("#f-slurry-solids_mass_fraction-mass_fraction", "12")
@@ -118,6 +119,21 @@ def test_the_form_works_from_the_keyboard(page):
         .filter(el => !el.closest('.option[hidden]'))
         .filter(el => !document.querySelector(`label[for="${el.id}"]`)).map(el => el.name)""")
     assert unlabeled == []
+    clean(page)
+
+
+def test_every_demo_case_recalculates_from_its_own_form(page):
+    # the form must carry every input of each demo: calculating again gives the same figures
+    page.goto(page.base + "/")
+    slugs = [a.get_attribute("href").rsplit("/", 1)[1] for a in page.locator(".card a[href^='/demo/']").all()]
+    assert len(slugs) >= 5
+    for slug in slugs:
+        page.goto(page.base + f"/demo/{slug}")
+        page.wait_for_selector("[data-testid=headline]")
+        before = headline(page)
+        page.click("#calculate")
+        wait_results(page)
+        assert headline(page) == before, slug
     clean(page)
 
 
