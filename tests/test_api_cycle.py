@@ -192,6 +192,14 @@ valid_bodies = st.fixed_dictionaries({
     "cycle": st.fixed_dictionaries({
         "downtime": log_uniform(1, 1e6), "wash_ratio": st.floats(0, 100),
         "washing": st.sampled_from(["through", "simple"]),
+        "end": st.one_of(
+            st.just({"criterion": "best"}), st.just({"criterion": "chambers_full"}),
+            st.builds(lambda t: {"criterion": "time", "time": t}, log_uniform(1, 1e6)),
+            st.builds(lambda q: {"criterion": "flow", "flow": q}, log_uniform(1e-8, 10)),
+            st.builds(lambda q: {"criterion": "flow", "flow_per_area": q}, log_uniform(1e-9, 1)),
+            st.builds(lambda f: {"criterion": "flow", "flow_fraction": f}, st.floats(0.001, 0.999)),
+            st.builds(lambda p: {"criterion": "pressure", "pressure": p}, log_uniform(1e2, 1e8)),
+        ),
     }),
     "compare_thicknesses": st.lists(log_uniform(1e-3, 0.5), max_size=3),
 })

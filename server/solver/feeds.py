@@ -336,13 +336,21 @@ class PumpCurve:
         return _supply_curve(self, filtration, filter_area, V_max, self.grid_points)
 
     def warnings(self, filtration: Filtration, filter_area: float) -> list[str]:
+        out = []
         q_max = self.points[-1][0]
         if cake_flow_at_start(filtration, filter_area, self.points[-1][1]) > q_max:
-            return [
+            out.append(
                 f"At the start the press would take more than the pump curve's highest flow "
                 f"({q_max * 3600:.4g} m³/h); the flow is taken as that until the cake builds up."
-            ]
-        return []
+            )
+        q_min, p_top = self.points[0]
+        if q_min > 0.0 and (self.max_pressure is None or self.max_pressure >= p_top):
+            out.append(
+                f"The pump curve starts at {q_min * 3600:.4g} m³/h: below that flow the pump is taken to "
+                f"hold its highest listed pressure, {p_top / 1e5:.4g} bar. Give the shut-off point (zero flow) "
+                f"for a truer end of the cycle."
+            )
+        return out
 
 
 def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: float) -> float:

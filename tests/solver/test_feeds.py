@@ -265,3 +265,11 @@ def test_thickness_comparison_with_a_pump_matches_single_solves():
     for L, sol in compare_thicknesses(c, [0.02, 0.04, 0.08]):
         single = solve_cycle(PressCase(c.filtration, c.press.with_thickness(L), c.feed, c.cycle))
         assert sol.best.filtrate_throughput == pytest.approx(single.best.filtrate_throughput, rel=1e-6)
+
+
+def test_a_pump_curve_without_a_shut_off_point_is_a_warning():
+    Q, P = falling_pump()  # lowest listed flow 5 m^3/h
+    sol = solve_cycle(case(PumpCurve(tuple(zip(Q, P)))))
+    assert any("shut-off" in w for w in sol.warnings)
+    with_zero = PumpCurve(((0.0, 7.2e5), *zip(Q, P)))
+    assert not any("shut-off" in w for w in solve_cycle(case(with_zero)).warnings)
