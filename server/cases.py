@@ -4,6 +4,7 @@ This is the only place that knows both the API's field paths and the solver's na
 """
 
 import math
+from dataclasses import replace
 
 from . import solver
 from .errors import InputError
@@ -26,6 +27,8 @@ FIELD_PATHS = {
     "reference_pressure": ("body", "cake", "reference_pressure"),
     "compressibility": ("body", "cake", "compressibility"),
     "medium_resistance": ("body", "medium_resistance"),
+    "resistance_stderr": ("body", "cake", "resistance_stderr"),
+    "medium_resistance_stderr": ("body", "medium_resistance_stderr"),
     "filter_area": ("body", "press", "filter_area"),
     "plate_face_area": ("body", "press", "plate_face_area"),
     "chambers": ("body", "press", "chambers"),
@@ -187,6 +190,7 @@ def solve_full(req: CycleRequest) -> Solved:
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     out = {
         "derived": derived,
+        "uncertainty": uncertainty(req, built, sol),
         "best": _cycle_dict(sol.best),
         "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
         "chambers_full": _cycle_dict(sol.chambers_full),
@@ -207,6 +211,42 @@ def solve_full(req: CycleRequest) -> Solved:
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
         )
     return Solved(out, built, model, sol)
+
+
+def uncertainty(req: CycleRequest, built: Built, sol) -> dict | None:
+    """The best cycle over resistance ± one standard error (each of alpha and R_m, all corners).
+
+    A plain corner check, not a statistical interval: it shows how far the lab fit's scatter
+    moves the answer. A lower bound at or below zero is left out (and said so).
+    """
+    se_a, se_r = req.cake.resistance_stderr, req.medium_resistance_stderr
+    if not se_a and not se_r:
+        return None
+    f = built.case.filtration
+    alphas = [f.resistance_ref + d * (se_a or 0.0) for d in (-1, 1)]
+    meds = [f.medium_resistance + d * (se_r or 0.0) for d in (-1, 1)]
+    notes = []
+    if alphas[0] <= 0:
+        alphas, notes = alphas[1:], notes + ["alpha minus its standard error is not positive and was left out"]
+    if meds[0] < 0:
+        meds, notes = meds[1:] + [0.0], notes + ["the cloth resistance's lower bound is taken as 0"]
+    cases = []
+    for a in alphas:
+        for r in meds:
+            variant = replace(f, resistance_ref=a, medium_resistance=r)
+            c = built.case
+            cases.append(solver.solve_cycle(solver.PressCase(variant, c.press, c.feed, c.cycle), built.end,
+                                            with_curves=False).best)
+    cases.append(sol.best)
+
+    def span(key):
+        values = [getattr(b, key) for b in cases]
+        return [min(values), max(values)]
+
+    basis = "best cycle at resistance and cloth resistance each one standard error below and above"
+    return {"filtrate_throughput": span("filtrate_throughput"), "solids_throughput": span("solids_throughput"),
+            "filtration_time": span("filtration_time"), "cycle_time": span("cycle_time"),
+            "basis": basis + ("; " + "; ".join(notes) if notes else "")}
 
 
 def first_non_finite(obj, path="") -> str | None:

@@ -84,6 +84,8 @@ GROUPS = [
     Group("cake", "Cake", [
         F("cake.resistance", "Specific cake resistance α", "specific_resistance",
           "from your lab test; 1e9 free-draining to 1e14 m/kg for slimes"),
+        F("cake.resistance_stderr", "… its standard error", "specific_resistance",
+          "optional, from the lab fit: shows how far the answer moves", optional=True),
         F("cake.reference_pressure", "… measured at", "pressure",
           "the test pressure of α; needed when s > 0", optional=True),
         F("cake.compressibility", "Compressibility s", "ratio", "0 incompressible; 0.1–0.9 compressible", optional=True),
@@ -98,6 +100,8 @@ GROUPS = [
     Group("cloth", "Cloth", [
         F("medium_resistance", "Cloth resistance R_m", "medium_resistance",
           "from your lab test; typically 1e9–1e12 1/m; 0 neglects the cloth"),
+        F("medium_resistance_stderr", "… its standard error", "medium_resistance",
+          "optional, from the lab fit", optional=True),
     ]),
     Group("press", "Press", [
         Choice("press.geometry", "Press given as", [

@@ -247,3 +247,24 @@ def test_oversized_request_body_is_a_413(client):
     r = client.post("/api/v1/cycle", content=b"{" + b" " * 3_000_000 + b"}", headers={"content-type": "application/json"})
     assert r.status_code == 413
     assert "larger than" in r.json()["detail"]
+
+
+def test_standard_errors_give_a_range_around_the_best_cycle(client, base_request):
+    assert post(client, base_request).json()["uncertainty"] is None
+    base_request["cake"]["resistance_stderr"] = "1e10 m/kg"
+    base_request["medium_resistance_stderr"] = "5e9 1/m"
+    base_request["press"]["chamber_thickness"] = 0.3  # optimum-limited
+    data = post(client, base_request).json()
+    lo, hi = data["uncertainty"]["filtrate_throughput"]
+    assert lo < data["best"]["filtrate_throughput"] < hi
+    # the high end is the cycle with both resistances one standard error lower
+    low_res = dict(base_request, cake={**base_request["cake"], "resistance": 0.9e11}, medium_resistance=4.5e10)
+    low_res["cake"].pop("resistance_stderr")
+    low_res.pop("medium_resistance_stderr")
+    assert hi == pytest.approx(post(client, low_res).json()["best"]["filtrate_throughput"], rel=1e-12)
+
+
+def test_a_standard_error_larger_than_the_value_is_said_so(client, base_request):
+    base_request["cake"]["resistance_stderr"] = "2e11 m/kg"
+    data = post(client, base_request).json()
+    assert "left out" in data["uncertainty"]["basis"]

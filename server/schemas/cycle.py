@@ -60,6 +60,9 @@ class CakeIn(Strict):
         "specific_resistance", ge=1e5, le=1e17,
         description="Average specific cake resistance at the reference pressure",
     ) = Field(description="alpha_ref [m/kg]")
+    resistance_stderr: quantity(
+        "specific_resistance", ge=0.0, le=1e17, description="Standard error of resistance, e.g. from a lab fit"
+    ) | None = None
     reference_pressure: Pressure | None = Field(
         None, description="Pressure at which resistance applies [Pa]; needed when compressibility > 0"
     )
@@ -195,6 +198,9 @@ class CycleRequest(Strict):
     medium_resistance: quantity(
         "medium_resistance", ge=0.0, le=1e15, description="Filter medium (cloth) resistance R_m; 0 neglects it"
     ) = Field(description="[1/m]")
+    medium_resistance_stderr: quantity(
+        "medium_resistance", ge=0.0, le=1e15, description="Standard error of medium_resistance"
+    ) | None = None
     press: PressIn
     feed: FeedIn
     cycle: CycleIn
@@ -269,8 +275,19 @@ class ThicknessOut(BaseModel):
     chambers_full: CycleOut
 
 
+class UncertaintyOut(BaseModel):
+    filtrate_throughput: tuple[float, float] = Field(description="Low and high best throughput [m³/s]")
+    solids_throughput: tuple[float, float] = Field(description="[kg/s]")
+    filtration_time: tuple[float, float] = Field(description="Shortest and longest best filtration time [s]")
+    cycle_time: tuple[float, float] = Field(description="[s]")
+    basis: str
+
+
 class CycleResponse(BaseModel):
     derived: DerivedOut
+    uncertainty: UncertaintyOut | None = Field(
+        None, description="Range of the best cycle over resistance ± its standard error (when given)"
+    )
     best: CycleOut
     unconstrained_optimum: CycleOut
     chambers_full: CycleOut

@@ -39,6 +39,7 @@ def test_fit_two_pressures_and_open_a_scenario_with_the_result(page):
     assert page.input_value("#f-cake-resistance").startswith("1.3")  # alpha_ref at 1 bar, about 1.35e11
     assert page.locator("select[name='cake.reference_pressure@unit']").input_value() == "bar"
     assert page.input_value("#f-cake-compressibility").startswith("0.2")
+    assert page.input_value("#f-medium_resistance_stderr") != ""  # the spread of the two tests' R_m
     clean(page)
 
 
