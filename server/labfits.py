@@ -78,7 +78,7 @@ def fit_request(req: LabFitRequest) -> dict:
             "intercept": fit.intercept, "intercept_stderr": fit.intercept_stderr, "r_squared": fit.r_squared,
             "resistance": fit.resistance, "resistance_stderr": fit.resistance_stderr,
             "medium_resistance": fit.medium_resistance, "medium_resistance_stderr": fit.medium_resistance_stderr,
-            "points_used": fit.points_used, "region": fit.region,
+            "points_used": fit.points_used, "residuals": [float(r) for r in fit.residuals], "region": fit.region,
             "readings": [[float(a), float(b)] for a, b in readings],
             "line": {
                 "index": fit.indices, "x": [float(v) for v in fit.x], "y": [float(v) for v in fit.y],

@@ -41,6 +41,7 @@ def test_one_test_gives_the_printed_resistances_and_the_fields(client):
     assert t["resistance"] == pytest.approx(1.863e11, rel=0.01)
     assert t["medium_resistance"] == pytest.approx(10.63e10, rel=0.01)
     assert t["points_used"] == list(range(1, 10))
+    assert len(t["residuals"]) == 9 and abs(sum(t["residuals"])) < 1e-6 * t["intercept"]
     assert data["compressibility"] is None
     assert data["for_cycle"]["cake"]["reference_pressure"] == pytest.approx(338e3)
     assert any("One pressure" in w for w in data["warnings"])

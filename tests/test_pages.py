@@ -93,3 +93,12 @@ def test_vendor_plotly_and_every_page_load_locally(client):
         assert page.status_code == 200, path
         for url in re.findall(r'(?:src|href)="([^"]+)"', page.text):
             assert not re.match(r"^(https?:)?//", url), (path, url)
+
+
+def test_static_files_are_hashed_cached_and_kept_inside_their_folder(client):
+    html = client.get("/").text
+    css = re.search(r'href="(/static/css/app\.css\?v=[0-9a-f]{12})"', html).group(1)
+    r = client.get(css)
+    assert r.status_code == 200 and "immutable" in r.headers["cache-control"]
+    for escape in ("/static/../server/app.py", "/static/%2e%2e/server/app.py", "/static/..%2fserver/app.py"):
+        assert client.get(escape).status_code == 404, escape

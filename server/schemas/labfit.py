@@ -95,6 +95,7 @@ class TestOut(BaseModel):
     medium_resistance: float = Field(description="R_m [1/m]")
     medium_resistance_stderr: float | None = Field(description="[1/m]")
     points_used: list[int] = Field(description="0-based indices of the readings in the fit")
+    residuals: list[float] = Field(description="Measured minus fitted t/V of the readings used [s/m³]")
     region: str = Field(description="How the readings were chosen")
     readings: list[tuple[float, float]] = Field(description="[t s, V m³] as read")
     line: dict = Field(description="x = V + V0 [m³], y = (t - t0)/(V - V0) [s/m³], used, fitted y")
