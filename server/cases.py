@@ -70,7 +70,8 @@ RESULT_UNITS = {
     "filter_area": "m^2", "chamber_volume": "m^3", "chambers_full_volume": "m^3",
     "cake_constant": "s/m^6", "medium_constant": "s/m^3", "matched_chamber_thickness": "m",
     "throughput_gain_unconstrained": "1", "throughput_ratio_to_best": "1", "time": "s",
-    "pressure": "Pa", "flow": "m^3/s",
+    "pressure": "Pa", "flow": "m^3/s", "required": "kg/s or m^3/s", "achieved": "kg/s or m^3/s",
+    "hours_per_day": "h",
 }
 
 
@@ -191,6 +192,7 @@ def solve_full(req: CycleRequest) -> Solved:
     out = {
         "derived": derived,
         "uncertainty": uncertainty(req, built, sol),
+        "target": target_check(req, sol),
         "best": _cycle_dict(sol.best),
         "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
         "chambers_full": _cycle_dict(sol.chambers_full),
@@ -211,6 +213,19 @@ def solve_full(req: CycleRequest) -> Solved:
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
         )
     return Solved(out, built, model, sol)
+
+
+def target_check(req: CycleRequest, sol) -> dict | None:
+    """Does the press meet the production target at its best cycle, and how many presses would?"""
+    t = req.target
+    if t is None:
+        return None
+    key = "solids_throughput" if t.solids_throughput is not None else "filtrate_throughput"
+    required = getattr(t, key)
+    achieved = getattr(sol.best, key) * t.hours_per_day / 24.0
+    ratio = achieved / required
+    return {"quantity": key, "required": required, "achieved": achieved, "ratio": ratio, "meets": ratio >= 1.0,
+            "presses_needed": max(1, math.ceil(required / achieved * (1 - 1e-12))), "hours_per_day": t.hours_per_day}
 
 
 def uncertainty(req: CycleRequest, built: Built, sol) -> dict | None:

@@ -25,6 +25,7 @@ UNIT_CHOICES = {
     "temperature": [("°C", "degC"), ("°F", "degF"), ("K", "K")],
     "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("m³/s", "m^3/s")],
     "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
+    "mass_rate": [("t/day", "t/day"), ("t/h", "t/h"), ("kg/h", "kg/h"), ("short ton/day", "ton/day")],
 }
 
 
@@ -151,6 +152,17 @@ GROUPS = [
             ("pressure", "a terminal pressure", [F("cycle.end.pressure", "Terminal pressure", "pressure",
                                                    "for pump feeds whose pressure rises")]),
         ]),
+    ]),
+    Group("target", "Production target", [
+        Choice("target.basis", "Check against", [
+            ("none", "no target", []),
+            ("solids", "dry solids", [F("target.solids_throughput", "Required dry solids", "mass_rate",
+                                        "averaged over the day")]),
+            ("filtrate", "filtrate", [F("target.filtrate_throughput", "Required filtrate", "flow",
+                                        "averaged over the day")]),
+        ]),
+        F("target.hours_per_day", "Press running hours per day", "ratio",
+          "availability after maintenance and stops; blank: 24 h", optional=True),
     ]),
     Group("compare", "Compare", [
         F("compare_thicknesses", "Chamber thicknesses to compare", "length_list", "e.g. 25, 32, 40", optional=True),

@@ -40,6 +40,7 @@ KINDS = {
         Kind("flow", "m**3/s", "m³/s"),
         Kind("flux", "m/s", "m³/(m²·s)"),
         Kind("mass", "kg", "kg"),
+        Kind("mass_rate", "kg/s", "kg/s"),
     ]
 }
 
@@ -142,6 +143,7 @@ _EXAMPLES = {
     "flow": '"30 m^3/h" or "120 gpm"',
     "flux": '"150 L/(m^2*h)"',
     "mass": '"12 kg" or "25 lb"',
+    "mass_rate": '"120 t/day" or "5 t/h"',
 }
 
 

@@ -268,3 +268,23 @@ def test_a_standard_error_larger_than_the_value_is_said_so(client, base_request)
     base_request["cake"]["resistance_stderr"] = "2e11 m/kg"
     data = post(client, base_request).json()
     assert "left out" in data["uncertainty"]["basis"]
+
+
+def test_production_target_is_checked_and_presses_counted(client, base_request):
+    best = post(client, base_request).json()["best"]
+    per_day = best["solids_throughput"] * 86400 / 1000  # t/day at 24 h
+    base_request["target"] = {"solids_throughput": f"{2.5 * per_day * 20 / 24} t/day", "hours_per_day": 20}
+    t = post(client, base_request).json()["target"]
+    assert t["quantity"] == "solids_throughput" and not t["meets"]
+    assert t["ratio"] == pytest.approx(0.4)
+    assert t["presses_needed"] == 3
+    base_request["target"] = {"filtrate_throughput": f"{0.5 * best['filtrate_throughput'] * 3600} m^3/h"}
+    t = post(client, base_request).json()["target"]
+    assert t["meets"] and t["presses_needed"] == 1 and t["ratio"] == pytest.approx(2.0)
+
+
+def test_a_target_needs_exactly_one_quantity(client, base_request):
+    base_request["target"] = {"hours_per_day": 20}
+    assert "give one of" in errors_of(post(client, base_request))["target"]
+    base_request["target"] = {"solids_throughput": "10 t/day", "hours_per_day": 30}
+    assert "at most 24" in errors_of(post(client, base_request))["target.hours_per_day"]

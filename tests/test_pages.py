@@ -102,3 +102,9 @@ def test_static_files_are_hashed_cached_and_kept_inside_their_folder(client):
     assert r.status_code == 200 and "immutable" in r.headers["cache-control"]
     for escape in ("/static/../server/app.py", "/static/%2e%2e/server/app.py", "/static/..%2fserver/app.py"):
         assert client.get(escape).status_code == 404, escape
+
+
+def test_demo_concentrate_case_checks_its_production_target():
+    r = _solve("copper_concentrate")
+    assert r["target"]["quantity"] == "solids_throughput" and r["target"]["hours_per_day"] == 22
+    assert not r["target"]["meets"] and r["target"]["presses_needed"] == 2

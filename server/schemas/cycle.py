@@ -192,6 +192,23 @@ class CycleIn(Strict):
     end: EndIn = Field(default_factory=lambda: EndIn(), description="How filtration ends; default: best")
 
 
+class TargetIn(Strict):
+    solids_throughput: quantity(
+        "mass_rate", gt=0.0, le=1e4, description="Required dry solids, averaged over the day"
+    ) | None = None
+    filtrate_throughput: quantity(
+        "flow", gt=0.0, le=100.0, description="Required filtrate, averaged over the day"
+    ) | None = None
+    hours_per_day: quantity(
+        "fraction", gt=0.0, le=24.0, description="Hours a day the press runs (availability)"
+    ) = Field(24.0, description="[h/day]; default 24")
+
+    @model_validator(mode="after")
+    def _one(self):
+        _exactly_one(self, ("solids_throughput", "filtrate_throughput"))
+        return self
+
+
 class CycleRequest(Strict):
     slurry: SlurryIn
     cake: CakeIn
@@ -207,6 +224,7 @@ class CycleRequest(Strict):
     compare_thicknesses: list[Length] = Field(
         default_factory=list, max_length=50, description="Chamber thicknesses to compare [m]"
     )
+    target: TargetIn | None = Field(None, description="A production target to check the press against")
 
 
 # ---- responses -------------------------------------------------------------------
@@ -283,7 +301,18 @@ class UncertaintyOut(BaseModel):
     basis: str
 
 
+class TargetOut(BaseModel):
+    quantity: Literal["solids_throughput", "filtrate_throughput"]
+    required: float = Field(description="Required, averaged over the day [kg/s or m³/s]")
+    achieved: float = Field(description="This press at its best cycle, averaged over the day [kg/s or m³/s]")
+    ratio: float = Field(description="achieved / required [-]")
+    meets: bool
+    presses_needed: int = Field(description="Presses like this one that meet the target")
+    hours_per_day: float = Field(description="[h]")
+
+
 class CycleResponse(BaseModel):
+    target: TargetOut | None = None
     derived: DerivedOut
     uncertainty: UncertaintyOut | None = Field(
         None, description="Range of the best cycle over resistance ± its standard error (when given)"
