@@ -42,13 +42,16 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
         "parent": parent,
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
         "state": prefill(inputs), "plotly_url": f"/vendor/plotly.min.js?v={plotly.__version__}",
-        "initial_html": None, "initial_figures": None,
+        "initial_html": None, "initial_figures": None, "initial_error": None,
     }
     if solve:
         try:
             solved = solve_full(CycleRequest.model_validate(inputs))
         except (InputError, ValueError):
-            solved = None  # the page still opens; Calculate shows what is wrong
+            solved = None  # the page still opens; Calculate marks what is wrong at the fields
+            context["initial_error"] = (
+                "These inputs do not solve as they stand: press Calculate to see what to correct."
+            )
         if solved is not None:
             u = Units("si")
             context["initial_html"] = _templates(request).get_template("_results.html").render(
