@@ -29,6 +29,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         title="presscycle",
         version=SOLVER_VERSION,
         description="Batch filter press cycles from lab filtration data. Quantities accept units.",
+        # FastAPI's own /docs and /redoc load their scripts from a CDN; the plant intranet has
+        # none, so /api renders the OpenAPI schema itself.
+        docs_url=None,
+        redoc_url=None,
     )
     templates = Jinja2Templates(directory=PROJECT_ROOT / "templates")
     register_filters(templates.env, PROJECT_ROOT / "static")

@@ -88,7 +88,7 @@ def test_demo_pump_fed_case_ends_on_the_flow_threshold():
 def test_vendor_plotly_and_every_page_load_locally(client):
     r = client.get("/vendor/plotly.min.js")
     assert r.status_code == 200 and len(r.content) > 1_000_000
-    for path in ("/scenario/new", "/lab", "/scenarios", "/favicon.ico"):
+    for path in ("/scenario/new", "/lab", "/scenarios", "/api", "/favicon.ico"):
         page = client.get(path)
         assert page.status_code == 200, path
         for url in re.findall(r'(?:src|href)="([^"]+)"', page.text):
@@ -108,3 +108,11 @@ def test_demo_concentrate_case_checks_its_production_target():
     r = _solve("copper_concentrate")
     assert r["target"]["quantity"] == "solids_throughput" and r["target"]["hours_per_day"] == 22
     assert not r["target"]["meets"] and r["target"]["presses_needed"] == 2
+
+
+def test_api_page_describes_every_route_without_a_cdn(client):
+    html = client.get("/api").text
+    for path in ("/api/v1/cycle", "/api/v1/lab-fit", "/api/v1/scenarios"):
+        assert path in html
+    assert "CycleRequest" in html and "medium_resistance" in html
+    assert client.get("/docs").status_code == 404  # FastAPI's viewer would load from a CDN

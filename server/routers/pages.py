@@ -77,6 +77,20 @@ def new_scenario(request: Request, prefill: str = Query("", max_length=4000)):
                        "every field takes the unit you choose.", inputs, solve=False)
 
 
+@router.get("/api", response_class=HTMLResponse)
+def api_page(request: Request):
+    """The JSON API described from its own OpenAPI schema (no CDN-hosted viewer)."""
+    schema = request.app.openapi()
+    routes = []
+    for path, methods in schema["paths"].items():
+        for method, op in methods.items():
+            body = op.get("requestBody", {}).get("content", {}).get("application/json", {}).get("schema", {})
+            routes.append({"method": method.upper(), "path": path, "summary": op.get("summary", ""),
+                           "description": op.get("description", ""), "body": body.get("$ref", "").rsplit("/", 1)[-1]})
+    models = schema.get("components", {}).get("schemas", {})
+    return _templates(request).TemplateResponse(request, "api.html", {"routes": routes, "models": models})
+
+
 @router.get("/lab", response_class=HTMLResponse)
 def lab_page(request: Request):
     return _templates(request).TemplateResponse(request, "lab.html", {
