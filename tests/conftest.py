@@ -8,6 +8,12 @@ import pytest
 os.environ.setdefault("PRESSCYCLE_DB", os.path.join(tempfile.mkdtemp(prefix="presscycle-test-"), "test.sqlite3"))
 
 from fastapi.testclient import TestClient  # noqa: E402
+from hypothesis import settings  # noqa: E402
+
+# CI runs the same examples every time (a red CI must be reproducible); locally they vary.
+settings.register_profile("ci", derandomize=True, print_blob=True)
+if os.environ.get("CI", "").lower() == "true":
+    settings.load_profile("ci")
 
 from server.app import create_app  # noqa: E402
 

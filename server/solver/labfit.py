@@ -220,7 +220,13 @@ def evaluate_test(test: LabTest) -> TestFit:
     if after.size < MIN_POINTS:
         raise SolverInputError("points", f"need at least {MIN_POINTS} readings after the start; got {after.size}")
     x = V[after] + test.start_volume
-    y = (t[after] - test.start_time) / (V[after] - test.start_volume)
+    with np.errstate(over="ignore", divide="ignore"):
+        y = (t[after] - test.start_time) / (V[after] - test.start_volume)
+    if not np.all(np.isfinite(y)):
+        k = int(after[np.nonzero(~np.isfinite(y))[0][0]])
+        raise SolverInputError(
+            "points", f"reading {k + 1} has too little filtrate after the start for t/V to be computed"
+        )
 
     if test.use is None:
         first, last, region = choose_region(x, y)
@@ -310,7 +316,8 @@ def combine_tests(pressures, resistances, medium_resistances, reference_pressure
         )
     fit = fit_line(np.log(P / reference_pressure), np.log(alpha))
     s = fit.slope
-    alpha_ref = float(np.exp(fit.intercept))
+    with np.errstate(over="ignore"):
+        alpha_ref = float(np.exp(fit.intercept))  # inf is caught by the edge's finite check
     if s < 0:
         warnings.append(
             f"The compressibility comes out negative (s = {s:.3f}): resistance should not fall as pressure "
