@@ -47,6 +47,7 @@ FIELD_PATHS = {
     "end.pressure": ("body", "cycle", "end", "pressure"),
     "downtime": ("body", "cycle", "downtime"),
     "wash_ratio": ("body", "cycle", "wash_ratio"),
+    "wash_basis": ("body", "cycle", "wash_basis"),
     "washing": ("body", "cycle", "washing"),
     "wash_pressure": ("body", "cycle", "wash_pressure"),
     "wash_viscosity": ("body", "cycle", "wash_viscosity"),
@@ -125,12 +126,12 @@ def _build(req: CycleRequest) -> Built:
     filtration = solver.Filtration(
         solids_per_filtrate=c, cake_volume_ratio=v, wet_to_dry_ratio=m, viscosity=mu,
         resistance_ref=k.resistance, reference_pressure=p_ref,
-        compressibility=k.compressibility, medium_resistance=req.medium_resistance,
+        compressibility=k.compressibility, medium_resistance=req.medium_resistance, porosity=eps,
     )
     cyc = req.cycle
     settings = solver.CycleSettings(
         downtime=cyc.downtime, wash_ratio=cyc.wash_ratio, washing=cyc.washing,
-        wash_pressure=cyc.wash_pressure, wash_viscosity=cyc.wash_viscosity,
+        wash_pressure=cyc.wash_pressure, wash_viscosity=cyc.wash_viscosity, wash_basis=cyc.wash_basis,
     )
     e = cyc.end
     end = solver.EndCriterion(e.criterion, e.time, e.flow, e.flow_per_area, e.flow_fraction, e.pressure)

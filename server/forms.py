@@ -22,6 +22,8 @@ UNIT_CHOICES = {
     "fraction": [("%", "%"), ("fraction", "")],
     "ratio": [("–", "")],
     "count": [("–", "")],
+    "washing": [("–", "")],
+    "wash_basis": [("–", "")],
     "temperature": [("°C", "degC"), ("°F", "degF"), ("K", "K")],
     "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("m³/s", "m^3/s")],
     "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
@@ -136,7 +138,8 @@ GROUPS = [
     ]),
     Group("cycle", "Cycle", [
         F("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically 10–60 min"),
-        F("cycle.wash_ratio", "Wash ratio", "ratio", "wash volume / filtrate volume; 0 = no washing", optional=True),
+        F("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below; 0 = no washing", optional=True),
+        F("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
         F("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
         F("cycle.wash_pressure", "Wash pressure", "pressure", "blank: the filtration pressure", optional=True),
         F("cycle.wash_viscosity", "Wash liquid viscosity", "viscosity", "blank: the filtrate's", optional=True),
@@ -260,6 +263,8 @@ def _fill(values: dict, f: F, inputs: dict, chosen: bool) -> None:
         values[f.path] = (", ".join(_num(L, "length") for L in Ls), "mm")
     elif f.kind == "washing":
         values[f.path] = (raw or "through", "")
+    elif f.kind == "wash_basis":
+        values[f.path] = (raw or "filtrate", "")
     else:
         values[f.path] = split_quantity(raw, f.kind) if raw is not None else ("", f.units[0][1])
 

@@ -288,3 +288,12 @@ def test_a_target_needs_exactly_one_quantity(client, base_request):
     assert "give one of" in errors_of(post(client, base_request))["target"]
     base_request["target"] = {"solids_throughput": "10 t/day", "hours_per_day": 30}
     assert "at most 24" in errors_of(post(client, base_request))["target.hours_per_day"]
+
+
+def test_wash_ratio_by_cake_pore_volumes(client, base_request):
+    base_request["cycle"].update(wash_ratio=2.0, wash_basis="cake_pores")
+    data = post(client, base_request).json()
+    d, b = data["derived"], data["best"]
+    assert b["wash_volume"] == pytest.approx(2.0 * d["porosity"] * d["cake_volume_ratio"] * b["filtrate_volume"])
+    base_request["cycle"]["wash_basis"] = "bed volumes"
+    assert "cycle.wash_basis" in errors_of(post(client, base_request))

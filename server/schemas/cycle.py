@@ -183,7 +183,12 @@ class CycleIn(Strict):
     downtime: quantity(
         "time", ge=1.0, le=1e6, description="Open, discharge, clean, close per cycle"
     ) = Field(description="[s]")
-    wash_ratio: quantity("fraction", ge=0.0, le=100.0, description="Wash volume / filtrate volume") = 0.0
+    wash_ratio: quantity(
+        "fraction", ge=0.0, le=100.0, description="Wash volume per filtrate volume (or per cake pore volume)"
+    ) = 0.0
+    wash_basis: Literal["filtrate", "cake_pores"] = Field(
+        "filtrate", description="What wash_ratio counts: filtrate volumes, or cake pore volumes (displacement washes)"
+    )
     washing: Literal["through", "simple"] = Field(
         "through", description="through: wash rate 1/4 of final rate; simple: equal to it"
     )

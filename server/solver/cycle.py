@@ -37,7 +37,8 @@ class CycleSettings:
     downtime : float
         Open, discharge, clean, close and other fixed steps per cycle [s], > 0.
     wash_ratio : float
-        Wash volume / filtrate volume [-], >= 0.
+        Wash volume per filtrate volume, or per cake pore volume with wash_basis
+        "cake_pores" [-], >= 0.
     washing : str
         "through" (wash rate 1/4 of the final filtration rate) or "simple" (equal).
     wash_pressure : float or None
@@ -51,6 +52,7 @@ class CycleSettings:
     washing: str = "through"
     wash_pressure: float | None = None
     wash_viscosity: float | None = None
+    wash_basis: str = "filtrate"
 
     def __post_init__(self):
         if not self.downtime > 0.0:
@@ -60,6 +62,8 @@ class CycleSettings:
         if not self.wash_ratio >= 0.0:
             raise SolverInputError("wash_ratio", f"must be >= 0; got {self.wash_ratio:.6g}")
         wash_rate_divisor(self.washing)
+        if self.wash_basis not in ("filtrate", "cake_pores"):
+            raise SolverInputError("wash_basis", f"must be 'filtrate' or 'cake_pores'; got {self.wash_basis!r}")
         for name in ("wash_pressure", "wash_viscosity"):
             value = getattr(self, name)
             if value is not None and not value > 0.0:
@@ -167,6 +171,7 @@ class CurveCycle:
 
     def __init__(self, filtration: Filtration, filter_area: float, feed, cycle: CycleSettings, V_needed: float):
         self.filtration, self.filter_area, self.feed, self.cycle = filtration, filter_area, feed, cycle
+        self.wash_per_filtrate = self._wash_per_filtrate()
         self.curve = feed.curve(filtration, filter_area, 4.0 * V_needed)
         self.V_star = self._optimum_volume(V_needed)
         # A tabulated curve must reach well past the optimum; extend it when it does not.
@@ -177,14 +182,23 @@ class CurveCycle:
             self.curve = feed.curve(filtration, filter_area, 4.0 * self.V_star)
             self.V_star = self._optimum_volume(V_needed)
 
+    def _wash_per_filtrate(self) -> float:
+        """Wash volume per filtrate volume [-]: the wash ratio itself, or ratio x cake pores."""
+        c, f = self.cycle, self.filtration
+        if c.wash_basis == "filtrate" or c.wash_ratio == 0.0:
+            return c.wash_ratio
+        if f.porosity is None:
+            raise SolverInputError("wash_basis", "washing by cake pore volumes needs the cake porosity")
+        return c.wash_ratio * f.porosity * f.cake_volume_ratio  # pore volume = porosity x cake volume
+
     def wash_time(self, V):
         c = self.cycle
-        if c.wash_ratio == 0.0:
+        if self.wash_per_filtrate == 0.0:
             return np.zeros_like(np.asarray(V, dtype=float)) if np.ndim(V) else 0.0
         final_pressure = self.curve.pressure_at(V)
         mu = self.filtration.viscosity
         return wash_time(
-            c.wash_ratio * V, self.curve.rate(V), c.washing, mu, c.wash_viscosity or mu,
+            self.wash_per_filtrate * V, self.curve.rate(V), c.washing, mu, c.wash_viscosity or mu,
             final_pressure, c.wash_pressure if c.wash_pressure is not None else final_pressure,
         )
 
@@ -198,7 +212,7 @@ class CurveCycle:
             c, mu = self.cycle, self.filtration.viscosity
             p = self.curve.pressure
             p_w = c.wash_pressure if c.wash_pressure is not None else p
-            a = wash_rate_divisor(c.washing) * c.wash_ratio * ((c.wash_viscosity or mu) / mu) * (p / p_w)
+            a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu) * (p / p_w)
             return closed_form(c.downtime, a)
         return numeric_optimum_volume(self.throughput, V_scale)
 
@@ -212,7 +226,7 @@ class CurveCycle:
         c = self.filtration.solids_per_filtrate
         fill = float(press.chamber_fill(V, v))
         return CycleResult(
-            filtrate_volume=V, filtration_time=t_f, wash_volume=self.cycle.wash_ratio * V, wash_time=t_w,
+            filtrate_volume=V, filtration_time=t_f, wash_volume=self.wash_per_filtrate * V, wash_time=t_w,
             downtime=t_d, cycle_time=T, filtrate_throughput=V / T, solids_throughput=c * V / T,
             cake_thickness=float(press.cake_thickness(V, v)), chamber_fill=fill, dry_cake_mass=c * V,
             wet_cake_mass=self.filtration.wet_to_dry_ratio * c * V, final_rate=float(self.curve.rate(V)),

@@ -43,6 +43,8 @@ class Filtration:
         s [-], 0 <= s < 1.
     medium_resistance : float
         Cloth resistance R_m [1/m], >= 0.
+    porosity : float or None
+        Cake porosity [-], needed to wash by cake pore volumes.
     """
 
     solids_per_filtrate: float
@@ -53,6 +55,7 @@ class Filtration:
     reference_pressure: float
     compressibility: float
     medium_resistance: float
+    porosity: float | None = None
 
     def __post_init__(self):
         checks = {

@@ -199,3 +199,22 @@ def test_random_cases_are_finite_and_best_beats_every_feasible_volume(
     Q, _, _ = brute_force_throughput(case)
     grid = np.linspace(1e-6, 1.0, 400) * sol.chambers_full_volume
     assert sol.best.filtrate_throughput >= Q(grid).max() * (1 - 1e-9)
+
+
+def test_washing_by_cake_pore_volumes_equals_the_filtrate_basis_scaled():
+    # pore volume per filtrate volume = porosity x v, so r pore volumes = r eps v filtrate volumes
+    eps, v = 0.55, 0.15
+    base = make_case(v=v, L=0.3)
+    f = base.filtration.__class__(**{**base.filtration.__dict__, "porosity": eps})
+    pores = PressCase(f, base.press, base.feed, CycleSettings(1200.0, 3.0, "through", wash_basis="cake_pores"))
+    filt = PressCase(f, base.press, base.feed, CycleSettings(1200.0, 3.0 * eps * v, "through"))
+    a, b = solve_cycle(pores).best, solve_cycle(filt).best
+    assert a.wash_time == pytest.approx(b.wash_time, rel=1e-12)
+    assert a.wash_volume == pytest.approx(3.0 * eps * v * a.filtrate_volume, rel=1e-12)
+
+
+def test_washing_by_pore_volumes_needs_the_porosity():
+    base = make_case()
+    case = PressCase(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
+    with pytest.raises(SolverInputError, match="porosity"):
+        solve_cycle(case)
