@@ -19,9 +19,20 @@ def fmt(value, digits: int = 3) -> str:
     return f"{value:,.{decimals}f}"
 
 
+PLOTLY_URL = "/vendor/plotly.min.js"
+
+
+def plotly_url() -> str:
+    """plotly.js from the installed plotly package, versioned so browsers may cache it."""
+    import plotly
+
+    return f"{PLOTLY_URL}?v={plotly.__version__}"
+
+
 def register_filters(env, static_root) -> None:
     env.filters["fmt"] = fmt
     env.globals["static_url"] = StaticUrls(static_root)
+    env.globals["plotly_url"] = plotly_url
 
 
 class StaticUrls:

@@ -16,6 +16,7 @@ from ..errors import InputError
 from ..forms import GROUPS, UNIT_CHOICES, prefill
 from ..schemas.cycle import CycleRequest
 from ..settings import get_settings
+from ..views import PLOTLY_URL
 
 router = APIRouter(tags=["pages"], include_in_schema=False)
 PLOTLY_JS = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
@@ -41,7 +42,7 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
     context = {
         "parent": parent,
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
-        "state": prefill(inputs), "plotly_url": f"/vendor/plotly.min.js?v={plotly.__version__}",
+        "state": prefill(inputs),
         "initial_html": None, "initial_figures": None, "initial_error": None,
     }
     if solve:
@@ -94,7 +95,7 @@ def api_page(request: Request):
 @router.get("/lab", response_class=HTMLResponse)
 def lab_page(request: Request):
     return _templates(request).TemplateResponse(request, "lab.html", {
-        "unit_choices": UNIT_CHOICES, "plotly_url": f"/vendor/plotly.min.js?v={plotly.__version__}"})
+        "unit_choices": UNIT_CHOICES})
 
 
 @router.get("/demo/{slug}", response_class=HTMLResponse)
@@ -115,7 +116,7 @@ def _plotly_exists() -> bool:
     return PLOTLY_JS.is_file()
 
 
-@router.get("/vendor/plotly.min.js")
+@router.get(PLOTLY_URL)
 def plotly_js():
     """plotly.js from the installed plotly package: the intranet has no CDN."""
     if not _plotly_exists():

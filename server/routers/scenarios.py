@@ -124,7 +124,6 @@ def scenario_page(request: Request, sid: str, units: str = Query("si", pattern="
         "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
         "figures": figures(s.results["chart_series"], s.results, u), "changed": changed, "now": now,
         "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
-        "plotly_url": _plotly_url(),
     })
 
 
@@ -156,7 +155,7 @@ def compare_page(request: Request, ids: str = Query("", max_length=400), units: 
     rows = _input_rows(scenarios)
     return _templates(request).TemplateResponse(request, "compare.html", {
         "scenarios": scenarios, "rows": rows, "u": u, "units": units, "ids": ",".join(wanted),
-        "figures": overlay([(s.name, s.results) for s in scenarios], u), "plotly_url": _plotly_url(),
+        "figures": overlay([(s.name, s.results) for s in scenarios], u),
         "cautions": CAUTIONS,
     })
 
@@ -176,9 +175,3 @@ def _input_rows(scenarios):
     flat = [_flatten(s.inputs) for s in scenarios]
     keys = sorted({k for f in flat for k in f})
     return [(k, [f.get(k, "–") for f in flat], len({f.get(k, "–") for f in flat}) > 1) for k in keys]
-
-
-def _plotly_url() -> str:
-    import plotly
-
-    return f"/vendor/plotly.min.js?v={plotly.__version__}"
