@@ -1,7 +1,5 @@
 """From a validated /api/v1/lab-fit request to the solver's lab evaluation, and back."""
 
-import numpy as np
-
 from . import solver
 from .cases import first_non_finite, liquid_density
 from .errors import InputError
@@ -124,5 +122,3 @@ def fit_request(req: LabFitRequest) -> dict:
         raise InputError([(("body", "tests"), f"these readings give a result out of numeric range ({bad})")])
     return out
 
-
-__all__ = ["fit_request", "np"]

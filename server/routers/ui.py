@@ -12,7 +12,6 @@ from fastapi import APIRouter, Query, Request
 from ..cases import CAUTIONS, solve_full
 from ..charts import all_series, figures
 from ..display import Units
-from ..errors import InputError
 from ..labcharts import lab_figures
 from ..labfits import fit_request
 from ..schemas.cycle import CycleRequest
@@ -63,5 +62,3 @@ def post_lab_fit(request: Request, req: LabFitRequest) -> dict:
         {"r": result, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
     return {"html": html, "figures": figs, "result": result}
 
-
-__all__ = ["router", "InputError"]

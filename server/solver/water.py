@@ -4,8 +4,6 @@ Both correlations are valid for liquid water at about 0.1 MPa between 0 and 100 
 The tests compare them with the IAPWS formulations through the ``iapws`` package.
 """
 
-import numpy as np
-
 from .errors import SolverInputError
 
 T_MIN_K = 273.15
@@ -93,5 +91,3 @@ def water_density(T: float) -> float:
     a1, a2, a3, a4, a5 = -3.983035, 301.797, 522528.9, 69.34881, 999.974950
     return a5 * (1.0 - (theta + a1) ** 2 * (theta + a2) / (a3 * (theta + a4)))
 
-
-__all__ = ["water_viscosity", "water_density", "T_MIN_K", "T_MAX_K", "np"]
