@@ -19,7 +19,7 @@ $(VENV)/.installed-test: pyproject.toml | $(BIN)/python
 	touch $(VENV)/.installed $@
 
 run: $(VENV)/.installed
-	$(BIN)/uvicorn server.app:app --host $(HOST) --port $(PORT)
+	$(BIN)/uvicorn --factory server.app:create_app --host $(HOST) --port $(PORT)
 
 # Debian's Chromium for the browser tests (playwright drives it; its own browser download
 # does not work here). Installed when missing and we may install packages.

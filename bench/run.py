@@ -10,17 +10,17 @@ from pathlib import Path
 
 import numpy as np
 
-from server.cases import solve_request
 from server.schemas.cycle import CycleRequest
+from server.solve import solve_results
 from server.solver import (
     ConstantPressure,
     CycleSettings,
     Filtration,
     Press,
-    PressCase,
+    PressSystem,
     PumpCurve,
     compare_thicknesses,
-    curve_cycle_for,
+    cycle_family_for,
     solve_cycle,
 )
 
@@ -41,21 +41,21 @@ def timed(fn, repeat: int = 200) -> tuple[float, float]:
 def main() -> None:
     demo = json.loads((ROOT / "demo_cases" / "iron_oxide_pigment.json").read_text())["inputs"]
     request = CycleRequest.model_validate(demo)
-    med, best = timed(lambda: solve_request(request))
+    med, best = timed(lambda: solve_results(request))
     n = len(request.compare_thicknesses)
     print(f"constant-pressure cycle + {n}-thickness comparison (closed form): "
           f"median {med * 1e3:.3f} ms, best {best * 1e3:.3f} ms")
-    med_v, _ = timed(lambda: solve_request(CycleRequest.model_validate(demo)))
+    med_v, _ = timed(lambda: solve_results(CycleRequest.model_validate(demo)))
     print(f"  with request parsing and unit conversion: median {med_v * 1e3:.3f} ms")
 
     # Issue 3 target: a 2,000-point pump curve with a 6-thickness comparison under 20 ms (one core).
     case, thicknesses = pump_case()
-    cp_case = PressCase(case.filtration, case.press, ConstantPressure(case.feed.pressure_cap), case.cycle)
+    cp_case = PressSystem(case.filtration, case.press, ConstantPressure(case.feed.pressure_cap), case.cycle)
 
     def solve_both(c):  # as the API does: one curve for the case and its comparison
-        model = curve_cycle_for(c, thicknesses)
-        solve_cycle(c, model=model)
-        compare_thicknesses(c, thicknesses, model=model)
+        model = cycle_family_for(c, thicknesses)
+        solve_cycle(c, family=model)
+        compare_thicknesses(c, thicknesses, family=model)
 
     def pump_solve():
         solve_both(case)
@@ -76,7 +76,7 @@ def pump_case():
     q = np.linspace(0.0, 80.0 / 3600, 2000)
     p = 8e5 * (1.0 - (q / q[-1]) ** 2) + 0.5e5
     f = Filtration(150.0, 0.06, 2.6, 0.6e-3, 3e11, 5e5, 0.35, 1.5e11)
-    case = PressCase(f, Press(68.0, 0.025), PumpCurve(tuple(zip(q, p))), CycleSettings(2400.0, 1.0))
+    case = PressSystem(f, Press(68.0, 0.025), PumpCurve(tuple(zip(q, p))), CycleSettings(2400.0, 1.0))
     return case, [0.015, 0.02, 0.025, 0.032, 0.04, 0.05]
 
 

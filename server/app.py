@@ -1,4 +1,9 @@
-"""The ASGI app: ``server.app:app``, built by :func:`create_app`."""
+"""The ASGI app, built by :func:`create_app` (``uvicorn --factory server.app:create_app``).
+
+``server.app:app`` also works: the module builds the app from the environment's settings
+the first time ``app`` is asked for, never on import, so importing this module opens no
+database.
+"""
 
 from fastapi import FastAPI
 from fastapi.staticfiles import StaticFiles
@@ -7,7 +12,7 @@ from fastapi.templating import Jinja2Templates
 from . import errors
 from .limits import BodySizeLimit
 from .routers import cycle, labfit, pages, scenarios, ui
-from .settings import PROJECT_ROOT, Settings, get_settings
+from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
 from .storage import SqliteStore, StorageError
 from .views import register_filters
@@ -24,7 +29,8 @@ class CachedStatic(StaticFiles):
 
 
 def create_app(settings: Settings | None = None) -> FastAPI:
-    settings = settings or get_settings()
+    """The whole app for ``settings`` (default: from the environment, PRESSCYCLE_...)."""
+    settings = settings or Settings()
     app = FastAPI(
         title="presscycle",
         version=SOLVER_VERSION,
@@ -55,4 +61,10 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     return app
 
 
-app = create_app()
+def __getattr__(name: str):
+    # ``server.app:app`` for uvicorn without --factory: built on first use, not on import
+    if name == "app":
+        global app
+        app = create_app()
+        return app
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")

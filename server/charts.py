@@ -1,9 +1,9 @@
 """Plotly figures built server-side as plain figure dicts (data + layout), in display units.
 
-Two steps per chart: a *series* function computes the chart's data in SI from the solved
-case (these series are also saved with a scenario, so a saved link redraws exactly what was
-computed), and a *figure* function turns series plus the answer's marked cycles into a
-plotly figure in display units. Axis titles carry units; hover shows values with units.
+The solver computes every chart's data in SI (server/solver/sweeps.py; saved with a
+scenario, so a saved link redraws exactly what was computed); the functions here only turn
+those series and the results' marked cycles into plotly figures in display units. Nothing
+here computes a cycle: axis titles carry units, hover shows values with units.
 See DEVELOPERS.md, "Adding a chart".
 """
 
@@ -11,7 +11,6 @@ import html
 
 import numpy as np
 
-from . import solver
 from .display import Units
 
 COLORS = {"main": "#1f5f8b", "best": "#c2410c", "full": "#15803d", "end": "#7c3aed", "grey": "#6b7280"}
@@ -43,52 +42,10 @@ def _marker(name, x, y, color, symbol, hover, customdata=None):
     return m
 
 
-def _thickness_grid(L0: float, L_match: float, n: int = 120) -> np.ndarray:
-    lo = max(1e-3, 0.3 * min(L0, L_match))
-    hi = min(0.5, 2.5 * max(L0, L_match))
-    return np.unique(np.concatenate((np.linspace(lo, hi, n), [L0], [min(max(L_match, lo), hi)])))
-
-
-# ---- series (SI) ----------------------------------------------------------------------------
-
-
-def all_series(model: solver.CurveCycle, case: solver.PressCase, sol: solver.CycleSolution) -> dict:
-    """The data of every chart in SI, as plain lists."""
-    press, v = case.press, case.filtration.cake_volume_ratio
-    # 1: throughput against cycle / filtration time, past full chambers too
-    V_full = sol.chambers_full_volume
-    V_top = 1.6 * max(V_full, sol.unconstrained_optimum.filtrate_volume)
-    V = np.concatenate((np.geomspace(V_top * 1e-3, V_full, 150), np.linspace(V_full, V_top, 90)[1:]))
-    t_f = model.curve.time(V)
-    T = t_f + model.wash_time(V) + case.cycle.downtime
-    # 2: best throughput against chamber thickness
-    L = _thickness_grid(press.chamber_thickness, sol.matched_chamber_thickness)
-    V_best = np.minimum(model.V_star, press.fill_fraction * press.filter_area * L / (2 * v))
-    # 3: throughput map; the press stops at the set time or at full chambers, whichever first
-    Lm = L[::3]
-    t_top = 2.0 * max(sol.unconstrained_optimum.filtration_time, sol.chambers_full.filtration_time)
-    t = np.linspace(t_top / 80, t_top, 80)
-    V_fullm = press.fill_fraction * press.filter_area * Lm / (2 * v)
-    Q_map = model.throughput(np.minimum(model.curve.volume(t)[None, :], V_fullm[:, None]))
-    return {
-        "throughput_time": {"cycle_time": _list(T), "filtration_time": _list(t_f),
-                            "filtrate_throughput": _list(V / T),
-                            "feasible": [bool(x) for x in V <= V_full * (1 + 1e-12)]},
-        "throughput_thickness": {"chamber_thickness": _list(L), "filtrate_throughput": _list(model.throughput(V_best)),
-                                 "chamber_fill": _list(v * V_best / (0.5 * press.filter_area * L))},
-        "throughput_map": {"filtration_time": _list(t), "chamber_thickness": _list(Lm),
-                           "filtrate_throughput": [_list(row) for row in Q_map],
-                           "chambers_full_time": _list(model.curve.time(V_fullm))},
-        "filtration": {k: _list(x) for k, x in sol.curves.items()},
-        "pump_fed": not isinstance(case.feed, solver.ConstantPressure),
-        "chamber_thickness": press.chamber_thickness,
-    }
-
-
 # ---- figures (display units) ----------------------------------------------------------------
 
 
-def throughput_vs_time(s: dict, r: dict, u: Units) -> dict:
+def throughput_vs_time(s: dict, results: dict, u: Units) -> dict:
     """Chart 1: filtrate throughput against cycle time (button: against filtration time)."""
     T, t_f, Q = np.array(s["cycle_time"]), np.array(s["filtration_time"]), np.array(s["filtrate_throughput"])
     feasible = np.array(s["feasible"], dtype=bool)
@@ -104,11 +61,11 @@ def throughput_vs_time(s: dict, r: dict, u: Units) -> dict:
 
     traces = [line(feasible, "cake fits the chambers", "solid"),
               line(~feasible, "chambers overfull (not possible)", "dot")]
-    points = [("unconstrained optimum", r["unconstrained_optimum"], COLORS["best"], "star"),
-              ("chambers full", r["chambers_full"], COLORS["full"], "square"),
-              ("best feasible", r["best"], COLORS["best"], "circle")]
-    end = r["at_end"]
-    if end["end_reason"] not in ("optimum", "chambers_full") or end["filtrate_volume"] != r["best"]["filtrate_volume"]:
+    points = [("unconstrained optimum", results["unconstrained_optimum"], COLORS["best"], "star"),
+              ("chambers full", results["chambers_full"], COLORS["full"], "square"),
+              ("best feasible", results["best"], COLORS["best"], "circle")]
+    end, best = results["at_end"], results["best"]
+    if end["end_reason"] not in ("optimum", "chambers_full") or end["filtrate_volume"] != best["filtrate_volume"]:
         points.append((f"end at {end['end_reason'].replace('_', ' ')}", end, COLORS["end"], "diamond"))
     for name, c, color, symbol in points:
         traces.append(_marker(name, u("time", c["cycle_time"]), u("flow", c["filtrate_throughput"]), color, symbol,
@@ -134,7 +91,7 @@ def throughput_vs_time(s: dict, r: dict, u: Units) -> dict:
     return {"data": traces, "layout": layout}
 
 
-def throughput_vs_thickness(s: dict, r: dict, L_press: float, u: Units) -> dict:
+def throughput_vs_thickness(s: dict, results: dict, L_press: float, u: Units) -> dict:
     """Chart 2: best throughput and chamber fill against chamber thickness."""
     L = s["chamber_thickness"]
     t_label, q_label = u.label("thickness"), u.label("flow")
@@ -146,10 +103,10 @@ def throughput_vs_thickness(s: dict, r: dict, L_press: float, u: Units) -> dict:
          "x": u("thickness", L), "y": [100 * f for f in s["chamber_fill"]],
          "line": {"color": COLORS["full"], "dash": "dash"},
          "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} %<extra>chamber fill</extra>"},
-        _marker("this press", u("thickness", L_press), u("flow", r["best"]["filtrate_throughput"]),
+        _marker("this press", u("thickness", L_press), u("flow", results["best"]["filtrate_throughput"]),
                 COLORS["best"], "circle", f"%{{x:.3g}} {t_label}: %{{y:.3g}} {q_label}"),
     ]
-    Lm = u("thickness", r["derived"]["matched_chamber_thickness"])
+    Lm = u("thickness", results["derived"]["matched_chamber_thickness"])
     layout = {
         **BASE_LAYOUT,
         "title": {"text": "Best throughput against chamber thickness"},
@@ -166,7 +123,7 @@ def throughput_vs_thickness(s: dict, r: dict, L_press: float, u: Units) -> dict:
     return {"data": traces, "layout": layout}
 
 
-def throughput_map(s: dict, r: dict, L_press: float, u: Units) -> dict:
+def throughput_map(s: dict, results: dict, L_press: float, u: Units) -> dict:
     """Chart 3: throughput over set filtration time x chamber thickness, with the chambers-full line."""
     t_label, L_label, q_label = u.label("time"), u.label("thickness"), u.label("flow")
     t = u("time", s["filtration_time"])
@@ -180,7 +137,7 @@ def throughput_map(s: dict, r: dict, L_press: float, u: Units) -> dict:
         {"type": "scatter", "mode": "lines", "name": "chambers full", "x": u("time", s["chambers_full_time"]),
          "y": u("thickness", s["chamber_thickness"]), "line": {"color": COLORS["full"], "width": 3},
          "hovertemplate": f"chambers full after %{{x:.3g}} {t_label} at %{{y:.3g}} {L_label}<extra></extra>"},
-        _marker("best for this press", u("time", r["best"]["filtration_time"]), u("thickness", L_press),
+        _marker("best for this press", u("time", results["best"]["filtration_time"]), u("thickness", L_press),
                 COLORS["best"], "star", f"%{{x:.3g}} {t_label}, %{{y:.3g}} {L_label}"),
     ]
     layout = {
@@ -193,8 +150,9 @@ def throughput_map(s: dict, r: dict, L_press: float, u: Units) -> dict:
     return {"data": traces, "layout": layout}
 
 
-def filtration_curves(c: dict, pump_fed: bool, u: Units) -> dict:
-    """Chart 4: filtrate volume and cake thickness against time; pressure and flow if pump-fed."""
+def filtration_curves(c: dict, pressure_varies: bool, u: Units) -> dict:
+    """Chart 4: filtrate volume and cake thickness against time; pressure and flow where the
+    feed's pressure varies (pumps, pressure stages)."""
     t = u("time", c["time"])
     t_label = u.label("time")
     traces = [
@@ -216,7 +174,7 @@ def filtration_curves(c: dict, pump_fed: bool, u: Units) -> dict:
         "yaxis2": _axis(f"Cake thickness per face ({u.label('thickness')})", overlaying="y", side="right",
                         rangemode="tozero", showgrid=False),
     }
-    if pump_fed:
+    if pressure_varies:
         layout["yaxis"]["domain"] = [0.55, 1.0]
         layout["yaxis2"]["domain"] = [0.55, 1.0]
         layout["xaxis2"] = _axis(f"Time since feeding began ({t_label})", anchor="y3")
@@ -238,14 +196,16 @@ def filtration_curves(c: dict, pump_fed: bool, u: Units) -> dict:
     return {"data": traces, "layout": layout}
 
 
-def figures(series: dict, answer: dict, u: Units) -> dict:
-    """All four charts from saved or fresh series and the API answer."""
+def figures(series: dict, results: dict, u: Units) -> dict:
+    """All four charts from saved or fresh chart series and the results."""
     L = series["chamber_thickness"]
+    # scenarios saved before the feed said so itself stored the same flag as "pump_fed"
+    pressure_varies = series.get("pressure_varies", series.get("pump_fed", False))
     return {
-        "throughput_time": throughput_vs_time(series["throughput_time"], answer, u),
-        "throughput_thickness": throughput_vs_thickness(series["throughput_thickness"], answer, L, u),
-        "throughput_map": throughput_map(series["throughput_map"], answer, L, u),
-        "filtration": filtration_curves(series["filtration"], series["pump_fed"], u),
+        "throughput_time": throughput_vs_time(series["throughput_time"], results, u),
+        "throughput_thickness": throughput_vs_thickness(series["throughput_thickness"], results, L, u),
+        "throughput_map": throughput_map(series["throughput_map"], results, L, u),
+        "filtration": filtration_curves(series["filtration"], pressure_varies, u),
     }
 
 

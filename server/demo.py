@@ -6,16 +6,16 @@ from pathlib import Path
 
 
 @dataclass(frozen=True)
-class DemoCase:
+class DemoScenario:
     slug: str
     name: str
     description: str
     inputs: dict
 
 
-def load_demo_cases(folder: Path) -> list[DemoCase]:
-    cases = []
+def load_demo_scenarios(folder: Path) -> list[DemoScenario]:
+    demos = []
     for path in sorted(Path(folder).glob("*.json")):
         data = json.loads(path.read_text(encoding="utf-8"))
-        cases.append(DemoCase(path.stem, data["name"], data["description"], data["inputs"]))
-    return cases
+        demos.append(DemoScenario(path.stem, data["name"], data["description"], data["inputs"]))
+    return demos

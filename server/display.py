@@ -7,10 +7,13 @@ the same pint registry as the input parser.
 
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import Literal
 
 from .units import registry
 
 SYSTEMS = ("si", "us")
+#: The ``units`` query parameter of pages that show results.
+UnitSystem = Literal["si", "us"]
 
 
 @dataclass(frozen=True)

@@ -2,6 +2,9 @@
 
 422 bodies are {"detail": [{"loc": [...], "field": "a.b", "msg": "...", "type": "..."}]}
 with plain-language messages; no traceback or exception text ever reaches the client.
+Every mistake is worded by :func:`clean` whichever route meets it: a request body checked by
+FastAPI, stored or imported inputs checked later (:meth:`InputError.from_validation`) and a
+bad query on an HTML page (rendered as the error page, with the same words).
 """
 
 import logging
@@ -9,6 +12,7 @@ import logging
 from fastapi import Request
 from fastapi.exceptions import RequestValidationError
 from fastapi.responses import JSONResponse
+from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
 from .schemas.cycle import FEED_MODES
@@ -22,6 +26,16 @@ class InputError(Exception):
     def __init__(self, errors: list[tuple[tuple, str]]):
         super().__init__("; ".join(m for _, m in errors))
         self.errors = errors
+
+    @classmethod
+    def from_validation(cls, exc: ValidationError, prefix: tuple = ("body",)) -> "InputError":
+        """A pydantic validation error of data checked after the request (stored or imported
+        inputs), its paths under ``prefix``, worded as every other 422."""
+        return cls([((*prefix, *c["loc"]), c["msg"]) for c in map(clean, exc.errors())])
+
+    def within(self, prefix: tuple) -> "InputError":
+        """The same errors, their paths moved under ``prefix`` (in place of the leading "body")."""
+        return InputError([((*prefix, *[p for p in loc if p != "body"]), msg) for loc, msg in self.errors])
 
 
 _PLAIN = {
@@ -37,7 +51,8 @@ def _field(loc) -> str:
     return ".".join(parts) if parts else "body"
 
 
-def _clean(err: dict) -> dict:
+def clean(err: dict) -> dict:
+    """One pydantic error in the app's words, with the path a person would write."""
     msg = _PLAIN.get(err.get("type"), err.get("msg", "invalid"))
     if msg.startswith("Value error, "):
         msg = msg[len("Value error, ") :]
@@ -47,15 +62,15 @@ def _clean(err: dict) -> dict:
 
 
 def _wants_json(request: Request) -> bool:
-    return request.url.path.startswith("/api/") or "application/json" in request.headers.get(
-        "accept", ""
-    )
+    """The JSON API and the pages' partial updates (/ui/) answer JSON; pages answer HTML."""
+    path = request.url.path
+    return path.startswith(("/api/", "/ui/")) or "application/json" in request.headers.get("accept", "")
 
 
 def validation_payload(errors) -> dict:
     seen, out = set(), []
     for e in errors:
-        c = _clean(e)
+        c = clean(e)
         key = (c["field"], c["msg"])
         if key not in seen:
             seen.add(key)
@@ -66,14 +81,25 @@ def validation_payload(errors) -> dict:
 def install(app, templates) -> None:
     """Register the app's exception handlers."""
 
+    def _unprocessable(request: Request, errors):
+        payload = validation_payload(errors)
+        if _wants_json(request):
+            return JSONResponse(payload, status_code=422)
+        # on a page the query parameter's name is what the person sees in the address
+        message = "; ".join(f"{d['field'].removeprefix('query.').removeprefix('path.')}: {d['msg']}"
+                            for d in payload["detail"])
+        return templates.TemplateResponse(
+            request, "error.html", {"status": 422, "message": message}, status_code=422
+        )
+
     @app.exception_handler(RequestValidationError)
     async def _validation(request: Request, exc: RequestValidationError):
-        return JSONResponse(validation_payload(exc.errors()), status_code=422)
+        return _unprocessable(request, exc.errors())
 
     @app.exception_handler(InputError)
     async def _input(request: Request, exc: InputError):
-        errs = [{"loc": list(loc), "msg": msg, "type": "value_error"} for loc, msg in exc.errors]
-        return JSONResponse(validation_payload(errs), status_code=422)
+        return _unprocessable(request, [{"loc": list(loc), "msg": msg, "type": "value_error"}
+                                        for loc, msg in exc.errors])
 
     @app.exception_handler(StarletteHTTPException)
     async def _http(request: Request, exc: StarletteHTTPException):

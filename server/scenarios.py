@@ -5,10 +5,9 @@ import math
 from pydantic import ValidationError
 
 from . import solver
-from .cases import solve_full
-from .charts import all_series
 from .errors import InputError
 from .schemas.cycle import CycleRequest
+from .solve import solve
 from .storage import Scenario, ScenarioStore
 
 SUMMARY_KEYS = ("filtration_time", "cycle_time", "filtrate_throughput", "solids_throughput", "chamber_fill",
@@ -20,23 +19,17 @@ def validate_inputs(inputs: dict, prefix=("body", "inputs")) -> CycleRequest:
     try:
         return CycleRequest.model_validate(inputs)
     except ValidationError as exc:
-        errors = []
-        for e in exc.errors():
-            loc = tuple(p for p in e["loc"] if not (isinstance(p, str) and p.startswith("function-")))
-            msg = e["msg"][len("Value error, "):] if e["msg"].startswith("Value error, ") else e["msg"]
-            msg = {"missing": "required", "extra_forbidden": "unknown field (check the spelling)"}.get(e["type"], msg)
-            errors.append(((*prefix, *loc), msg))
-        raise InputError(errors) from None
+        raise InputError.from_validation(exc, prefix) from None
 
 
 def solve_inputs(inputs: dict, prefix=("body", "inputs")) -> dict:
-    """Results of stored inputs as the current solver gives them (answer plus chart series)."""
-    req = validate_inputs(inputs, prefix)
+    """Results of stored inputs as the current solver gives them, with their chart series."""
+    request = validate_inputs(inputs, prefix)
     try:
-        solved = solve_full(req)
+        solved = solve(request, with_chart_series=True)
     except InputError as exc:
-        raise InputError([((*prefix, *[p for p in loc if p != "body"]), msg) for loc, msg in exc.errors]) from None
-    return {**solved.answer, "chart_series": all_series(solved.model, solved.built.case, solved.solution)}
+        raise exc.within(prefix) from None
+    return {**solved.results, "chart_series": solved.chart_series}
 
 
 def summary_of(results: dict) -> dict:

@@ -1,6 +1,9 @@
-"""Settings from the environment (prefix PRESSCYCLE_), behind one cached getter."""
+"""Settings from the environment (prefix PRESSCYCLE_), read once when the app is built.
 
-from functools import lru_cache
+``create_app(settings)`` keeps them on ``app.state.settings``; routes read them from there,
+so tests build an app with their own database and demo folder whatever the environment says.
+"""
+
 from pathlib import Path
 
 from pydantic_settings import BaseSettings, SettingsConfigDict
@@ -11,13 +14,9 @@ PROJECT_ROOT = Path(__file__).resolve().parent.parent
 class Settings(BaseSettings):
     model_config = SettingsConfigDict(env_prefix="PRESSCYCLE_")
 
+    #: The demo scenarios shown on the start page (environment: PRESSCYCLE_DEMO_DIR).
     demo_dir: Path = PROJECT_ROOT / "demo_cases"
     max_body_bytes: int = 2_000_000
     #: The SQLite file of saved scenarios (environment: PRESSCYCLE_DB), relative to the
     #: working folder unless absolute.
     db: Path = Path("data") / "presscycle.sqlite3"
-
-
-@lru_cache(maxsize=1)
-def get_settings() -> Settings:
-    return Settings()

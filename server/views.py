@@ -49,3 +49,17 @@ class StaticUrls:
             digest = hashlib.sha256((self.root / path).read_bytes()).hexdigest()[:12]
             self._hashes[path] = digest
         return f"{self.prefix}/{path}?v={digest}"
+
+
+def render_results(templates, results: dict, chart_series: dict, units) -> tuple[str, dict]:
+    """The results pane and its charts, for every page that shows a scenario's results.
+
+    The editor's first view, its partial update after Calculate and a saved scenario's page
+    all come through here: the same template, the same figures, the same cautions.
+    Returns (HTML of the results pane, plotly figures by chart key).
+    """
+    from .charts import figures
+    from .solve import CAUTIONS
+
+    html = templates.get_template("_results.html").render({"results": results, "u": units, "cautions": CAUTIONS})
+    return html, figures(chart_series, results, units)

@@ -1,21 +1,18 @@
 import copy
 import os
-import tempfile
 
 import pytest
+from fastapi.testclient import TestClient
+from hypothesis import settings
 
-# The app module builds its store at import: point it at a throw-away database first.
-os.environ.setdefault("PRESSCYCLE_DB", os.path.join(tempfile.mkdtemp(prefix="presscycle-test-"), "test.sqlite3"))
-
-from fastapi.testclient import TestClient  # noqa: E402
-from hypothesis import settings  # noqa: E402
+from server.app import create_app
+from server.settings import PROJECT_ROOT, Settings
 
 # CI runs the same examples every time (a red CI must be reproducible); locally they vary.
 settings.register_profile("ci", derandomize=True, print_blob=True)
 if os.environ.get("CI", "").lower() == "true":
     settings.load_profile("ci")
 
-from server.app import create_app  # noqa: E402
 
 #: A plain constant-pressure scenario in SI numbers (invented, for the API tests).
 BASE_REQUEST = {
@@ -28,9 +25,15 @@ BASE_REQUEST = {
 }
 
 
+def app_settings(folder) -> Settings:
+    """Settings for an app under test: a database in ``folder`` and the project's demo folder,
+    whatever PRESSCYCLE_* the environment exports (an exported database never gets test rows)."""
+    return Settings(db=folder / "test.sqlite3", demo_dir=PROJECT_ROOT / "demo_cases")
+
+
 @pytest.fixture(scope="session")
-def client():
-    with TestClient(create_app()) as c:
+def client(tmp_path_factory):
+    with TestClient(create_app(app_settings(tmp_path_factory.mktemp("db")))) as c:
         yield c
 
 

@@ -17,19 +17,24 @@ def free_port() -> int:
 
 
 class LiveServer:
-    def __init__(self, db: Path, port: int | None = None):
+    """uvicorn with the app factory; the database and demo folder are the test's, whatever
+    PRESSCYCLE_* the surrounding environment exports."""
+
+    def __init__(self, db: Path, port: int | None = None, demo_dir: Path = ROOT / "demo_cases"):
         self.db = Path(db)
+        self.demo_dir = Path(demo_dir)
         self.port = port or free_port()
         self.url = f"http://127.0.0.1:{self.port}"
         self.proc = None
 
     def start(self, wait: bool = True, timeout: float = 30.0) -> "LiveServer":
-        env = {**os.environ, "PRESSCYCLE_DB": str(self.db)}
+        env = {k: v for k, v in os.environ.items() if not k.startswith("PRESSCYCLE_")}
+        env.update(PRESSCYCLE_DB=str(self.db), PRESSCYCLE_DEMO_DIR=str(self.demo_dir))
         # output goes to a file: a pipe nobody reads would stall a chatty server
         self.log = self.db.with_suffix(f".{self.port}.log")
         self._log_file = open(self.log, "ab")  # noqa: SIM115 (closed in stop/kill)
         self.proc = subprocess.Popen(
-            [sys.executable, "-m", "uvicorn", "server.app:app", "--host", "127.0.0.1", "--port", str(self.port),
+            [sys.executable, "-m", "uvicorn", "--factory", "server.app:create_app", "--host", "127.0.0.1", "--port", str(self.port),
              "--log-level", "warning"],
             cwd=ROOT, env=env, stdout=self._log_file, stderr=subprocess.STDOUT,
         )

@@ -3,8 +3,8 @@
 from fastapi import APIRouter, HTTPException, Request, UploadFile
 
 from ..errors import InputError
+from ..lab import fit_request
 from ..labdata import CsvError, parse_readings
-from ..labfits import fit_request
 from ..schemas.labfit import LabFitRequest, LabFitResponse
 
 router = APIRouter(prefix="/api/v1", tags=["lab-fit"])
@@ -12,12 +12,12 @@ MAX_CSV_BYTES = 1_000_000
 
 
 @router.post("/lab-fit", response_model=LabFitResponse)
-def post_lab_fit(req: LabFitRequest) -> dict:
+def post_lab_fit(lab_request: LabFitRequest) -> dict:
     """Fit t/V against V for each test; alpha_ref and s over several pressures.
 
     Quantities accept unit strings ("440 cm^2", "23.5 g/L", "6.7 psi", "250 mL").
     """
-    return fit_request(req)
+    return fit_request(lab_request)
 
 
 @router.post("/lab-readings")

@@ -8,22 +8,20 @@ import plotly
 from fastapi import APIRouter, HTTPException, Query, Request
 from fastapi.responses import FileResponse, HTMLResponse
 
-from ..cases import CAUTIONS, solve_full
-from ..charts import all_series, figures
-from ..demo import load_demo_cases
+from ..demo import load_demo_scenarios
 from ..display import Units
 from ..errors import InputError
 from ..forms import GROUPS, UNIT_CHOICES, prefill
-from ..schemas.cycle import CycleRequest
-from ..settings import get_settings
-from ..views import PLOTLY_URL
+from ..scenarios import solve_inputs
+from ..solve import CAUTIONS
+from ..views import PLOTLY_URL, render_results
 
 router = APIRouter(tags=["pages"], include_in_schema=False)
 PLOTLY_JS = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
 
 
-def _demos():
-    return load_demo_cases(get_settings().demo_dir)
+def _demos(request: Request):
+    return load_demo_scenarios(request.app.state.settings.demo_dir)
 
 
 def _templates(request: Request):
@@ -34,11 +32,12 @@ def _templates(request: Request):
 def home(request: Request):
     recent = request.app.state.store.recent(6)
     return _templates(request).TemplateResponse(
-        request, "home.html", {"demos": _demos(), "cautions": CAUTIONS, "recent": recent}
+        request, "home.html", {"demos": _demos(request), "cautions": CAUTIONS, "recent": recent}
     )
 
 
 def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None):
+    """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once."""
     context = {
         "parent": parent,
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
@@ -47,19 +46,15 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
     }
     if solve:
         try:
-            solved = solve_full(CycleRequest.model_validate(inputs))
-        except (InputError, ValueError):
-            solved = None  # the page still opens; Calculate marks what is wrong at the fields
+            results = solve_inputs(inputs)
+        except InputError:
+            # the page still opens; Calculate marks what is wrong at the fields
             context["initial_error"] = (
                 "These inputs do not solve as they stand: press Calculate to see what to correct."
             )
-        if solved is not None:
-            u = Units("si")
-            context["initial_html"] = _templates(request).get_template("_results.html").render(
-                {"r": solved.answer, "u": u, "cautions": CAUTIONS}
-            )
-            series = all_series(solved.model, solved.built.case, solved.solution)
-            context["initial_figures"] = figures(series, solved.answer, u)
+        else:
+            context["initial_html"], context["initial_figures"] = render_results(
+                _templates(request), results, results["chart_series"], Units("si"))
     return _templates(request).TemplateResponse(request, "scenario.html", context)
 
 
@@ -100,9 +95,9 @@ def lab_page(request: Request):
 
 @router.get("/demo/{slug}", response_class=HTMLResponse)
 def demo_case(request: Request, slug: str):
-    demo = next((d for d in _demos() if d.slug == slug), None)
+    demo = next((d for d in _demos(request) if d.slug == slug), None)
     if demo is None:
-        raise HTTPException(404, f"no demo case named {slug!r}")
+        raise HTTPException(404, f"no demo scenario named {slug!r}")
     return editor_page(request, demo.name, demo.description, demo.inputs, solve=True)
 
 

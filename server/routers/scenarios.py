@@ -9,13 +9,14 @@ from fastapi import APIRouter, HTTPException, Query, Request, UploadFile
 from fastapi.responses import HTMLResponse, JSONResponse, Response
 
 from .. import solver
-from ..cases import CAUTIONS
-from ..charts import figures, overlay
-from ..display import Units
+from ..charts import overlay
+from ..display import Units, UnitSystem
 from ..errors import InputError
 from ..scenarios import differences, save, solve_inputs
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
+from ..solve import CAUTIONS
 from ..storage import Scenario
+from ..views import render_results
 
 router = APIRouter(prefix="/api/v1/scenarios", tags=["scenarios"])
 pages = APIRouter(tags=["pages"], include_in_schema=False)
@@ -109,7 +110,7 @@ def scenario_csv(request: Request, sid: str):
 
 
 @pages.get("/s/{sid}", response_class=HTMLResponse)
-def scenario_page(request: Request, sid: str, units: str = Query("si", pattern="^(si|us)$")):
+def scenario_page(request: Request, sid: str, units: UnitSystem = "si"):
     s = _get_or_404(request, sid)
     u = Units(units)
     try:
@@ -117,12 +118,11 @@ def scenario_page(request: Request, sid: str, units: str = Query("si", pattern="
         changed = differences(s.results, now)
     except InputError:
         now, changed = None, [("inputs", "valid when saved", "refused by this version")]
-    results_html = _templates(request).get_template("_results.html").render(
-        {"r": s.results, "u": u, "cautions": CAUTIONS})
+    results_html, figures = render_results(_templates(request), s.results, s.results["chart_series"], u)
     parent = _store(request).get(s.parent) if s.parent else None
     return _templates(request).TemplateResponse(request, "scenario_view.html", {
         "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
-        "figures": figures(s.results["chart_series"], s.results, u), "changed": changed, "now": now,
+        "figures": figures, "changed": changed, "now": now,
         "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
     })
 
@@ -146,7 +146,7 @@ def scenarios_page(request: Request, q: str = Query("", max_length=200), page: i
 
 
 @pages.get("/compare", response_class=HTMLResponse)
-def compare_page(request: Request, ids: str = Query("", max_length=400), units: str = Query("si", pattern="^(si|us)$")):
+def compare_page(request: Request, ids: str = Query("", max_length=400), units: UnitSystem = "si"):
     wanted = [i for i in ids.replace(" ", "").split(",") if i]
     if not 2 <= len(wanted) <= 4:
         raise HTTPException(400, "pick two to four scenarios to compare")

@@ -1,36 +1,30 @@
-"""POST /ui/results: the editor's partial update (results HTML and chart figures).
+"""The pages' partial updates: POST /ui/results (the editor) and POST /ui/lab-fit (the lab page).
 
-Takes the same body as /api/v1/cycle; answers {"html", "figures", "result"}. Bad input gets
-the API's 422, which the page marks at the fields.
+Each takes the same body as its API twin (/api/v1/cycle, /api/v1/lab-fit) and answers
+{"html", "figures", "result"}. Bad input gets the API's 422, which the page marks at the fields.
 """
 
 import json
 from urllib.parse import quote
 
-from fastapi import APIRouter, Query, Request
+from fastapi import APIRouter, Request
 
-from ..cases import CAUTIONS, solve_full
-from ..charts import all_series, figures
-from ..display import Units
+from ..display import Units, UnitSystem
+from ..lab import fit_request
 from ..labcharts import lab_figures
-from ..labfits import fit_request
 from ..schemas.cycle import CycleRequest
 from ..schemas.labfit import LabFitRequest
+from ..solve import CAUTIONS, solve
+from ..views import render_results
 
 router = APIRouter(prefix="/ui", tags=["ui"], include_in_schema=False)
 
 
-def results_context(solved, units: Units) -> dict:
-    return {"r": solved.answer, "u": units, "cautions": CAUTIONS}
-
-
 @router.post("/results")
-def post_results(request: Request, req: CycleRequest, units: str = Query("si", pattern="^(si|us)$")) -> dict:
-    solved = solve_full(req)
-    u = Units(units)
-    series = all_series(solved.model, solved.built.case, solved.solution)
-    html = request.app.state.templates.get_template("_results.html").render(results_context(solved, u))
-    return {"html": html, "figures": figures(series, solved.answer, u), "result": solved.answer}
+def post_results(request: Request, inputs: CycleRequest, units: UnitSystem = "si") -> dict:
+    solved = solve(inputs, with_chart_series=True)
+    html, figures = render_results(request.app.state.templates, solved.results, solved.chart_series, Units(units))
+    return {"html": html, "figures": figures, "result": solved.results}
 
 
 def scenario_prefill(result: dict) -> dict:
@@ -54,8 +48,8 @@ def scenario_prefill(result: dict) -> dict:
 
 
 @router.post("/lab-fit")
-def post_lab_fit(request: Request, req: LabFitRequest) -> dict:
-    result = fit_request(req)
+def post_lab_fit(request: Request, lab_tests: LabFitRequest) -> dict:
+    result = fit_request(lab_tests)
     figs = lab_figures(result)
     link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(result)))
     html = request.app.state.templates.get_template("_lab_results.html").render(

@@ -1,35 +1,23 @@
-"""Schemas of POST /api/v1/cycle: a press cycle scenario and its results.
+"""Schemas of POST /api/v1/cycle: a press cycle scenario (its inputs) and its results.
 
 Inputs take numbers in SI base units or strings with units ("5 bar"); results are in
-SI base units, listed in the response's ``units`` map.
+SI base units, listed in the response's ``units`` map. Each feed mode and cycle setting is
+declared here once: its model converts itself to the solver object (``to_solver``), and the
+list of feed modes is read off the ``FeedIn`` union.
 """
 
-from typing import Annotated, Literal
+from typing import Annotated, Literal, get_args
 
-from pydantic import BaseModel, ConfigDict, Field, model_validator
+from pydantic import BaseModel, Field, model_validator
 
+from ..solver import cycle as solver_cycle
+from ..solver import feeds as solver_feeds
+from ..solver import press as solver_press
+from .common import Density, Fraction01, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
+from .common import PressPressure as Pressure
 from .quantities import quantity
 
-Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
-SolidsFraction = quantity("fraction", ge=1e-6, lt=1.0, description="Solids mass fraction of the slurry")
-Density = quantity("density", ge=100.0, le=25000.0, description="Density")
-Viscosity = quantity("viscosity", ge=1e-5, le=10.0, description="Viscosity")
-Temperature = quantity("temperature", gt=273.15, lt=373.15, description="Temperature")
-Pressure = quantity("pressure", ge=100.0, le=1e8, description="Pressure")
 Length = quantity("length", ge=1e-3, le=0.5, description="Chamber thickness")
-
-
-def _exactly_one(model: BaseModel, names: tuple[str, ...], required: bool = True) -> None:
-    given = [n for n in names if getattr(model, n) is not None]
-    listing = " or ".join(names)
-    if len(given) > 1:
-        raise ValueError(f"give only one of {listing}; got {' and '.join(given)}")
-    if required and not given:
-        raise ValueError(f"give one of {listing}")
-
-
-class Strict(BaseModel):
-    model_config = ConfigDict(extra="forbid")
 
 
 class SlurryIn(Strict):
@@ -50,8 +38,8 @@ class SlurryIn(Strict):
 
     @model_validator(mode="after")
     def _alternatives(self):
-        _exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
-        _exactly_one(self, ("viscosity", "temperature"))
+        exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
+        exactly_one(self, ("viscosity", "temperature"))
         return self
 
 
@@ -77,7 +65,7 @@ class CakeIn(Strict):
 
     @model_validator(mode="after")
     def _alternatives(self):
-        _exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
+        exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
         if self.compressibility > 0.0 and self.reference_pressure is None:
             raise ValueError(
                 "give reference_pressure: with compressibility above 0 the resistance "
@@ -111,6 +99,12 @@ class PressIn(Strict):
                 raise ValueError("plate_face_area and chambers go together: give both")
         return self
 
+    def to_solver(self) -> solver_press.Press:
+        area = self.filter_area
+        if area is None:
+            area = solver_press.filter_area_from_plates(self.plate_face_area, self.chambers)
+        return solver_press.Press(area, self.chamber_thickness, self.fill_fraction)
+
 
 Flow = quantity("flow", ge=1e-9, le=100.0, description="Filtrate flow")
 PumpFlow = quantity("flow", ge=0.0, le=100.0, description="Pump flow")
@@ -121,11 +115,17 @@ class ConstantPressureFeedIn(Strict):
     mode: Literal["constant_pressure"]
     pressure: Pressure = Field(description="Pressure drop across cake and cloth [Pa]")
 
+    def to_solver(self) -> solver_feeds.ConstantPressure:
+        return solver_feeds.ConstantPressure(self.pressure)
+
 
 class ConstantRateFeedIn(Strict):
     mode: Literal["constant_rate"]
     flow: Flow = Field(description="Set flow of a positive-displacement pump [m³/s]")
     max_pressure: Pressure = Field(description="Relief or set pressure, then held [Pa]")
+
+    def to_solver(self) -> solver_feeds.ConstantRate:
+        return solver_feeds.ConstantRate(self.flow, self.max_pressure)
 
 
 class PumpCurveFeedIn(Strict):
@@ -136,6 +136,9 @@ class PumpCurveFeedIn(Strict):
     )
     max_pressure: Pressure | None = Field(None, description="Relief pressure [Pa]")
 
+    def to_solver(self) -> solver_feeds.PumpCurve:
+        return solver_feeds.PumpCurve(tuple(self.points), self.max_pressure)
+
 
 class PressureStepsFeedIn(Strict):
     mode: Literal["pressure_steps"]
@@ -144,12 +147,15 @@ class PressureStepsFeedIn(Strict):
         description="[pressure, duration] stages in order; the last stage is held",
     )
 
+    def to_solver(self) -> solver_feeds.PressureSteps:
+        return solver_feeds.PressureSteps(tuple(self.steps))
 
-FeedIn = Annotated[
-    ConstantPressureFeedIn | ConstantRateFeedIn | PumpCurveFeedIn | PressureStepsFeedIn,
-    Field(discriminator="mode"),
-]
-FEED_MODES = ("constant_pressure", "constant_rate", "pump_curve", "pressure_steps")
+
+#: The feed modes: to add one, write its model above (``mode`` literal + ``to_solver``) and
+#: list it here; FEED_MODES, the error messages and the API schema follow from this union.
+FEED_MODELS = ConstantPressureFeedIn | ConstantRateFeedIn | PumpCurveFeedIn | PressureStepsFeedIn
+FeedIn = Annotated[FEED_MODELS, Field(discriminator="mode")]
+FEED_MODES = tuple(get_args(m.model_fields["mode"].annotation)[0] for m in get_args(FEED_MODELS))
 
 
 class EndIn(Strict):
@@ -171,12 +177,16 @@ class EndIn(Strict):
         needs = {"time": ("time",), "pressure": ("pressure",), "flow": ("flow", "flow_per_area", "flow_fraction")}
         names = needs.get(self.criterion, ())
         if names:
-            _exactly_one(self, names)
+            exactly_one(self, names)
         extra = [n for n in ("time", "flow", "flow_per_area", "flow_fraction", "pressure")
                  if n not in names and getattr(self, n) is not None]
         if extra:
             raise ValueError(f"{' and '.join(extra)} do not apply to the {self.criterion!r} end criterion")
         return self
+
+    def to_solver(self) -> solver_cycle.EndCriterion:
+        return solver_cycle.EndCriterion(self.criterion, self.time, self.flow, self.flow_per_area,
+                                         self.flow_fraction, self.pressure)
 
 
 class CycleIn(Strict):
@@ -196,6 +206,12 @@ class CycleIn(Strict):
     wash_viscosity: Viscosity | None = Field(None, description="[Pa·s]; default: the filtrate's")
     end: EndIn = Field(default_factory=lambda: EndIn(), description="How filtration ends; default: best")
 
+    def to_solver(self) -> solver_cycle.CycleSettings:
+        return solver_cycle.CycleSettings(
+            downtime=self.downtime, wash_ratio=self.wash_ratio, washing=self.washing,
+            wash_pressure=self.wash_pressure, wash_viscosity=self.wash_viscosity, wash_basis=self.wash_basis,
+        )
+
 
 class TargetIn(Strict):
     solids_throughput: quantity(
@@ -210,7 +226,7 @@ class TargetIn(Strict):
 
     @model_validator(mode="after")
     def _one(self):
-        _exactly_one(self, ("solids_throughput", "filtrate_throughput"))
+        exactly_one(self, ("solids_throughput", "filtrate_throughput"))
         return self
 
 

@@ -2,11 +2,9 @@
 
 from pydantic import BaseModel, Field, model_validator
 
-from .cycle import Density, SolidsFraction, Strict, Temperature, Viscosity, _exactly_one
+from .common import Density, Fraction01, LabPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
 from .quantities import quantity
 
-Pressure = quantity("pressure", ge=1.0, le=1e8, description="Pressure")
-Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
 Time = quantity("time", ge=0.0, le=1e7, description="Time since the start of filtration")
 Volume = quantity("volume", ge=0.0, le=1e3, description="Cumulative filtrate volume")
 
@@ -18,7 +16,7 @@ class StartIn(Strict):
 
 class LabTestIn(Strict):
     name: str | None = Field(None, max_length=120, description="A label for the test")
-    pressure: Pressure = Field(description="Pressure drop across cake and cloth [Pa]")
+    pressure: LabPressure = Field(description="Pressure drop across cake and cloth [Pa]")
     area: quantity("area", ge=1e-6, le=100.0, description="Filter area of the test cell") = Field(
         description="[m²]"
     )
@@ -52,8 +50,8 @@ class LabTestIn(Strict):
 
     @model_validator(mode="after")
     def _alternatives(self):
-        _exactly_one(self, ("viscosity", "temperature"))
-        _exactly_one(self, ("points", "csv"))
+        exactly_one(self, ("viscosity", "temperature"))
+        exactly_one(self, ("points", "csv"))
         ways = {
             "c": self.c is not None,
             "slurry and cake data": self.solids_mass_fraction is not None or self.solids_concentration is not None,
@@ -67,8 +65,8 @@ class LabTestIn(Strict):
                 + (f"; got {' and '.join(given)}" if given else "")
             )
         if given == ["slurry and cake data"]:
-            _exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
-            _exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
+            exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
+            exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
             if self.solids_density is None and (self.porosity is not None or self.solids_concentration is not None):
                 raise ValueError("give solids_density: porosity or solids_concentration need it")
         return self
@@ -76,7 +74,7 @@ class LabTestIn(Strict):
 
 class LabFitRequest(Strict):
     tests: list[LabTestIn] = Field(min_length=1, max_length=50)
-    reference_pressure: Pressure = Field(1e5, description="Pressure at which resistance_ref is given [Pa]")
+    reference_pressure: LabPressure = Field(1e5, description="Pressure at which resistance_ref is given [Pa]")
 
 
 class TestOut(BaseModel):

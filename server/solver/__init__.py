@@ -3,25 +3,26 @@
 Three layers, each tested on its own (see DEVELOPERS.md):
 
 - functions: water, slurry, resistance, constant_pressure, washing, press;
-- objects that hold a system: Filtration, Press, feed modes, CycleSettings, PressCase;
-- the chain that runs a whole case: solve_cycle, compare_thicknesses.
+- objects that hold a system: Filtration, Press, feed modes, CycleSettings, PressSystem;
+- the chain that runs a whole scenario: solve_cycle, compare_thicknesses, chart_series.
 """
 
 from .cycle import (
-    CurveCycle,
+    CycleFamily,
     CycleResult,
     CycleSettings,
     CycleSolution,
     EndCriterion,
-    PressCase,
+    PressSystem,
     compare_thicknesses,
-    curve_cycle_for,
+    cycle_family_for,
     numeric_optimum_volume,
     solve_cycle,
 )
 from .errors import SolverInputError
 from .feeds import ConstantPressure, ConstantRate, Filtration, PressureSteps, PumpCurve
 from .press import Press, filter_area_from_plates
+from .sweeps import chart_series
 
 SOLVER_VERSION = "0.1.0"
 
@@ -29,7 +30,7 @@ __all__ = [
     "SOLVER_VERSION",
     "ConstantPressure",
     "ConstantRate",
-    "CurveCycle",
+    "CycleFamily",
     "EndCriterion",
     "PressureSteps",
     "PumpCurve",
@@ -38,10 +39,11 @@ __all__ = [
     "CycleSolution",
     "Filtration",
     "Press",
-    "PressCase",
+    "PressSystem",
     "SolverInputError",
+    "chart_series",
     "compare_thicknesses",
-    "curve_cycle_for",
+    "cycle_family_for",
     "filter_area_from_plates",
     "numeric_optimum_volume",
     "solve_cycle",

@@ -93,8 +93,8 @@ class CycleResult:
 
 
 @dataclass(frozen=True)
-class PressCase:
-    """A whole scenario: cake and cloth, press, feed and cycle."""
+class PressSystem:
+    """Everything a scenario's cycle depends on: cake and cloth, press, feed and cycle settings."""
 
     filtration: Filtration
     press: Press
@@ -124,7 +124,7 @@ class EndCriterion:
     def __post_init__(self):
         if self.criterion not in END_CRITERIA:
             raise SolverInputError(
-                "end.criterion", f"must be one of {', '.join(END_CRITERIA)}; got {self.criterion!r}"
+                "criterion", f"must be one of {', '.join(END_CRITERIA)}; got {self.criterion!r}"
             )
         needs = {"time": ("time",), "pressure": ("pressure",),
                  "flow": ("flow", "flow_per_area", "flow_fraction")}
@@ -132,13 +132,13 @@ class EndCriterion:
         given = [n for n in names if getattr(self, n) is not None]
         if names and len(given) != 1:
             raise SolverInputError(
-                f"end.{names[0]}", f"the {self.criterion!r} end criterion needs exactly one of {' or '.join(names)}"
+                names[0], f"the {self.criterion!r} end criterion needs exactly one of {' or '.join(names)}"
             )
         for n in given:
             value = getattr(self, n)
             if not value > 0.0 or (n == "flow_fraction" and not value < 1.0):
                 allowed = "between 0 and 1 (exclusive)" if n == "flow_fraction" else "> 0"
-                raise SolverInputError(f"end.{n}", f"must be {allowed}; got {value:.6g}")
+                raise SolverInputError(n, f"must be {allowed}; got {value:.6g}")
 
 
 @dataclass(frozen=True)
@@ -163,10 +163,12 @@ class CycleSolution:
     warnings: list[str] = field(default_factory=list)
 
 
-class CurveCycle:
-    """A feed's filtration curve with the wash and downtime that turn it into cycles.
+class CycleFamily:
+    """Every cycle one feed can run: its filtration curve with the wash and downtime that
+    turn each end volume V into a whole cycle (one family member per V).
 
-    Independent of chamber thickness: one CurveCycle serves a whole thickness comparison.
+    Independent of chamber thickness: one CycleFamily serves a whole thickness comparison
+    and every chart series (solver/sweeps.py).
     """
 
     def __init__(self, filtration: Filtration, filter_area: float, feed, cycle: CycleSettings, V_needed: float):
@@ -188,7 +190,7 @@ class CurveCycle:
         if c.wash_basis == "filtrate" or c.wash_ratio == 0.0:
             return c.wash_ratio
         if f.porosity is None:
-            raise SolverInputError("wash_basis", "washing by cake pore volumes needs the cake porosity")
+            raise SolverInputError("cycle.wash_basis", "washing by cake pore volumes needs the cake porosity")
         return c.wash_ratio * f.porosity * f.cake_volume_ratio  # pore volume = porosity x cake volume
 
     def wash_time(self, V):
@@ -202,9 +204,17 @@ class CurveCycle:
             final_pressure, c.wash_pressure if c.wash_pressure is not None else final_pressure,
         )
 
+    def cycle_time(self, V):
+        """Whole cycle time T = t_f + t_w + t_d [s] for an end volume V [m^3], vectorised.
+
+        The one place the stages of a cycle are added up: the results, the optimum and every
+        chart series use it.
+        """
+        return self.curve.time(V) + self.wash_time(V) + self.cycle.downtime
+
     def throughput(self, V):
-        """Filtrate throughput V / (t_f + t_w + t_d) [m^3/s], vectorised."""
-        return V / (self.curve.time(V) + self.wash_time(V) + self.cycle.downtime)
+        """Filtrate throughput V / T [m^3/s], vectorised."""
+        return V / self.cycle_time(V)
 
     def _optimum_volume(self, V_scale: float) -> float:
         closed_form = getattr(self.curve, "optimum_volume", None)
@@ -222,7 +232,7 @@ class CurveCycle:
         t_f = float(self.curve.time(V))
         t_w = float(self.wash_time(V))
         t_d = self.cycle.downtime
-        T = t_f + t_w + t_d
+        T = float(self.cycle_time(V))
         c = self.filtration.solids_per_filtrate
         fill = float(press.chamber_fill(V, v))
         return CycleResult(
@@ -349,32 +359,32 @@ def _scalar_or_none(x):
 
 
 def solve_cycle(
-    case: PressCase, end: EndCriterion | None = None, model: CurveCycle | None = None, with_curves: bool = True
+    system: PressSystem, end: EndCriterion | None = None, family: CycleFamily | None = None, with_curves: bool = True
 ) -> CycleSolution:
     """Unconstrained optimum, chambers-full and best feasible cycles, and the cycle at the end criterion.
 
-    ``model`` reuses a CurveCycle built for this case's feed and area; ``with_curves``
+    ``family`` reuses a CycleFamily built for this system's feed and area; ``with_curves``
     False leaves ``curves`` empty (a thickness comparison does not need them).
     """
     end = end or EndCriterion()
-    press = case.press
-    v = case.filtration.cake_volume_ratio
+    press = system.press
+    v = system.filtration.cake_volume_ratio
     V_full = press.chambers_full_volume(v)
-    if model is None:
-        model = CurveCycle(case.filtration, press.filter_area, case.feed, case.cycle, V_full)
-    V_star = model.V_star
+    if family is None:
+        family = CycleFamily(system.filtration, press.filter_area, system.feed, system.cycle, V_full)
+    V_star = family.V_star
 
-    unconstrained = model.result(press, V_star, LIMITED_BY_OPTIMUM)
-    full = model.result(press, V_full, LIMITED_BY_CHAMBERS)
+    unconstrained = family.result(press, V_star, LIMITED_BY_OPTIMUM)
+    full = family.result(press, V_full, LIMITED_BY_CHAMBERS)
     best = unconstrained if V_star <= V_full else full
     matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
 
-    V_end, reason = model.end_volume(end, best.filtrate_volume, V_full)
-    end_cycle = model.result(press, V_end, reason)
+    V_end, reason = family.end_volume(end, best.filtrate_volume, V_full)
+    end_cycle = family.result(press, V_end, reason)
     at_end = EndResult(end_cycle, reason, end_cycle.filtrate_throughput / best.filtrate_throughput)
 
-    feed_warnings = getattr(case.feed, "warnings", None)
-    warnings = list(feed_warnings(case.filtration, press.filter_area)) if feed_warnings else []
+    feed_warnings = getattr(system.feed, "warnings", None)
+    warnings = list(feed_warnings(system.filtration, press.filter_area)) if feed_warnings else []
     if best.chamber_fill < LOW_FILL_WARNING * press.fill_fraction:
         warnings.append(
             f"At the best cycle the cake fills only {100 * best.chamber_fill:.0f} % of the "
@@ -389,34 +399,34 @@ def solve_cycle(
         chambers_full_volume=V_full,
         matched_chamber_thickness=matched,
         throughput_gain_unconstrained=unconstrained.filtrate_throughput / best.filtrate_throughput - 1.0,
-        curves=model.curves(press, V_full) if with_curves else {},
-        K_p=_scalar_or_none(getattr(model.curve, "K_p", None)),
-        B=_scalar_or_none(getattr(model.curve, "B", None)),
+        curves=family.curves(press, V_full) if with_curves else {},
+        K_p=_scalar_or_none(getattr(family.curve, "K_p", None)),
+        B=_scalar_or_none(getattr(family.curve, "B", None)),
         warnings=warnings,
     )
 
 
-def curve_cycle_for(case: PressCase, thicknesses=()) -> CurveCycle:
-    """One CurveCycle that serves the case at its own and all the given thicknesses [m]."""
-    L = max([case.press.chamber_thickness, *[float(x) for x in thicknesses]])
-    V_needed = case.press.with_thickness(L).chambers_full_volume(case.filtration.cake_volume_ratio)
-    return CurveCycle(case.filtration, case.press.filter_area, case.feed, case.cycle, V_needed)
+def cycle_family_for(system: PressSystem, thicknesses=()) -> CycleFamily:
+    """One CycleFamily that serves the system at its own and all the given thicknesses [m]."""
+    L = max([system.press.chamber_thickness, *[float(x) for x in thicknesses]])
+    V_needed = system.press.with_thickness(L).chambers_full_volume(system.filtration.cake_volume_ratio)
+    return CycleFamily(system.filtration, system.press.filter_area, system.feed, system.cycle, V_needed)
 
 
 def compare_thicknesses(
-    case: PressCase, thicknesses, end: EndCriterion | None = None, model: CurveCycle | None = None
+    system: PressSystem, thicknesses, end: EndCriterion | None = None, family: CycleFamily | None = None
 ) -> list[tuple[float, CycleSolution]]:
     """The same press and slurry at each chamber thickness [m]: its cycle solution.
 
     The filtration curve and the optimum do not depend on the thickness, so they are
-    computed once (or taken from ``model``) for all thicknesses.
+    computed once (or taken from ``family``) for all thicknesses.
     """
     thicknesses = [float(L) for L in thicknesses]
     if not thicknesses:
         return []
-    model = model or curve_cycle_for(case, thicknesses)
+    family = family or cycle_family_for(system, thicknesses)
     out = []
     for L in thicknesses:
-        variant = PressCase(case.filtration, case.press.with_thickness(L), case.feed, case.cycle)
-        out.append((L, solve_cycle(variant, end, model, with_curves=False)))
+        variant = PressSystem(system.filtration, system.press.with_thickness(L), system.feed, system.cycle)
+        out.append((L, solve_cycle(variant, end, family, with_curves=False)))
     return out

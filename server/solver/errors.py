@@ -1,14 +1,40 @@
 """The one exception the solver raises for input it cannot use."""
 
+from contextlib import contextmanager
+
 
 class SolverInputError(ValueError):
     """An input is physically impossible or ambiguous.
 
-    ``parameter`` is the solver's name for the offending input (the same
-    snake_case name the JSON API uses), so the web edge can point at the field.
+    ``parameter`` is the dotted path of the offending input relative to the object that
+    raised it ("flow" from a feed mode, "end.flow" from a whole-cycle solve). An object that
+    builds or holds another re-raises its errors with its own prefix (:meth:`within`), so two
+    inputs called "pressure" in different objects never collide: the web edge maps the full
+    path to a field of the request.
     """
 
     def __init__(self, parameter: str, message: str):
         super().__init__(f"{parameter}: {message}")
         self.parameter = parameter
         self.message = message
+
+    def within(self, prefix: str) -> "SolverInputError":
+        """The same error, its path prefixed by where the raising object sits."""
+        return SolverInputError(f"{prefix}.{self.parameter}" if prefix else self.parameter, self.message)
+
+
+@contextmanager
+def inputs_of(prefix: str):
+    """Errors raised in the block concern inputs under ``prefix`` (e.g. building the feed).
+
+    >>> try:
+    ...     with inputs_of("feed"):
+    ...         raise SolverInputError("pressure", "must be > 0 Pa")
+    ... except SolverInputError as exc:
+    ...     print(exc.parameter)
+    feed.pressure
+    """
+    try:
+        yield
+    except SolverInputError as exc:
+        raise exc.within(prefix) from None

@@ -5,8 +5,9 @@ filtration curve with time(V), volume(t), rate(V) and pressure(V), all vectorise
 A curve may also offer ``optimum_volume`` in closed form; the cycle optimiser falls
 back to a numeric search for curves that do not.
 
-To add a feed mode, write a dataclass with a ``curve(filtration, filter_area, V_max)``
-method returning an object with those four methods (see DEVELOPERS.md). ``V_max`` is the
+To add a feed mode, write a dataclass with ``mode``, ``pressure_varies``, ``pressure_cap`` and a
+``curve(filtration, filter_area, V_max)`` method returning an object with those four methods
+(see DEVELOPERS.md). ``V_max`` is the
 largest filtrate volume the cycle will ask about; closed-form curves ignore it.
 """
 
@@ -127,6 +128,8 @@ class ConstantPressure:
 
     pressure: float
     mode = "constant_pressure"
+    #: the feed pressure is one number: charts draw no pressure or flow against time
+    pressure_varies = False
 
     def __post_init__(self):
         if not self.pressure > 0.0:
@@ -226,6 +229,8 @@ class ConstantRate:
     flow: float
     max_pressure: float
     mode = "constant_rate"
+    #: the pressure rises as the cake builds: charts draw pressure and flow against time
+    pressure_varies = True
 
     def __post_init__(self):
         if not self.flow > 0.0:
@@ -296,6 +301,8 @@ class PumpCurve:
     max_pressure: float | None = None
     grid_points: int = 2000
     mode = "pump_curve"
+    #: the operating point moves along the curve: charts draw pressure and flow
+    pressure_varies = True
 
     def __post_init__(self):
         pts = sorted((float(q), float(p)) for q, p in self.points)
@@ -414,6 +421,8 @@ class PressureSteps:
 
     steps: tuple
     mode = "pressure_steps"
+    #: the pressure changes stage by stage: charts draw pressure and flow
+    pressure_varies = True
 
     def __post_init__(self):
         if len(self.steps) < 1:

@@ -37,6 +37,19 @@ def filter_area_from_plates(plate_face_area: float, chambers: int) -> float:
     return 2.0 * chambers * plate_face_area
 
 
+def chambers_full_volume(filter_area, chamber_thickness, cake_volume_ratio, fill_fraction=1.0):
+    """Filtrate volume at which the cakes reach the fill fraction, V_full = f A L / (2 v) [m^3].
+
+    Vectorised over ``chamber_thickness`` [m] (a thickness comparison or a chart).
+
+    Examples
+    --------
+    >>> chambers_full_volume(50.0, 0.04, 0.5)
+    2.0
+    """
+    return fill_fraction * 0.5 * filter_area * chamber_thickness / cake_volume_ratio
+
+
 @dataclass(frozen=True)
 class Press:
     """A filter press as the cycle sees it.
@@ -74,15 +87,16 @@ class Press:
 
     def chambers_full_volume(self, cake_volume_ratio: float) -> float:
         """Filtrate volume at which the cakes reach the fill fraction, f A L / (2 v) [m^3]."""
-        return self.fill_fraction * self.chamber_volume / cake_volume_ratio
+        return chambers_full_volume(self.filter_area, self.chamber_thickness, cake_volume_ratio, self.fill_fraction)
 
     def cake_thickness(self, V, cake_volume_ratio: float):
         """Cake thickness on each face after V of filtrate, v V / A [m]."""
         return cake_volume_ratio * V / self.filter_area
 
-    def chamber_fill(self, V, cake_volume_ratio: float):
-        """Cake volume / chamber volume after V of filtrate [-]."""
-        return cake_volume_ratio * V / self.chamber_volume
+    def chamber_fill(self, V, cake_volume_ratio: float, chamber_thickness=None):
+        """Cake volume / chamber volume after V of filtrate [-] (optionally at other thicknesses [m])."""
+        L = self.chamber_thickness if chamber_thickness is None else chamber_thickness
+        return cake_volume_ratio * V / (0.5 * self.filter_area * L)
 
     def with_thickness(self, chamber_thickness: float) -> "Press":
         return replace(self, chamber_thickness=chamber_thickness)

@@ -13,7 +13,7 @@ from server.solver import (
     CycleSettings,
     Filtration,
     Press,
-    PressCase,
+    PressSystem,
     SolverInputError,
     compare_thicknesses,
     numeric_optimum_volume,
@@ -26,7 +26,7 @@ def make_case(alpha=1e11, R_m=5e10, area=50.0, L=0.04, dP=5e5, t_d=1200.0, wash_
               washing="through", wash_pressure=None, wash_viscosity=None, mu=1e-3, c=250.0,
               v=0.15, s=0.0, fill=1.0):
     f = Filtration(c, v, 1.6, mu, alpha, 5e5, s, R_m)
-    return PressCase(
+    return PressSystem(
         f, Press(area, L, fill), ConstantPressure(dP),
         CycleSettings(t_d, wash_ratio, washing, wash_pressure, wash_viscosity),
     )
@@ -120,12 +120,12 @@ def test_optimum_frame_thickness_coulson_richardson_example_7_2():
     v = sb.cake_volume_ratio(c, eps, rho_s)
     alpha = 8.25e13 * v / c
     f = Filtration(c, v, m, 1e-3, alpha, 1e6, 0.0, 0.0)
-    case = PressCase(f, Press(10.0, 0.05), ConstantPressure(1e6), CycleSettings(900.0))
+    case = PressSystem(f, Press(10.0, 0.05), ConstantPressure(1e6), CycleSettings(900.0))
     sol = solve_cycle(case)
     assert sol.matched_chamber_thickness == pytest.approx(0.0704, abs=1e-4)
     assert sol.matched_chamber_thickness == pytest.approx(0.0697, rel=0.015)
     # and at that thickness the chambers fill exactly when filtration time equals downtime
-    full = solve_cycle(PressCase(f, Press(10.0, sol.matched_chamber_thickness), case.feed, case.cycle))
+    full = solve_cycle(PressSystem(f, Press(10.0, sol.matched_chamber_thickness), case.feed, case.cycle))
     assert full.chambers_full.filtration_time == pytest.approx(900.0, rel=1e-9)
 
 
@@ -206,8 +206,8 @@ def test_washing_by_cake_pore_volumes_equals_the_filtrate_basis_scaled():
     eps, v = 0.55, 0.15
     base = make_case(v=v, L=0.3)
     f = base.filtration.__class__(**{**base.filtration.__dict__, "porosity": eps})
-    pores = PressCase(f, base.press, base.feed, CycleSettings(1200.0, 3.0, "through", wash_basis="cake_pores"))
-    filt = PressCase(f, base.press, base.feed, CycleSettings(1200.0, 3.0 * eps * v, "through"))
+    pores = PressSystem(f, base.press, base.feed, CycleSettings(1200.0, 3.0, "through", wash_basis="cake_pores"))
+    filt = PressSystem(f, base.press, base.feed, CycleSettings(1200.0, 3.0 * eps * v, "through"))
     a, b = solve_cycle(pores).best, solve_cycle(filt).best
     assert a.wash_time == pytest.approx(b.wash_time, rel=1e-12)
     assert a.wash_volume == pytest.approx(3.0 * eps * v * a.filtrate_volume, rel=1e-12)
@@ -215,6 +215,6 @@ def test_washing_by_cake_pore_volumes_equals_the_filtrate_basis_scaled():
 
 def test_washing_by_pore_volumes_needs_the_porosity():
     base = make_case()
-    case = PressCase(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
+    case = PressSystem(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
     with pytest.raises(SolverInputError, match="porosity"):
         solve_cycle(case)

@@ -6,12 +6,12 @@ import pytest
 from server.solver import (
     ConstantPressure,
     ConstantRate,
-    CurveCycle,
+    CycleFamily,
     CycleSettings,
     EndCriterion,
     Filtration,
     Press,
-    PressCase,
+    PressSystem,
     PressureSteps,
     PumpCurve,
     SolverInputError,
@@ -28,7 +28,7 @@ def filtration(s=0.0, R_m=R_M, p_ref=5e5):
 
 
 def case(feed, s=0.0, L=0.04, t_d=1200.0, wash_ratio=0.0, R_m=R_M):
-    return PressCase(filtration(s, R_m), Press(A, L), feed, CycleSettings(t_d, wash_ratio))
+    return PressSystem(filtration(s, R_m), Press(A, L), feed, CycleSettings(t_d, wash_ratio))
 
 
 # --- constant rate, then constant pressure ----------------------------------------------------
@@ -100,8 +100,8 @@ def test_the_general_optimum_reproduces_the_closed_form(wash_ratio):
     P0 = 5e5
     q_clean = P0 * A / (MU * R_M)
     pump = PumpCurve(((0.0, P0), (1.5 * q_clean, P0)))
-    general = CurveCycle(filtration(0.3), A, pump, CycleSettings(1200.0, wash_ratio), 10.0)
-    closed = CurveCycle(filtration(0.3), A, ConstantPressure(P0), CycleSettings(1200.0, wash_ratio), 10.0)
+    general = CycleFamily(filtration(0.3), A, pump, CycleSettings(1200.0, wash_ratio), 10.0)
+    closed = CycleFamily(filtration(0.3), A, ConstantPressure(P0), CycleSettings(1200.0, wash_ratio), 10.0)
     assert general.V_star == pytest.approx(closed.V_star, rel=1e-6)
 
 
@@ -126,7 +126,7 @@ def test_pump_curve_operating_points_match_the_explicit_inverse():
 def test_pump_curve_mass_balance_and_pressure_limit():
     Q, P = falling_pump()
     pump = PumpCurve(tuple(zip(Q, P)), max_pressure=5.5e5)
-    model = CurveCycle(filtration(0.3), A, pump, CycleSettings(1200.0), 20.0)
+    model = CycleFamily(filtration(0.3), A, pump, CycleSettings(1200.0), 20.0)
     V = np.linspace(0, 20.0, 20001)
     t = model.curve.time(V)
     flow = model.curve.rate(V)
@@ -263,7 +263,7 @@ def test_thickness_comparison_with_a_pump_matches_single_solves():
     Q, P = falling_pump()
     c = case(PumpCurve(tuple(zip(Q, P))))
     for L, sol in compare_thicknesses(c, [0.02, 0.04, 0.08]):
-        single = solve_cycle(PressCase(c.filtration, c.press.with_thickness(L), c.feed, c.cycle))
+        single = solve_cycle(PressSystem(c.filtration, c.press.with_thickness(L), c.feed, c.cycle))
         assert sol.best.filtrate_throughput == pytest.approx(single.best.filtrate_throughput, rel=1e-6)
 
 

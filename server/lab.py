@@ -1,10 +1,10 @@
 """From a validated /api/v1/lab-fit request to the solver's lab evaluation, and back."""
 
 from . import solver
-from .cases import first_non_finite, liquid_density
 from .errors import InputError
 from .labdata import CsvError, parse_readings
 from .schemas.labfit import LabFitRequest, LabTestIn
+from .solve import first_non_finite, liquid_density
 from .solver import labfit, water
 from .solver import slurry as sb
 
@@ -58,10 +58,10 @@ def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:
     return test, readings
 
 
-def fit_request(req: LabFitRequest) -> dict:
+def fit_request(lab_request: LabFitRequest) -> dict:
     """The whole /api/v1/lab-fit answer as plain data (SI), checked finite."""
     tests_out, fits, warnings = [], [], []
-    for i, t in enumerate(req.tests):
+    for i, t in enumerate(lab_request.tests):
         test, readings = _test(t, i)
         try:
             fit = labfit.evaluate_test(test)
@@ -90,7 +90,7 @@ def fit_request(req: LabFitRequest) -> dict:
     try:
         combined = labfit.combine_tests(
             [f["pressure"] for f in tests_out], [f.resistance for f in fits],
-            [f.medium_resistance for f in fits], req.reference_pressure,
+            [f.medium_resistance for f in fits], lab_request.reference_pressure,
         )
     except solver.SolverInputError as exc:
         raise InputError([(("body", "tests"), exc.message)]) from None

@@ -1,0 +1,32 @@
+"""What every schema family shares: strict models, "give exactly one of", and the quantity
+types used by more than one resource (each defined once, with its allowed range)."""
+
+from pydantic import BaseModel, ConfigDict
+
+from .quantities import quantity
+
+Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
+SolidsFraction = quantity("fraction", ge=1e-6, lt=1.0, description="Solids mass fraction of the slurry")
+Density = quantity("density", ge=100.0, le=25000.0, description="Density")
+Viscosity = quantity("viscosity", ge=1e-5, le=10.0, description="Viscosity")
+Temperature = quantity("temperature", gt=273.15, lt=373.15, description="Temperature")
+#: A pressure on a press: feed, relief, wash, terminal and reference pressures.
+PressPressure = quantity("pressure", ge=100.0, le=1e8, description="Pressure")
+#: A lab test's pressure: small test cells and vacuum leaves run far below press pressures.
+LabPressure = quantity("pressure", ge=1.0, le=1e8, description="Pressure")
+
+
+class Strict(BaseModel):
+    """Unknown fields are refused (a misspelt field must not pass silently)."""
+
+    model_config = ConfigDict(extra="forbid")
+
+
+def exactly_one(model: BaseModel, names: tuple[str, ...], required: bool = True) -> None:
+    """Refuse a model that gives more than one (or, if required, none) of ``names``."""
+    given = [n for n in names if getattr(model, n) is not None]
+    listing = " or ".join(names)
+    if len(given) > 1:
+        raise ValueError(f"give only one of {listing}; got {' and '.join(given)}")
+    if required and not given:
+        raise ValueError(f"give one of {listing}")

@@ -1,0 +1,278 @@
+"""From a validated cycle request (the inputs) to the solver, and from the solver to results.
+
+The one path from inputs to results: every API route and page solves through :func:`solve`,
+and every number a page or chart shows comes from the solver through here. This is also the
+only module that knows both the request's field paths and the solver's (:data:`API_PATHS`).
+"""
+
+import math
+from contextlib import contextmanager
+from dataclasses import dataclass, replace
+
+from . import solver
+from .errors import InputError
+from .schemas.cycle import CycleRequest
+from .solver import slurry as sb
+from .solver import water
+from .solver.errors import inputs_of
+
+DEFAULT_LIQUID_DENSITY = 998.0  # kg/m^3, water near 20 degC
+
+#: Where the inputs of each solver object sit in the request. Solver errors carry a dotted
+#: path relative to the solve ("feed.pressure", "end.flow", "filtration.resistance"); the
+#: longest matching prefix here gives the request path, and the rest of the solver path is
+#: appended, so a feed's or a future stage's own field names need no entry.
+API_PATHS = {
+    "feed": ("feed",),
+    "press": ("press",),
+    "cycle": ("cycle",),
+    "end": ("cycle", "end"),
+    "water": ("slurry", "temperature"),
+    "filtration.viscosity": ("slurry", "viscosity"),
+    "filtration.resistance": ("cake", "resistance"),
+    "filtration.reference_pressure": ("cake", "reference_pressure"),
+    "filtration.compressibility": ("cake", "compressibility"),
+    "filtration.medium_resistance": ("medium_resistance",),
+    "balance.solids_mass_fraction": ("slurry", "solids_mass_fraction"),
+    "balance.solids_concentration": ("slurry", "solids_concentration"),
+    "balance.solids_density": ("slurry", "solids_density"),
+    "balance.liquid_density": ("slurry", "liquid_density"),
+    "balance.moisture": ("cake", "moisture"),
+    "balance.wet_to_dry_ratio": ("cake", "wet_to_dry_ratio"),
+    "balance.porosity": ("cake", "porosity"),
+}
+
+
+def api_path(solver_path: str) -> tuple:
+    """The request path (with the leading "body") of a solver input path.
+
+    >>> api_path("end.flow_fraction")
+    ('body', 'cycle', 'end', 'flow_fraction')
+    >>> api_path("feed.pressure"), api_path("balance.moisture")
+    (('body', 'feed', 'pressure'), ('body', 'cake', 'moisture'))
+    """
+    parts = solver_path.split(".")
+    for k in range(len(parts), 0, -1):
+        mapped = API_PATHS.get(".".join(parts[:k]))
+        if mapped is not None:
+            return ("body", *mapped, *parts[k:])
+    return ("body",)
+
+
+@contextmanager
+def solver_errors():
+    """Solver input errors in the block become a 422 at the field they concern."""
+    try:
+        yield
+    except solver.SolverInputError as exc:
+        raise InputError([(api_path(exc.parameter), exc.message)]) from None
+
+
+CAUTIONS = [
+    "Results are estimates from filtration test data, not a guarantee of press performance.",
+    "The press and plate pressure ratings set by their maker, guards, lockout before opening, "
+    "clamping pressure and the site's procedures always govern.",
+    "Defer to local codes and licensed engineering practice.",
+]
+
+RESULT_UNITS = {
+    "filtrate_volume": "m^3", "filtration_time": "s", "wash_volume": "m^3", "wash_time": "s",
+    "downtime": "s", "cycle_time": "s", "filtrate_throughput": "m^3/s",
+    "solids_throughput": "kg/s", "cake_thickness": "m", "chamber_fill": "1",
+    "dry_cake_mass": "kg", "wet_cake_mass": "kg", "final_rate": "m^3/s", "final_pressure": "Pa",
+    "chamber_thickness": "m", "c": "kg/m^3", "cake_volume_ratio": "1", "porosity": "1",
+    "wet_to_dry_ratio": "1", "moisture": "1", "solids_mass_fraction": "1",
+    "liquid_density": "kg/m^3", "viscosity": "Pa*s", "resistance_at_feed": "m/kg",
+    "filter_area": "m^2", "chamber_volume": "m^3", "chambers_full_volume": "m^3",
+    "cake_constant": "s/m^6", "medium_constant": "s/m^3", "matched_chamber_thickness": "m",
+    "throughput_gain_unconstrained": "1", "throughput_ratio_to_best": "1", "time": "s",
+    "pressure": "Pa", "flow": "m^3/s", "required": "kg/s or m^3/s", "achieved": "kg/s or m^3/s",
+    "hours_per_day": "h",
+}
+
+
+@dataclass(frozen=True)
+class BuiltSystem:
+    """The solver objects built from a request, with the slurry figures derived on the way."""
+
+    system: solver.PressSystem
+    end: solver.EndCriterion
+    derived: dict
+
+
+def liquid_density(given: float | None, temperature: float | None) -> float:
+    """The filtrate density: as given, else water at the temperature, else 998 kg/m³."""
+    if given is not None:
+        return given
+    return water.water_density(temperature) if temperature is not None else DEFAULT_LIQUID_DENSITY
+
+
+def build_system(inputs: CycleRequest) -> BuiltSystem:
+    """Turn schema-valid inputs into solver objects; impossible combinations -> InputError."""
+    with solver_errors():
+        return _build(inputs)
+
+
+def _build(inputs: CycleRequest) -> BuiltSystem:
+    s, k = inputs.slurry, inputs.cake
+    with inputs_of("water"):
+        rho_l = liquid_density(s.liquid_density, s.temperature)
+        mu = s.viscosity if s.viscosity is not None else water.water_viscosity(s.temperature)
+    with inputs_of("balance"):
+        bal = sb.balance(
+            liquid_density=rho_l, solids_density=s.solids_density, solids_mass_fraction=s.solids_mass_fraction,
+            solids_concentration=s.solids_concentration, moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio,
+            porosity=k.porosity,
+        )
+    with inputs_of("press"):
+        press = inputs.press.to_solver()
+    with inputs_of("feed"):
+        feed = inputs.feed.to_solver()
+    p_ref = k.reference_pressure if k.reference_pressure is not None else feed.pressure_cap
+    with inputs_of("filtration"):
+        filtration = solver.Filtration(
+            solids_per_filtrate=bal.solids_per_filtrate, cake_volume_ratio=bal.cake_volume_ratio,
+            wet_to_dry_ratio=bal.wet_to_dry_ratio, viscosity=mu, resistance_ref=k.resistance,
+            reference_pressure=p_ref, compressibility=k.compressibility,
+            medium_resistance=inputs.medium_resistance, porosity=bal.porosity,
+        )
+    with inputs_of("cycle"):
+        settings = inputs.cycle.to_solver()
+    with inputs_of("end"):
+        end = inputs.cycle.end.to_solver()
+    derived = {
+        "feed_mode": feed.mode, "c": bal.solids_per_filtrate, "cake_volume_ratio": bal.cake_volume_ratio,
+        "porosity": bal.porosity, "wet_to_dry_ratio": bal.wet_to_dry_ratio,
+        "moisture": bal.moisture, "solids_mass_fraction": bal.solids_mass_fraction,
+        "liquid_density": rho_l, "viscosity": mu,
+        "resistance_at_feed": filtration.specific_resistance(feed.pressure_cap),
+        "filter_area": press.filter_area, "chamber_volume": press.chamber_volume,
+    }
+    return BuiltSystem(solver.PressSystem(filtration, press, feed, settings), end, derived)
+
+
+def _cycle_dict(r: solver.CycleResult) -> dict:
+    return {name: getattr(r, name) for name in r.__dataclass_fields__}
+
+
+@dataclass(frozen=True)
+class SolvedScenario:
+    """A scenario's results (the /api/v1/cycle answer, plain SI data) and, when asked for,
+    the SI data of every chart (solver/sweeps.py)."""
+
+    results: dict
+    chart_series: dict | None
+
+
+def solve_results(inputs: CycleRequest) -> dict:
+    """The whole /api/v1/cycle answer as plain data (SI), checked finite."""
+    return solve(inputs).results
+
+
+def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenario:
+    """Solve a scenario: its results, and its chart series if asked for (pages draw them)."""
+    built = build_system(inputs)
+    system, end = built.system, built.end
+    with solver_errors():
+        family = solver.cycle_family_for(system, inputs.compare_thicknesses)
+        sol = solver.solve_cycle(system, end, family)
+        rows = solver.compare_thicknesses(system, inputs.compare_thicknesses, end, family)
+        series = solver.chart_series(family, system, sol) if with_chart_series else None
+    derived = dict(built.derived)
+    derived.update(
+        chambers_full_volume=sol.chambers_full_volume,
+        cake_constant=sol.K_p, medium_constant=sol.B,
+        matched_chamber_thickness=sol.matched_chamber_thickness,
+        throughput_gain_unconstrained=sol.throughput_gain_unconstrained,
+    )
+    at_end = _cycle_dict(sol.at_end.cycle)
+    at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
+    results = {
+        "derived": derived,
+        "uncertainty": uncertainty(inputs, built, sol),
+        "target": target_check(inputs, sol),
+        "best": _cycle_dict(sol.best),
+        "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
+        "chambers_full": _cycle_dict(sol.chambers_full),
+        "at_end": at_end,
+        "curves": {k: [float(x) for x in v] for k, v in sol.curves.items()},
+        "thickness_comparison": [
+            {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
+            for L, t in rows
+        ],
+        "warnings": list(sol.warnings),
+        "cautions": CAUTIONS,
+        "units": RESULT_UNITS,
+        "solver_version": solver.SOLVER_VERSION,
+    }
+    bad = first_non_finite(results) or (first_non_finite(series, "chart_series") if series else None)
+    if bad is not None:
+        raise InputError(
+            [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
+        )
+    return SolvedScenario(results, series)
+
+
+def target_check(inputs: CycleRequest, sol) -> dict | None:
+    """Does the press meet the production target at its best cycle, and how many presses would?"""
+    t = inputs.target
+    if t is None:
+        return None
+    key = "solids_throughput" if t.solids_throughput is not None else "filtrate_throughput"
+    required = getattr(t, key)
+    achieved = getattr(sol.best, key) * t.hours_per_day / 24.0
+    ratio = achieved / required
+    return {"quantity": key, "required": required, "achieved": achieved, "ratio": ratio, "meets": ratio >= 1.0,
+            "presses_needed": max(1, math.ceil(required / achieved * (1 - 1e-12))), "hours_per_day": t.hours_per_day}
+
+
+def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
+    """The best cycle over resistance ± one standard error (each of alpha and R_m, all corners).
+
+    A plain corner check, not a statistical interval: it shows how far the lab fit's scatter
+    moves the answer. A lower bound at or below zero is left out (and said so).
+    """
+    se_a, se_r = inputs.cake.resistance_stderr, inputs.medium_resistance_stderr
+    if not se_a and not se_r:
+        return None
+    f = built.system.filtration
+    alphas = [f.resistance_ref + d * (se_a or 0.0) for d in (-1, 1)]
+    meds = [f.medium_resistance + d * (se_r or 0.0) for d in (-1, 1)]
+    notes = []
+    if alphas[0] <= 0:
+        alphas, notes = alphas[1:], notes + ["alpha minus its standard error is not positive and was left out"]
+    if meds[0] < 0:
+        meds, notes = meds[1:] + [0.0], notes + ["the cloth resistance's lower bound is taken as 0"]
+    corners = []
+    for a in alphas:
+        for r in meds:
+            variant = replace(built.system, filtration=replace(f, resistance_ref=a, medium_resistance=r))
+            # the best cycle does not depend on how the engineer ends filtration: solving the
+            # corners for it alone keeps an end threshold that a corner never reaches harmless
+            corners.append(solver.solve_cycle(variant, solver.EndCriterion(), with_curves=False).best)
+    corners.append(sol.best)
+
+    def span(key):
+        values = [getattr(b, key) for b in corners]
+        return [min(values), max(values)]
+
+    basis = "best cycle at resistance and cloth resistance each one standard error below and above"
+    return {"filtrate_throughput": span("filtrate_throughput"), "solids_throughput": span("solids_throughput"),
+            "filtration_time": span("filtration_time"), "cycle_time": span("cycle_time"),
+            "basis": basis + ("; " + "; ".join(notes) if notes else "")}
+
+
+def first_non_finite(obj, path="") -> str | None:
+    if isinstance(obj, float):
+        return None if math.isfinite(obj) else path or "result"
+    if isinstance(obj, dict):
+        items = obj.items()
+    elif isinstance(obj, list):
+        items = enumerate(obj)
+    else:
+        return None
+    for key, value in items:
+        found = first_non_finite(value, f"{path}.{key}" if path else str(key))
+        if found:
+            return found
+    return None

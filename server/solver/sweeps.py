@@ -1,0 +1,74 @@
+"""The data behind every chart, in SI: sweeps over end volume, chamber thickness and time.
+
+Each series is computed from the same :class:`~.cycle.CycleFamily` and
+:class:`~.cycle.CycleSolution` that give the best cycle, through their own methods (cycle
+time, throughput, chambers-full volume), so a stage added to the cycle moves the curves and
+the marked optimum together. The web edge only converts these series to display units.
+"""
+
+import numpy as np
+
+from .cycle import CycleFamily, CycleSolution, PressSystem
+from .press import chambers_full_volume
+
+
+def _list(a) -> list:
+    return [float(x) for x in np.asarray(a, dtype=float)]
+
+
+def thickness_grid(L_press: float, L_matched: float, n: int = 120) -> np.ndarray:
+    """Chamber thicknesses [m] around this press's and the matched one, 1 mm to 500 mm."""
+    lo = max(1e-3, 0.3 * min(L_press, L_matched))
+    hi = min(0.5, 2.5 * max(L_press, L_matched))
+    return np.unique(np.concatenate((np.linspace(lo, hi, n), [L_press], [min(max(L_matched, lo), hi)])))
+
+
+def throughput_against_time(family: CycleFamily, solution: CycleSolution) -> dict:
+    """Filtrate throughput over end volumes to 1.6x past full chambers or the optimum.
+
+    Keys: cycle_time [s], filtration_time [s], filtrate_throughput [m^3/s], feasible (the
+    cake fits the chambers).
+    """
+    V_full = solution.chambers_full_volume
+    V_top = 1.6 * max(V_full, solution.unconstrained_optimum.filtrate_volume)
+    V = np.concatenate((np.geomspace(V_top * 1e-3, V_full, 150), np.linspace(V_full, V_top, 90)[1:]))
+    T = family.cycle_time(V)
+    return {"cycle_time": _list(T), "filtration_time": _list(family.curve.time(V)),
+            "filtrate_throughput": _list(V / T), "feasible": [bool(x) for x in V <= V_full * (1 + 1e-12)]}
+
+
+def throughput_against_thickness(family: CycleFamily, system: PressSystem, L: np.ndarray) -> dict:
+    """Best throughput [m^3/s] and the chamber fill at it [-] for each chamber thickness L [m]."""
+    press, v = system.press, system.filtration.cake_volume_ratio
+    V_best = np.minimum(family.V_star, chambers_full_volume(press.filter_area, L, v, press.fill_fraction))
+    return {"chamber_thickness": _list(L), "filtrate_throughput": _list(family.throughput(V_best)),
+            "chamber_fill": _list(press.chamber_fill(V_best, v, L))}
+
+
+def throughput_map(family: CycleFamily, system: PressSystem, solution: CycleSolution, L: np.ndarray) -> dict:
+    """Throughput [m^3/s] over set filtration time x chamber thickness; the press stops at the
+    set time or at full chambers, whichever comes first. Rows are thicknesses."""
+    press, v = system.press, system.filtration.cake_volume_ratio
+    t_top = 2.0 * max(solution.unconstrained_optimum.filtration_time, solution.chambers_full.filtration_time)
+    t = np.linspace(t_top / 80, t_top, 80)
+    V_full = chambers_full_volume(press.filter_area, L, v, press.fill_fraction)
+    Q = family.throughput(np.minimum(family.curve.volume(t)[None, :], V_full[:, None]))
+    return {"filtration_time": _list(t), "chamber_thickness": _list(L),
+            "filtrate_throughput": [_list(row) for row in Q], "chambers_full_time": _list(family.curve.time(V_full))}
+
+
+def chart_series(family: CycleFamily, system: PressSystem, solution: CycleSolution) -> dict:
+    """The data of every chart of a solved scenario, as plain lists (SI).
+
+    ``pressure_varies`` comes from the feed itself (constant pressure or not), so the
+    filtration chart draws pressure and flow only where they change.
+    """
+    L = thickness_grid(system.press.chamber_thickness, solution.matched_chamber_thickness)
+    return {
+        "throughput_time": throughput_against_time(family, solution),
+        "throughput_thickness": throughput_against_thickness(family, system, L),
+        "throughput_map": throughput_map(family, system, solution, L[::3]),
+        "filtration": {k: _list(x) for k, x in solution.curves.items()},
+        "pressure_varies": bool(system.feed.pressure_varies),
+        "chamber_thickness": system.press.chamber_thickness,
+    }
