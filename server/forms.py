@@ -32,7 +32,7 @@ UNIT_CHOICES = {
 
 
 @dataclass(frozen=True)
-class F:
+class FormField:
     """One input: its API path, label, unit kind, one-line hint with the typical range."""
 
     path: str
@@ -52,123 +52,129 @@ class F:
 
 @dataclass(frozen=True)
 class Choice:
-    """Alternatives: exactly one option's fields are sent."""
+    """Alternatives: exactly one option's fields are sent.
+
+    With ``sent`` the chosen option's value is itself an input at the API path ``name``
+    (``feed.mode``); otherwise ``name`` only names the choice and the option is read back
+    from which of its fields the inputs hold.
+    """
 
     name: str
     label: str
-    options: list  # (value, label, [F, ...])
+    options: list  # (value, label, [FormField, ...])
+    sent: bool = False
 
 
 @dataclass(frozen=True)
 class Group:
     key: str
     title: str
-    items: list = field(default_factory=list)  # F or Choice
+    items: list = field(default_factory=list)  # FormField or Choice
 
 
 GROUPS = [
     Group("slurry", "Slurry", [
         Choice("slurry.basis", "Solids given as", [
-            ("mass_fraction", "mass fraction", [F("slurry.solids_mass_fraction", "Solids in the slurry", "fraction",
+            ("mass_fraction", "mass fraction", [FormField("slurry.solids_mass_fraction", "Solids in the slurry", "fraction",
                                                  "by mass; typically 1–60 %")]),
-            ("concentration", "per slurry volume", [F("slurry.solids_concentration", "Solids per slurry volume",
+            ("concentration", "per slurry volume", [FormField("slurry.solids_concentration", "Solids per slurry volume",
                                                        "concentration", "dry solids per m³ of slurry; typically 10–800 kg/m³")]),
         ]),
-        F("slurry.solids_density", "Solids density", "density", "minerals 2000–5000 kg/m³, organics 1000–1600"),
-        F("slurry.liquid_density", "Filtrate density", "density",
+        FormField("slurry.solids_density", "Solids density", "density", "minerals 2000–5000 kg/m³, organics 1000–1600"),
+        FormField("slurry.liquid_density", "Filtrate density", "density",
           "blank: water at the temperature, or 998 kg/m³", optional=True),
         Choice("slurry.viscosity_basis", "Filtrate viscosity from", [
-            ("temperature", "temperature (water-like)", [F("slurry.temperature", "Slurry temperature", "temperature",
+            ("temperature", "temperature (water-like)", [FormField("slurry.temperature", "Slurry temperature", "temperature",
                                                              "water-like filtrate; 1–99 °C")]),
-            ("viscosity", "measured viscosity", [F("slurry.viscosity", "Filtrate viscosity", "viscosity",
+            ("viscosity", "measured viscosity", [FormField("slurry.viscosity", "Filtrate viscosity", "viscosity",
                                                    "water is 1.0 mPa·s at 20 °C; typically 0.3–5")]),
         ]),
     ]),
     Group("cake", "Cake", [
-        F("cake.resistance", "Specific cake resistance α", "specific_resistance",
+        FormField("cake.resistance", "Specific cake resistance α", "specific_resistance",
           "from your lab test; 1e9 free-draining to 1e14 m/kg for slimes"),
-        F("cake.resistance_stderr", "… its standard error", "specific_resistance",
+        FormField("cake.resistance_stderr", "… its standard error", "specific_resistance",
           "optional, from the lab fit: shows how far the answer moves", optional=True),
-        F("cake.reference_pressure", "… measured at", "pressure",
+        FormField("cake.reference_pressure", "… measured at", "pressure",
           "the test pressure of α; needed when s > 0", optional=True),
-        F("cake.compressibility", "Compressibility s", "ratio", "0 incompressible; 0.1–0.9 compressible", optional=True),
+        FormField("cake.compressibility", "Compressibility s", "ratio", "0 incompressible; 0.1–0.9 compressible", optional=True),
         Choice("cake.liquid_basis", "Cake liquid given as", [
-            ("moisture", "moisture", [F("cake.moisture", "Cake moisture", "fraction",
+            ("moisture", "moisture", [FormField("cake.moisture", "Cake moisture", "fraction",
                                         "liquid / wet cake mass; typically 8–80 %")]),
-            ("wet_to_dry_ratio", "wet-to-dry ratio", [F("cake.wet_to_dry_ratio", "Wet / dry cake mass", "ratio",
+            ("wet_to_dry_ratio", "wet-to-dry ratio", [FormField("cake.wet_to_dry_ratio", "Wet / dry cake mass", "ratio",
                                                         "typically 1.1–5; about 2 for fine minerals")]),
-            ("porosity", "porosity", [F("cake.porosity", "Cake porosity", "fraction", "void fraction; typically 30–80 %")]),
+            ("porosity", "porosity", [FormField("cake.porosity", "Cake porosity", "fraction", "void fraction; typically 30–80 %")]),
         ]),
     ]),
     Group("cloth", "Cloth", [
-        F("medium_resistance", "Cloth resistance R_m", "medium_resistance",
+        FormField("medium_resistance", "Cloth resistance R_m", "medium_resistance",
           "from your lab test; typically 1e9–1e12 1/m; 0 neglects the cloth"),
-        F("medium_resistance_stderr", "… its standard error", "medium_resistance",
+        FormField("medium_resistance_stderr", "… its standard error", "medium_resistance",
           "optional, from the lab fit", optional=True),
     ]),
     Group("press", "Press", [
         Choice("press.geometry", "Press given as", [
-            ("area", "total filter area", [F("press.filter_area", "Total filter area", "area",
+            ("area", "total filter area", [FormField("press.filter_area", "Total filter area", "area",
                                             "both faces of every chamber")]),
             ("plates", "plates and chambers", [
-                F("press.plate_face_area", "Filter area per chamber face", "area", "e.g. about 1.8 m² for 1.5 m plates"),
-                F("press.chambers", "Number of chambers", "count", "plates in the pack minus one"),
+                FormField("press.plate_face_area", "Filter area per chamber face", "area", "e.g. about 1.8 m² for 1.5 m plates"),
+                FormField("press.chambers", "Number of chambers", "count", "plates in the pack minus one"),
             ]),
         ]),
-        F("press.chamber_thickness", "Chamber thickness", "length", "typically 20–60 mm"),
-        F("press.fill_fraction", "Usable chamber fill", "fraction",
+        FormField("press.chamber_thickness", "Chamber thickness", "length", "typically 20–60 mm"),
+        FormField("press.fill_fraction", "Usable chamber fill", "fraction",
           "share of chamber volume the cake may fill; 80–100 %", optional=True),
     ]),
     Group("feed", "Feed", [
-        Choice("feed.mode", "Feed", [
-            ("constant_pressure", "constant pressure", [F("feed.pressure", "Feed pressure", "pressure",
+        Choice("feed.mode", "Feed", sent=True, options=[
+            ("constant_pressure", "constant pressure", [FormField("feed.pressure", "Feed pressure", "pressure",
                                                           "drop across cake and cloth; presses run 5–16 bar")]),
             ("constant_rate", "positive-displacement pump", [
-                F("feed.flow", "Set flow", "flow", "filtrate flow while below the maximum pressure"),
-                F("feed.max_pressure", "Maximum pressure", "pressure", "relief or set pressure, then held"),
+                FormField("feed.flow", "Set flow", "flow", "filtrate flow while below the maximum pressure"),
+                FormField("feed.max_pressure", "Maximum pressure", "pressure", "relief or set pressure, then held"),
             ]),
             ("pump_curve", "centrifugal pump curve", [
-                F("feed.points", "Pump curve (flow, pressure per line)", "curve", "pressure must fall as flow rises"),
-                F("feed.max_pressure", "Relief pressure", "pressure", "blank: none", optional=True),
+                FormField("feed.points", "Pump curve (flow, pressure per line)", "curve", "pressure must fall as flow rises"),
+                FormField("feed.max_pressure", "Relief pressure", "pressure", "blank: none", optional=True),
             ]),
             ("pressure_steps", "pressure in stages", [
-                F("feed.steps", "Stages (pressure, duration per line)", "steps", "the last stage is held"),
+                FormField("feed.steps", "Stages (pressure, duration per line)", "steps", "the last stage is held"),
             ]),
         ]),
     ]),
     Group("cycle", "Cycle", [
-        F("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically 10–60 min"),
-        F("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below; 0 = no washing", optional=True),
-        F("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
-        F("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
-        F("cycle.wash_pressure", "Wash pressure", "pressure", "blank: the filtration pressure", optional=True),
-        F("cycle.wash_viscosity", "Wash liquid viscosity", "viscosity", "blank: the filtrate's", optional=True),
-        Choice("cycle.end.criterion", "End filtration at", [
+        FormField("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically 10–60 min"),
+        FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below; 0 = no washing", optional=True),
+        FormField("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
+        FormField("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
+        FormField("cycle.wash_pressure", "Wash pressure", "pressure", "blank: the filtration pressure", optional=True),
+        FormField("cycle.wash_viscosity", "Wash liquid viscosity", "viscosity", "blank: the filtrate's", optional=True),
+        Choice("cycle.end.criterion", "End filtration at", sent=True, options=[
             ("best", "best throughput", []),
             ("chambers_full", "full chambers", []),
-            ("time", "a set time", [F("cycle.end.time", "Filtration time", "time", "from the start of feeding")]),
+            ("time", "a set time", [FormField("cycle.end.time", "Filtration time", "time", "from the start of feeding")]),
             ("flow", "a filtrate flow", [
-                F("cycle.end.flow", "Flow below", "flow", "give one of these three: the filtrate flow", optional=True),
-                F("cycle.end.flow_per_area", "… or flow per filter area below", "flux", "e.g. 20–100 L/(m²·h)", optional=True),
-                F("cycle.end.flow_fraction", "… or share of the initial flow below", "fraction", "e.g. 10 %", optional=True),
+                FormField("cycle.end.flow", "Flow below", "flow", "give one of these three: the filtrate flow", optional=True),
+                FormField("cycle.end.flow_per_area", "… or flow per filter area below", "flux", "e.g. 20–100 L/(m²·h)", optional=True),
+                FormField("cycle.end.flow_fraction", "… or share of the initial flow below", "fraction", "e.g. 10 %", optional=True),
             ]),
-            ("pressure", "a terminal pressure", [F("cycle.end.pressure", "Terminal pressure", "pressure",
+            ("pressure", "a terminal pressure", [FormField("cycle.end.pressure", "Terminal pressure", "pressure",
                                                    "for pump feeds whose pressure rises")]),
         ]),
     ]),
     Group("target", "Production target", [
         Choice("target.basis", "Check against", [
             ("none", "no target", []),
-            ("solids", "dry solids", [F("target.solids_throughput", "Required dry solids", "mass_rate",
+            ("solids", "dry solids", [FormField("target.solids_throughput", "Required dry solids", "mass_rate",
                                         "averaged over the day")]),
-            ("filtrate", "filtrate", [F("target.filtrate_throughput", "Required filtrate", "flow",
+            ("filtrate", "filtrate", [FormField("target.filtrate_throughput", "Required filtrate", "flow",
                                         "averaged over the day")]),
         ]),
-        F("target.hours_per_day", "Press running hours per day", "ratio",
+        FormField("target.hours_per_day", "Press running hours per day", "ratio",
           "availability after maintenance and stops; blank: 24 h", optional=True),
     ]),
     Group("compare", "Compare", [
-        F("compare_thicknesses", "Chamber thicknesses to compare", "length_list", "e.g. 25, 32, 40", optional=True),
+        FormField("compare_thicknesses", "Chamber thicknesses to compare", "length_list", "e.g. 25, 32, 40", optional=True),
     ]),
 ]
 
@@ -232,11 +238,8 @@ def prefill(inputs: dict) -> dict:
             if isinstance(item, Choice):
                 picked = item.options[0][0]
                 for value, _, fields in item.options:
-                    if item.name == "feed.mode":
-                        if _get(inputs, "feed.mode") == value:
-                            picked = value
-                    elif item.name == "cycle.end.criterion":
-                        if _get(inputs, "cycle.end.criterion") == value:
+                    if item.sent:
+                        if _get(inputs, item.name) == value:
                             picked = value
                     elif any(_get(inputs, f.path) is not None for f in fields):
                         picked = value
@@ -250,7 +253,7 @@ def prefill(inputs: dict) -> dict:
     return {"values": values, "choices": choices}
 
 
-def _fill(values: dict, f: F, inputs: dict, chosen: bool) -> None:
+def _fill(values: dict, f: FormField, inputs: dict, chosen: bool) -> None:
     raw = _get(inputs, f.path) if chosen else None
     if f.kind == "curve":
         pts = raw or []

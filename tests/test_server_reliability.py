@@ -11,6 +11,9 @@ import pytest
 from server.settings import PROJECT_ROOT
 from tests.liveserver import LiveServer
 
+# a real uvicorn per test: minutes, not seconds ("pytest -m 'not slow'" leaves them out)
+pytestmark = pytest.mark.slow
+
 COPPER = json.loads((PROJECT_ROOT / "demo_cases" / "copper_concentrate.json").read_text())["inputs"]
 
 

@@ -36,7 +36,8 @@ def test_exact_conversions_of_nist_sp_811(text, kind, si):
 def test_psi_matches_nist_sp_811():
     # NIST SP 811: 1 psi = 6.894 757 E+03 Pa (lbf/in^2 from exact lb, ft and g_n).
     assert parse_quantity("1 psi", "pressure") == pytest.approx(6894.757, rel=1e-7)
-    # domain primer check value: 2 atm = 4232.4 lbf/ft^2
+    # NIST SP 811 (2008 ed.), Appendix B.8: 1 atm = 1.013 25 E+05 Pa (exact) and
+    # 1 lbf/ft^2 = 4.788 026 E+01 Pa, so 2 atm = 202 650 / 47.880 26 = 4232.4 lbf/ft^2
     ratio = parse_quantity("2 atm", "pressure") / parse_quantity("1 lbf/ft^2", "pressure")
     assert ratio == pytest.approx(4232.4, rel=2e-5)
 

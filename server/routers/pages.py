@@ -1,4 +1,4 @@
-"""HTML pages: home, the scenario editor (new or from a demo case), vendor assets."""
+"""HTML pages: home, the scenario editor (new or from a demo scenario), vendor assets."""
 
 import json
 from functools import lru_cache

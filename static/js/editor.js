@@ -54,7 +54,7 @@
     form.querySelectorAll("[data-choice]").forEach((c) => {
       const name = c.dataset.choice;
       const value = c.querySelector(`[name="${name}@choice"]`).value;
-      if (name === "feed.mode" || name === "cycle.end.criterion") setPath(body, name, value);
+      if ("sent" in c.dataset) setPath(body, name, value); // the option is itself an input (feed.mode)
     });
     form.querySelectorAll("input[name], textarea[name], select[name]").forEach((el) => {
       const path = el.name;

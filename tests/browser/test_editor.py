@@ -4,7 +4,7 @@ import re
 
 import pytest
 
-pytestmark = pytest.mark.browser
+pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 
 def headline(page) -> dict:

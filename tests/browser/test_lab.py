@@ -6,7 +6,7 @@ import pytest
 
 from tests.browser.test_editor import clean
 
-pytestmark = pytest.mark.browser
+pytestmark = [pytest.mark.browser, pytest.mark.slow]
 DATA = Path(__file__).resolve().parents[1] / "data"
 
 

@@ -4,7 +4,7 @@ import pytest
 
 from tests.browser.test_editor import clean, headline, wait_results
 
-pytestmark = pytest.mark.browser
+pytestmark = [pytest.mark.browser, pytest.mark.slow]
 
 
 def test_save_open_the_link_elsewhere_then_edit_a_copy(page, browser):

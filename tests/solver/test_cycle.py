@@ -22,7 +22,7 @@ from server.solver import (
 from server.solver import slurry as sb
 
 
-def make_case(alpha=1e11, R_m=5e10, area=50.0, L=0.04, dP=5e5, t_d=1200.0, wash_ratio=0.0,
+def make_system(alpha=1e11, R_m=5e10, area=50.0, L=0.04, dP=5e5, t_d=1200.0, wash_ratio=0.0,
               washing="through", wash_pressure=None, wash_viscosity=None, mu=1e-3, c=250.0,
               v=0.15, s=0.0, fill=1.0):
     f = Filtration(c, v, 1.6, mu, alpha, 5e5, s, R_m)
@@ -33,7 +33,9 @@ def make_case(alpha=1e11, R_m=5e10, area=50.0, L=0.04, dP=5e5, t_d=1200.0, wash_
 
 
 def brute_force_throughput(case):
-    """Throughput written out again from the domain primer, independently of the solver."""
+    """Throughput written out again from Ruth's equation and the through-washing rule
+    (wash rate = final rate / 4 for through-washing: McCabe, Smith & Harriott, Unit Operations
+    of Chemical Engineering, 7th ed., ch. 30, from memory), independently of the solver."""
     f, p, cyc = case.filtration, case.press, case.cycle
     dP = case.feed.pressure
     alpha = f.resistance_ref * (dP / f.reference_pressure) ** f.compressibility
@@ -52,16 +54,20 @@ def brute_force_throughput(case):
 
 
 def test_at_the_optimum_filtration_time_is_downtime_plus_medium_term():
-    # Classic result (McCabe, Smith & Harriott, "Filtration"; domain primer): t_f* = t_d + B V*.
-    case = make_case(L=0.2)
+    # Classic result: t_f* = t_d + B V* (McCabe, Smith & Harriott, Unit Operations of Chemical
+    # Engineering, 7th ed., ch. 30, optimum cycle time; Coulson & Richardson's Chemical
+    # Engineering Vol. 2, 5th ed., section 7.3; both from memory).
+    case = make_system(L=0.2)
     sol = solve_cycle(case)
     u = sol.unconstrained_optimum
     assert u.filtration_time == pytest.approx(case.cycle.downtime + sol.B * u.filtrate_volume, rel=1e-12)
 
 
 def test_with_washing_filtration_plus_wash_is_downtime_plus_medium_term():
-    # Domain primer: t_f* + t_w* = t_d + B (1 + a) V*, a = phi r (mu_w/mu)(dP/dP_w).
-    case = make_case(L=0.3, wash_ratio=1.5, wash_pressure=3e5, wash_viscosity=0.8e-3)
+    # With t_w = a V (K_p V + B), a = phi r (mu_w/mu)(dP/dP_w), setting dQ/dV = 0 in
+    # Q = V / (K_p V^2/2 + B V + t_w + t_d) gives t_f* + t_w* = t_d + B (1 + a) V*
+    # (derived here from the line above; the same steps as the classic result without wash).
+    case = make_system(L=0.3, wash_ratio=1.5, wash_pressure=3e5, wash_viscosity=0.8e-3)
     sol = solve_cycle(case)
     u = sol.unconstrained_optimum
     a = 4 * 1.5 * 0.8 * (5e5 / 3e5)
@@ -71,14 +77,14 @@ def test_with_washing_filtration_plus_wash_is_downtime_plus_medium_term():
 
 
 def test_without_medium_resistance_filtration_time_equals_downtime():
-    sol = solve_cycle(make_case(R_m=0.0, L=0.3))
+    sol = solve_cycle(make_system(R_m=0.0, L=0.3))
     assert sol.unconstrained_optimum.filtration_time == pytest.approx(1200.0, rel=1e-12)
 
 
 @pytest.mark.parametrize("wash_ratio,washing", [(0.0, "through"), (1.0, "through"), (2.5, "simple")])
 @pytest.mark.parametrize("R_m", [0.0, 5e10, 2e12])
 def test_optimum_agrees_with_brute_force_scipy_to_1e_6(wash_ratio, washing, R_m):
-    case = make_case(R_m=R_m, wash_ratio=wash_ratio, washing=washing, L=0.5)
+    case = make_system(R_m=R_m, wash_ratio=wash_ratio, washing=washing, L=0.5)
     Q, _, _ = brute_force_throughput(case)
     V_star = solve_cycle(case).unconstrained_optimum.filtrate_volume
     res = minimize_scalar(lambda V: -Q(V), bounds=(1e-9, 100 * V_star), method="bounded",
@@ -89,7 +95,7 @@ def test_optimum_agrees_with_brute_force_scipy_to_1e_6(wash_ratio, washing, R_m)
 
 def test_numeric_optimum_matches_closed_form_to_1e_6():
     # The general path (used by feed modes without a closed form) against the closed form.
-    case = make_case(wash_ratio=0.7, L=0.5)
+    case = make_system(wash_ratio=0.7, L=0.5)
     Q, _, _ = brute_force_throughput(case)
     closed = solve_cycle(case).unconstrained_optimum.filtrate_volume
     assert numeric_optimum_volume(Q, 0.01) == pytest.approx(closed, rel=1e-6)
@@ -97,14 +103,15 @@ def test_numeric_optimum_matches_closed_form_to_1e_6():
 
 @pytest.mark.parametrize("area", [5.0, 50.0, 400.0])
 def test_without_medium_fill_time_is_independent_of_filter_area(area):
-    # Domain primer: with B = 0 the time to fill the chambers does not depend on A.
-    ref = solve_cycle(make_case(R_m=0.0, area=50.0)).chambers_full.filtration_time
-    assert solve_cycle(make_case(R_m=0.0, area=area)).chambers_full.filtration_time == pytest.approx(ref, rel=1e-12)
+    # With B = 0, t = K_p V^2/2 and V_full = A L/(2 v), K_p = mu alpha c/(A^2 dP), so
+    # t_full = mu alpha c L^2/(8 v^2 dP): no A in it (derived here from Ruth's equation).
+    ref = solve_cycle(make_system(R_m=0.0, area=50.0)).chambers_full.filtration_time
+    assert solve_cycle(make_system(R_m=0.0, area=area)).chambers_full.filtration_time == pytest.approx(ref, rel=1e-12)
 
 
 def test_without_medium_fill_time_scales_with_thickness_squared():
-    t1 = solve_cycle(make_case(R_m=0.0, L=0.025)).chambers_full.filtration_time
-    t2 = solve_cycle(make_case(R_m=0.0, L=0.05)).chambers_full.filtration_time
+    t1 = solve_cycle(make_system(R_m=0.0, L=0.025)).chambers_full.filtration_time
+    t2 = solve_cycle(make_system(R_m=0.0, L=0.05)).chambers_full.filtration_time
     assert t2 == pytest.approx(4 * t1, rel=1e-12)
 
 
@@ -130,26 +137,26 @@ def test_optimum_frame_thickness_coulson_richardson_example_7_2():
 
 
 def test_best_cycle_is_capped_where_the_chambers_fill():
-    thin = solve_cycle(make_case(L=0.01))
+    thin = solve_cycle(make_system(L=0.01))
     assert thin.best.limited_by == "chambers_full"
     assert thin.best == thin.chambers_full
     assert thin.best.chamber_fill == pytest.approx(1.0)
     assert thin.throughput_gain_unconstrained > 0
-    thick = solve_cycle(make_case(L=0.3))
+    thick = solve_cycle(make_system(L=0.3))
     assert thick.best.limited_by == "optimum"
     assert thick.best == thick.unconstrained_optimum
     assert thick.throughput_gain_unconstrained == 0.0
 
 
 def test_fill_fraction_stops_the_press_early():
-    full = solve_cycle(make_case(L=0.01, fill=1.0)).chambers_full
-    part = solve_cycle(make_case(L=0.01, fill=0.8)).chambers_full
+    full = solve_cycle(make_system(L=0.01, fill=1.0)).chambers_full
+    part = solve_cycle(make_system(L=0.01, fill=0.8)).chambers_full
     assert part.filtrate_volume == pytest.approx(0.8 * full.filtrate_volume)
     assert part.chamber_fill == pytest.approx(0.8)
 
 
 def test_thickness_comparison_rises_until_the_matched_thickness_then_stays():
-    case = make_case()
+    case = make_system()
     L_match = solve_cycle(case).matched_chamber_thickness
     Ls = np.array([0.3, 0.6, 0.9, 1.2, 1.5]) * L_match
     rows = compare_thicknesses(case, Ls)
@@ -160,7 +167,7 @@ def test_thickness_comparison_rises_until_the_matched_thickness_then_stays():
 
 
 def test_low_chamber_fill_at_the_optimum_gives_a_warning():
-    sol = solve_cycle(make_case(L=0.5))
+    sol = solve_cycle(make_system(L=0.5))
     assert sol.best.chamber_fill < 0.5
     assert any("partly filled" in w for w in sol.warnings)
 
@@ -189,7 +196,7 @@ log_uniform = lambda lo, hi: st.floats(min_value=math.log(lo), max_value=math.lo
 def test_random_cases_are_finite_and_best_beats_every_feasible_volume(
     alpha, R_m, area, L, dP, t_d, wash_ratio, s, mu, c, v
 ):
-    case = make_case(alpha=alpha, R_m=R_m, area=area, L=L, dP=dP, t_d=t_d,
+    case = make_system(alpha=alpha, R_m=R_m, area=area, L=L, dP=dP, t_d=t_d,
                      wash_ratio=wash_ratio, s=s, mu=mu, c=c, v=v)
     sol = solve_cycle(case)
     for r in (sol.best, sol.unconstrained_optimum, sol.chambers_full):
@@ -204,7 +211,7 @@ def test_random_cases_are_finite_and_best_beats_every_feasible_volume(
 def test_washing_by_cake_pore_volumes_equals_the_filtrate_basis_scaled():
     # pore volume per filtrate volume = porosity x v, so r pore volumes = r eps v filtrate volumes
     eps, v = 0.55, 0.15
-    base = make_case(v=v, L=0.3)
+    base = make_system(v=v, L=0.3)
     f = base.filtration.__class__(**{**base.filtration.__dict__, "porosity": eps})
     pores = PressSystem(f, base.press, base.feed, CycleSettings(1200.0, 3.0, "through", wash_basis="cake_pores"))
     filt = PressSystem(f, base.press, base.feed, CycleSettings(1200.0, 3.0 * eps * v, "through"))
@@ -214,7 +221,7 @@ def test_washing_by_cake_pore_volumes_equals_the_filtrate_basis_scaled():
 
 
 def test_washing_by_pore_volumes_needs_the_porosity():
-    base = make_case()
+    base = make_system()
     case = PressSystem(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
     with pytest.raises(SolverInputError, match="porosity"):
         solve_cycle(case)

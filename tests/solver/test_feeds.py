@@ -39,8 +39,7 @@ def test_constant_rate_switch_matches_the_published_closed_form():
     # Constant rate up to dP_max, then constant pressure, incompressible cake: switch volume
     # V1 = (A^2/(alpha c)) (dP_max/(mu Q) - R_m/A), t1 = V1/Q, then
     # t = t1 + (K_p/2)(V^2 - V1^2) + B (V - V1). Svarovsky (ed.), Solid-Liquid Separation,
-    # and Wakeman & Tarleton, Solid/Liquid Separation, filtration theory chapters (from memory),
-    # as written in the domain primer.
+    # and Wakeman & Tarleton, Solid/Liquid Separation, filtration theory chapters (from memory).
     Q0, Pm = 0.02, 6e5
     curve = ConstantRate(Q0, Pm).curve(filtration(), A)
     V1 = A**2 / (ALPHA * C) * (Pm / (MU * Q0) - R_M / A)

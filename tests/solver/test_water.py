@@ -21,7 +21,8 @@ def test_viscosity_matches_iapws_2008_within_half_a_percent(theta):
 
 @pytest.mark.reference
 def test_viscosity_at_20c_is_the_iapws_value():
-    # IAPWS 2008: 1.0016 mPa*s at 20 degC and 0.1 MPa (also quoted in the domain primer).
+    # IAPWS R12-08 (2008), viscosity of ordinary water: 1.0016 mPa*s at 20 degC and 0.1 MPa
+    # (from memory of its check table).
     assert water_viscosity(293.15) == pytest.approx(1.0016e-3, rel=1e-4)
 
 
@@ -33,7 +34,8 @@ def test_density_matches_iapws_95_within_0p05_percent(theta):
 
 
 def test_viscosity_halves_roughly_between_10_and_50_c():
-    # Domain primer: "falls by about half between 10 degC and 50 degC" (common practice).
+    # Water's viscosity falls by about half between 10 degC and 50 degC (common practice, no
+    # source; the IAPWS values behind water_viscosity are checked above).
     ratio = water_viscosity(323.15) / water_viscosity(283.15)
     assert 0.38 < ratio < 0.46
 

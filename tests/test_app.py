@@ -1,0 +1,57 @@
+"""The app factory: settings reach every route through the app, never from a global."""
+
+import json
+import os
+import subprocess
+import sys
+
+from fastapi.testclient import TestClient
+
+from server.app import create_app
+from server.settings import PROJECT_ROOT, Settings
+from tests.conftest import BASE_REQUEST, app_settings
+
+
+def test_the_demo_folder_comes_from_the_apps_settings(tmp_path):
+    demos = tmp_path / "demos"
+    demos.mkdir()
+    copper = json.loads((PROJECT_ROOT / "demo_cases" / "copper_concentrate.json").read_text())
+    (demos / "only_one.json").write_text(json.dumps({**copper, "name": "Only this one"}))
+    with TestClient(create_app(Settings(db=tmp_path / "x.sqlite3", demo_dir=demos))) as c:
+        home = c.get("/").text
+        assert "/demo/only_one" in home and "/demo/copper_concentrate" not in home
+        assert c.get("/demo/only_one").status_code == 200
+        assert c.get("/demo/copper_concentrate").status_code == 404
+
+
+def test_an_exported_database_never_receives_test_rows(tmp_path, monkeypatch):
+    exported = tmp_path / "plant.sqlite3"
+    monkeypatch.setenv("PRESSCYCLE_DB", str(exported))
+    (tmp_path / "tests").mkdir()
+    with TestClient(create_app(app_settings(tmp_path / "tests"))) as c:
+        assert c.post("/api/v1/scenarios", json={"name": "t", "inputs": BASE_REQUEST}).status_code == 201
+    assert not exported.exists()
+    assert (tmp_path / "tests" / "test.sqlite3").exists()
+
+
+def test_settings_are_kept_on_the_app(tmp_path):
+    settings = app_settings(tmp_path)
+    assert create_app(settings).state.settings is settings
+
+
+def _python(code: str, cwd, db) -> subprocess.CompletedProcess:
+    env = {k: v for k, v in os.environ.items() if not k.startswith("PRESSCYCLE_")}
+    env["PRESSCYCLE_DB"] = str(db)
+    env["PYTHONPATH"] = str(PROJECT_ROOT)
+    return subprocess.run([sys.executable, "-c", code], cwd=cwd, env=env, capture_output=True, text=True,
+                          timeout=120)
+
+
+def test_importing_the_app_module_opens_no_database_until_app_is_asked_for(tmp_path):
+    db = tmp_path / "lazy.sqlite3"
+    done = _python("import server.app", tmp_path, db)
+    assert done.returncode == 0, done.stderr
+    assert not db.exists()
+    done = _python("import server.app as m; print(type(m.app).__name__)", tmp_path, db)
+    assert done.returncode == 0 and done.stdout.strip() == "FastAPI", done.stderr
+    assert db.exists()

@@ -1,0 +1,59 @@
+"""Display units (server/display.py) against the exact definitions of the units.
+
+Sources: NIST Handbook 44 (2023 ed.), Appendix C (inch = 2.54 cm exactly; US gallon = 231 in³
+exactly; avoirdupois pound = 0.453 592 37 kg exactly); NIST SP 811 (2008 ed.), Appendix B.8
+(psi = 6.894 757 E+03 Pa; bar = 1E+05 Pa).
+"""
+
+import pytest
+
+from server.display import DISPLAY, SI_OF, SYSTEMS, Units
+
+INCH = 0.0254
+FOOT = 12 * INCH
+GALLON = 231 * INCH**3
+POUND = 0.45359237
+
+
+@pytest.mark.reference
+@pytest.mark.parametrize("quantity,system,si_value,shown", [
+    ("time", "si", 60.0, 1.0),
+    ("thickness", "si", 0.032, 32.0),
+    ("thickness", "us", INCH, 1.0),
+    ("pressure", "si", 1e5, 1.0),
+    ("pressure", "us", 6894.757293168, 1.0),
+    ("flow", "si", 1 / 3600, 1.0),
+    ("flow", "us", GALLON / 60, 1.0),
+    ("volume", "us", FOOT**3, 1.0),
+    ("area", "us", FOOT**2, 1.0),
+    ("mass", "us", POUND, 1.0),
+    ("mass_rate", "si", 1 / 3600, 1.0),
+    ("mass_per_day", "si", 1000 / 86400, 1.0),
+    ("mass_per_day", "us", 2000 * POUND / 86400, 1.0),
+    ("density", "us", POUND / FOOT**3, 1.0),
+    ("viscosity", "si", 1e-3, 1.0),
+    ("viscosity", "us", 1e-3, 1.0),
+    ("specific_resistance", "us", FOOT / POUND, 1.0),
+    ("medium_resistance", "us", 1 / FOOT, 1.0),
+    ("percent", "si", 0.25, 25.0),
+])
+def test_si_values_show_in_the_display_unit(quantity, system, si_value, shown):
+    assert Units(system)(quantity, si_value) == pytest.approx(shown, rel=1e-9)
+
+
+def test_lists_and_missing_values_convert_element_by_element():
+    u = Units("si")
+    assert u("thickness", [0.01, None, 0.04]) == pytest.approx([10.0, None, 40.0])
+    assert u("pressure", None) is None
+
+
+def test_every_quantity_has_a_label_in_each_system_and_an_si_unit():
+    assert set(DISPLAY) == set(SI_OF)
+    for quantity in DISPLAY:
+        for system in SYSTEMS:
+            assert Units(system).label(quantity)
+            assert Units(system)(quantity, 1.0) > 0
+
+
+def test_an_unknown_system_shows_si():
+    assert Units("xx").system == "si"

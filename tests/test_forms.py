@@ -1,0 +1,153 @@
+"""The editor's field table (server/forms.py): every field is a request field, every feed mode
+and end criterion is offered, and a demo put into the form comes back as the same inputs.
+
+``collect`` below does in Python what static/js/editor.js does in the browser (the browser
+tests drive the real script); it reads the form state that ``prefill`` gives the template.
+"""
+
+import pytest
+from pydantic import BaseModel
+
+from server.forms import GROUPS, UNIT_CHOICES, Choice, FormField, prefill, split_quantity
+from server.schemas.cycle import FEED_MODELS, FEED_MODES, CycleRequest
+from server.solver.cycle import END_CRITERIA
+from tests.test_pages import DEMOS
+
+
+def fields_and_choices():
+    for group in GROUPS:
+        for item in group.items:
+            yield item
+            if isinstance(item, Choice):
+                for _, _, fields in item.options:
+                    yield from fields
+
+
+def _submodels(annotation) -> list:
+    """The pydantic models a field's annotation may hold (through unions and Optional)."""
+    options = getattr(annotation, "__args__", ()) or (annotation,)
+    return [a for a in options if isinstance(a, type) and issubclass(a, BaseModel)]
+
+
+def request_has(path: str) -> bool:
+    """Whether a dotted path names a field of the cycle request (through the feed union)."""
+    models = [CycleRequest]
+    for part in path.split("."):
+        holders = [m for m in models if part in m.model_fields]
+        if not holders:
+            return False
+        models = [sub for m in holders for sub in _submodels(m.model_fields[part].annotation)]
+    return True
+
+
+def test_the_path_check_itself_refuses_what_is_not_there():
+    assert request_has("feed.points") and request_has("cycle.end.flow_fraction")
+    assert not request_has("feed.bogus") and not request_has("slurry.pressure.x")
+
+
+def test_every_form_field_is_a_field_of_the_request():
+    for item in fields_and_choices():
+        if isinstance(item, FormField):
+            assert request_has(item.path), item.path
+        elif item.sent:
+            assert request_has(item.name), item.name
+
+
+def test_the_form_offers_every_feed_mode_and_end_criterion_and_nothing_else():
+    choices = {item.name: item for item in fields_and_choices() if isinstance(item, Choice)}
+    assert [value for value, _, _ in choices["feed.mode"].options] == list(FEED_MODES)
+    assert [value for value, _, _ in choices["cycle.end.criterion"].options] == list(END_CRITERIA)
+    assert len(FEED_MODES) == len(FEED_MODELS.__args__)
+
+
+def test_every_field_kind_has_units_to_choose():
+    for item in fields_and_choices():
+        if isinstance(item, FormField) and item.kind not in ("curve", "steps", "length_list"):
+            assert UNIT_CHOICES[item.kind], item.path
+
+
+def _set(body: dict, path: str, value) -> None:
+    *parents, last = path.split(".")
+    for p in parents:
+        body = body.setdefault(p, {})
+    body[last] = value
+
+
+def _quantity(number: str, unit: str):
+    return f"{number} {unit}" if unit else float(number)
+
+
+def collect(state: dict) -> dict:
+    """The request the editor sends for a form state (as static/js/editor.js builds it)."""
+    values, choices, body = state["values"], state["choices"], {}
+    for group in GROUPS:
+        for item in group.items:
+            if isinstance(item, Choice):
+                picked = choices[item.name]
+                if item.sent:
+                    _set(body, item.name, picked)
+                fields = next(fields for value, _, fields in item.options if value == picked)
+            else:
+                fields = [item]
+            for f in fields:
+                text, unit = values[f.path]
+                if not str(text).strip():
+                    continue
+                if f.kind in ("curve", "steps"):
+                    u0, u1 = unit.split("|")
+                    rows = [line.split(",") for line in text.splitlines() if line.strip()]
+                    value = [[_quantity(a.strip(), u0), _quantity(b.strip(), u1)] for a, b in rows]
+                elif f.kind == "length_list":
+                    value = [_quantity(x.strip(), unit) for x in text.split(",")]
+                elif f.kind == "count":
+                    value = int(text)
+                elif f.kind in ("washing", "wash_basis"):
+                    value = text
+                else:
+                    value = _quantity(text, unit)
+                _set(body, f.path, value)
+    return body
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=lambda d: d.slug)
+def test_a_demo_put_into_the_form_comes_back_as_the_same_inputs(demo):
+    expected = CycleRequest.model_validate(demo.inputs).model_dump()
+    again = CycleRequest.model_validate(collect(prefill(demo.inputs))).model_dump()
+    assert _close(again, expected)
+
+
+def _close(a, b, rel=1e-5):
+    """Nested equality with a relative tolerance on floats (the form shows 6 significant figures)."""
+    if isinstance(a, dict):
+        assert a.keys() == b.keys(), (a.keys(), b.keys())
+        return all(_close(a[k], b[k], rel) for k in a)
+    if isinstance(a, list | tuple):
+        assert len(a) == len(b)
+        return all(_close(x, y, rel) for x, y in zip(a, b))
+    if isinstance(a, float) and isinstance(b, float):
+        assert a == pytest.approx(b, rel=rel), (a, b)
+        return True
+    assert a == b
+    return True
+
+
+@pytest.mark.parametrize("value,kind,expected", [
+    ("58 %", "fraction", ("58", "%")),
+    (0.18, "fraction", ("0.18", "")),
+    ("7 bar", "pressure", ("7", "bar")),
+    (7e5, "pressure", ("7", "bar")),          # SI numbers show in the first unit offered
+    ("40 mm", "length", ("40", "mm")),
+    (20, "temperature", ("20", "degC")),       # a bare temperature is in °C, as in the API
+    ("2 atm", "pressure", ("2.02650", "bar")),  # a unit not offered converts to the first offered
+])
+def test_stored_values_split_into_number_and_unit_choice(value, kind, expected):
+    number, unit = split_quantity(value, kind)
+    assert unit == expected[1]
+    assert float(number) == pytest.approx(float(expected[0]), rel=1e-6)
+
+
+def test_a_choice_picks_the_option_whose_fields_the_inputs_hold():
+    state = prefill({"slurry": {"solids_concentration": "120 kg/m^3"}, "feed": {"mode": "pump_curve"}})
+    assert state["choices"]["slurry.basis"] == "concentration"
+    assert state["choices"]["feed.mode"] == "pump_curve"
+    assert state["choices"]["cycle.end.criterion"] == "best"  # nothing given: the first option

@@ -1,0 +1,65 @@
+"""The pages' partial updates in-process: POST /ui/results (editor) and POST /ui/lab-fit (lab page)."""
+
+import html
+import re
+
+from tests.test_api_labfit import EXAMPLE
+
+
+def test_results_update_gives_the_pane_the_charts_and_the_api_answer(client, base_request):
+    r = client.post("/ui/results", json=base_request)
+    assert r.status_code == 200, r.text
+    data = r.json()
+    assert data["result"] == client.post("/api/v1/cycle", json=base_request).json()
+    assert set(data["figures"]) == {"throughput_time", "throughput_thickness", "throughput_map", "filtration"}
+    html = data["html"]
+    assert "Caution" in html and "m³/h" in html and "licensed" in html
+    best_min = data["result"]["best"]["filtration_time"] / 60
+    assert f"{best_min:.3g}" in html  # the pane shows the solver's number, in minutes
+
+
+def test_results_update_in_us_units(client, base_request):
+    data = client.post("/ui/results?units=us", json=base_request).json()
+    assert "US gpm" in data["html"] and "psi" not in data["figures"]["throughput_time"]["layout"]["yaxis"]["title"]
+    assert "US gpm" in data["figures"]["throughput_time"]["layout"]["yaxis"]["title"]["text"]
+
+
+def test_results_update_refuses_bad_input_as_json_at_the_field(client, base_request):
+    base_request["feed"]["pressure"] = "1e12 Pa"
+    r = client.post("/ui/results", json=base_request)  # no Accept header, as editor.js sends it
+    assert r.status_code == 422 and r.headers["content-type"].startswith("application/json")
+    assert [d["field"] for d in r.json()["detail"]] == ["feed.pressure"]
+
+
+def test_results_update_refuses_an_unknown_unit_system(client, base_request):
+    r = client.post("/ui/results?units=zz", json=base_request)
+    assert r.status_code == 422
+    assert r.json()["detail"][0]["field"] == "query.units"
+    assert "'si' or 'us'" in r.json()["detail"][0]["msg"]
+
+
+def test_a_solver_refusal_lands_at_the_field_in_the_update(client, base_request):
+    base_request["cycle"]["end"] = {"criterion": "pressure", "pressure": "9 bar"}  # above the 5 bar feed
+    r = client.post("/ui/results", json=base_request)
+    assert r.status_code == 422
+    assert [d["field"] for d in r.json()["detail"]] == ["cycle.end.pressure"]
+
+
+def test_lab_fit_update_gives_the_pane_charts_and_a_scenario_link(client):
+    r = client.post("/ui/lab-fit", json={"tests": [EXAMPLE]})
+    assert r.status_code == 200, r.text
+    data = r.json()
+    assert data["result"]["tests"][0]["resistance"] > 0
+    assert data["figures"]
+    link = html.unescape(re.search(r'href="(/scenario/new\?prefill=[^"]+)"', data["html"]).group(1))
+    editor = client.get(link)  # the link opens the editor with the fitted cake and cloth filled in
+    assert editor.status_code == 200
+    alpha = data["result"]["for_cycle"]["cake"]["resistance"]
+    assert f'value="{alpha:.4g}"' in editor.text
+
+
+def test_lab_fit_update_refuses_bad_readings_at_the_test(client):
+    bad = dict(EXAMPLE, csv="time [s], filtrate [mL]\n1, 10\n")
+    r = client.post("/ui/lab-fit", json={"tests": [bad]})
+    assert r.status_code == 422
+    assert r.json()["detail"][0]["field"].startswith("tests.0")
