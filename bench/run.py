@@ -49,19 +49,19 @@ def main() -> None:
     print(f"  with request parsing and unit conversion: median {med_v * 1e3:.3f} ms")
 
     # Issue 3 target: a 2,000-point pump curve with a 6-thickness comparison under 20 ms (one core).
-    case, thicknesses = pump_case()
-    cp_case = PressSystem(case.filtration, case.press, ConstantPressure(case.feed.pressure_cap), case.cycle)
+    system, thicknesses = pump_system()
+    cp_system = PressSystem(system.filtration, system.press, ConstantPressure(system.feed.pressure_cap), system.cycle)
 
-    def solve_both(c):  # as the API does: one curve for the case and its comparison
-        model = cycle_family_for(c, thicknesses)
-        solve_cycle(c, family=model)
-        compare_thicknesses(c, thicknesses, family=model)
+    def solve_both(c):  # as the API does: one curve for the system and its comparison
+        family = cycle_family_for(c, thicknesses)
+        solve_cycle(c, family=family)
+        compare_thicknesses(c, thicknesses, family=family)
 
     def pump_solve():
-        solve_both(case)
+        solve_both(system)
 
     def cp_solve():
-        solve_both(cp_case)
+        solve_both(cp_system)
 
     med_p, best_p = timed(pump_solve, 50)
     med_c, best_c = timed(cp_solve, 200)
@@ -71,13 +71,13 @@ def main() -> None:
           f"ratio pump / closed form = {med_p / med_c:.1f}")
 
 
-def pump_case():
+def pump_system():
     """An invented centrifugal pump curve of 2,000 points on the pigment demo's cake."""
     q = np.linspace(0.0, 80.0 / 3600, 2000)
     p = 8e5 * (1.0 - (q / q[-1]) ** 2) + 0.5e5
     f = Filtration(150.0, 0.06, 2.6, 0.6e-3, 3e11, 5e5, 0.35, 1.5e11)
-    case = PressSystem(f, Press(68.0, 0.025), PumpCurve(tuple(zip(q, p))), CycleSettings(2400.0, 1.0))
-    return case, [0.015, 0.02, 0.025, 0.032, 0.04, 0.05]
+    system = PressSystem(f, Press(68.0, 0.025), PumpCurve(tuple(zip(q, p))), CycleSettings(2400.0, 1.0))
+    return system, [0.015, 0.02, 0.025, 0.032, 0.04, 0.05]
 
 
 if __name__ == "__main__":

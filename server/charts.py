@@ -152,7 +152,7 @@ def throughput_map(s: dict, results: dict, L_press: float, u: Units) -> dict:
 
 def filtration_curves(c: dict, pressure_varies: bool, u: Units) -> dict:
     """Chart 4: filtrate volume and cake thickness against time; pressure and flow where the
-    feed's pressure varies (pumps, pressure stages)."""
+    feed's pressure varies (pumps, pressure steps)."""
     t = u("time", c["time"])
     t_label = u.label("time")
     traces = [

@@ -137,8 +137,8 @@ GROUPS = [
                 FormField("feed.points", "Pump curve (flow, pressure per line)", "curve", "pressure must fall as flow rises"),
                 FormField("feed.max_pressure", "Relief pressure", "pressure", "blank: none", optional=True),
             ]),
-            ("pressure_steps", "pressure in stages", [
-                FormField("feed.steps", "Stages (pressure, duration per line)", "steps", "the last stage is held"),
+            ("pressure_steps", "pressure in steps", [
+                FormField("feed.steps", "Steps (pressure, duration per line)", "steps", "the last step is held"),
             ]),
         ]),
     ]),

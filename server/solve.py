@@ -19,15 +19,17 @@ from .solver.errors import inputs_of
 DEFAULT_LIQUID_DENSITY = 998.0  # kg/m^3, water near 20 degC
 
 #: Where the inputs of each solver object sit in the request. Solver errors carry a dotted
-#: path relative to the solve ("feed.pressure", "end.flow", "filtration.resistance"); the
-#: longest matching prefix here gives the request path, and the rest of the solver path is
-#: appended, so a feed's or a future stage's own field names need no entry.
+#: path: an object's own field ("flow"), prefixed by whoever built it here ("feed.flow",
+#: see _build), or, when raised while solving, the path among the solve's inputs (the
+#: system's "feed", "press", "cycle", "filtration" and the "end" criterion: "end.flow").
+#: The longest matching prefix here gives the request path and the rest of the solver path
+#: is appended, so a feed's or a future stage's own field names need no entry.
 API_PATHS = {
     "feed": ("feed",),
     "press": ("press",),
     "cycle": ("cycle",),
     "end": ("cycle", "end"),
-    "water": ("slurry", "temperature"),
+    "water.temperature": ("slurry", "temperature"),
     "filtration.viscosity": ("slurry", "viscosity"),
     "filtration.resistance": ("cake", "resistance"),
     "filtration.reference_pressure": ("cake", "reference_pressure"),

@@ -59,7 +59,6 @@ def render_results(templates, results: dict, chart_series: dict, units) -> tuple
     Returns (HTML of the results pane, plotly figures by chart key).
     """
     from .charts import figures
-    from .solve import CAUTIONS
 
-    html = templates.get_template("_results.html").render({"results": results, "u": units, "cautions": CAUTIONS})
+    html = templates.get_template("_results.html").render({"results": results, "u": units})
     return html, figures(chart_series, results, units)

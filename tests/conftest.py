@@ -28,7 +28,8 @@ BASE_REQUEST = {
 def app_settings(folder) -> Settings:
     """Settings for an app under test: a database in ``folder`` and the project's demo folder,
     whatever PRESSCYCLE_* the environment exports (an exported database never gets test rows)."""
-    return Settings(db=folder / "test.sqlite3", demo_dir=PROJECT_ROOT / "demo_cases")
+    defaults = {name: field.default for name, field in Settings.model_fields.items()}
+    return Settings(**{**defaults, "db": folder / "test.sqlite3", "demo_dir": PROJECT_ROOT / "demo_cases"})
 
 
 @pytest.fixture(scope="session")

@@ -34,9 +34,12 @@ def test_an_exported_database_never_receives_test_rows(tmp_path, monkeypatch):
     assert (tmp_path / "tests" / "test.sqlite3").exists()
 
 
-def test_settings_are_kept_on_the_app(tmp_path):
-    settings = app_settings(tmp_path)
-    assert create_app(settings).state.settings is settings
+def test_settings_from_the_environment_do_not_reach_an_app_built_for_tests(tmp_path, monkeypatch):
+    monkeypatch.setenv("PRESSCYCLE_MAX_BODY_BYTES", "10")
+    monkeypatch.setenv("PRESSCYCLE_DEMO_DIR", str(tmp_path / "nowhere"))
+    with TestClient(create_app(app_settings(tmp_path))) as c:
+        assert c.post("/api/v1/cycle", json=BASE_REQUEST).status_code == 200
+        assert "/demo/copper_concentrate" in c.get("/").text
 
 
 def _python(code: str, cwd, db) -> subprocess.CompletedProcess:

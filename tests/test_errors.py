@@ -65,9 +65,24 @@ def test_solver_refusals_land_at_their_own_field(client, base_request, end, feed
     assert [f for f, _ in _detail(client.post("/api/v1/cycle", json=base_request))] == [field]
 
 
+@pytest.mark.parametrize("change,field", [
+    # raised by the slurry balance, the pump curve and the end criterion of the solver
+    ({"slurry": {"solids_mass_fraction": 0.9, "solids_density": 2600, "viscosity": 1e-3},
+      "cake": {"resistance": 1e11, "moisture": 0.5}}, "slurry.solids_mass_fraction"),
+    ({"slurry": {"solids_concentration": 3000, "solids_density": 2600, "viscosity": 1e-3}},
+     "slurry.solids_concentration"),
+    ({"feed": {"mode": "pump_curve", "points": [[0, 5e5], [0.01, 6e5]]}}, "feed.points"),
+])
+def test_solver_refusals_from_each_object_land_at_their_field(client, base_request, change, field):
+    base_request.update(change)
+    assert [f for f, _ in _detail(client.post("/api/v1/cycle", json=base_request))] == [field]
+
+
 def test_every_solver_path_maps_to_a_field_of_the_request():
     for solver_path, api in API_PATHS.items():
         assert request_has(".".join(api)), solver_path
     assert api_path("feed.steps") == ("body", "feed", "steps")
     assert api_path("cycle.wash_pressure") == ("body", "cycle", "wash_pressure")
     assert api_path("nothing.known") == ("body",)
+    assert api_path("water.temperature") == ("body", "slurry", "temperature")
+    assert api_path("end.flow") == ("body", "cycle", "end", "flow")

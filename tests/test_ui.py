@@ -10,17 +10,17 @@ def test_results_update_gives_the_pane_the_charts_and_the_api_answer(client, bas
     r = client.post("/ui/results", json=base_request)
     assert r.status_code == 200, r.text
     data = r.json()
-    assert data["result"] == client.post("/api/v1/cycle", json=base_request).json()
+    assert data["results"] == client.post("/api/v1/cycle", json=base_request).json()
     assert set(data["figures"]) == {"throughput_time", "throughput_thickness", "throughput_map", "filtration"}
     html = data["html"]
     assert "Caution" in html and "m³/h" in html and "licensed" in html
-    best_min = data["result"]["best"]["filtration_time"] / 60
+    best_min = data["results"]["best"]["filtration_time"] / 60
     assert f"{best_min:.3g}" in html  # the pane shows the solver's number, in minutes
 
 
 def test_results_update_in_us_units(client, base_request):
     data = client.post("/ui/results?units=us", json=base_request).json()
-    assert "US gpm" in data["html"] and "psi" not in data["figures"]["throughput_time"]["layout"]["yaxis"]["title"]
+    assert "US gpm" in data["html"] and "m³/h" not in data["html"]
     assert "US gpm" in data["figures"]["throughput_time"]["layout"]["yaxis"]["title"]["text"]
 
 
@@ -49,12 +49,12 @@ def test_lab_fit_update_gives_the_pane_charts_and_a_scenario_link(client):
     r = client.post("/ui/lab-fit", json={"tests": [EXAMPLE]})
     assert r.status_code == 200, r.text
     data = r.json()
-    assert data["result"]["tests"][0]["resistance"] > 0
+    assert data["results"]["tests"][0]["resistance"] > 0
     assert data["figures"]
     link = html.unescape(re.search(r'href="(/scenario/new\?prefill=[^"]+)"', data["html"]).group(1))
     editor = client.get(link)  # the link opens the editor with the fitted cake and cloth filled in
     assert editor.status_code == 200
-    alpha = data["result"]["for_cycle"]["cake"]["resistance"]
+    alpha = data["results"]["for_cycle"]["cake"]["resistance"]
     assert f'value="{alpha:.4g}"' in editor.text
 
 

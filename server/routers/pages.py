@@ -94,7 +94,7 @@ def lab_page(request: Request):
 
 
 @router.get("/demo/{slug}", response_class=HTMLResponse)
-def demo_case(request: Request, slug: str):
+def demo_scenario(request: Request, slug: str):
     demo = next((d for d in _demos(request) if d.slug == slug), None)
     if demo is None:
         raise HTTPException(404, f"no demo scenario named {slug!r}")

@@ -1,7 +1,7 @@
 """The pages' partial updates: POST /ui/results (the editor) and POST /ui/lab-fit (the lab page).
 
 Each takes the same body as its API twin (/api/v1/cycle, /api/v1/lab-fit) and answers
-{"html", "figures", "result"}. Bad input gets the API's 422, which the page marks at the fields.
+{"html", "figures", "results"}. Bad input gets the API's 422, which the page marks at the fields.
 """
 
 import json
@@ -24,7 +24,7 @@ router = APIRouter(prefix="/ui", tags=["ui"], include_in_schema=False)
 def post_results(request: Request, inputs: CycleRequest, units: UnitSystem = "si") -> dict:
     solved = solve(inputs, with_chart_series=True)
     html, figures = render_results(request.app.state.templates, solved.results, solved.chart_series, Units(units))
-    return {"html": html, "figures": figures, "result": solved.results}
+    return {"html": html, "figures": figures, "results": solved.results}
 
 
 def scenario_prefill(result: dict) -> dict:
@@ -48,11 +48,11 @@ def scenario_prefill(result: dict) -> dict:
 
 
 @router.post("/lab-fit")
-def post_lab_fit(request: Request, lab_tests: LabFitRequest) -> dict:
-    result = fit_request(lab_tests)
-    figs = lab_figures(result)
-    link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(result)))
+def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
+    results = fit_request(lab_request)
+    figs = lab_figures(results)
+    link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(results)))
     html = request.app.state.templates.get_template("_lab_results.html").render(
-        {"r": result, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
-    return {"html": html, "figures": figs, "result": result}
+        {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
+    return {"html": html, "figures": figs, "results": results}
 

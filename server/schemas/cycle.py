@@ -13,8 +13,7 @@ from pydantic import BaseModel, Field, model_validator
 from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
 from ..solver import press as solver_press
-from .common import Density, Fraction01, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
-from .common import PressPressure as Pressure
+from .common import Density, Fraction01, PressPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
 from .quantities import quantity
 
 Length = quantity("length", ge=1e-3, le=0.5, description="Chamber thickness")
@@ -51,8 +50,8 @@ class CakeIn(Strict):
     resistance_stderr: quantity(
         "specific_resistance", ge=0.0, le=1e17, description="Standard error of resistance, e.g. from a lab fit"
     ) | None = None
-    reference_pressure: Pressure | None = Field(
-        None, description="Pressure at which resistance applies [Pa]; needed when compressibility > 0"
+    reference_pressure: PressPressure | None = Field(
+        None, description="PressPressure at which resistance applies [Pa]; needed when compressibility > 0"
     )
     compressibility: quantity(
         "fraction", ge=0.0, lt=1.0, description="Cake compressibility s in alpha = alpha_ref (dP/p_ref)^s"
@@ -108,12 +107,12 @@ class PressIn(Strict):
 
 Flow = quantity("flow", ge=1e-9, le=100.0, description="Filtrate flow")
 PumpFlow = quantity("flow", ge=0.0, le=100.0, description="Pump flow")
-Duration = quantity("time", gt=0.0, le=1e6, description="Stage duration")
+Duration = quantity("time", gt=0.0, le=1e6, description="Step duration")
 
 
 class ConstantPressureFeedIn(Strict):
     mode: Literal["constant_pressure"]
-    pressure: Pressure = Field(description="Pressure drop across cake and cloth [Pa]")
+    pressure: PressPressure = Field(description="PressPressure drop across cake and cloth [Pa]")
 
     def to_solver(self) -> solver_feeds.ConstantPressure:
         return solver_feeds.ConstantPressure(self.pressure)
@@ -122,7 +121,7 @@ class ConstantPressureFeedIn(Strict):
 class ConstantRateFeedIn(Strict):
     mode: Literal["constant_rate"]
     flow: Flow = Field(description="Set flow of a positive-displacement pump [m³/s]")
-    max_pressure: Pressure = Field(description="Relief or set pressure, then held [Pa]")
+    max_pressure: PressPressure = Field(description="Relief or set pressure, then held [Pa]")
 
     def to_solver(self) -> solver_feeds.ConstantRate:
         return solver_feeds.ConstantRate(self.flow, self.max_pressure)
@@ -130,11 +129,11 @@ class ConstantRateFeedIn(Strict):
 
 class PumpCurveFeedIn(Strict):
     mode: Literal["pump_curve"]
-    points: list[tuple[PumpFlow, Pressure]] = Field(
+    points: list[tuple[PumpFlow, PressPressure]] = Field(
         min_length=2, max_length=5000,
         description="Centrifugal pump curve as [flow, pressure] pairs; pressure must fall as flow rises",
     )
-    max_pressure: Pressure | None = Field(None, description="Relief pressure [Pa]")
+    max_pressure: PressPressure | None = Field(None, description="Relief pressure [Pa]")
 
     def to_solver(self) -> solver_feeds.PumpCurve:
         return solver_feeds.PumpCurve(tuple(self.points), self.max_pressure)
@@ -142,9 +141,9 @@ class PumpCurveFeedIn(Strict):
 
 class PressureStepsFeedIn(Strict):
     mode: Literal["pressure_steps"]
-    steps: list[tuple[Pressure, Duration]] = Field(
+    steps: list[tuple[PressPressure, Duration]] = Field(
         min_length=1, max_length=100,
-        description="[pressure, duration] stages in order; the last stage is held",
+        description="[pressure, duration] steps in order; the last step is held",
     )
 
     def to_solver(self) -> solver_feeds.PressureSteps:
@@ -159,7 +158,7 @@ FEED_MODES = tuple(get_args(m.model_fields["mode"].annotation)[0] for m in get_a
 
 
 class EndIn(Strict):
-    criterion: Literal["best", "chambers_full", "time", "flow", "pressure"] = Field(
+    criterion: Literal[solver_cycle.END_CRITERIA] = Field(
         "best", description="How filtration ends: best throughput, full chambers, a time, a flow or a pressure"
     )
     time: quantity("time", gt=0.0, le=1e6, description="Filtration time") | None = None
@@ -170,15 +169,14 @@ class EndIn(Strict):
     flow_fraction: Fraction01 | None = Field(
         None, description="End when flow falls below this share of the initial flow"
     )
-    pressure: Pressure | None = Field(None, description="End at this terminal feed pressure [Pa]")
+    pressure: PressPressure | None = Field(None, description="End at this terminal feed pressure [Pa]")
 
     @model_validator(mode="after")
     def _threshold(self):
-        needs = {"time": ("time",), "pressure": ("pressure",), "flow": ("flow", "flow_per_area", "flow_fraction")}
-        names = needs.get(self.criterion, ())
+        names = solver_cycle.END_THRESHOLDS.get(self.criterion, ())
         if names:
             exactly_one(self, names)
-        extra = [n for n in ("time", "flow", "flow_per_area", "flow_fraction", "pressure")
+        extra = [n for group in solver_cycle.END_THRESHOLDS.values() for n in group
                  if n not in names and getattr(self, n) is not None]
         if extra:
             raise ValueError(f"{' and '.join(extra)} do not apply to the {self.criterion!r} end criterion")
@@ -202,7 +200,7 @@ class CycleIn(Strict):
     washing: Literal["through", "simple"] = Field(
         "through", description="through: wash rate 1/4 of final rate; simple: equal to it"
     )
-    wash_pressure: Pressure | None = Field(None, description="[Pa]; default: the filtration pressure")
+    wash_pressure: PressPressure | None = Field(None, description="[Pa]; default: the filtration pressure")
     wash_viscosity: Viscosity | None = Field(None, description="[Pa·s]; default: the filtrate's")
     end: EndIn = Field(default_factory=lambda: EndIn(), description="How filtration ends; default: best")
 
@@ -289,7 +287,7 @@ class CycleOut(BaseModel):
     dry_cake_mass: float = Field(description="Dry cake per cycle [kg]")
     wet_cake_mass: float = Field(description="Wet cake per cycle [kg]")
     final_rate: float = Field(description="Filtrate flow at the end of filtration [m³/s]")
-    final_pressure: float = Field(description="Pressure at the end of filtration [Pa]")
+    final_pressure: float = Field(description="PressPressure at the end of filtration [Pa]")
     limited_by: Literal["optimum", "chambers_full"]
     feasible: bool = Field(description="The cake fits in the chambers (within fill_fraction)")
 

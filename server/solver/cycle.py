@@ -103,6 +103,8 @@ class PressSystem:
 
 
 END_CRITERIA = ("best", "chambers_full", "time", "flow", "pressure")
+#: The threshold each end criterion needs: exactly one of these names.
+END_THRESHOLDS = {"time": ("time",), "pressure": ("pressure",), "flow": ("flow", "flow_per_area", "flow_fraction")}
 
 
 @dataclass(frozen=True)
@@ -126,9 +128,7 @@ class EndCriterion:
             raise SolverInputError(
                 "criterion", f"must be one of {', '.join(END_CRITERIA)}; got {self.criterion!r}"
             )
-        needs = {"time": ("time",), "pressure": ("pressure",),
-                 "flow": ("flow", "flow_per_area", "flow_fraction")}
-        names = needs.get(self.criterion, ())
+        names = END_THRESHOLDS.get(self.criterion, ())
         given = [n for n in names if getattr(self, n) is not None]
         if names and len(given) != 1:
             raise SolverInputError(
@@ -301,7 +301,7 @@ class CycleFamily:
             return V_full, LIMITED_BY_CHAMBERS
         k = int(hits[0])
         lo, hi = grid[max(k - 1, 0)], grid[k]
-        for _ in range(80):  # bisection: g may step (pressure stages), where brentq would not help
+        for _ in range(80):  # bisection: g may jump (pressure steps), where brentq would not help
             mid = 0.5 * (lo + hi)
             if g(mid) >= 0.0:
                 hi = mid

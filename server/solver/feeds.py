@@ -172,8 +172,8 @@ class RateThenPressureCurve:
               - \frac{R_m}{A}\right),\quad t_1 = V_1 / Q_0
 
     then t = t_1 + (K_p/2)(V^2 - V_1^2) + B (V - V_1). The same holds for a compressible
-    cake: during the rate stage the flow is fixed, and after it alpha is at dP_max.
-    During the rate stage the pressure is the one at which the cake passes Q_0.
+    cake: during the constant-rate period the flow is fixed, and after it alpha is at dP_max.
+    During the constant-rate period the pressure is the one at which the cake passes Q_0.
     """
 
     flow: float
@@ -372,20 +372,20 @@ def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: flo
 
 @dataclass(frozen=True)
 class SteppedPressureCurve:
-    """Constant pressure in stages; the last stage is held. Closed form stage by stage."""
+    """Constant pressure in steps; the last step is held. Closed form step by step."""
 
-    pressures: np.ndarray  # Pa, per stage
-    starts: np.ndarray  # s, stage start times
-    V_starts: np.ndarray  # m^3 at each stage start
+    pressures: np.ndarray  # Pa, per step
+    starts: np.ndarray  # s, step start times
+    V_starts: np.ndarray  # m^3 at each step start
     K_p: np.ndarray
     B: np.ndarray
 
-    def _stage_of_volume(self, V):
+    def _step_of_volume(self, V):
         return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, self.K_p.size - 1)
 
     def time(self, V):
         V = np.asarray(V, dtype=float)
-        i = self._stage_of_volume(V)
+        i = self._step_of_volume(V)
         V0 = self.V_starts[i]
         out = self.starts[i] + 0.5 * self.K_p[i] * (V * V - V0 * V0) + self.B[i] * (V - V0)
         return out if out.ndim else float(out)
@@ -400,38 +400,38 @@ class SteppedPressureCurve:
 
     def rate(self, V):
         V = np.asarray(V, dtype=float)
-        i = self._stage_of_volume(V)
+        i = self._step_of_volume(V)
         return cp.reciprocal(self.K_p[i] * V + self.B[i])
 
     def pressure_at(self, V):
-        out = self.pressures[self._stage_of_volume(np.asarray(V, dtype=float))]
+        out = self.pressures[self._step_of_volume(np.asarray(V, dtype=float))]
         return out if np.ndim(out) else float(out)
 
 
 @dataclass(frozen=True)
 class PressureSteps:
-    """A schedule of (pressure, duration) stages; the last stage is held to the end.
+    """A schedule of (pressure, duration) steps; the last step is held to the end.
 
     Attributes
     ----------
     steps : tuple of (pressure [Pa], duration [s])
-        Pressures > 0, durations > 0 (the last stage's duration is how long it is
+        Pressures > 0, durations > 0 (the last step's duration is how long it is
         planned, but it is held for as long as the cycle needs).
     """
 
     steps: tuple
     mode = "pressure_steps"
-    #: the pressure changes stage by stage: charts draw pressure and flow
+    #: the pressure changes step by step: charts draw pressure and flow
     pressure_varies = True
 
     def __post_init__(self):
         if len(self.steps) < 1:
-            raise SolverInputError("steps", "give at least one (pressure, duration) stage")
+            raise SolverInputError("steps", "give at least one (pressure, duration) step")
         for i, (p, d) in enumerate(self.steps):
             if not p > 0.0:
-                raise SolverInputError("steps", f"stage {i + 1}: pressure must be > 0 Pa; got {p:.6g}")
+                raise SolverInputError("steps", f"step {i + 1}: pressure must be > 0 Pa; got {p:.6g}")
             if not d > 0.0:
-                raise SolverInputError("steps", f"stage {i + 1}: duration must be > 0 s; got {d:.6g}")
+                raise SolverInputError("steps", f"step {i + 1}: duration must be > 0 s; got {d:.6g}")
 
     @property
     def pressure_cap(self) -> float:

@@ -70,5 +70,7 @@ def chart_series(family: CycleFamily, system: PressSystem, solution: CycleSoluti
         "throughput_map": throughput_map(family, system, solution, L[::3]),
         "filtration": {k: _list(x) for k, x in solution.curves.items()},
         "pressure_varies": bool(system.feed.pressure_varies),
+        # the same flag under its first name, which saved scenarios and API clients read
+        "pump_fed": bool(system.feed.pressure_varies),
         "chamber_thickness": system.press.chamber_thickness,
     }

@@ -135,7 +135,7 @@
     figures = data.figures || {};
     plotAll();
     status.textContent = "Done.";
-    document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, result: data.result } }));
+    document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, results: data.results } }));
   }
 
   async function saveScenario() {

@@ -32,12 +32,12 @@ def make_system(alpha=1e11, R_m=5e10, area=50.0, L=0.04, dP=5e5, t_d=1200.0, was
     )
 
 
-def brute_force_throughput(case):
+def brute_force_throughput(system):
     """Throughput written out again from Ruth's equation and the through-washing rule
     (wash rate = final rate / 4 for through-washing: McCabe, Smith & Harriott, Unit Operations
     of Chemical Engineering, 7th ed., ch. 30, from memory), independently of the solver."""
-    f, p, cyc = case.filtration, case.press, case.cycle
-    dP = case.feed.pressure
+    f, p, cyc = system.filtration, system.press, system.cycle
+    dP = system.feed.pressure
     alpha = f.resistance_ref * (dP / f.reference_pressure) ** f.compressibility
     K_p = f.viscosity * alpha * f.solids_per_filtrate / (p.filter_area**2 * dP)
     B = f.viscosity * f.medium_resistance / (p.filter_area * dP)
@@ -57,22 +57,22 @@ def test_at_the_optimum_filtration_time_is_downtime_plus_medium_term():
     # Classic result: t_f* = t_d + B V* (McCabe, Smith & Harriott, Unit Operations of Chemical
     # Engineering, 7th ed., ch. 30, optimum cycle time; Coulson & Richardson's Chemical
     # Engineering Vol. 2, 5th ed., section 7.3; both from memory).
-    case = make_system(L=0.2)
-    sol = solve_cycle(case)
+    system = make_system(L=0.2)
+    sol = solve_cycle(system)
     u = sol.unconstrained_optimum
-    assert u.filtration_time == pytest.approx(case.cycle.downtime + sol.B * u.filtrate_volume, rel=1e-12)
+    assert u.filtration_time == pytest.approx(system.cycle.downtime + sol.B * u.filtrate_volume, rel=1e-12)
 
 
 def test_with_washing_filtration_plus_wash_is_downtime_plus_medium_term():
     # With t_w = a V (K_p V + B), a = phi r (mu_w/mu)(dP/dP_w), setting dQ/dV = 0 in
     # Q = V / (K_p V^2/2 + B V + t_w + t_d) gives t_f* + t_w* = t_d + B (1 + a) V*
     # (derived here from the line above; the same steps as the classic result without wash).
-    case = make_system(L=0.3, wash_ratio=1.5, wash_pressure=3e5, wash_viscosity=0.8e-3)
-    sol = solve_cycle(case)
+    system = make_system(L=0.3, wash_ratio=1.5, wash_pressure=3e5, wash_viscosity=0.8e-3)
+    sol = solve_cycle(system)
     u = sol.unconstrained_optimum
     a = 4 * 1.5 * 0.8 * (5e5 / 3e5)
     assert u.filtration_time + u.wash_time == pytest.approx(
-        case.cycle.downtime + sol.B * (1 + a) * u.filtrate_volume, rel=1e-12
+        system.cycle.downtime + sol.B * (1 + a) * u.filtrate_volume, rel=1e-12
     )
 
 
@@ -84,9 +84,9 @@ def test_without_medium_resistance_filtration_time_equals_downtime():
 @pytest.mark.parametrize("wash_ratio,washing", [(0.0, "through"), (1.0, "through"), (2.5, "simple")])
 @pytest.mark.parametrize("R_m", [0.0, 5e10, 2e12])
 def test_optimum_agrees_with_brute_force_scipy_to_1e_6(wash_ratio, washing, R_m):
-    case = make_system(R_m=R_m, wash_ratio=wash_ratio, washing=washing, L=0.5)
-    Q, _, _ = brute_force_throughput(case)
-    V_star = solve_cycle(case).unconstrained_optimum.filtrate_volume
+    system = make_system(R_m=R_m, wash_ratio=wash_ratio, washing=washing, L=0.5)
+    Q, _, _ = brute_force_throughput(system)
+    V_star = solve_cycle(system).unconstrained_optimum.filtrate_volume
     res = minimize_scalar(lambda V: -Q(V), bounds=(1e-9, 100 * V_star), method="bounded",
                           options={"xatol": 1e-12 * V_star, "maxiter": 2000})
     assert res.x == pytest.approx(V_star, rel=1e-6)
@@ -95,9 +95,9 @@ def test_optimum_agrees_with_brute_force_scipy_to_1e_6(wash_ratio, washing, R_m)
 
 def test_numeric_optimum_matches_closed_form_to_1e_6():
     # The general path (used by feed modes without a closed form) against the closed form.
-    case = make_system(wash_ratio=0.7, L=0.5)
-    Q, _, _ = brute_force_throughput(case)
-    closed = solve_cycle(case).unconstrained_optimum.filtrate_volume
+    system = make_system(wash_ratio=0.7, L=0.5)
+    Q, _, _ = brute_force_throughput(system)
+    closed = solve_cycle(system).unconstrained_optimum.filtrate_volume
     assert numeric_optimum_volume(Q, 0.01) == pytest.approx(closed, rel=1e-6)
 
 
@@ -127,12 +127,12 @@ def test_optimum_frame_thickness_coulson_richardson_example_7_2():
     v = sb.cake_volume_ratio(c, eps, rho_s)
     alpha = 8.25e13 * v / c
     f = Filtration(c, v, m, 1e-3, alpha, 1e6, 0.0, 0.0)
-    case = PressSystem(f, Press(10.0, 0.05), ConstantPressure(1e6), CycleSettings(900.0))
-    sol = solve_cycle(case)
+    system = PressSystem(f, Press(10.0, 0.05), ConstantPressure(1e6), CycleSettings(900.0))
+    sol = solve_cycle(system)
     assert sol.matched_chamber_thickness == pytest.approx(0.0704, abs=1e-4)
     assert sol.matched_chamber_thickness == pytest.approx(0.0697, rel=0.015)
     # and at that thickness the chambers fill exactly when filtration time equals downtime
-    full = solve_cycle(PressSystem(f, Press(10.0, sol.matched_chamber_thickness), case.feed, case.cycle))
+    full = solve_cycle(PressSystem(f, Press(10.0, sol.matched_chamber_thickness), system.feed, system.cycle))
     assert full.chambers_full.filtration_time == pytest.approx(900.0, rel=1e-9)
 
 
@@ -156,10 +156,10 @@ def test_fill_fraction_stops_the_press_early():
 
 
 def test_thickness_comparison_rises_until_the_matched_thickness_then_stays():
-    case = make_system()
-    L_match = solve_cycle(case).matched_chamber_thickness
+    system = make_system()
+    L_match = solve_cycle(system).matched_chamber_thickness
     Ls = np.array([0.3, 0.6, 0.9, 1.2, 1.5]) * L_match
-    rows = compare_thicknesses(case, Ls)
+    rows = compare_thicknesses(system, Ls)
     Q = [sol.best.filtrate_throughput for _, sol in rows]
     assert Q[0] < Q[1] < Q[2] < Q[3]
     assert Q[3] == pytest.approx(Q[4], rel=1e-12)
@@ -196,14 +196,14 @@ log_uniform = lambda lo, hi: st.floats(min_value=math.log(lo), max_value=math.lo
 def test_random_cases_are_finite_and_best_beats_every_feasible_volume(
     alpha, R_m, area, L, dP, t_d, wash_ratio, s, mu, c, v
 ):
-    case = make_system(alpha=alpha, R_m=R_m, area=area, L=L, dP=dP, t_d=t_d,
+    system = make_system(alpha=alpha, R_m=R_m, area=area, L=L, dP=dP, t_d=t_d,
                      wash_ratio=wash_ratio, s=s, mu=mu, c=c, v=v)
-    sol = solve_cycle(case)
+    sol = solve_cycle(system)
     for r in (sol.best, sol.unconstrained_optimum, sol.chambers_full):
         for value in r.__dict__.values():
             if isinstance(value, float):
                 assert math.isfinite(value)
-    Q, _, _ = brute_force_throughput(case)
+    Q, _, _ = brute_force_throughput(system)
     grid = np.linspace(1e-6, 1.0, 400) * sol.chambers_full_volume
     assert sol.best.filtrate_throughput >= Q(grid).max() * (1 - 1e-9)
 
@@ -222,6 +222,6 @@ def test_washing_by_cake_pore_volumes_equals_the_filtrate_basis_scaled():
 
 def test_washing_by_pore_volumes_needs_the_porosity():
     base = make_system()
-    case = PressSystem(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
+    system = PressSystem(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
     with pytest.raises(SolverInputError, match="porosity"):
-        solve_cycle(case)
+        solve_cycle(system)

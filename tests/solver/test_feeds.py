@@ -27,7 +27,7 @@ def filtration(s=0.0, R_m=R_M, p_ref=5e5):
     return Filtration(C, 0.15, 1.6, MU, ALPHA, p_ref, s, R_m)
 
 
-def case(feed, s=0.0, L=0.04, t_d=1200.0, wash_ratio=0.0, R_m=R_M):
+def system(feed, s=0.0, L=0.04, t_d=1200.0, wash_ratio=0.0, R_m=R_M):
     return PressSystem(filtration(s, R_m), Press(A, L), feed, CycleSettings(t_d, wash_ratio))
 
 
@@ -75,9 +75,9 @@ def test_compressible_rate_stage_pressure_solves_the_rate_equation():
 def test_a_flow_the_clean_cloth_cannot_pass_is_a_warning_not_an_error():
     Pm = 3e5
     q_clean = Pm * A / (MU * R_M)
-    sol = solve_cycle(case(ConstantRate(2 * q_clean, Pm)))
+    sol = solve_cycle(system(ConstantRate(2 * q_clean, Pm)))
     assert any("clean cloth" in w for w in sol.warnings)
-    cp = solve_cycle(case(ConstantPressure(Pm)))
+    cp = solve_cycle(system(ConstantPressure(Pm)))
     assert sol.best.filtrate_throughput == pytest.approx(cp.best.filtrate_throughput, rel=1e-12)
 
 
@@ -89,7 +89,7 @@ def test_a_flat_pump_curve_reduces_to_constant_pressure():
     q_clean = P0 * A / (MU * R_M)
     pump = PumpCurve(((0.0, P0), (0.5 * q_clean, P0), (1.5 * q_clean, P0)))
     for L in (0.02, 0.5):  # chamber-limited and optimum-limited
-        a, b = solve_cycle(case(pump, L=L)), solve_cycle(case(ConstantPressure(P0), L=L))
+        a, b = solve_cycle(system(pump, L=L)), solve_cycle(system(ConstantPressure(P0), L=L))
         for key in ("filtrate_volume", "filtration_time", "filtrate_throughput", "cycle_time"):
             assert getattr(a.best, key) == pytest.approx(getattr(b.best, key), rel=1e-6), key
 
@@ -125,14 +125,14 @@ def test_pump_curve_operating_points_match_the_explicit_inverse():
 def test_pump_curve_mass_balance_and_pressure_limit():
     Q, P = falling_pump()
     pump = PumpCurve(tuple(zip(Q, P)), max_pressure=5.5e5)
-    model = CycleFamily(filtration(0.3), A, pump, CycleSettings(1200.0), 20.0)
+    family = CycleFamily(filtration(0.3), A, pump, CycleSettings(1200.0), 20.0)
     V = np.linspace(0, 20.0, 20001)
-    t = model.curve.time(V)
-    flow = model.curve.rate(V)
+    t = family.curve.time(V)
+    flow = family.curve.rate(V)
     integral = np.concatenate(([0], np.cumsum(0.5 * (flow[1:] + flow[:-1]) * np.diff(t))))
     np.testing.assert_allclose(integral, V, rtol=1e-5, atol=1e-9)
-    assert np.all(model.curve.pressure_at(V) <= 5.5e5 * (1 + 1e-12))
-    assert model.curve.pressure_at(20.0) == pytest.approx(5.5e5)
+    assert np.all(family.curve.pressure_at(V) <= 5.5e5 * (1 + 1e-12))
+    assert family.curve.pressure_at(20.0) == pytest.approx(5.5e5)
 
 
 def test_pump_curve_time_and_volume_are_inverse():
@@ -144,8 +144,8 @@ def test_pump_curve_time_and_volume_are_inverse():
 
 def test_pump_fed_cycle_is_slower_than_constant_pressure_at_its_shut_off():
     Q, P = falling_pump()
-    pump = solve_cycle(case(PumpCurve(tuple(zip(Q, P))), L=0.2))
-    cp = solve_cycle(case(ConstantPressure(P.max()), L=0.2))
+    pump = solve_cycle(system(PumpCurve(tuple(zip(Q, P))), L=0.2))
+    cp = solve_cycle(system(ConstantPressure(P.max()), L=0.2))
     assert pump.best.filtrate_throughput < cp.best.filtrate_throughput
 
 
@@ -164,17 +164,17 @@ def test_invalid_pump_curves_are_refused(points, fragment):
 
 
 def test_a_single_pressure_step_reduces_to_constant_pressure():
-    a = solve_cycle(case(PressureSteps(((5e5, 600.0),)), s=0.4))
-    b = solve_cycle(case(ConstantPressure(5e5), s=0.4))
+    a = solve_cycle(system(PressureSteps(((5e5, 600.0),)), s=0.4))
+    b = solve_cycle(system(ConstantPressure(5e5), s=0.4))
     for key in ("filtrate_volume", "filtration_time", "filtrate_throughput"):
         assert getattr(a.best, key) == pytest.approx(getattr(b.best, key), rel=1e-6)
 
 
-def test_pressure_steps_follow_each_stage_in_closed_form():
+def test_pressure_steps_follow_each_step_in_closed_form():
     f = filtration(0.4)
     steps = PressureSteps(((2e5, 300.0), (4e5, 600.0), (7e5, 60.0)))
     curve = steps.curve(f, A)
-    # each stage is constant-pressure filtration from where the last one ended
+    # each step is constant-pressure filtration from where the last one ended
     for i, (P, _) in enumerate(steps.steps):
         K = MU * f.specific_resistance(P) * C / (A**2 * P)
         B = MU * R_M / (A * P)
@@ -202,7 +202,7 @@ def test_non_positive_set_flow_is_refused():
 
 
 def test_time_end_criterion_ends_at_that_time():
-    sol = solve_cycle(case(ConstantPressure(5e5), L=0.3), EndCriterion("time", time=600.0))
+    sol = solve_cycle(system(ConstantPressure(5e5), L=0.3), EndCriterion("time", time=600.0))
     assert sol.at_end.end_reason == "time"
     assert sol.at_end.cycle.filtration_time == pytest.approx(600.0, rel=1e-12)
     assert sol.at_end.throughput_ratio_to_best <= 1.0
@@ -212,18 +212,18 @@ def test_flow_end_criterion_matches_constant_pressure_closed_form():
     P0 = 5e5
     K_p, B = MU * ALPHA * C / (A**2 * P0), MU * R_M / (A * P0)
     q_end = 0.25 / B
-    sol = solve_cycle(case(ConstantPressure(P0), L=0.5), EndCriterion("flow", flow=q_end))
+    sol = solve_cycle(system(ConstantPressure(P0), L=0.5), EndCriterion("flow", flow=q_end))
     assert sol.at_end.end_reason == "flow"
     assert sol.at_end.cycle.filtrate_volume == pytest.approx((1 / q_end - B) / K_p, rel=1e-9)
-    per_area = solve_cycle(case(ConstantPressure(P0), L=0.5), EndCriterion("flow", flow_per_area=q_end / A))
-    fraction = solve_cycle(case(ConstantPressure(P0), L=0.5), EndCriterion("flow", flow_fraction=0.25))
+    per_area = solve_cycle(system(ConstantPressure(P0), L=0.5), EndCriterion("flow", flow_per_area=q_end / A))
+    fraction = solve_cycle(system(ConstantPressure(P0), L=0.5), EndCriterion("flow", flow_fraction=0.25))
     for other in (per_area, fraction):
         assert other.at_end.cycle.filtrate_volume == pytest.approx(sol.at_end.cycle.filtrate_volume, rel=1e-9)
 
 
 def test_terminal_pressure_end_in_the_constant_rate_stage():
     Q0, Pm, P_end = 0.02, 6e5, 4e5
-    sol = solve_cycle(case(ConstantRate(Q0, Pm), L=0.3), EndCriterion("pressure", pressure=P_end))
+    sol = solve_cycle(system(ConstantRate(Q0, Pm), L=0.3), EndCriterion("pressure", pressure=P_end))
     expected = (P_end / (MU * Q0) - R_M / A) * A**2 / (ALPHA * C)
     assert sol.at_end.end_reason == "pressure"
     assert sol.at_end.cycle.filtrate_volume == pytest.approx(expected, rel=1e-9)
@@ -231,7 +231,7 @@ def test_terminal_pressure_end_in_the_constant_rate_stage():
 
 
 def test_an_end_past_full_chambers_stops_at_full_chambers():
-    sol = solve_cycle(case(ConstantPressure(5e5), L=0.02), EndCriterion("time", time=1e6))
+    sol = solve_cycle(system(ConstantPressure(5e5), L=0.02), EndCriterion("time", time=1e6))
     assert sol.at_end.end_reason == "chambers_full"
     assert sol.at_end.cycle.chamber_fill == pytest.approx(1.0)
 
@@ -244,13 +244,13 @@ def test_an_end_past_full_chambers_stops_at_full_chambers():
 )
 def test_end_criteria_that_cannot_happen_are_refused(feed, end, parameter):
     with pytest.raises(SolverInputError) as err:
-        solve_cycle(case(feed), end)
+        solve_cycle(system(feed), end)
     assert err.value.parameter == parameter
 
 
 def test_curves_run_to_full_chambers_with_equal_lengths():
     Q, P = falling_pump()
-    sol = solve_cycle(case(PumpCurve(tuple(zip(Q, P))), L=0.04))
+    sol = solve_cycle(system(PumpCurve(tuple(zip(Q, P))), L=0.04))
     lengths = {len(v) for v in sol.curves.values()}
     assert lengths == {241}
     assert sol.curves["filtrate_volume"][-1] == pytest.approx(sol.chambers_full_volume)
@@ -260,7 +260,7 @@ def test_curves_run_to_full_chambers_with_equal_lengths():
 
 def test_thickness_comparison_with_a_pump_matches_single_solves():
     Q, P = falling_pump()
-    c = case(PumpCurve(tuple(zip(Q, P))))
+    c = system(PumpCurve(tuple(zip(Q, P))))
     for L, sol in compare_thicknesses(c, [0.02, 0.04, 0.08]):
         single = solve_cycle(PressSystem(c.filtration, c.press.with_thickness(L), c.feed, c.cycle))
         assert sol.best.filtrate_throughput == pytest.approx(single.best.filtrate_throughput, rel=1e-6)
@@ -268,7 +268,7 @@ def test_thickness_comparison_with_a_pump_matches_single_solves():
 
 def test_a_pump_curve_without_a_shut_off_point_is_a_warning():
     Q, P = falling_pump()  # lowest listed flow 5 m^3/h
-    sol = solve_cycle(case(PumpCurve(tuple(zip(Q, P)))))
+    sol = solve_cycle(system(PumpCurve(tuple(zip(Q, P)))))
     assert any("shut-off" in w for w in sol.warnings)
     with_zero = PumpCurve(((0.0, 7.2e5), *zip(Q, P)))
-    assert not any("shut-off" in w for w in solve_cycle(case(with_zero)).warnings)
+    assert not any("shut-off" in w for w in solve_cycle(system(with_zero)).warnings)
