@@ -99,6 +99,12 @@ class TabulatedCurve:
     def V_max(self) -> float:
         return float(self.V[-1])
 
+    @property
+    def knots(self) -> np.ndarray:
+        """Volumes where the curve changes its form [m^3]: the grid nodes (the global
+        optimum search scans them)."""
+        return self.V[1:]
+
     def _segment(self, V):
         return np.clip(np.searchsorted(self.V, V, side="right") - 1, 0, self.V.size - 1)
 

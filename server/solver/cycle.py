@@ -1,9 +1,11 @@
 """The press cycle: filtration, washing and downtime, its optimum and the chamber limit.
 
 Cycle time T = t_f + t_w + t_d; filtrate throughput Q = V / T; dry solids throughput
-c Q. Q(V) is unimodal; the unconstrained optimum is the tangent to V(t) from (-t_d, 0)
-(the classic graphical construction), the chambers cap V at V_full, and the best
-feasible cycle is at min(V*, V_full).
+c Q. At constant pressure Q(V) has one peak: the unconstrained optimum is the tangent to
+V(t) from (-t_d, 0) (the classic graphical construction), the chambers cap V at V_full, and
+the best feasible cycle is at min(V*, V_full). Other feeds (pressure stages above all) may
+give several peaks: their optimum is found by a global scan (:func:`peak_scan`) and the best
+feasible cycle is the highest throughput in (0, V_full].
 
 References: McCabe, Smith & Harriott, Unit Operations of Chemical Engineering, chapter
 "Filtration" (cycle time of batch filters); Coulson & Richardson's Chemical Engineering
@@ -218,13 +220,24 @@ class CycleFamily:
 
     def _optimum_volume(self, V_scale: float) -> float:
         closed_form = getattr(self.curve, "optimum_volume", None)
-        if closed_form is not None:
+        if closed_form is not None:  # one peak, in closed form
+            self.scan = None
             c, mu = self.cycle, self.filtration.viscosity
             p = self.curve.pressure
             p_w = c.wash_pressure if c.wash_pressure is not None else p
             a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu) * (p / p_w)
             return closed_form(c.downtime, a)
-        return numeric_optimum_volume(self.throughput, V_scale)
+        curve = self.curve
+        self.scan = peak_scan(self.throughput, V_scale, getattr(curve, "knots", ()), getattr(curve, "held_from", 0.0))
+        return self.scan.V_best
+
+    def best_volume(self, V_full):
+        """End volume of the best cycle whose cake fits in chambers that fill at ``V_full``
+        [m^3], vectorised over V_full: the highest throughput in (0, V_full]."""
+        if self.scan is None:  # a single peak: the optimum, or full chambers before it
+            out = np.minimum(self.V_star, V_full)
+            return out if np.ndim(out) else float(out)
+        return self.scan.best_within(V_full, self.throughput)
 
     def result(self, press: Press, V: float, limited_by: str) -> CycleResult:
         v = self.filtration.cake_volume_ratio
@@ -324,11 +337,46 @@ class CycleFamily:
         }
 
 
-def numeric_optimum_volume(throughput, V_scale: float) -> float:
-    """Volume that maximises a unimodal throughput function, by search and refinement.
+#: The best local peaks of a throughput scan that are refined (a flat tail can hold many).
+MAX_REFINED_PEAKS = 24
 
-    Brackets the maximum by doubling from ``V_scale``, scans a log-spaced grid, then
-    refines with a bounded scalar optimiser (Brent's method) around the best grid point.
+
+@dataclass(frozen=True)
+class ThroughputScan:
+    """Throughput on a volume grid that holds every local peak, each refined.
+
+    For feeds without a closed-form optimum the throughput may have several peaks as the
+    cake builds (a low first pressure stage, then a high one); the scan keeps them all, so
+    the best cycle within any chamber volume is a look-up.
+    """
+
+    V: np.ndarray  # m^3, increasing
+    Q: np.ndarray  # m^3/s
+    best_upto: np.ndarray  # index of the highest Q at or below each V
+
+    @property
+    def V_best(self) -> float:
+        return float(self.V[self.best_upto[-1]])
+
+    def best_within(self, V_full, throughput):
+        """The volume of highest throughput in (0, V_full] [m^3], vectorised over V_full."""
+        V_full = np.asarray(V_full, dtype=float)
+        k = np.searchsorted(self.V, V_full, side="right") - 1
+        inside = self.V[self.best_upto[np.maximum(k, 0)]]
+        Q_inside = np.where(k >= 0, self.Q[self.best_upto[np.maximum(k, 0)]], -np.inf)
+        out = np.where(throughput(V_full) >= Q_inside, V_full, inside)
+        return out if out.ndim else float(out)
+
+
+def peak_scan(throughput, V_scale: float, knots=(), held_from: float = 0.0) -> ThroughputScan:
+    """Scan a throughput function for all its peaks, then refine each (global optimum).
+
+    The grid runs log-spaced over nine decades up to past the last peak, with the curve's
+    knots (stage starts, switch points, table nodes) as extra grid points, so no peak of a
+    stage is stepped over; every local maximum of the grid is refined by a bounded scalar
+    optimiser (Brent's method) between its neighbours. Beyond ``held_from`` the feed is at
+    one pressure (or moves monotonically along a pump curve) and the throughput has a single
+    peak, which the upper end brackets by doubling.
 
     Parameters
     ----------
@@ -336,22 +384,61 @@ def numeric_optimum_volume(throughput, V_scale: float) -> float:
         Q(V) [m^3/s], vectorised over V [m^3].
     V_scale : float
         A volume of the right order, such as the chambers-full volume [m^3].
+    knots : array_like
+        Volumes where the filtration curve changes form [m^3]; those inside the scanned
+        range become grid points.
+    held_from : float
+        Volume after which the throughput can have only one more peak [m^3] (the start of
+        the last pressure stage); the scan reaches past it.
     """
-    hi = V_scale
+    hi = max(V_scale, 2.0 * held_from)
     for _ in range(200):
         if throughput(2.0 * hi) <= throughput(hi):
             break
         hi *= 2.0
     hi *= 2.0
-    grid = np.geomspace(hi * 1e-9, hi, 2001)
-    k = int(np.argmax(throughput(grid)))
-    lo_b = grid[max(k - 1, 0)]
-    hi_b = grid[min(k + 1, grid.size - 1)]
-    res = minimize_scalar(
-        lambda V: -throughput(V), bounds=(lo_b, hi_b), method="bounded",
-        options={"xatol": hi_b * 1e-12},
-    )
-    return float(res.x)
+    V = np.geomspace(min(hi * 1e-9, V_scale * 1e-6), hi, 4001)
+    knots = np.asarray(knots, dtype=float).ravel()
+    knots = knots[np.isfinite(knots) & (knots > V[0]) & (knots < hi)]
+    if knots.size:
+        V = np.unique(np.concatenate((V, knots)))
+    Q = np.asarray(throughput(V), dtype=float)
+    rising_in = np.concatenate(([True], Q[1:] >= Q[:-1]))
+    falling_out = np.concatenate((Q[:-1] >= Q[1:], [True]))
+    peaks = np.nonzero(rising_in & falling_out)[0]
+    peaks = peaks[np.argsort(Q[peaks])[::-1][:MAX_REFINED_PEAKS]]
+    extra_V, extra_Q = [], []
+    for k in peaks:
+        lo, up = V[max(k - 1, 0)], V[min(k + 1, V.size - 1)]
+        res = minimize_scalar(lambda x: -throughput(x), bounds=(lo, up), method="bounded",
+                              options={"xatol": up * 1e-12})
+        if -res.fun > Q[k]:
+            extra_V.append(float(res.x))
+            extra_Q.append(float(-res.fun))
+    if extra_V:
+        order = np.argsort(np.concatenate((V, extra_V)), kind="stable")
+        V = np.concatenate((V, extra_V))[order]
+        Q = np.concatenate((Q, extra_Q))[order]
+    # index of the running maximum (first of equals): the best cycle up to each volume
+    running = np.maximum.accumulate(Q)
+    new_best = np.concatenate(([True], running[1:] > running[:-1]))
+    best_upto = np.maximum.accumulate(np.where(new_best, np.arange(V.size), 0))
+    return ThroughputScan(V, Q, best_upto)
+
+
+def numeric_optimum_volume(throughput, V_scale: float, knots=()) -> float:
+    """Volume that maximises a throughput function over all volumes (global), see :func:`peak_scan`.
+
+    Parameters
+    ----------
+    throughput : callable
+        Q(V) [m^3/s], vectorised over V [m^3].
+    V_scale : float
+        A volume of the right order, such as the chambers-full volume [m^3].
+    knots : array_like
+        Volumes where the filtration curve changes form [m^3].
+    """
+    return peak_scan(throughput, V_scale, knots, max(knots, default=0.0)).V_best
 
 
 def _scalar_or_none(x):
@@ -376,7 +463,13 @@ def solve_cycle(
 
     unconstrained = family.result(press, V_star, LIMITED_BY_OPTIMUM)
     full = family.result(press, V_full, LIMITED_BY_CHAMBERS)
-    best = unconstrained if V_star <= V_full else full
+    V_best = float(family.best_volume(V_full))
+    if V_best == V_star:
+        best = unconstrained
+    elif V_best >= V_full:
+        best = full
+    else:  # a peak below full chambers that is not the highest of all (stages, pumps)
+        best = family.result(press, V_best, LIMITED_BY_OPTIMUM)
     matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
 
     V_end, reason = family.end_volume(end, best.filtrate_volume, V_full)

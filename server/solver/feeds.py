@@ -3,7 +3,8 @@
 A feed mode turns the cake and cloth (a :class:`Filtration`) and a filter area into a
 filtration curve with time(V), volume(t), rate(V) and pressure(V), all vectorised.
 A curve may also offer ``optimum_volume`` in closed form; the cycle optimiser falls
-back to a numeric search for curves that do not.
+back to a global numeric search for curves that do not, on a grid that holds the curve's
+``knots`` (stage starts, switch points, table nodes) where the throughput may change course.
 
 To add a feed mode, write a dataclass with ``mode``, ``pressure_varies``, ``pressure_cap`` and a
 ``curve(filtration, filter_area, V_max)`` method returning an object with those four methods
@@ -187,6 +188,16 @@ class RateThenPressureCurve:
     @property
     def t1(self) -> float:
         return self.V1 / self.flow
+
+    @property
+    def knots(self) -> np.ndarray:
+        """The switch from constant rate to constant pressure [m^3]."""
+        return np.array([self.V1]) if self.V1 > 0.0 else np.empty(0)
+
+    @property
+    def held_from(self) -> float:
+        """From here on the pressure is held: one more throughput peak at most [m^3]."""
+        return max(self.V1, 0.0)
 
     def time(self, V):
         V = np.asarray(V, dtype=float)
@@ -382,6 +393,16 @@ class SteppedPressureCurve:
 
     def _step_of_volume(self, V):
         return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, self.K_p.size - 1)
+
+    @property
+    def knots(self) -> np.ndarray:
+        """Filtrate volumes at which each later stage starts [m^3]."""
+        return self.V_starts[1:]
+
+    @property
+    def held_from(self) -> float:
+        """The last stage's start: it is held, so one more throughput peak at most [m^3]."""
+        return float(self.V_starts[-1])
 
     def time(self, V):
         V = np.asarray(V, dtype=float)

@@ -40,7 +40,7 @@ def throughput_against_time(family: CycleFamily, solution: CycleSolution) -> dic
 def throughput_against_thickness(family: CycleFamily, system: PressSystem, L: np.ndarray) -> dict:
     """Best throughput [m^3/s] and the chamber fill at it [-] for each chamber thickness L [m]."""
     press, v = system.press, system.filtration.cake_volume_ratio
-    V_best = np.minimum(family.V_star, chambers_full_volume(press.filter_area, L, v, press.fill_fraction))
+    V_best = family.best_volume(chambers_full_volume(press.filter_area, L, v, press.fill_fraction))
     return {"chamber_thickness": _list(L), "filtrate_throughput": _list(family.throughput(V_best)),
             "chamber_fill": _list(press.chamber_fill(V_best, v, L))}
 
