@@ -3,7 +3,7 @@
 Cycle time T = t_f + t_w + t_d; filtrate throughput Q = V / T; dry solids throughput
 c Q. At constant pressure Q(V) has one peak: the unconstrained optimum is the tangent to
 V(t) from (-t_d, 0) (the classic graphical construction), the chambers cap V at V_full, and
-the best feasible cycle is at min(V*, V_full). Other feeds (pressure stages above all) may
+the best feasible cycle is at min(V*, V_full). Other feeds (pressure steps above all) may
 give several peaks: their optimum is found by a global scan (:func:`peak_scan`) and the best
 feasible cycle is the highest throughput in (0, V_full].
 
@@ -346,7 +346,7 @@ class ThroughputScan:
     """Throughput on a volume grid that holds every local peak, each refined.
 
     For feeds without a closed-form optimum the throughput may have several peaks as the
-    cake builds (a low first pressure stage, then a high one); the scan keeps them all, so
+    cake builds (a low first pressure step, then a high one); the scan keeps them all, so
     the best cycle within any chamber volume is a look-up.
     """
 
@@ -372,8 +372,8 @@ def peak_scan(throughput, V_scale: float, knots=(), held_from: float = 0.0) -> T
     """Scan a throughput function for all its peaks, then refine each (global optimum).
 
     The grid runs log-spaced over nine decades up to past the last peak, with the curve's
-    knots (stage starts, switch points, table nodes) as extra grid points, so no peak of a
-    stage is stepped over; every local maximum of the grid is refined by a bounded scalar
+    knots (step starts, switch points, table nodes) as extra grid points, so no peak of a
+    step is passed over; every local maximum of the grid is refined by a bounded scalar
     optimiser (Brent's method) between its neighbours. Beyond ``held_from`` the feed is at
     one pressure (or moves monotonically along a pump curve) and the throughput has a single
     peak, which the upper end brackets by doubling.
@@ -389,7 +389,7 @@ def peak_scan(throughput, V_scale: float, knots=(), held_from: float = 0.0) -> T
         range become grid points.
     held_from : float
         Volume after which the throughput can have only one more peak [m^3] (the start of
-        the last pressure stage); the scan reaches past it.
+        the last pressure step); the scan reaches past it.
     """
     hi = max(V_scale, 2.0 * held_from)
     for _ in range(200):
@@ -468,7 +468,7 @@ def solve_cycle(
         best = unconstrained
     elif V_best >= V_full:
         best = full
-    else:  # a peak below full chambers that is not the highest of all (stages, pumps)
+    else:  # a peak below full chambers that is not the highest of all (steps, pumps)
         best = family.result(press, V_best, LIMITED_BY_OPTIMUM)
     matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
 

@@ -1,7 +1,7 @@
 """The best cycle is the global optimum for every feed: no end time beats it.
 
-Oracles built here, independently of the solver: Ruth's equation solved stage by stage for a
-pressure schedule (t - t0 = K_i (V^2 - V0^2)/2 + B_i (V - V0) in each stage, K_i = mu alpha
+Oracles built here, independently of the solver: Ruth's equation solved step by step for a
+pressure schedule (t - t0 = K_i (V^2 - V0^2)/2 + B_i (V - V0) in each step, K_i = mu alpha
 c/(A^2 dP_i), B_i = mu R_m/(A dP_i); McCabe, Smith & Harriott, Unit Operations of Chemical
 Engineering, 7th ed., ch. 30, from memory), and a dense grid of end times.
 """
@@ -31,7 +31,7 @@ def filtration(alpha, R_m, s=0.0):
 
 
 def schedule_volume(steps, alpha, R_m, t):
-    """V(t) for a pressure schedule, Ruth's equation stage by stage (incompressible cake)."""
+    """V(t) for a pressure schedule, Ruth's equation step by step (incompressible cake)."""
     t = np.asarray(t, dtype=float)
     V = np.zeros_like(t)
     t0, V0 = 0.0, 0.0
@@ -39,11 +39,11 @@ def schedule_volume(steps, alpha, R_m, t):
         K = MU * alpha * C / (AREA**2 * dP)
         B = MU * R_m / (AREA * dP)
         last = i == len(steps) - 1
-        in_stage = (t >= t0) & ((t < t0 + duration) | last)
-        dt = t[in_stage] - t0
+        in_step = (t >= t0) & ((t < t0 + duration) | last)
+        dt = t[in_step] - t0
         # K/2 (V^2 - V0^2) + B (V - V0) = dt, solved for V
         b = B + K * V0
-        V[in_stage] = V0 + (-b + np.sqrt(b * b + 2 * K * dt)) / K
+        V[in_step] = V0 + (-b + np.sqrt(b * b + 2 * K * dt)) / K
         if not last:
             b = B + K * V0
             V0 = V0 + (-b + np.sqrt(b * b + 2 * K * duration)) / K
@@ -51,9 +51,9 @@ def schedule_volume(steps, alpha, R_m, t):
     return V
 
 
-def test_a_low_first_stage_gives_an_early_peak_that_is_found():
+def test_a_low_first_step_gives_an_early_peak_that_is_found():
     # 0.3 bar for 60 min, then 12 bar held, 5 min downtime, 30 mm chambers: the throughput
-    # peaks after 5 min in the low stage, falls, and rises again in the high stage, whose own
+    # peaks after 5 min in the low step, falls, and rises again in the high step, whose own
     # peak lies past full chambers (61.6 min). The best feasible cycle is the early peak
     # (7.08 m³/h), not full chambers (5.40 m³/h, what a single-peak search reports).
     steps = ((0.3e5, 3600.0), (12e5, 36000.0))
@@ -67,16 +67,16 @@ def test_a_low_first_stage_gives_an_early_peak_that_is_found():
     Q = V / (t + t_d)
     assert sol.best.filtrate_throughput >= Q.max() * (1 - 1e-9)
     assert sol.best.filtrate_throughput == pytest.approx(Q.max(), rel=1e-6)
-    assert sol.best.filtration_time < 3600.0  # the early peak, in the low stage
+    assert sol.best.filtration_time < 3600.0  # the early peak, in the low step
     assert sol.best.filtrate_throughput > 1.3 * sol.chambers_full.filtrate_throughput
 
 
-stage = st.tuples(st.floats(0.2e5, 16e5), st.floats(60.0, 36000.0))
+step = st.tuples(st.floats(0.2e5, 16e5), st.floats(60.0, 36000.0))
 
 
 @settings(max_examples=120, deadline=None)
-@given(steps=st.lists(stage, min_size=1, max_size=4), alpha=st.floats(1e9, 1e13), R_m=st.one_of(st.just(0.0), st.floats(1e8, 1e12)),
-       t_d=st.floats(60.0, 7200.0), L=st.floats(0.01, 0.1))
+@given(steps=st.lists(step, min_size=1, max_size=4), alpha=st.floats(1e9, 1e13),
+       R_m=st.one_of(st.just(0.0), st.floats(1e8, 1e12)), t_d=st.floats(60.0, 7200.0), L=st.floats(0.01, 0.1))
 def test_no_end_time_beats_the_best_cycle_of_a_pressure_schedule(steps, alpha, R_m, t_d, L):
     system = PressSystem(filtration(alpha, R_m), Press(AREA, L), PressureSteps(tuple(steps)), CycleSettings(t_d))
     sol = solve_cycle(system)
