@@ -10,7 +10,7 @@ from fastapi.staticfiles import StaticFiles
 from fastapi.templating import Jinja2Templates
 
 from . import errors
-from .limits import BodySizeLimit
+from .guards import EdgeGuard
 from .routers import cycle, labfit, pages, scenarios, ui
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
@@ -57,7 +57,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(scenarios.pages)
     app.include_router(pages.router)
     errors.install(app, templates)
-    app.add_middleware(BodySizeLimit, max_bytes=settings.max_body_bytes)
+    app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout)
     return app
 
 

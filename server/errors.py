@@ -38,6 +38,20 @@ class InputError(Exception):
         return InputError([((*prefix, *[p for p in loc if p != "body"]), msg) for loc, msg in self.errors])
 
 
+async def read_upload(request: Request, file, max_bytes: int) -> bytes:
+    """The bytes of an upload: the multipart part named "file", or the whole body.
+
+    A multipart body without a "file" part is a 422 that says so; more than ``max_bytes``
+    is a 413.
+    """
+    if file is None and request.headers.get("content-type", "").startswith("multipart/"):
+        raise InputError([(("body", "file"), "send the file in a form part named \"file\"")])
+    raw = await (file.read(max_bytes + 1) if file is not None else request.body())
+    if len(raw) > max_bytes:
+        raise StarletteHTTPException(413, f"the upload is larger than {max_bytes // 1000} kB")
+    return raw
+
+
 _PLAIN = {
     "missing": "required",
     "extra_forbidden": "unknown field (check the spelling)",
@@ -104,11 +118,12 @@ def install(app, templates) -> None:
     @app.exception_handler(StarletteHTTPException)
     async def _http(request: Request, exc: StarletteHTTPException):
         message = exc.detail if isinstance(exc.detail, str) else "error"
+        headers = getattr(exc, "headers", None)  # e.g. Allow on a 405
         if _wants_json(request):
-            return JSONResponse({"detail": message}, status_code=exc.status_code)
+            return JSONResponse({"detail": message}, status_code=exc.status_code, headers=headers)
         return templates.TemplateResponse(
             request, "error.html", {"status": exc.status_code, "message": message},
-            status_code=exc.status_code,
+            status_code=exc.status_code, headers=headers,
         )
 
     @app.exception_handler(Exception)

@@ -230,8 +230,19 @@ def _get(inputs: dict, path: str):
     return node
 
 
+class PrefillError(ValueError):
+    """A prefill value the form cannot show (wrong type or unreadable); ``path`` names the field."""
+
+    def __init__(self, path: str, message: str):
+        super().__init__(f"{path}: {message}")
+        self.path, self.message = path, message
+
+
 def prefill(inputs: dict) -> dict:
-    """Form state from a stored request: {path: (number, unit)} and {choice name: option}."""
+    """Form state from a stored request: {path: (number, unit)} and {choice name: option}.
+
+    Raises PrefillError for a value of the wrong shape (a link's prefill is typed by hand).
+    """
     values, choices = {}, {}
     for group in GROUPS:
         for item in group.items:
@@ -253,8 +264,35 @@ def prefill(inputs: dict) -> dict:
     return {"values": values, "choices": choices}
 
 
+_SCALAR = (int, float, str)
+
+
+def _pairs(raw, path: str, what: str) -> list:
+    if not isinstance(raw, list) or not all(
+        isinstance(p, list | tuple) and len(p) == 2 and all(isinstance(x, _SCALAR) for x in p) for p in raw
+    ):
+        raise PrefillError(path, f"must be a list of [{what}] pairs")
+    return raw
+
+
 def _fill(values: dict, f: FormField, inputs: dict, chosen: bool) -> None:
     raw = _get(inputs, f.path) if chosen else None
+    try:
+        _fill_value(values, f, raw)
+    except PrefillError:
+        raise
+    except (TypeError, ValueError, ArithmeticError) as exc:  # units.UnitError is a ValueError
+        raise PrefillError(f.path, f"cannot show {raw!r}: {exc}") from None
+
+
+def _fill_value(values: dict, f: FormField, raw) -> None:
+    if raw is not None and f.kind in ("curve", "steps"):
+        raw = _pairs(raw, f.path, "flow, pressure" if f.kind == "curve" else "pressure, duration")
+    elif raw is not None and f.kind == "length_list":
+        if not isinstance(raw, list) or not all(isinstance(x, _SCALAR) for x in raw):
+            raise PrefillError(f.path, "must be a list of thicknesses")
+    elif raw is not None and (isinstance(raw, bool) or not isinstance(raw, _SCALAR)):
+        raise PrefillError(f.path, "must be a number or a quantity such as \"5 bar\"")
     if f.kind == "curve":
         pts = raw or []
         values[f.path] = ("\n".join(f"{_num(q, 'flow')}, {_num(p, 'pressure')}" for q, p in pts), "m^3/h|bar")

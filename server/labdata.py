@@ -112,7 +112,10 @@ def parse_readings(text: str) -> Readings:
                 raise CsvError(line_no, f"{cells[pos]!r} is not a number") from None
             if not math.isfinite(number):
                 raise CsvError(line_no, f"{cells[pos]!r} is not a finite number")
-            pair.append(parse_quantity(f"{number!r} {unit}", kind))
+            try:
+                pair.append(parse_quantity(f"{number!r} {unit}", kind))
+            except UnitError as exc:
+                raise CsvError(line_no, f"{cells[pos]!r} {unit}: {exc}") from None
         points.append((pair[0], pair[1]))
     if not points:
         raise CsvError(None, "no readings below the header")

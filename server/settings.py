@@ -16,7 +16,10 @@ class Settings(BaseSettings):
 
     #: The demo scenarios shown on the start page (environment: PRESSCYCLE_DEMO_DIR).
     demo_dir: Path = PROJECT_ROOT / "demo_cases"
+    #: Largest request body [bytes]; larger is a 413 (environment: PRESSCYCLE_MAX_BODY_BYTES).
     max_body_bytes: int = 2_000_000
+    #: A request body must arrive within this many seconds, else 408.
+    body_timeout: float = 30.0
     #: The SQLite file of saved scenarios (environment: PRESSCYCLE_DB), relative to the
     #: working folder unless absolute.
     db: Path = Path("data") / "presscycle.sqlite3"

@@ -17,6 +17,7 @@ from .solver import water
 from .solver.errors import inputs_of
 
 DEFAULT_LIQUID_DENSITY = 998.0  # kg/m^3, water near 20 degC
+MAX_PRESSES = 100_000  # a target beyond this many presses is a slip in the input, not a plan
 
 #: Where the inputs of each solver object sit in the request. Solver errors carry a dotted
 #: path: an object's own field ("flow"), prefixed by whoever built it here ("feed.flow",
@@ -224,6 +225,9 @@ def target_check(inputs: CycleRequest, sol) -> dict | None:
     required = getattr(t, key)
     achieved = getattr(sol.best, key) * t.hours_per_day / 24.0
     ratio = achieved / required
+    if not ratio * MAX_PRESSES > 1.0:
+        raise InputError([(("body", "target"), f"this target would need more than {MAX_PRESSES:,} presses like "
+                           "this one: check the target, its units and the press")])
     return {"quantity": key, "required": required, "achieved": achieved, "ratio": ratio, "meets": ratio >= 1.0,
             "presses_needed": max(1, math.ceil(required / achieved * (1 - 1e-12))), "hours_per_day": t.hours_per_day}
 

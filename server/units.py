@@ -106,7 +106,7 @@ def parse_quantity(value, kind: str) -> float:
     to_si = _converter(unit, k.si_unit, kind)
     si = to_si(number)
     if not math.isfinite(si):
-        raise UnitError("must be a finite number")
+        raise UnitError(f"{value!r} is out of numeric range in SI units")
     return float(si)
 
 
@@ -123,8 +123,13 @@ def _converter(unit: str, si_unit: str, kind: str):
         raise UnitError(
             f"{unit!r} is not a unit of {kind.replace('_', ' ')}; use, for example, {example(kind)}"
         )
-    zero = ureg.Quantity(0.0, parsed).to(target).magnitude
-    scale = ureg.Quantity(1.0, parsed).to(target).magnitude - zero
+    try:
+        zero = ureg.Quantity(0.0, parsed).to(target).magnitude
+        scale = ureg.Quantity(1.0, parsed).to(target).magnitude - zero
+    except (OverflowError, ZeroDivisionError, ArithmeticError):
+        raise UnitError(f"{unit!r} is out of numeric range; use, for example, {example(kind)}") from None
+    if not (math.isfinite(zero) and math.isfinite(scale) and scale != 0.0):
+        raise UnitError(f"{unit!r} is out of numeric range; use, for example, {example(kind)}")
     return lambda number: zero + scale * number
 
 

@@ -1,8 +1,8 @@
 """POST /api/v1/lab-fit: cake and cloth resistance from lab filtration tests."""
 
-from fastapi import APIRouter, HTTPException, Request, UploadFile
+from fastapi import APIRouter, Request, UploadFile
 
-from ..errors import InputError
+from ..errors import InputError, read_upload
 from ..lab import fit_request
 from ..labdata import CsvError, parse_readings
 from ..schemas.labfit import LabFitRequest, LabFitResponse
@@ -26,12 +26,7 @@ async def post_lab_readings(request: Request, file: UploadFile | None = None) ->
 
     The header names the columns and their units, e.g. ``time [min], filtrate [mL]``.
     """
-    if file is not None:
-        raw = await file.read(MAX_CSV_BYTES + 1)
-    else:
-        raw = await request.body()
-    if len(raw) > MAX_CSV_BYTES:
-        raise HTTPException(413, f"the CSV is larger than {MAX_CSV_BYTES // 1000} kB")
+    raw = await read_upload(request, file, MAX_CSV_BYTES)
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError:

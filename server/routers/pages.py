@@ -11,7 +11,7 @@ from fastapi.responses import FileResponse, HTMLResponse
 from ..demo import load_demo_scenarios
 from ..display import Units
 from ..errors import InputError
-from ..forms import GROUPS, UNIT_CHOICES, prefill
+from ..forms import GROUPS, UNIT_CHOICES, PrefillError, prefill
 from ..scenarios import solve_inputs
 from ..solve import CAUTIONS
 from ..views import PLOTLY_URL, render_results
@@ -38,10 +38,14 @@ def home(request: Request):
 
 def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None):
     """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once."""
+    try:
+        state = prefill(inputs)
+    except PrefillError as exc:
+        raise HTTPException(400, f"the prefill value of {exc.path} cannot be shown: {exc.message}") from None
     context = {
         "parent": parent,
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
-        "state": prefill(inputs),
+        "state": state,
         "initial_html": None, "initial_figures": None, "initial_error": None,
     }
     if solve:
@@ -65,8 +69,8 @@ def new_scenario(request: Request, prefill: str = Query("", max_length=4000)):
     if prefill:
         try:
             inputs = json.loads(prefill)
-        except json.JSONDecodeError:
-            raise HTTPException(400, "the prefill parameter is not JSON") from None
+        except (json.JSONDecodeError, RecursionError):
+            raise HTTPException(400, "the prefill parameter is not JSON (or nested too deeply)") from None
         if not isinstance(inputs, dict):
             raise HTTPException(400, "the prefill parameter must be a JSON object")
     return editor_page(request, "New scenario", "Enter your slurry, cake, cloth, press, feed and cycle; "

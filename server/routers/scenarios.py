@@ -11,7 +11,7 @@ from fastapi.responses import HTMLResponse, JSONResponse, Response
 from .. import solver
 from ..charts import overlay
 from ..display import Units, UnitSystem
-from ..errors import InputError
+from ..errors import InputError, read_upload
 from ..scenarios import differences, save, solve_inputs
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
 from ..solve import CAUTIONS
@@ -68,11 +68,11 @@ def get_scenario(request: Request, sid: str) -> dict:
 @router.post("/import", response_model=ScenarioCreated, status_code=201)
 async def import_scenario(request: Request, file: UploadFile | None = None) -> dict:
     """A scenario file exported from presscycle (or any JSON with name and inputs) becomes a new scenario."""
-    raw = await (file.read(MAX_IMPORT_BYTES + 1) if file is not None else request.body())
-    if len(raw) > MAX_IMPORT_BYTES:
-        raise HTTPException(413, f"the file is larger than {MAX_IMPORT_BYTES // 1000} kB")
+    raw = await read_upload(request, file, MAX_IMPORT_BYTES)
     try:
         data = json.loads(raw.decode("utf-8-sig"))
+    except RecursionError:
+        raise InputError([(("body",), "the file is nested too deeply to be a scenario")]) from None
     except (UnicodeDecodeError, json.JSONDecodeError) as exc:
         raise InputError([(("body",), f"the file is not JSON: {exc.__class__.__name__}")]) from None
     if not isinstance(data, dict) or not isinstance(data.get("inputs"), dict):

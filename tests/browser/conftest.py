@@ -53,7 +53,9 @@ class PageWatch:
 
 @pytest.fixture
 def page(browser, live_server):
-    context = browser.new_context(viewport={"width": 1440, "height": 1000}, accept_downloads=True)
+    # playwright evaluates the tests' own predicates as strings, which the app's CSP (no eval)
+    # forbids: the tests' context bypasses it; test_csp.py drives the pages under the real CSP
+    context = browser.new_context(viewport={"width": 1440, "height": 1000}, accept_downloads=True, bypass_csp=True)
     pg = context.new_page()
     watch = PageWatch()
 

@@ -1,0 +1,142 @@
+"""The app's edge guards, one pure ASGI middleware: safe headers, writes only from our own
+pages or deliberate API clients, bounded request bodies, no Host-derived redirects.
+
+- Every response carries a Content-Security-Policy (the app's own scripts only, no framing),
+  X-Content-Type-Options: nosniff, Referrer-Policy: same-origin and X-Frame-Options: DENY.
+- A state-changing request (POST, PUT, PATCH, DELETE) from another origin is refused (403):
+  browsers send Origin and Sec-Fetch-Site with cross-site requests, so a page elsewhere on
+  the intranet cannot plant scenarios; API clients (scripts, curl) send neither.
+- Its body must be of the route's media type (415): JSON for the JSON API, JSON or
+  multipart for an import, CSV or multipart for lab readings. text/plain, which a browser
+  sends cross-site without asking, is never accepted.
+- The body is read here in full before the route runs: over ``max_bytes`` (declared or
+  chunked) is a 413, a client that stops sending mid-body is dropped after
+  ``body_timeout`` seconds with a 408.
+- A path with a trailing slash is redirected to the path without it by a relative Location
+  (never built from the Host header).
+"""
+
+import asyncio
+import json
+from urllib.parse import urlsplit
+
+UNSAFE_METHODS = {"POST", "PUT", "PATCH", "DELETE"}
+#: Media types a write route accepts; any other write route takes JSON only.
+BODY_TYPES = {
+    "/api/v1/scenarios/import": ("application/json", "multipart/form-data"),
+    "/api/v1/lab-readings": ("text/csv", "multipart/form-data"),
+}
+JSON_ONLY = ("application/json",)
+
+CONTENT_SECURITY_POLICY = (
+    "default-src 'self'; script-src 'self'; "
+    # plotly.js sets its chart styles from script: inline styles, never inline scripts
+    "style-src 'self' 'unsafe-inline'; img-src 'self' data: blob:; font-src 'self' data:; "
+    "connect-src 'self'; object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'"
+)
+SECURITY_HEADERS = [
+    (b"content-security-policy", CONTENT_SECURITY_POLICY.encode()),
+    (b"x-content-type-options", b"nosniff"),
+    (b"referrer-policy", b"same-origin"),
+    (b"x-frame-options", b"DENY"),
+]
+
+
+class _TooLarge(Exception):
+    pass
+
+
+class EdgeGuard:
+    """Pure ASGI middleware applying the guards above to every HTTP request."""
+
+    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0):
+        self.app = app
+        self.max_bytes = max_bytes
+        self.body_timeout = body_timeout
+
+    async def __call__(self, scope, receive, send):
+        if scope["type"] != "http":
+            return await self.app(scope, receive, send)
+
+        async def send_with_headers(message):
+            if message["type"] == "http.response.start":
+                names = {k.lower() for k, _ in message.get("headers", [])}
+                extra = [(k, v) for k, v in SECURITY_HEADERS if k not in names]
+                message = {**message, "headers": [*message.get("headers", []), *extra]}
+            await send(message)
+
+        path, method = scope["path"], scope["method"]
+        headers = {k.decode("latin-1").lower(): v.decode("latin-1") for k, v in scope.get("headers") or []}
+        if path != "/" and path.endswith("/") and method in ("GET", "HEAD"):
+            query = scope.get("query_string", b"").decode("latin-1")
+            location = "/" + path.strip("/") + (f"?{query}" if query else "")
+            return await _answer(send_with_headers, 308, None, [(b"location", location.encode("latin-1"))])
+        if method not in UNSAFE_METHODS:
+            return await self.app(scope, receive, send_with_headers)
+
+        refusal = _cross_origin(headers)
+        if refusal:
+            return await _answer(send_with_headers, 403, refusal)
+        length = headers.get("content-length", "")
+        if length.isdigit() and int(length) > self.max_bytes:
+            return await _answer(send_with_headers, 413, self._too_large())
+        body_types = BODY_TYPES.get(path, JSON_ONLY)
+        media_type = headers.get("content-type", "").split(";")[0].strip().lower()
+        if (length not in ("", "0") or "transfer-encoding" in headers) and media_type not in body_types:
+            return await _answer(send_with_headers, 415,
+                                 f"send the body as {' or '.join(body_types)} (got {media_type or 'no content type'})")
+        try:
+            body = await asyncio.wait_for(self._read(receive), timeout=self.body_timeout)
+        except _TooLarge:
+            return await _answer(send_with_headers, 413, self._too_large())
+        except TimeoutError:
+            return await _answer(send_with_headers, 408,
+                                 f"the request body did not arrive within {self.body_timeout:g} s")
+        if body is None:  # the client went away
+            return None
+        replayed = False
+
+        async def replay():
+            nonlocal replayed
+            if not replayed:
+                replayed = True
+                return {"type": "http.request", "body": body, "more_body": False}
+            return await receive()
+
+        return await self.app(scope, replay, send_with_headers)
+
+    async def _read(self, receive) -> bytes | None:
+        chunks, size = [], 0
+        while True:
+            message = await receive()
+            if message["type"] == "http.disconnect":
+                return None
+            chunk = message.get("body", b"")
+            size += len(chunk)
+            if size > self.max_bytes:
+                raise _TooLarge
+            chunks.append(chunk)
+            if not message.get("more_body", False):
+                return b"".join(chunks)
+
+    def _too_large(self) -> str:
+        return f"the request body is larger than {self.max_bytes // 1000} kB"
+
+
+def _cross_origin(headers: dict) -> str | None:
+    """Why a write from these request headers is refused, or None."""
+    site = headers.get("sec-fetch-site")
+    if site is not None and site not in ("same-origin", "none"):
+        return "writes are accepted only from presscycle's own pages or from API clients"
+    origin = headers.get("origin")
+    if origin is not None and urlsplit(origin).netloc.lower() != headers.get("host", "").lower():
+        return "writes are accepted only from presscycle's own pages or from API clients"
+    return None
+
+
+async def _answer(send, status: int, detail: str | None, headers=()):
+    body = b"" if detail is None else json.dumps({"detail": detail}).encode()
+    await send({"type": "http.response.start", "status": status,
+                "headers": [(b"content-type", b"application/json"), (b"content-length", str(len(body)).encode()),
+                            *headers]})
+    await send({"type": "http.response.body", "body": body})

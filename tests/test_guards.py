@@ -1,0 +1,210 @@
+"""Abuse and attack: every input gets a 4xx in words (never a 500), writes come only from our
+own pages or API clients, every response carries the safe headers, bodies are bounded."""
+
+import asyncio
+import copy
+import json
+import urllib.parse
+
+import pytest
+
+from server.guards import EdgeGuard
+from tests.conftest import BASE_REQUEST
+
+
+def _plain_4xx(r, status=422):
+    assert r.status_code == status, r.text
+    text = r.text
+    assert "Traceback" not in text and "internal error" not in text
+    return r
+
+
+# ---- inputs that used to reach a 500 (issue 11), each a 4xx in words now ------------------------
+
+def test_a_cloth_standard_error_with_a_flow_end_gives_results(client):
+    # the range's lower corner has no cloth, where a share of the initial flow is undefined:
+    # the range is of the best cycle, which does not depend on how filtration ends
+    body = copy.deepcopy(BASE_REQUEST)
+    body["medium_resistance_stderr"] = 6e10
+    body["cycle"]["end"] = {"criterion": "flow", "flow_fraction": 0.5}
+    r = client.post("/api/v1/cycle", json=body)
+    assert r.status_code == 200, r.text
+    low, high = r.json()["uncertainty"]["filtrate_throughput"]
+    assert low < r.json()["best"]["filtrate_throughput"] < high
+
+
+@pytest.mark.parametrize("path", ["/api/v1/lab-readings", "/api/v1/scenarios/import"])
+def test_a_multipart_upload_without_a_file_part_is_a_422(client, path):
+    r = _plain_4xx(client.post(path, files={"other": ("x.txt", b"1,2\n")}))
+    assert r.json()["detail"][0]["field"] == "file"
+
+
+def test_a_unit_whose_conversion_overflows_is_a_422_at_the_field(client):
+    body = copy.deepcopy(BASE_REQUEST)
+    body["feed"]["pressure"] = "5 kPa**200/Pa**199"
+    r = _plain_4xx(client.post("/api/v1/cycle", json=body))
+    assert r.json()["detail"][0]["field"] == "feed.pressure" and "out of numeric range" in r.json()["detail"][0]["msg"]
+
+
+@pytest.mark.parametrize("hours", [1e-310, 0.0, 0.05])
+def test_running_hours_below_six_minutes_are_refused(client, hours):
+    body = copy.deepcopy(BASE_REQUEST)
+    body["target"] = {"solids_throughput": 1.0, "hours_per_day": hours}
+    r = _plain_4xx(client.post("/api/v1/cycle", json=body))
+    assert r.json()["detail"][0]["field"] == "target.hours_per_day"
+
+
+def test_a_target_beyond_any_plant_is_refused_in_words(client):
+    body = copy.deepcopy(BASE_REQUEST)
+    body["target"] = {"solids_throughput": "1e4 kg/s"}
+    body["press"]["filter_area"] = "0.001 m^2"
+    r = _plain_4xx(client.post("/api/v1/cycle", json=body))
+    assert r.json()["detail"][0]["field"] == "target" and "presses" in r.json()["detail"][0]["msg"]
+
+
+def test_import_nested_a_thousand_deep_is_a_422(client):
+    deep = "[" * 1000 + "]" * 1000
+    r = _plain_4xx(client.post("/api/v1/scenarios/import", content=deep,
+                               headers={"content-type": "application/json"}))
+    assert "nested too deeply" in r.json()["detail"][0]["msg"]
+
+
+@pytest.mark.parametrize("prefill", [
+    '{"a":' + "[" * 1990 + "]" * 1990 + "}",  # deeper than json's recursion limit, within 4000 characters
+    '{"feed": {"mode": "pump_curve", "points": 5}}',
+    '{"feed": {"mode": "pressure_steps", "steps": [[1], "a"]}}',
+    '{"press": {"chamber_thickness": {"a": 1}}}',
+    '{"compare_thicknesses": [[1]]}',
+    '{"slurry": {"solids_mass_fraction": "12 furlongs"}}',
+])
+def test_a_bad_prefill_link_is_an_error_page_not_a_500(client, prefill):
+    r = client.get("/scenario/new?prefill=" + urllib.parse.quote(prefill))
+    assert r.status_code == 400 and r.headers["content-type"].startswith("text/html")
+    assert "prefill" in r.text and "internal error" not in r.text
+
+
+@pytest.mark.parametrize("route,body", [
+    ("/api/v1/lab-readings", "time [h], filtrate [mL]\n1e308, 2\n2e308, 3\n"),
+])
+def test_a_csv_value_out_of_range_after_conversion_is_a_422_naming_the_line(client, route, body):
+    r = _plain_4xx(client.post(route, content=body.encode(), headers={"content-type": "text/csv"}))
+    assert "line 2" in r.json()["detail"][0]["msg"]
+
+
+def test_a_lab_csv_value_out_of_range_is_a_422_at_the_test(client):
+    lab = {"tests": [{"pressure": 3e5, "area": 0.01, "viscosity": 1e-3, "c": 20,
+                      "csv": "time [h], filtrate [L]\n0.1, 1\n1e308, 2\n"}]}
+    r = _plain_4xx(client.post("/api/v1/lab-fit", json=lab))
+    assert r.json()["detail"][0]["field"] == "tests.0.csv"
+
+
+# ---- writes only from our own pages or API clients ----------------------------------------------
+
+@pytest.mark.parametrize("headers", [
+    {"origin": "http://evil.example", "content-type": "application/json"},
+    {"sec-fetch-site": "cross-site", "content-type": "application/json"},
+    {"sec-fetch-site": "same-site", "content-type": "application/json"},
+    {"origin": "null", "content-type": "application/json"},
+])
+def test_writes_from_another_origin_are_refused_and_nothing_is_stored(client, headers):
+    before = client.get("/api/v1/scenarios").json()["total"]
+    body = json.dumps({"name": "planted", "inputs": BASE_REQUEST})
+    for path in ("/api/v1/scenarios", "/api/v1/scenarios/import"):
+        r = client.post(path, content=body, headers=headers)
+        assert r.status_code == 403 and "own pages" in r.json()["detail"]
+    assert client.get("/api/v1/scenarios").json()["total"] == before
+
+
+def test_a_no_cors_text_plain_import_is_refused(client):
+    before = client.get("/api/v1/scenarios").json()["total"]
+    r = client.post("/api/v1/scenarios/import", content=json.dumps({"name": "p", "inputs": BASE_REQUEST}),
+                    headers={"content-type": "text/plain"})
+    assert r.status_code == 415 and "application/json or multipart/form-data" in r.json()["detail"]
+    assert client.get("/api/v1/scenarios").json()["total"] == before
+
+
+@pytest.mark.parametrize("path,ctype", [
+    ("/api/v1/cycle", "text/plain"), ("/api/v1/cycle", "application/x-www-form-urlencoded"),
+    ("/api/v1/lab-fit", "text/plain"), ("/api/v1/scenarios", "multipart/form-data; boundary=x"),
+    ("/ui/results", "text/plain"), ("/api/v1/lab-readings", "text/plain"),
+])
+def test_json_endpoints_take_json_only(client, path, ctype):
+    r = client.post(path, content=b'{"a": 1}', headers={"content-type": ctype})
+    assert r.status_code == 415
+
+
+def test_same_origin_writes_and_api_clients_pass(client):
+    ok = client.post("/api/v1/cycle", json=BASE_REQUEST,
+                     headers={"origin": "http://testserver", "sec-fetch-site": "same-origin"})
+    assert ok.status_code == 200
+    assert client.post("/api/v1/cycle", json=BASE_REQUEST).status_code == 200  # a script: no Origin
+
+
+# ---- headers, redirects, methods --------------------------------------------------------------
+
+@pytest.mark.parametrize("path", ["/", "/demo/copper_concentrate", "/api/v1/scenarios", "/static/css/app.css",
+                                  "/nowhere", "/vendor/plotly.min.js"])
+def test_every_response_carries_the_safe_headers(client, path):
+    r = client.get(path)
+    csp = r.headers["content-security-policy"]
+    assert "script-src 'self'" in csp and "frame-ancestors 'none'" in csp and "unsafe-eval" not in csp
+    assert "'unsafe-inline'" not in csp.split("script-src")[1].split(";")[0]
+    assert r.headers["x-content-type-options"] == "nosniff"
+    assert r.headers["referrer-policy"] == "same-origin"
+    assert r.headers["x-frame-options"] == "DENY"
+
+
+def test_a_trailing_slash_redirect_never_reflects_the_host(client):
+    r = client.get("/scenarios/?q=a", headers={"host": "evil.example"}, follow_redirects=False)
+    assert r.status_code == 308 and r.headers["location"] == "/scenarios?q=a"
+    # a path that starts with two slashes stays a path on this server, not another host
+    assert dict(_guard_answer("GET", "//evil.example/")["headers"])[b"location"] == b"/evil.example"
+
+
+def test_a_wrong_method_says_which_are_allowed(client):
+    r = client.delete("/api/v1/cycle")
+    assert r.status_code == 405 and r.headers["allow"] == "POST"
+
+
+# ---- bodies ---------------------------------------------------------------------------------------
+
+def test_a_chunked_body_over_the_limit_is_a_413(client):
+    def chunks():
+        for _ in range(40):
+            yield b" " * 100_000
+    r = client.post("/api/v1/cycle", content=chunks(), headers={"content-type": "application/json"})
+    assert r.status_code == 413 and "larger than" in r.json()["detail"]
+
+
+def _guard_answer(method: str, path: str, headers=(), receive=None, **settings):
+    """The first message the guard sends for a request that the app itself never sees."""
+
+    async def app(scope, receive, send):
+        raise AssertionError("the route must not run")
+
+    async def no_body():
+        return {"type": "http.request", "body": b"", "more_body": False}
+
+    answers = []
+
+    async def send(message):
+        answers.append(message)
+
+    guard = EdgeGuard(app, max_bytes=settings.get("max_bytes", 1000), body_timeout=settings.get("body_timeout", 1.0))
+    scope = {"type": "http", "method": method, "path": path, "query_string": b"", "headers": list(headers)}
+    asyncio.run(guard(scope, receive or no_body, send))
+    return answers[0]
+
+
+def test_a_client_that_stalls_mid_body_is_answered_408():
+    sent = []
+
+    async def receive():
+        if not sent:
+            sent.append(1)
+            return {"type": "http.request", "body": b"{", "more_body": True}
+        await asyncio.sleep(10)
+
+    headers = [(b"content-type", b"application/json"), (b"transfer-encoding", b"chunked")]
+    answer = _guard_answer("POST", "/api/v1/cycle", headers, receive, body_timeout=0.2)
+    assert answer["status"] == 408
