@@ -16,6 +16,7 @@ from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
 from .schemas.cycle import FEED_MODES
+from .storage import StorageError
 
 log = logging.getLogger("presscycle")
 
@@ -124,6 +125,16 @@ def install(app, templates) -> None:
         return templates.TemplateResponse(
             request, "error.html", {"status": exc.status_code, "message": message},
             status_code=exc.status_code, headers=headers,
+        )
+
+    @app.exception_handler(StorageError)
+    async def _storage(request: Request, exc: StorageError):
+        # the database cannot take this request now: said in words, with its own status
+        log.warning("storage: %s", exc)
+        if _wants_json(request):
+            return JSONResponse({"detail": str(exc)}, status_code=exc.status)
+        return templates.TemplateResponse(
+            request, "error.html", {"status": exc.status, "message": str(exc)}, status_code=exc.status
         )
 
     @app.exception_handler(Exception)
