@@ -53,6 +53,19 @@ async def read_upload(request: Request, file, max_bytes: int) -> bytes:
     return raw
 
 
+def allowed_methods(request: Request) -> str:
+    """The methods some route serves at this path (one path may have a route per method):
+    each method is tried against the app's routes, which is all a router exposes."""
+    from starlette.routing import Match
+
+    allowed = []
+    for method in ("GET", "POST", "PUT", "PATCH", "DELETE"):
+        probe = {**request.scope, "method": method}
+        if any(route.matches(probe)[0] == Match.FULL for route in request.app.routes):
+            allowed.append(method)
+    return ", ".join(allowed)
+
+
 _PLAIN = {
     "missing": "required",
     "extra_forbidden": "unknown field (check the spelling)",
@@ -119,7 +132,9 @@ def install(app, templates) -> None:
     @app.exception_handler(StarletteHTTPException)
     async def _http(request: Request, exc: StarletteHTTPException):
         message = exc.detail if isinstance(exc.detail, str) else "error"
-        headers = getattr(exc, "headers", None)  # e.g. Allow on a 405
+        headers = getattr(exc, "headers", None)
+        if exc.status_code == 405:
+            headers = {**(headers or {}), "Allow": allowed_methods(request)}
         if _wants_json(request):
             return JSONResponse({"detail": message}, status_code=exc.status_code, headers=headers)
         return templates.TemplateResponse(

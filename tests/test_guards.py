@@ -2,6 +2,7 @@
 own pages or API clients, every response carries the safe headers, bodies are bounded."""
 
 import asyncio
+import concurrent.futures
 import copy
 import json
 import urllib.parse
@@ -192,7 +193,9 @@ def _guard_answer(method: str, path: str, headers=(), receive=None, **settings):
 
     guard = EdgeGuard(app, max_bytes=settings.get("max_bytes", 1000), body_timeout=settings.get("body_timeout", 1.0))
     scope = {"type": "http", "method": method, "path": path, "query_string": b"", "headers": list(headers)}
-    asyncio.run(guard(scope, receive or no_body, send))
+    # a thread of its own: the browser tests' playwright keeps an event loop running in this one
+    with concurrent.futures.ThreadPoolExecutor(1) as pool:
+        pool.submit(asyncio.run, guard(scope, receive or no_body, send)).result()
     return answers[0]
 
 

@@ -2,10 +2,11 @@
 
 from fastapi import APIRouter
 
+from ..schemas.common import ERROR_RESPONSES
 from ..schemas.cycle import CycleRequest, CycleResponse
 from ..solve import solve_results
 
-router = APIRouter(prefix="/api/v1", tags=["cycle"])
+router = APIRouter(prefix="/api/v1", tags=["cycle"], responses=ERROR_RESPONSES)
 
 
 @router.post("/cycle", response_model=CycleResponse)

@@ -5,9 +5,10 @@ from fastapi import APIRouter, Request, UploadFile
 from ..errors import InputError, read_upload
 from ..lab import fit_request
 from ..labdata import CsvError, parse_readings
+from ..schemas.common import ERROR_RESPONSES
 from ..schemas.labfit import LabFitRequest, LabFitResponse
 
-router = APIRouter(prefix="/api/v1", tags=["lab-fit"])
+router = APIRouter(prefix="/api/v1", tags=["lab-fit"], responses=ERROR_RESPONSES)
 MAX_CSV_BYTES = 1_000_000
 
 

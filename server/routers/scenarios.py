@@ -7,18 +7,36 @@ import math
 
 from fastapi import APIRouter, HTTPException, Query, Request, UploadFile
 from fastapi.responses import HTMLResponse, JSONResponse, Response
+from starlette.convertors import Convertor, register_url_convertor
 
 from .. import solver
 from ..charts import overlay
 from ..display import Units, UnitSystem
 from ..errors import InputError, read_upload
 from ..scenarios import differences, save, solve_inputs
+from ..schemas.common import ERROR_RESPONSES
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
 from ..solve import CAUTIONS
 from ..storage import Scenario
 from ..views import render_results
 
-router = APIRouter(prefix="/api/v1/scenarios", tags=["scenarios"])
+
+class ScenarioIdConvertor(Convertor):
+    """A scenario id in a path: any segment but "import" (POST /import is its own route, so a
+    GET there is a 405 that lists POST, not a search for a scenario called "import")."""
+
+    regex = "(?!import$)[^/]+"
+
+    def convert(self, value: str) -> str:
+        return value
+
+    def to_string(self, value: str) -> str:
+        return value
+
+
+register_url_convertor("scenario_id", ScenarioIdConvertor())
+
+router = APIRouter(prefix="/api/v1/scenarios", tags=["scenarios"], responses=ERROR_RESPONSES)
 pages = APIRouter(tags=["pages"], include_in_schema=False)
 PER_PAGE = 20
 MAX_IMPORT_BYTES = 2_000_000
@@ -60,7 +78,7 @@ def list_scenarios(request: Request, q: str = Query("", max_length=200), page: i
             "page": page, "pages": max(1, math.ceil(total / PER_PAGE)), "total": total, "q": q}
 
 
-@router.get("/{sid}", response_model=ScenarioOut)
+@router.get("/{sid:scenario_id}", response_model=ScenarioOut)
 def get_scenario(request: Request, sid: str) -> dict:
     return _out(_get_or_404(request, sid))
 

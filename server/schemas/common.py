@@ -30,3 +30,22 @@ def exactly_one(model: BaseModel, names: tuple[str, ...], required: bool = True)
         raise ValueError(f"give only one of {listing}; got {' and '.join(given)}")
     if required and not given:
         raise ValueError(f"give one of {listing}")
+
+
+class ErrorOut(BaseModel):
+    """Every refusal other than a 422 (which lists the fields): a message in words."""
+
+    detail: str
+
+
+#: The refusals any API route may give, declared in the OpenAPI schema.
+ERROR_RESPONSES = {
+    400: {"model": ErrorOut, "description": "The body could not be read (not JSON, not UTF-8)"},
+    403: {"model": ErrorOut, "description": "A write from another web origin"},
+    404: {"model": ErrorOut, "description": "No such scenario"},
+    408: {"model": ErrorOut, "description": "The body did not arrive in time"},
+    413: {"model": ErrorOut, "description": "The body is larger than the limit"},
+    415: {"model": ErrorOut, "description": "The body is not of the media type the route takes"},
+    503: {"model": ErrorOut, "description": "The saved scenarios cannot be used just now (read-only or damaged)"},
+    507: {"model": ErrorOut, "description": "The disk holding the saved scenarios is full"},
+}

@@ -9,7 +9,7 @@ from typing import Annotated
 
 from pydantic import BeforeValidator, WithJsonSchema
 
-from ..units import KINDS, UnitError, example, parse_quantity
+from ..units import KINDS, MAX_LENGTH, UnitError, example, parse_quantity
 
 
 def _number(value: float, digits: int) -> str:
@@ -38,6 +38,14 @@ def range_text(kind, gt=None, ge=None, lt=None, le=None) -> str:
     return " and ".join(parts)
 
 
+def _number_bounds(kind, gt, ge, lt, le) -> dict:
+    """The allowed range as JSON Schema bounds on the bare-number form (in its unit: SI, or
+    degC for a temperature), so clients and schema-driven tools can see the limits."""
+    shift = -273.15 if KINDS[kind].bare_unit == "degC" else 0.0
+    names = {"exclusiveMinimum": gt, "minimum": ge, "exclusiveMaximum": lt, "maximum": le}
+    return {name: value + shift for name, value in names.items() if value is not None}
+
+
 def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str = ""):
     """An Annotated float field type for one kind of quantity with an allowed range (SI)."""
     allowed = range_text(kind, gt, ge, lt, le)
@@ -56,7 +64,9 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
         return si
 
     schema = {
-        "anyOf": [{"type": "number"}, {"type": "string"}],
+        "anyOf": [{"type": "number", **_number_bounds(kind, gt, ge, lt, le)},
+                  {"type": "string", "maxLength": MAX_LENGTH, "pattern": r"^\s*[-+]?(\d+(\.\d*)?|\.\d+)"}],
+        "x-si-unit": KINDS[kind].label,
         "description": (
             f"{description} [{KINDS[kind].label}]; a bare number is in "
             f"{KINDS[kind].bare_unit or KINDS[kind].label}, or give a string with a unit "

@@ -85,6 +85,37 @@ def _prediction_z(x, y, k: int, others: np.ndarray) -> tuple[float, float]:
     return float(z), float(2.0 * stats.t.sf(z, m - 2))
 
 
+def _block_tests(x, y, sums, first: int, last: int, end: str, k_max: int):
+    """For k = 1..k_max end readings left out at ``end``: how far the block's innermost
+    reading lies off the line through the remaining readings, in standard errors of
+    prediction, and the two-sided chance of that (Student t, m - 2 degrees of freedom).
+
+    All k at once from prefix sums of the (centred) readings: linear in the number of
+    readings, where fitting each line afresh would be quadratic.
+    """
+    k = np.arange(1, k_max + 1)
+    if end == "first":
+        inner, lo, hi = first + k - 1, first + k, np.full(k.size, last)
+    else:
+        inner, lo, hi = last - k + 1, np.full(k.size, first), last - k
+    S1, Sx, Sy, Sxx, Sxy, Syy = (c[hi + 1] - c[lo] for c in sums)
+    m = (hi - lo + 1).astype(float)
+    xm, ym = Sx / m, Sy / m
+    sxx = Sxx - m * xm * xm
+    sxy = Sxy - m * xm * ym
+    syy = Syy - m * ym * ym
+    with np.errstate(divide="ignore", invalid="ignore"):
+        slope = sxy / sxx
+        sse = np.maximum(syy - slope * sxy, 0.0)
+        s_res = np.sqrt(sse / (m - 2))
+        xk, yk = x[inner], y[inner]
+        se = s_res * np.sqrt(1.0 + 1.0 / m + (xk - xm) ** 2 / sxx)
+        off = np.abs(yk - (ym + slope * (xk - xm)))
+        z = np.where(se > 0.0, off / se, np.where(off > 0.0, np.inf, 0.0))
+    p = 2.0 * stats.t.sf(z, m - 2)
+    return z, p
+
+
 def choose_region(x, y) -> tuple[int, int, str]:
     """Propose the linear region of t/V against V: indices [first, last] and how it chose.
 
@@ -99,6 +130,9 @@ def choose_region(x, y) -> tuple[int, int, str]:
     x = np.asarray(x, dtype=float)
     y = np.asarray(y, dtype=float)
     n = x.size
+    # prefix sums of the readings centred on their means (keeps the sums' cancellation small)
+    xc, yc = x - x.mean(), y - y.mean()
+    sums = [np.concatenate(([0.0], np.cumsum(v))) for v in (np.ones(n), xc, yc, xc * xc, xc * yc, yc * yc)]
     first, last = 0, n - 1
     keep_min = max(4, (n + 1) // 2)
     budget = {"first": n // 3, "last": n // 3}
@@ -106,19 +140,14 @@ def choose_region(x, y) -> tuple[int, int, str]:
     while True:
         candidates = []  # per end: the largest significant block, as (p, end, k, z)
         for end in ("first", "last"):
-            largest = None
-            for k in range(1, budget[end] + 1):
-                if last - first + 1 - k < keep_min:
-                    break
-                if end == "first":
-                    inner, others = first + k - 1, np.arange(first + k, last + 1)
-                else:
-                    inner, others = last - k + 1, np.arange(first, last - k + 1)
-                z, p = _prediction_z(x, y, inner, others)
-                if p < OUTLIER_PROBABILITY:
-                    largest = (p, end, k, z)
-            if largest is not None:
-                candidates.append(largest)
+            k_max = min(budget[end], last - first + 1 - keep_min)
+            if k_max < 1:
+                continue
+            z, p = _block_tests(xc, yc, sums, first, last, end, k_max)
+            significant = np.nonzero(p < OUTLIER_PROBABILITY)[0]
+            if significant.size:
+                i = int(significant[-1])
+                candidates.append((float(p[i]), end, i + 1, float(z[i])))
         if not candidates:
             break
         best = min(candidates)
