@@ -18,11 +18,13 @@ from server.solver import (
     Filtration,
     Press,
     PressSystem,
+    PressureSteps,
     PumpCurve,
     compare_thicknesses,
     cycle_family_for,
     solve_cycle,
 )
+from server.solver.labfit import choose_region
 
 ROOT = Path(__file__).resolve().parent.parent
 
@@ -69,6 +71,24 @@ def main() -> None:
           f"best {best_p * 1e3:.2f} ms (target < 20 ms)")
     print(f"  same at constant pressure (closed form): median {med_c * 1e3:.3f} ms; "
           f"ratio pump / closed form = {med_p / med_c:.1f}")
+
+    # Issue 11: the global optimum of a pressure schedule (every peak found, then refined)
+    steps = PressureSteps(((0.3e5, 3600.0), (3e5, 1800.0), (12e5, 36000.0)))
+    step_system = PressSystem(system.filtration, system.press, steps, system.cycle)
+    med_s, _ = timed(lambda: solve_both(step_system), 50)
+    print(f"pressure steps (3 steps) cycle + 6-thickness comparison, global scan: median {med_s * 1e3:.2f} ms; "
+          f"ratio to closed form = {med_s / med_c:.1f}")
+
+    # Issue 11: the lab evaluation's automatic region is linear in the number of readings
+    rng = np.random.default_rng(7)
+    times = {}
+    for n in (2_000, 20_000):
+        V = np.linspace(1e-5, 5e-3, n)
+        t = (3e6 * V + 1e9 * V * V) * (1 + rng.normal(0, 1e-4, n))
+        x, y = V, t / V
+        times[n], _ = timed(lambda x=x, y=y: choose_region(x, y), 20)
+    print(f"lab region search: 2,000 readings {times[2_000] * 1e3:.2f} ms, 20,000 readings "
+          f"{times[20_000] * 1e3:.2f} ms; ratio {times[20_000] / times[2_000]:.1f} for 10x the readings")
 
 
 def pump_system():
