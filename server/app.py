@@ -57,7 +57,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(scenarios.pages)
     app.include_router(pages.router)
     errors.install(app, templates)
-    app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout)
+    app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout,
+                       on_error=lambda path, accept: errors.unexpected_answer(templates, path, accept))
     return app
 
 

@@ -7,11 +7,12 @@ FastAPI, stored or imported inputs checked later (:meth:`InputError.from_validat
 bad query on an HTML page (rendered as the error page, with the same words).
 """
 
+import json
 import logging
 
 from fastapi import Request
 from fastapi.exceptions import RequestValidationError
-from fastapi.responses import JSONResponse
+from fastapi.responses import JSONResponse, Response
 from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
@@ -154,10 +155,19 @@ def install(app, templates) -> None:
 
     @app.exception_handler(Exception)
     async def _unexpected(request: Request, exc: Exception):
+        # reached only if the edge guard's own catch (below) did not answer first
         log.exception("unhandled error on %s", request.url.path)
-        message = "internal error: the problem has been logged"
-        if _wants_json(request):
-            return JSONResponse({"detail": message}, status_code=500)
-        return templates.TemplateResponse(
-            request, "error.html", {"status": 500, "message": message}, status_code=500
-        )
+        status, headers, body = unexpected_answer(templates, request.url.path, request.headers.get("accept", ""))
+        return Response(body, status_code=status, headers=dict(headers))
+
+
+def unexpected_answer(templates, path: str, accept: str) -> tuple[int, list, bytes]:
+    """The 500 for an error nothing else handled: JSON for /api/ and /ui/, else the error page.
+
+    The edge guard sends it itself and keeps the connection open (an exception that reached
+    the server would make it drop a keep-alive connection without a word)."""
+    message = "internal error: the problem has been logged"
+    if path.startswith(("/api/", "/ui/")) or "application/json" in accept:
+        return 500, [("content-type", "application/json")], json.dumps({"detail": message}).encode()
+    html = templates.get_template("error.html").render({"status": 500, "message": message})
+    return 500, [("content-type", "text/html; charset=utf-8")], html.encode()

@@ -18,7 +18,10 @@ pages or deliberate API clients, bounded request bodies, no Host-derived redirec
 
 import asyncio
 import json
+import logging
 from urllib.parse import urlsplit
+
+log = logging.getLogger("presscycle")
 
 UNSAFE_METHODS = {"POST", "PUT", "PATCH", "DELETE"}
 #: Media types a write route accepts; any other write route takes JSON only.
@@ -49,15 +52,38 @@ class _TooLarge(Exception):
 class EdgeGuard:
     """Pure ASGI middleware applying the guards above to every HTTP request."""
 
-    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0):
+    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0, on_error=None):
         self.app = app
         self.max_bytes = max_bytes
         self.body_timeout = body_timeout
+        #: (path, accept) -> (status, headers, body) for an error nothing else handled
+        self.on_error = on_error
 
     async def __call__(self, scope, receive, send):
         if scope["type"] != "http":
             return await self.app(scope, receive, send)
+        started = False
 
+        async def tracking_send(message):
+            nonlocal started
+            started = started or message["type"] == "http.response.start"
+            await send(message)
+
+        try:
+            return await self._guarded(scope, receive, tracking_send)
+        except Exception:
+            if started or self.on_error is None:
+                raise
+            # answered here, the connection stays open for the client's next request
+            log.exception("unhandled error on %s", scope["path"])
+            headers = {k.decode("latin-1").lower(): v.decode("latin-1") for k, v in scope.get("headers") or []}
+            status, extra, body = self.on_error(scope["path"], headers.get("accept", ""))
+            await send({"type": "http.response.start", "status": status,
+                        "headers": [(k.encode(), v.encode()) for k, v in extra]
+                        + [(b"content-length", str(len(body)).encode())] + SECURITY_HEADERS})
+            await send({"type": "http.response.body", "body": body})
+
+    async def _guarded(self, scope, receive, send):
         async def send_with_headers(message):
             if message["type"] == "http.response.start":
                 names = {k.lower() for k, _ in message.get("headers", [])}

@@ -20,6 +20,8 @@ class Settings(BaseSettings):
     max_body_bytes: int = 2_000_000
     #: A request body must arrive within this many seconds, else 408.
     body_timeout: float = 30.0
+    #: A calculation must end within this many seconds, else 503 (server/budget.py).
+    solve_seconds: float = 20.0
     #: The SQLite file of saved scenarios (environment: PRESSCYCLE_DB), relative to the
     #: working folder unless absolute.
     db: Path = Path("data") / "presscycle.sqlite3"

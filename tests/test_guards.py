@@ -211,3 +211,21 @@ def test_a_client_that_stalls_mid_body_is_answered_408():
     headers = [(b"content-type", b"application/json"), (b"transfer-encoding", b"chunked")]
     answer = _guard_answer("POST", "/api/v1/cycle", headers, receive, body_timeout=0.2)
     assert answer["status"] == 408
+
+
+def test_a_calculation_past_the_time_budget_is_a_503_in_words(tmp_path):
+    from fastapi.testclient import TestClient
+
+    from server.app import create_app
+    from tests.conftest import app_settings
+
+    settings = app_settings(tmp_path).model_copy(update={"solve_seconds": 1e-4})
+    body = copy.deepcopy(BASE_REQUEST)
+    q = [i * 1e-5 for i in range(5000)]
+    body["feed"] = {"mode": "pump_curve", "points": [[x, 8e5 - 1e7 * x] for x in q]}
+    body["compare_thicknesses"] = [0.01 + 0.001 * i for i in range(50)]
+    with TestClient(create_app(settings)) as c:
+        for path in ("/api/v1/cycle", "/ui/results"):
+            r = c.post(path, json=body)
+            assert r.status_code == 503 and "took longer than" in r.json()["detail"]
+        assert c.get("/api/v1/scenarios").status_code == 200  # the app answers on

@@ -2,6 +2,7 @@
 
 from fastapi import APIRouter, Request, UploadFile
 
+from ..budget import within_budget
 from ..errors import InputError, read_upload
 from ..lab import fit_request
 from ..labdata import CsvError, parse_readings
@@ -13,12 +14,12 @@ MAX_CSV_BYTES = 1_000_000
 
 
 @router.post("/lab-fit", response_model=LabFitResponse)
-def post_lab_fit(lab_request: LabFitRequest) -> dict:
+async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
     """Fit t/V against V for each test; alpha_ref and s over several pressures.
 
     Quantities accept unit strings ("440 cm^2", "23.5 g/L", "6.7 psi", "250 mL").
     """
-    return fit_request(lab_request)
+    return await within_budget(request, fit_request, lab_request)
 
 
 @router.post("/lab-readings")

@@ -10,6 +10,7 @@ from fastapi.responses import HTMLResponse, JSONResponse, Response
 from starlette.convertors import Convertor, register_url_convertor
 
 from .. import solver
+from ..budget import within_budget
 from ..charts import overlay
 from ..display import Units, UnitSystem
 from ..errors import InputError, read_upload
@@ -63,9 +64,9 @@ def _get_or_404(request: Request, sid: str) -> Scenario:
 
 
 @router.post("", response_model=ScenarioCreated, status_code=201)
-def create_scenario(request: Request, body: ScenarioIn) -> dict:
+async def create_scenario(request: Request, body: ScenarioIn) -> dict:
     """Save a scenario: inputs as entered, results as computed now. Invalid inputs: 422, nothing stored."""
-    s = save(_store(request), body.name, body.note, body.inputs, body.parent)
+    s = await within_budget(request, save, _store(request), body.name, body.note, body.inputs, body.parent)
     return {"id": s.id, "link": _link(s.id)}
 
 
@@ -97,7 +98,7 @@ async def import_scenario(request: Request, file: UploadFile | None = None) -> d
         raise InputError([(("body", "inputs"), "a scenario file needs an inputs object (an /api/v1/cycle request)")])
     name = str(data.get("name") or "Imported scenario")[:120]
     note = str(data.get("note") or "")[:2000]
-    s = save(_store(request), name, note, data["inputs"], None)
+    s = await within_budget(request, save, _store(request), name, note, data["inputs"], None)
     return {"id": s.id, "link": _link(s.id)}
 
 

@@ -9,6 +9,7 @@ from urllib.parse import quote
 
 from fastapi import APIRouter, Request
 
+from ..budget import within_budget
 from ..display import Units, UnitSystem
 from ..lab import fit_request
 from ..labcharts import lab_figures
@@ -21,8 +22,8 @@ router = APIRouter(prefix="/ui", tags=["ui"], include_in_schema=False)
 
 
 @router.post("/results")
-def post_results(request: Request, inputs: CycleRequest, units: UnitSystem = "si") -> dict:
-    solved = solve(inputs, with_chart_series=True)
+async def post_results(request: Request, inputs: CycleRequest, units: UnitSystem = "si") -> dict:
+    solved = await within_budget(request, solve, inputs, with_chart_series=True)
     html, figures = render_results(request.app.state.templates, solved.results, solved.chart_series, Units(units))
     return {"html": html, "figures": figures, "results": solved.results}
 
@@ -48,8 +49,8 @@ def scenario_prefill(result: dict) -> dict:
 
 
 @router.post("/lab-fit")
-def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
-    results = fit_request(lab_request)
+async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
+    results = await within_budget(request, fit_request, lab_request)
     figs = lab_figures(results)
     link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(results)))
     html = request.app.state.templates.get_template("_lab_results.html").render(
