@@ -34,15 +34,21 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app = FastAPI(
         title="presscycle",
         version=SOLVER_VERSION,
-        description="Batch filter press cycles from lab filtration data. Quantities accept units.",
+        description=(f"Batch filter press cycles from lab filtration data. Quantities accept units. Limits: "
+                     f"request bodies up to {settings.max_body_bytes:,} bytes (413 above); a calculation "
+                     f"up to {settings.solve_seconds:g} s (503 above)."),
         # FastAPI's own /docs and /redoc load their scripts from a CDN; the plant intranet has
         # none, so /api renders the OpenAPI schema itself.
         docs_url=None,
         redoc_url=None,
+        # the edge guard redirects a trailing slash itself, by a relative Location: the
+        # framework's redirect would be built from the Host header
+        redirect_slashes=False,
     )
     templates = Jinja2Templates(directory=PROJECT_ROOT / "templates")
     register_filters(templates.env, PROJECT_ROOT / "static")
     app.state.templates = templates
+    app.openapi_schema = None  # built on first use, with the limits above
     app.state.settings = settings
     try:
         app.state.store = SqliteStore(settings.db)
@@ -58,7 +64,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(pages.router)
     errors.install(app, templates)
     app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout,
-                       on_error=lambda path, accept: errors.unexpected_answer(templates, path, accept))
+                       on_error=lambda path, accept: errors.unexpected_answer(templates, path, accept),
+                       allowed_hosts=settings.allowed_hosts)
     return app
 
 

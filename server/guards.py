@@ -19,6 +19,7 @@ pages or deliberate API clients, bounded request bodies, no Host-derived redirec
 import asyncio
 import json
 import logging
+import re
 from urllib.parse import urlsplit
 
 log = logging.getLogger("presscycle")
@@ -52,8 +53,10 @@ class _TooLarge(Exception):
 class EdgeGuard:
     """Pure ASGI middleware applying the guards above to every HTTP request."""
 
-    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0, on_error=None):
+    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0, on_error=None, allowed_hosts=()):
         self.app = app
+        #: host names this server answers to (empty: any); refuses DNS-rebinding pages
+        self.allowed_hosts = {h.lower() for h in allowed_hosts}
         self.max_bytes = max_bytes
         self.body_timeout = body_timeout
         #: (path, accept) -> (status, headers, body) for an error nothing else handled
@@ -93,10 +96,16 @@ class EdgeGuard:
 
         path, method = scope["path"], scope["method"]
         headers = {k.decode("latin-1").lower(): v.decode("latin-1") for k, v in scope.get("headers") or []}
+        if self.allowed_hosts and _host_name(headers.get("host", "")) not in self.allowed_hosts:
+            return await _answer(send_with_headers, 400, "this server is not known by that name (its allowed hosts "
+                                 "are set by PRESSCYCLE_ALLOWED_HOSTS)")
         if path != "/" and path.endswith("/") and method in ("GET", "HEAD"):
-            query = scope.get("query_string", b"").decode("latin-1")
-            location = "/" + path.strip("/") + (f"?{query}" if query else "")
-            return await _answer(send_with_headers, 308, None, [(b"location", location.encode("latin-1"))])
+            location = _slash_location(scope)
+            if location is None:
+                return await _answer(send_with_headers, 404, "not found")
+            return await _answer(send_with_headers, 308, None, [(b"location", location)])
+        if method == "HEAD":  # a GET without its body, for every page and API route
+            return await self.app({**scope, "method": "GET"}, receive, _without_body(send_with_headers))
         if method not in UNSAFE_METHODS:
             return await self.app(scope, receive, send_with_headers)
 
@@ -149,14 +158,53 @@ class EdgeGuard:
         return f"the request body is larger than {self.max_bytes // 1000} kB"
 
 
+#: A path the slash redirect may point at: RFC 3986 path characters, percent-encoded as sent
+_SAFE_PATH = re.compile(rb"^/[A-Za-z0-9._~!$&'()*+,;=:@%/-]*$")
+_SAFE_QUERY = re.compile(rb"^[A-Za-z0-9._~!$&'()*+,;=:@%/?-]*$")
+
+
+def _slash_location(scope) -> bytes | None:
+    """Where a path with a trailing slash is sent: the same path without it, relative, built
+    from the raw (still percent-encoded) path so that nothing in it can name another host."""
+    raw = scope.get("raw_path") or scope["path"].encode("utf-8")
+    target = b"/" + raw.strip(b"/")
+    if not _SAFE_PATH.match(target) or target.startswith(b"//"):
+        return None
+    query = scope.get("query_string", b"")
+    return target + (b"?" + query if query and _SAFE_QUERY.match(query) else b"")
+
+
+def _without_body(send):
+    async def head_send(message):
+        if message["type"] == "http.response.body":
+            message = {**message, "body": b""}
+        await send(message)
+    return head_send
+
+
+def _host_name(host: str) -> str:
+    """The name in a Host header, without its port ("plant-a:8000" -> "plant-a", "[::1]:80" -> "[::1]")."""
+    host = host.strip().lower()
+    if host.startswith("["):
+        return host.split("]")[0] + "]"
+    return host.split(":")[0]
+
+
 def _cross_origin(headers: dict) -> str | None:
-    """Why a write from these request headers is refused, or None."""
+    """Why a write from these request headers is refused, or None.
+
+    The origin must be this server as the browser addressed it: the Host header, or the host
+    a reverse proxy forwarded (X-Forwarded-Host; a browser cannot set that header on a
+    cross-site request without asking first, which this app never allows)."""
     site = headers.get("sec-fetch-site")
     if site is not None and site not in ("same-origin", "none"):
         return "writes are accepted only from presscycle's own pages or from API clients"
     origin = headers.get("origin")
-    if origin is not None and urlsplit(origin).netloc.lower() != headers.get("host", "").lower():
-        return "writes are accepted only from presscycle's own pages or from API clients"
+    if origin is not None:
+        served_as = {headers.get("host", "").lower()}
+        served_as |= {h.strip().lower() for h in headers.get("x-forwarded-host", "").split(",") if h.strip()}
+        if urlsplit(origin).netloc.lower() not in served_as:
+            return "writes are accepted only from presscycle's own pages or from API clients"
     return None
 
 

@@ -22,6 +22,10 @@ class Settings(BaseSettings):
     body_timeout: float = 30.0
     #: A calculation must end within this many seconds, else 503 (server/budget.py).
     solve_seconds: float = 20.0
+    #: Host names the server answers to (PRESSCYCLE_ALLOWED_HOSTS='["presscycle.plant.local"]');
+    #: empty: any. Setting it refuses pages that reach the server under another name
+    #: (DNS rebinding).
+    allowed_hosts: list[str] = []
     #: The SQLite file of saved scenarios (environment: PRESSCYCLE_DB), relative to the
     #: working folder unless absolute.
     db: Path = Path("data") / "presscycle.sqlite3"

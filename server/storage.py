@@ -13,10 +13,12 @@ or folder that cannot be written is served read-only (saves are refused in words
 record found damaged later stops all writes to the file; a full disk is said so.
 """
 
+import errno
 import json
 import os
 import secrets
 import sqlite3
+import tempfile
 from contextlib import contextmanager
 from dataclasses import dataclass
 from datetime import UTC, datetime
@@ -63,6 +65,8 @@ class ScenarioStore(Protocol):
 
     def recent(self, n: int) -> list[Scenario]: ...
 
+    def mark_damaged(self, what: str): ...
+
 
 _MIGRATIONS = {
     1: [
@@ -107,10 +111,23 @@ class SqliteStore:
         return conn
 
     def _writable(self) -> str | None:
-        """Why this file cannot be written, or None (tried, not guessed from permissions)."""
-        if self.path.exists() and not os.access(self.path, os.W_OK):
-            return f"the database file {self.path} is read-only"
-        if not os.access(self.path.parent, os.W_OK):
+        """Why this file cannot be written, or None: tried, not guessed from permission bits
+        (the file is opened for writing and closed untouched; a scratch file is made and
+        removed in its folder, where SQLite keeps its journal)."""
+        if self.path.exists():
+            try:
+                os.close(os.open(self.path, os.O_RDWR))
+            except PermissionError:
+                return f"the database file {self.path} is read-only"
+            except OSError as exc:
+                if exc.errno == errno.EROFS:
+                    return f"the database file {self.path} is on a read-only filesystem"
+                raise
+        try:
+            fd, scratch = tempfile.mkstemp(prefix=".presscycle-write-test-", dir=self.path.parent)
+            os.close(fd)
+            os.unlink(scratch)
+        except OSError:
             return f"the folder of {self.path} is read-only (SQLite writes its journal beside the file)"
         return None
 
@@ -122,39 +139,27 @@ class SqliteStore:
 
     def _migrate(self) -> None:
         reason = self._writable()
-        if reason is not None:
-            if not self.path.exists():
-                raise StorageError(f"{reason}: the new database cannot be created there")
-            self.read_only = reason
+        if reason is not None and not self.path.exists():
+            raise StorageError(f"{reason}: the new database cannot be created there")
+        self.read_only = reason
+        wal = self.path.with_name(self.path.name + "-wal")
+        if self.read_only and wal.exists() and wal.stat().st_size > 0:
+            raise StorageError(
+                f"{reason}, and {wal.name} beside it holds saves not yet merged into the file: make the file and "
+                f"its folder writable for one start (they are merged then); read-only they would not be shown"
+            )
         try:
+            existing = self.path.exists() and self.path.stat().st_size > 0
+            version = self._check() if existing else 0
+            if self.read_only:
+                if version < SCHEMA_VERSION:
+                    raise StorageError(f"{self.read_only}, and it needs migrating to schema {SCHEMA_VERSION}: "
+                                       f"make it writable for one start")
+                return
             conn = self._connect()
             try:
-                app_id = conn.execute("PRAGMA application_id").fetchone()[0]
-                version = conn.execute("PRAGMA user_version").fetchone()[0]
-                tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
-                if app_id == 0 and not tables and not self.read_only:
-                    app_id = APPLICATION_ID  # a new, empty file: ours from now on
-                    conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")
-                if app_id != APPLICATION_ID:
-                    raise StorageError(
-                        f"{self.path} is not a presscycle database (application id {app_id:#x}); "
-                        f"refusing to use it. Point PRESSCYCLE_DB at another file."
-                    )
-                if version > SCHEMA_VERSION:
-                    raise StorageError(
-                        f"{self.path} has schema version {version}, newer than this presscycle "
-                        f"({SCHEMA_VERSION}); upgrade presscycle instead."
-                    )
-                if self.check_integrity and tables:
-                    problems = [r[0] for r in conn.execute("PRAGMA quick_check(5)")]
-                    if problems != ["ok"]:
-                        raise self._refuse_damage("; ".join(problems)[:300])
-                if self.read_only:
-                    if version < SCHEMA_VERSION:
-                        raise StorageError(f"{self.read_only}, and it needs migrating to schema {SCHEMA_VERSION}: "
-                                           f"make it writable for one start")
-                    conn.execute("SELECT count(*) FROM scenarios").fetchone()
-                    return
+                if not existing:
+                    conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")  # a new file: ours from now on
                 conn.execute("PRAGMA journal_mode = WAL")
                 for v in range(version + 1, SCHEMA_VERSION + 1):
                     conn.execute("BEGIN IMMEDIATE")
@@ -175,6 +180,33 @@ class SqliteStore:
                 f"{self.path} cannot be opened as a presscycle database ({exc}); it may be corrupted. "
                 f"Nothing was changed; restore it from a backup or point PRESSCYCLE_DB at another file."
             ) from None
+
+    def _check(self) -> int:
+        """Check an existing file over a read-only connection (nothing written, no checkpoint):
+        ours, not from a newer presscycle, undamaged. Returns its schema version."""
+        uri = f"file:{self.path}?{'immutable=1' if self.read_only else 'mode=ro'}"
+        conn = sqlite3.connect(uri, uri=True, timeout=30.0, isolation_level=None)
+        try:
+            app_id = conn.execute("PRAGMA application_id").fetchone()[0]
+            version = conn.execute("PRAGMA user_version").fetchone()[0]
+            tables = {r[0] for r in conn.execute("SELECT name FROM sqlite_master WHERE type='table'")}
+            if app_id != APPLICATION_ID and not (app_id == 0 and not tables):
+                raise StorageError(
+                    f"{self.path} is not a presscycle database (application id {app_id:#x}); "
+                    f"refusing to use it. Point PRESSCYCLE_DB at another file."
+                )
+            if version > SCHEMA_VERSION:
+                raise StorageError(
+                    f"{self.path} has schema version {version}, newer than this presscycle "
+                    f"({SCHEMA_VERSION}); upgrade presscycle instead."
+                )
+            if self.check_integrity and tables:
+                problems = [r[0] for r in conn.execute("PRAGMA quick_check(5)")]
+                if problems != ["ok"]:
+                    raise self._refuse_damage("; ".join(problems)[:300])
+            return version
+        finally:
+            conn.close()
 
     @contextmanager
     def _errors(self, writing: bool):
@@ -197,11 +229,19 @@ class SqliteStore:
 
     def _row(self, r) -> Scenario:
         try:
-            return Scenario(r[0], r[1], r[2], r[3], json.loads(r[4]), json.loads(r[5]), r[6], r[7],
-                            json.loads(r[8]))
+            s = Scenario(r[0], r[1], r[2], r[3], json.loads(r[4]), json.loads(r[5]), r[6], r[7], json.loads(r[8]))
+            shape_ok = (all(isinstance(v, str) for v in (s.id, s.name, s.note, s.created, s.solver_version))
+                        and all(isinstance(v, dict) for v in (s.inputs, s.results, s.summary)))
         except (ValueError, TypeError):
-            self.damaged = f"the record of scenario {r[0]!r} in {self.path} is damaged"
-            raise StorageError(f"{self.damaged}: no more writes go into the file; restore it from a backup") from None
+            shape_ok = False
+        if not shape_ok:
+            self.mark_damaged(f"the record of scenario {r[0]!r} in {self.path} is damaged")
+        return s
+
+    def mark_damaged(self, what: str):
+        """Stop all writes into a file found damaged, and say so (raises StorageError)."""
+        self.damaged = what
+        raise StorageError(f"{what}: no more writes go into the file; restore it from a backup and restart presscycle")
 
     _COLUMNS = "id, name, note, created, inputs, results, solver_version, parent, summary"
 

@@ -15,7 +15,7 @@ from tests.liveserver import free_port
 pytestmark = pytest.mark.slow
 
 
-def _read_response(sock) -> tuple[int, bytes]:
+def _read_response(sock) -> tuple[int, bytes, bytes]:
     data = b""
     while b"\r\n\r\n" not in data:
         data += sock.recv(65536)
@@ -23,7 +23,7 @@ def _read_response(sock) -> tuple[int, bytes]:
     length = int(next(line.split(b":")[1] for line in head.split(b"\r\n") if line.lower().startswith(b"content-length")))
     while len(body) < length:
         body += sock.recv(65536)
-    return int(head.split(b" ")[1]), body[:length]
+    return int(head.split(b" ")[1]), body[:length], head.lower()
 
 
 def test_after_an_unexpected_error_the_same_connection_answers_the_next_request(tmp_path):
@@ -44,10 +44,11 @@ def test_after_an_unexpected_error_the_same_connection_answers_the_next_request(
             time.sleep(0.05)
         with socket.create_connection(("127.0.0.1", port), timeout=10) as sock:
             sock.sendall(b"GET /api/v1/planted-fault HTTP/1.1\r\nHost: 127.0.0.1\r\n\r\n")
-            status, body = _read_response(sock)
+            status, body, head = _read_response(sock)
             assert status == 500 and b"internal error" in body and b"RuntimeError" not in body
+            assert b"content-security-policy: default-src 'self'" in head  # the safe headers on a 500 too
             sock.sendall(b"GET /api/v1/scenarios HTTP/1.1\r\nHost: 127.0.0.1\r\n\r\n")
-            status, body = _read_response(sock)
+            status, body, _ = _read_response(sock)
             assert status == 200 and b'"items"' in body
     finally:
         server.should_exit = True

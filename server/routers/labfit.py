@@ -22,7 +22,13 @@ async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
     return await within_budget(request, fit_request, lab_request)
 
 
-@router.post("/lab-readings")
+@router.post("/lab-readings", openapi_extra={"requestBody": {"content": {
+    "text/csv": {"schema": {"type": "string", "description": (
+        f"A header naming the columns and units, e.g. time [min], filtrate [mL]; at most {MAX_CSV_BYTES:,} "
+        f"bytes (413 above)")}},
+    "multipart/form-data": {"schema": {"type": "object", "required": ["file"],
+                                       "properties": {"file": {"type": "string", "format": "binary"}}}},
+}}})
 async def post_lab_readings(request: Request, file: UploadFile | None = None) -> dict:
     """Read (t, V) readings from an uploaded CSV file or a text/csv body; returns SI points.
 

@@ -56,10 +56,17 @@ def _out(s: Scenario) -> dict:
             "results": s.results, "solver_version": s.solver_version, "parent": s.parent, "link": _link(s.id)}
 
 
+#: The parts of stored results every page reads; a record without them is damaged.
+RESULT_PARTS = ("best", "unconstrained_optimum", "chambers_full", "at_end", "derived", "curves", "chart_series")
+
+
 def _get_or_404(request: Request, sid: str) -> Scenario:
-    s = _store(request).get(sid)
+    store = _store(request)
+    s = store.get(sid)
     if s is None:
         raise HTTPException(404, f"no saved scenario {sid!r}: check the link")
+    if not all(isinstance(s.results.get(k), dict) for k in RESULT_PARTS):
+        store.mark_damaged(f"the results of scenario {sid!r} are damaged")
     return s
 
 
@@ -84,7 +91,13 @@ def get_scenario(request: Request, sid: str) -> dict:
     return _out(_get_or_404(request, sid))
 
 
-@router.post("/import", response_model=ScenarioCreated, status_code=201)
+@router.post("/import", response_model=ScenarioCreated, status_code=201, openapi_extra={"requestBody": {"content": {
+    "application/json": {"schema": {"type": "object", "required": ["inputs"], "properties": {
+        "name": {"type": "string"}, "note": {"type": "string"},
+        "inputs": {"$ref": "#/components/schemas/CycleRequest"}}}},
+    "multipart/form-data": {"schema": {"type": "object", "required": ["file"],
+                                       "properties": {"file": {"type": "string", "format": "binary"}}}},
+}}})
 async def import_scenario(request: Request, file: UploadFile | None = None) -> dict:
     """A scenario file exported from presscycle (or any JSON with name and inputs) becomes a new scenario."""
     raw = await read_upload(request, file, MAX_IMPORT_BYTES)
@@ -155,9 +168,20 @@ def scenario_copy(request: Request, sid: str):
                        s.inputs, solve=True, parent=s)
 
 
+def _listable(store, items: list[Scenario]) -> list[Scenario]:
+    """The list shows each scenario's summary figures: a summary without them is damage."""
+    for s in items:
+        figures = [s.summary.get(k) for k in ("chamber_thickness", "filtration_time", "cycle_time",
+                                               "filtrate_throughput", "solids_throughput")]
+        if not all(isinstance(v, int | float) and not isinstance(v, bool) for v in figures):
+            store.mark_damaged(f"the summary of scenario {s.id!r} is damaged")
+    return items
+
+
 @pages.get("/scenarios", response_class=HTMLResponse)
 def scenarios_page(request: Request, q: str = Query("", max_length=200), page: int = Query(1, ge=1, le=100000)):
     items, total = _store(request).search(q.strip(), page, PER_PAGE)
+    items = _listable(_store(request), items)
     return _templates(request).TemplateResponse(request, "scenarios.html", {
         "items": items, "q": q, "page": page, "pages": max(1, math.ceil(total / PER_PAGE)), "total": total,
         "u": Units("si"),

@@ -278,15 +278,19 @@ class ConstantRate:
 
 
 def _supply_curve(feed, filtration: Filtration, filter_area: float, V_max: float, n: int) -> TabulatedCurve:
-    """Operating points on a volume grid, with a node where the supply reaches its cap
-    (1/Q has a kink there, which a node keeps exact)."""
+    """Operating points on a volume grid, with a node at each volume where the operating
+    point passes a kink of the supply: where it reaches its pressure cap, and where it leaves
+    its highest flow (1/Q has a kink there, which a node keeps exact)."""
     V = volume_grid(V_max, n)
-    cap = feed.pressure_cap
-    K_p, B = _constants(filtration, filter_area, cap)
-    q_cap = float(feed.supply_flow(cap))
-    V_cap = (1.0 / q_cap - B) / K_p if q_cap > 0 else -1.0
-    if 0.0 < V_cap < V_max:
-        V = np.unique(np.append(V, V_cap))
+    pressures = [feed.pressure_cap, *getattr(feed, "kink_pressures", ())]
+    for pressure in pressures:
+        if not 0.0 < pressure <= feed.pressure_cap:
+            continue
+        K_p, B = _constants(filtration, filter_area, pressure)
+        q = float(feed.supply_flow(pressure))
+        V_kink = (1.0 / q - B) / K_p if q > 0 else -1.0  # the cake passes q at this pressure
+        if 0.0 < V_kink < V_max:
+            V = np.unique(np.append(V, V_kink))
     P, Q = operating_point(feed.supply_flow, feed.pressure_cap, V, filtration, filter_area)
     return TabulatedCurve(V, P, Q)
 
@@ -349,6 +353,11 @@ class PumpCurve:
     def pressure_cap(self) -> float:
         top = self.points[0][1]
         return top if self.max_pressure is None else min(top, self.max_pressure)
+
+    @property
+    def kink_pressures(self) -> tuple:
+        """Below its lowest listed pressure the pump gives its highest flow: a kink there [Pa]."""
+        return (self.points[-1][1],)
 
     def supply_flow(self, pressure):
         return self._supply(pressure)
