@@ -11,10 +11,11 @@ from fastapi.templating import Jinja2Templates
 
 from . import errors
 from .guards import EdgeGuard
-from .routers import cycle, labfit, pages, scenarios, ui
+from .routers import cycle, health, labfit, pages, scenarios, ui
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
 from .storage import SqliteStore, StorageError
+from .units import warm_up
 from .views import register_filters
 
 
@@ -45,6 +46,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         # framework's redirect would be built from the Host header
         redirect_slashes=False,
     )
+    warm_up()  # pint's registry and the usual units at start-up, not in the first request
     templates = Jinja2Templates(directory=PROJECT_ROOT / "templates")
     register_filters(templates.env, PROJECT_ROOT / "static")
     app.state.templates = templates
@@ -56,6 +58,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         # a clear start-up error, not a traceback, and nothing written over
         raise SystemExit(f"presscycle cannot start: {exc}") from None
     app.mount("/static", CachedStatic(directory=PROJECT_ROOT / "static"), name="static")
+    app.include_router(health.router)
     app.include_router(cycle.router)
     app.include_router(labfit.router)
     app.include_router(ui.router)

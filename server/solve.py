@@ -5,9 +5,12 @@ and every number a page or chart shows comes from the solver through here. This 
 only module that knows both the request's field paths and the solver's (:data:`API_PATHS`).
 """
 
+import json
 import math
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
+
+import numpy as np
 
 from . import solver
 from .errors import InputError
@@ -165,6 +168,8 @@ class SolvedScenario:
 
     results: dict
     chart_series: dict | None
+    #: the results as JSON text, serialised once (what /api/v1/cycle sends)
+    results_json: str = ""
 
 
 def solve_results(inputs: CycleRequest) -> dict:
@@ -208,12 +213,29 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    bad = first_non_finite(results) or (first_non_finite(series, "chart_series") if series else None)
+    try:  # serialised once: the encoder refuses NaN and infinity, which is the check itself
+        results_json = json.dumps(results, allow_nan=False, separators=(",", ":"))
+        bad = None
+    except ValueError:
+        bad = first_non_finite(results)
+    if bad is None and series is not None:
+        bad = next((f"chart_series.{name}" for name, values in _series_arrays(series)
+                    if not np.isfinite(values).all()), None)
     if bad is not None:
         raise InputError(
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
         )
-    return SolvedScenario(results, series)
+    return SolvedScenario(results, series, results_json)
+
+
+def _series_arrays(series: dict, prefix: str = ""):
+    """(name, float array) of every list of numbers in the chart series."""
+    for key, value in series.items():
+        name = f"{prefix}{key}"
+        if isinstance(value, dict):
+            yield from _series_arrays(value, name + ".")
+        elif isinstance(value, list) and value and not isinstance(value[0], bool):
+            yield name, np.asarray(value, dtype=float)
 
 
 def target_check(inputs: CycleRequest, sol) -> dict | None:

@@ -154,3 +154,19 @@ _EXAMPLES = {
 
 def example(kind: str) -> str:
     return _EXAMPLES[kind]
+
+
+def warm_up() -> None:
+    """Build pint's registry and the converters of the units people use most (start-up)."""
+    for kind, units in _USUAL.items():
+        for unit in units:
+            parse_quantity(f"1 {unit}", kind)
+
+
+_USUAL = {
+    "pressure": ("bar", "kPa", "psi", "Pa"), "length": ("mm", "in", "m"), "area": ("m^2", "ft^2", "cm^2"),
+    "time": ("min", "h", "s"), "viscosity": ("mPa*s", "cP"), "density": ("kg/m^3", "g/cm^3", "g/L"),
+    "specific_resistance": ("m/kg",), "medium_resistance": ("1/m",), "fraction": ("%",),
+    "temperature": ("degC", "degF"), "flow": ("m^3/h", "L/min", "gpm"), "volume": ("L", "mL", "m^3"),
+    "mass_rate": ("t/day", "t/h", "kg/h"),
+}
