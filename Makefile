@@ -38,6 +38,7 @@ lint: $(VENV)/.installed-test
 
 bench: $(VENV)/.installed-test
 	$(BIN)/python bench/run.py
+	$(BIN)/python bench/server_cpu.py
 
 clean:
 	rm -rf $(VENV) .pytest_cache .hypothesis

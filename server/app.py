@@ -16,7 +16,7 @@ from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
 from .storage import SqliteStore, StorageError
 from .units import warm_up
-from .views import register_filters
+from .views import PageCache, register_filters
 
 
 class CachedStatic(StaticFiles):
@@ -50,6 +50,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     templates = Jinja2Templates(directory=PROJECT_ROOT / "templates")
     register_filters(templates.env, PROJECT_ROOT / "static")
     app.state.templates = templates
+    app.state.pages = PageCache()
     app.openapi_schema = None  # built on first use, with the limits above
     app.state.settings = settings
     try:

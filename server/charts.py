@@ -30,7 +30,7 @@ def _axis(title: str, **extra) -> dict:
 
 
 def _list(a) -> list:
-    return [float(x) for x in np.asarray(a, dtype=float)]
+    return np.asarray(a, dtype=float).tolist()
 
 
 def _marker(name, x, y, color, symbol, hover, customdata=None):
@@ -243,3 +243,38 @@ def overlay(scenarios: list[tuple[str, dict]], u: Units) -> dict:
             "xaxis": _axis(f"Chamber thickness ({u.label('thickness')})"),
             "yaxis": _axis(f"Filtrate throughput ({q_label})", rangemode="tozero")}},
     }
+
+
+#: Significant figures kept in chart data: more than a screen or a hover label shows.
+CHART_FIGURES = 6
+
+
+def _rounded(values):
+    """A list of numbers (or of lists) to CHART_FIGURES significant figures of its largest
+    magnitude, as plain floats; anything else unchanged."""
+    try:
+        a = np.asarray(values, dtype=float)
+    except (TypeError, ValueError):
+        return values
+    if a.size == 0 or not np.isfinite(a).all():
+        return values
+    top = float(np.abs(a).max())
+    if top == 0.0:
+        return a.tolist()
+    decimals = CHART_FIGURES - 1 - int(np.floor(np.log10(top)))
+    return np.round(a, decimals).tolist()
+
+
+def compact(figs: dict) -> dict:
+    """Figures with their data rounded for the page (a third of the JSON, same picture)."""
+    out = {}
+    for key, fig in figs.items():
+        traces = []
+        for trace in fig["data"]:
+            trace = dict(trace)
+            for name in ("x", "y", "z", "customdata"):
+                if isinstance(trace.get(name), list):
+                    trace[name] = _rounded(trace[name])
+            traces.append(trace)
+        out[key] = {**fig, "data": traces}
+    return out

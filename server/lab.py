@@ -1,5 +1,7 @@
 """From a validated /api/v1/lab-fit request to the solver's lab evaluation, and back."""
 
+import numpy as np
+
 from . import solver
 from .errors import InputError
 from .labdata import CsvError, parse_readings
@@ -79,7 +81,8 @@ def fit_request(lab_request: LabFitRequest) -> dict:
             "points_used": fit.points_used, "residuals": [float(r) for r in fit.residuals], "region": fit.region,
             "readings": [[float(a), float(b)] for a, b in readings],
             "line": {
-                "index": fit.indices, "x": [float(v) for v in fit.x], "y": [float(v) for v in fit.y],
+                "index": fit.indices,
+                "x": np.asarray(fit.x, dtype=float).tolist(), "y": np.asarray(fit.y, dtype=float).tolist(),
                 "used": [k in used for k in fit.indices],
                 "fitted": [float(fit.intercept + fit.slope * v) for v in fit.x],
             },

@@ -203,7 +203,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
         "chambers_full": _cycle_dict(sol.chambers_full),
         "at_end": at_end,
-        "curves": {k: [float(x) for x in v] for k, v in sol.curves.items()},
+        "curves": {k: np.asarray(v, dtype=float).tolist() for k, v in sol.curves.items()},
         "thickness_comparison": [
             {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
             for L, t in rows

@@ -2,6 +2,11 @@
 
 import hashlib
 import math
+import threading
+from collections import OrderedDict
+
+import orjson
+from markupsafe import Markup
 
 
 def fmt(value, digits: int = 3) -> str:
@@ -29,8 +34,18 @@ def plotly_url() -> str:
     return f"{PLOTLY_URL}?v={plotly.__version__}"
 
 
+def page_json(value) -> Markup:
+    """JSON for a <script type="application/json"> block: fast (orjson) and HTML-safe (the
+    characters that could end the block or start markup are escaped, as Jinja's tojson does)."""
+    text = orjson.dumps(value).decode()
+    for char, escaped in (("<", "\\u003c"), (">", "\\u003e"), ("&", "\\u0026"), ("'", "\\u0027")):
+        text = text.replace(char, escaped)
+    return Markup(text)
+
+
 def register_filters(env, static_root) -> None:
     env.filters["fmt"] = fmt
+    env.filters["page_json"] = page_json
     env.globals["static_url"] = StaticUrls(static_root)
     env.globals["plotly_url"] = plotly_url
 
@@ -58,7 +73,34 @@ def render_results(templates, results: dict, chart_series: dict, units) -> tuple
     all come through here: the same template, the same figures, the same cautions.
     Returns (HTML of the results pane, plotly figures by chart key).
     """
-    from .charts import figures
+    from .charts import compact, figures
 
     html = templates.get_template("_results.html").render({"results": results, "u": units})
-    return html, figures(chart_series, results, units)
+    return html, compact(figures(chart_series, results, units))
+
+
+class PageCache:
+    """A small least-recently-used cache of rendered page parts, on the app (app.state.pages).
+
+    Keys carry everything a part depends on (a demo file's modification time, a scenario id
+    with the unit system and the solver version), so a cached part is never stale: saved
+    scenarios never change, and a new solver version makes new keys.
+    """
+
+    def __init__(self, size: int = 512):
+        self.size = size
+        self._parts: OrderedDict = OrderedDict()
+        self._lock = threading.Lock()
+
+    def get(self, key, build):
+        with self._lock:
+            if key in self._parts:
+                self._parts.move_to_end(key)
+                return self._parts[key]
+        value = build()  # outside the lock: two first views may both build, one result is kept
+        with self._lock:
+            self._parts[key] = value
+            self._parts.move_to_end(key)
+            while len(self._parts) > self.size:
+                self._parts.popitem(last=False)
+        return value

@@ -58,3 +58,30 @@ def test_importing_the_app_module_opens_no_database_until_app_is_asked_for(tmp_p
     done = _python("import server.app as m; print(type(m.app).__name__)", tmp_path, db)
     assert done.returncode == 0 and done.stdout.strip() == "FastAPI", done.stderr
     assert db.exists()
+
+
+def test_healthz_answers_status_and_version_without_the_database(tmp_path):
+    from server.solver import SOLVER_VERSION
+
+    with TestClient(create_app(app_settings(tmp_path))) as c:
+        c.app.state.store = None  # no database behind it: a liveness answer must not need one
+        r = c.get("/healthz")
+        assert r.status_code == 200 and r.json() == {"status": "ok", "version": SOLVER_VERSION}
+
+
+def test_a_changed_demo_file_shows_its_new_results(tmp_path):
+    import os
+
+    demos = tmp_path / "demos"
+    demos.mkdir()
+    copper = json.loads((PROJECT_ROOT / "demo_cases" / "copper_concentrate.json").read_text())
+    path = demos / "one.json"
+    path.write_text(json.dumps(copper))
+    with TestClient(create_app(Settings(db=tmp_path / "x.sqlite3", demo_dir=demos))) as c:
+        first = c.get("/demo/one").text
+        assert c.get("/demo/one").text == first  # rendered once, then from the page cache
+        copper["inputs"]["cycle"]["downtime"] = "90 min"
+        path.write_text(json.dumps(copper))
+        os.utime(path, ns=(path.stat().st_atime_ns, path.stat().st_mtime_ns + 10**9))
+        again = c.get("/demo/one").text
+        assert again != first and 'value="90"' in again

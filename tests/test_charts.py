@@ -4,9 +4,11 @@ The figures only draw solver series; what the series hold is tested in
 tests/solver/test_sweeps.py.
 """
 
+import json
 import math
 import re
 
+import numpy as np
 import pytest
 
 from server.charts import figures, overlay
@@ -93,3 +95,28 @@ def test_the_overlay_escapes_names_and_draws_each_scenario(solved_demos):
         assert_readable(fig, name)
         names = [t["name"] for t in fig["data"]]
         assert "&lt;b&gt;A&lt;/b&gt;" in names and "B" in names and "<b>A</b>" not in names
+
+
+def test_page_figures_keep_six_significant_figures_and_their_shape(solved_demos):
+    from server.charts import compact
+
+    results = solved_demos["kaolin_pump_fed"]
+    full = figures(results["chart_series"], results, Units())
+    small = compact(full)
+    for key in full:
+        for a, b in zip(full[key]["data"], small[key]["data"]):
+            for axis in ("x", "y", "z"):
+                if axis in a:
+                    fa, fb = np.asarray(a[axis], dtype=float), np.asarray(b[axis], dtype=float)
+                    assert fa.shape == fb.shape
+                    top = np.abs(fa).max()
+                    assert np.all(np.abs(fa - fb) <= 0.5e-5 * top * (1 + 1e-9)), (key, axis)
+    assert len(json.dumps(small)) < 0.7 * len(json.dumps(full))
+
+
+def test_page_json_cannot_end_its_script_block():
+    from server.views import page_json
+
+    text = str(page_json({"name": "</script><script>alert(1)</script>", "note": "a & b 'c'"}))
+    assert "</script>" not in text and "<" not in text and "&" not in text and "'" not in text
+    assert json.loads(text) == {"name": "</script><script>alert(1)</script>", "note": "a & b 'c'"}

@@ -14,7 +14,8 @@ from ..errors import InputError
 from ..forms import GROUPS, UNIT_CHOICES, PrefillError, prefill
 from ..scenarios import solve_inputs
 from ..solve import CAUTIONS
-from ..views import PLOTLY_URL, render_results
+from ..solver import SOLVER_VERSION
+from ..views import PLOTLY_URL, page_json, render_results
 
 router = APIRouter(tags=["pages"], include_in_schema=False)
 PLOTLY_JS = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
@@ -36,8 +37,10 @@ def home(request: Request):
     )
 
 
-def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None):
-    """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once."""
+def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None,
+                cache_key=None):
+    """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once
+    (rendered once per ``cache_key`` when given: inputs that never change, such as a demo's)."""
     try:
         state = prefill(inputs)
     except PrefillError as exc:
@@ -49,16 +52,19 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
         "initial_html": None, "initial_figures": None, "initial_error": None,
     }
     if solve:
-        try:
-            results = solve_inputs(inputs)
-        except InputError:
-            # the page still opens; Calculate marks what is wrong at the fields
-            context["initial_error"] = (
-                "These inputs do not solve as they stand: press Calculate to see what to correct."
-            )
-        else:
-            context["initial_html"], context["initial_figures"] = render_results(
-                _templates(request), results, results["chart_series"], Units("si"))
+        def first_results():
+            try:
+                results = solve_inputs(inputs)
+            except InputError:
+                # the page still opens; Calculate marks what is wrong at the fields
+                return None, None, ("These inputs do not solve as they stand: press Calculate to see what "
+                                    "to correct.")
+            html, figures = render_results(_templates(request), results, results["chart_series"], Units("si"))
+            return html, page_json(figures), None
+
+        parts = (request.app.state.pages.get(cache_key, first_results) if cache_key is not None
+                 else first_results())
+        context["initial_html"], context["initial_figures"], context["initial_error"] = parts
     return _templates(request).TemplateResponse(request, "scenario.html", context)
 
 
@@ -102,7 +108,8 @@ def demo_scenario(request: Request, slug: str):
     demo = next((d for d in _demos(request) if d.slug == slug), None)
     if demo is None:
         raise HTTPException(404, f"no demo scenario named {slug!r}")
-    return editor_page(request, demo.name, demo.description, demo.inputs, solve=True)
+    return editor_page(request, demo.name, demo.description, demo.inputs, solve=True,
+                       cache_key=("demo", demo.slug, demo.version, SOLVER_VERSION))
 
 
 @router.get("/favicon.ico", include_in_schema=False)

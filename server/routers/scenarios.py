@@ -11,7 +11,7 @@ from starlette.convertors import Convertor, register_url_convertor
 
 from .. import solver
 from ..budget import within_budget
-from ..charts import overlay
+from ..charts import compact, overlay
 from ..display import Units, UnitSystem
 from ..errors import InputError, read_upload
 from ..scenarios import differences, save, solve_inputs
@@ -19,7 +19,7 @@ from ..schemas.common import ERROR_RESPONSES
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
 from ..solve import CAUTIONS
 from ..storage import Scenario
-from ..views import render_results
+from ..views import page_json, render_results
 
 
 class ScenarioIdConvertor(Convertor):
@@ -145,16 +145,24 @@ def scenario_csv(request: Request, sid: str):
 def scenario_page(request: Request, sid: str, units: UnitSystem = "si"):
     s = _get_or_404(request, sid)
     u = Units(units)
-    try:
-        now = solve_inputs(s.inputs)
-        changed = differences(s.results, now)
-    except InputError:
-        now, changed = None, [("inputs", "valid when saved", "refused by this version")]
-    results_html, figures = render_results(_templates(request), s.results, s.results["chart_series"], u)
+
+    def solver_check():  # once per scenario and solver version: saved scenarios never change
+        try:
+            return differences(s.results, solve_inputs(s.inputs))
+        except InputError:
+            return [("inputs", "valid when saved", "refused by this version")]
+
+    def rendered():
+        html, figures = render_results(_templates(request), s.results, s.results["chart_series"], u)
+        return html, page_json(figures)
+
+    cache = request.app.state.pages
+    changed = cache.get(("solver check", sid, solver.SOLVER_VERSION), solver_check)
+    results_html, figures = cache.get(("saved page", sid, units, solver.SOLVER_VERSION), rendered)
     parent = _store(request).get(s.parent) if s.parent else None
     return _templates(request).TemplateResponse(request, "scenario_view.html", {
         "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
-        "figures": figures, "changed": changed, "now": now,
+        "figures": figures, "changed": changed,
         "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
     })
 
@@ -198,7 +206,7 @@ def compare_page(request: Request, ids: str = Query("", max_length=400), units: 
     rows = _input_rows(scenarios)
     return _templates(request).TemplateResponse(request, "compare.html", {
         "scenarios": scenarios, "rows": rows, "u": u, "units": units, "ids": ",".join(wanted),
-        "figures": overlay([(s.name, s.results) for s in scenarios], u),
+        "figures": compact(overlay([(s.name, s.results) for s in scenarios], u)),
         "cautions": CAUTIONS,
     })
 

@@ -7,7 +7,8 @@ Each takes the same body as its API twin (/api/v1/cycle, /api/v1/lab-fit) and an
 import json
 from urllib.parse import quote
 
-from fastapi import APIRouter, Request
+import orjson
+from fastapi import APIRouter, Request, Response
 
 from ..budget import within_budget
 from ..display import Units, UnitSystem
@@ -25,7 +26,9 @@ router = APIRouter(prefix="/ui", tags=["ui"], include_in_schema=False)
 async def post_results(request: Request, inputs: CycleRequest, units: UnitSystem = "si") -> dict:
     solved = await within_budget(request, solve, inputs, with_chart_series=True)
     html, figures = render_results(request.app.state.templates, solved.results, solved.chart_series, Units(units))
-    return {"html": html, "figures": figures, "results": solved.results}
+    # encoded once, fast: the figures are most of the answer
+    return Response(orjson.dumps({"html": html, "figures": figures, "results": solved.results}),
+                    media_type="application/json")
 
 
 def scenario_prefill(result: dict) -> dict:

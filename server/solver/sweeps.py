@@ -13,7 +13,7 @@ from .press import chambers_full_volume
 
 
 def _list(a) -> list:
-    return [float(x) for x in np.asarray(a, dtype=float)]
+    return np.asarray(a, dtype=float).tolist()
 
 
 def thickness_grid(L_press: float, L_matched: float, n: int = 120) -> np.ndarray:
@@ -45,29 +45,37 @@ def throughput_against_thickness(family: CycleFamily, system: PressSystem, L: np
             "chamber_fill": _list(press.chamber_fill(V_best, v, L))}
 
 
-def throughput_map(family: CycleFamily, system: PressSystem, solution: CycleSolution, L: np.ndarray) -> dict:
+def throughput_map(family: CycleFamily, system: PressSystem, solution: CycleSolution, L: np.ndarray,
+                   n_times: int = 80) -> dict:
     """Throughput [m^3/s] over set filtration time x chamber thickness; the press stops at the
     set time or at full chambers, whichever comes first. Rows are thicknesses."""
     press, v = system.press, system.filtration.cake_volume_ratio
     t_top = 2.0 * max(solution.unconstrained_optimum.filtration_time, solution.chambers_full.filtration_time)
-    t = np.linspace(t_top / 80, t_top, 80)
+    t = np.linspace(t_top / n_times, t_top, n_times)
     V_full = chambers_full_volume(press.filter_area, L, v, press.fill_fraction)
     Q = family.throughput(np.minimum(family.curve.volume(t)[None, :], V_full[:, None]))
     return {"filtration_time": _list(t), "chamber_thickness": _list(L),
-            "filtrate_throughput": [_list(row) for row in Q], "chambers_full_time": _list(family.curve.time(V_full))}
+            "filtrate_throughput": _list(Q), "chambers_full_time": _list(family.curve.time(V_full))}
 
 
-def chart_series(family: CycleFamily, system: PressSystem, solution: CycleSolution) -> dict:
+def chart_series(family: CycleFamily, system: PressSystem, solution: CycleSolution,
+                 map_shape: tuple[int, int] | None = None) -> dict:
     """The data of every chart of a solved scenario, as plain lists (SI).
 
     ``pressure_varies`` comes from the feed itself (constant pressure or not), so the
-    filtration chart draws pressure and flow only where they change.
+    filtration chart draws pressure and flow only where they change. ``map_shape``
+    (thicknesses, times) sets the throughput map's grid; default about 41 x 80.
     """
     L = thickness_grid(system.press.chamber_thickness, solution.matched_chamber_thickness)
+    if map_shape is None:
+        L_map, n_times = L[::3], 80
+    else:
+        L_map, n_times = thickness_grid(system.press.chamber_thickness, solution.matched_chamber_thickness,
+                                        map_shape[0] - 2), map_shape[1]
     return {
         "throughput_time": throughput_against_time(family, solution),
         "throughput_thickness": throughput_against_thickness(family, system, L),
-        "throughput_map": throughput_map(family, system, solution, L[::3]),
+        "throughput_map": throughput_map(family, system, solution, L_map, n_times),
         "filtration": {k: _list(x) for k, x in solution.curves.items()},
         "pressure_varies": bool(system.feed.pressure_varies),
         # the same flag under its first name, which saved scenarios and API clients read

@@ -1,0 +1,106 @@
+"""Server CPU per request, as a ratio to GET /healthz measured the same way, in one run.
+
+One uvicorn worker is pinned to one core and the requests come from another (when the
+machine has two); the server's own CPU time (user + system, from /proc) is read before and
+after each batch, which is steadier than requests per second on a shared machine. Prints a
+table; never asserts on time.
+
+    make bench        (or: .venv/bin/python bench/server_cpu.py)
+"""
+
+import json
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+import httpx
+
+ROOT = Path(__file__).resolve().parent.parent
+sys.path.insert(0, str(ROOT))
+
+from tests.liveserver import free_port  # noqa: E402
+
+TARGETS = {"cycle": 2.5, "pump": 6.0, "page": 8.0}  # issue 12: times /healthz
+
+
+def server_cpu(pid: int) -> float:
+    """User + system CPU seconds of a process so far."""
+    fields = Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()
+    return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
+
+
+def main() -> None:
+    cores = sorted(os.sched_getaffinity(0))
+    server_core, client_core = cores[0], cores[-1]
+    port = free_port()
+    folder = Path(tempfile.mkdtemp(prefix="presscycle-bench-"))
+    env = {k: v for k, v in os.environ.items() if not k.startswith("PRESSCYCLE_")}
+    env.update(PRESSCYCLE_DB=str(folder / "bench.sqlite3"), PRESSCYCLE_DEMO_DIR=str(ROOT / "demo_cases"))
+    server = subprocess.Popen(
+        ["taskset", "-c", str(server_core), sys.executable, "-m", "uvicorn", "--factory", "server.app:create_app",
+         "--host", "127.0.0.1", "--port", str(port), "--log-level", "warning"], cwd=ROOT, env=env)
+    os.sched_setaffinity(0, {client_core})
+    base = f"http://127.0.0.1:{port}"
+    try:
+        started = time.perf_counter()
+        for _ in range(300):
+            try:
+                httpx.get(base + "/healthz")
+                break
+            except httpx.HTTPError:
+                time.sleep(0.05)
+        demos = {p.stem: json.loads(p.read_text())["inputs"] for p in sorted((ROOT / "demo_cases").glob("*.json"))}
+        with httpx.Client(base_url=base, timeout=120) as http:
+            first = _timed(lambda: http.post("/api/v1/cycle", json=demos["copper_concentrate"]))
+            second = _timed(lambda: http.post("/api/v1/cycle", json=demos["copper_concentrate"]))
+            print(f"server start to first answer {time.perf_counter() - started:.2f} s; first cycle request "
+                  f"{first * 1e3:.1f} ms, second {second * 1e3:.1f} ms (ratio {first / second:.1f}, target <= 2)")
+            ids = [http.post("/api/v1/scenarios", json={"name": n, "inputs": i}).json()["id"] for n, i in demos.items()]
+
+            def per_request(fn, n):
+                for _ in range(5):
+                    fn()
+                before = server_cpu(server.pid)
+                for _ in range(n):
+                    fn()
+                return (server_cpu(server.pid) - before) / n
+
+            floor = per_request(lambda: http.get("/healthz"), 3000)
+            rows = [("GET /healthz", floor, None)]
+            for name, inputs in demos.items():
+                kind = "pump" if inputs["feed"]["mode"] != "constant_pressure" else "cycle"
+                rows.append((f"POST /api/v1/cycle, {name}", per_request(lambda i=inputs: http.post(
+                    "/api/v1/cycle", json=i), 300), kind))
+            pump = dict(demos["kaolin_pump_fed"], compare_thicknesses=["20 mm", "25 mm", "32 mm", "40 mm", "50 mm",
+                                                                     "60 mm"])
+            rows.append(("POST /api/v1/cycle, pump-fed + 6 thicknesses",
+                         per_request(lambda: http.post("/api/v1/cycle", json=pump), 200), "pump"))
+            for name in demos:
+                rows.append((f"GET /demo/{name}", per_request(lambda n=name: http.get(f"/demo/{n}"), 200), "page"))
+            rows.append(("GET /s/<id> (saved page)", per_request(lambda: http.get(f"/s/{ids[0]}"), 200), "page"))
+            rows.append(("GET /compare (two saved)", per_request(lambda: http.get(
+                f"/compare?ids={ids[0]},{ids[1]}"), 200), "page"))
+            rows.append(("POST /ui/results (Calculate), pump-fed", per_request(lambda: http.post(
+                "/ui/results", json=demos["kaolin_pump_fed"]), 100), None))
+        print(f"{'request':52s} {'server CPU':>11s} {'x /healthz':>11s}  target")
+        for name, seconds, kind in rows:
+            target = f"<= {TARGETS[kind]:g}x" if kind else ""
+            print(f"{name:52s} {seconds * 1e3:8.3f} ms {seconds / floor:10.1f}x  {target}")
+        print(f"(clock ticks of {1e3 / os.sysconf('SC_CLK_TCK'):.0f} ms over each batch; server on core "
+              f"{server_core}, client on core {client_core})")
+    finally:
+        server.terminate()
+        server.wait(10)
+
+
+def _timed(fn) -> float:
+    t0 = time.perf_counter()
+    fn()
+    return time.perf_counter() - t0
+
+
+if __name__ == "__main__":
+    main()
