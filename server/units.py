@@ -87,14 +87,7 @@ def parse_quantity(value, kind: str) -> float:
     if isinstance(value, int | float):
         number, unit = float(value), None
     elif isinstance(value, str):
-        if len(value) > MAX_LENGTH:
-            raise UnitError(f"a quantity is at most {MAX_LENGTH} characters")
-        match = _NUMBER.match(value)
-        if not match:
-            raise UnitError(
-                f"could not read {value!r}: write a number and a unit, such as {example(kind)}"
-            )
-        number, unit = float(match.group(1)), _normalise(match.group(2)) or None
+        return _parse_text(value, kind)  # the same strings come again and again: cached
     else:
         raise UnitError(f"expected a number or a quantity such as {example(kind)}")
     if not math.isfinite(number):
@@ -105,6 +98,28 @@ def parse_quantity(value, kind: str) -> float:
         unit = k.bare_unit
     to_si = _converter(unit, k.si_unit, kind)
     si = to_si(number)
+    if not math.isfinite(si):
+        raise UnitError(f"{value!r} is out of numeric range in SI units")
+    return float(si)
+
+
+@lru_cache(maxsize=4096)
+def _parse_text(value: str, kind: str) -> float:
+    """A "<number> <unit>" string -> SI float (see parse_quantity); errors are not cached."""
+    if len(value) > MAX_LENGTH:
+        raise UnitError(f"a quantity is at most {MAX_LENGTH} characters")
+    match = _NUMBER.match(value)
+    if not match:
+        raise UnitError(f"could not read {value!r}: write a number and a unit, such as {example(kind)}")
+    number, unit = float(match.group(1)), _normalise(match.group(2)) or None
+    if not math.isfinite(number):
+        raise UnitError("must be a finite number")
+    k = KINDS[kind]
+    if unit is None:
+        if k.bare_unit is None:
+            return number
+        unit = k.bare_unit
+    si = _converter(unit, k.si_unit, kind)(number)
     if not math.isfinite(si):
         raise UnitError(f"{value!r} is out of numeric range in SI units")
     return float(si)
