@@ -5,6 +5,8 @@ the first time ``app`` is asked for, never on import, so importing this module o
 database.
 """
 
+import json
+
 from fastapi import FastAPI
 from fastapi.staticfiles import StaticFiles
 from fastapi.templating import Jinja2Templates
@@ -50,7 +52,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     templates = Jinja2Templates(directory=PROJECT_ROOT / "templates")
     register_filters(templates.env, PROJECT_ROOT / "static")
     app.state.templates = templates
-    app.state.pages = PageCache()
+    app.state.pages = PageCache(256)  # rendered parts, about 100 kB each
+    app.state.scenarios = PageCache(64)  # parsed saved scenarios, a few hundred kB each
     app.openapi_schema = None  # built on first use, with the limits above
     app.state.settings = settings
     try:
@@ -70,7 +73,64 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout,
                        on_error=lambda path, accept: errors.unexpected_answer(templates, path, accept),
                        allowed_hosts=settings.allowed_hosts)
+    _warm(app, templates)
     return app
+
+
+#: An invented scenario solved once at start-up, so the first request pays no first-use costs.
+_WARM_UP = {
+    "slurry": {"solids_mass_fraction": 0.2, "solids_density": 2600.0, "viscosity": 1.0e-3},
+    "cake": {"resistance": 1.0e11, "wet_to_dry_ratio": 1.6}, "medium_resistance": 5.0e10,
+    "press": {"filter_area": 50.0, "chamber_thickness": 0.04},
+    "feed": {"mode": "pump_curve", "points": [[0.0, 7e5], [0.02, 1e5]]},
+    "cycle": {"downtime": 1200.0, "end": {"criterion": "flow", "flow_fraction": 0.2}},
+    "compare_thicknesses": [0.03],
+}
+
+
+def _warm(app: FastAPI, templates) -> None:
+    """First-use costs paid at start-up: the middleware stack, a solve with its chart series,
+    the page templates."""
+    from .display import Units
+    from .schemas.cycle import CycleRequest
+    from .solve import solve
+    from .views import render_results
+
+    app.middleware_stack = app.build_middleware_stack()
+    solved = solve(CycleRequest.model_validate(_WARM_UP), with_chart_series=True)
+    render_results(templates, solved.results, solved.chart_series, Units("si"))
+    for name in ("scenario.html", "scenario_view.html", "home.html", "compare.html", "scenarios.html", "error.html"):
+        templates.get_template(name)
+    host = (app.state.settings.allowed_hosts or ["localhost"])[0].encode()
+    body = json.dumps(_WARM_UP).encode()
+
+    async def warm_request():
+        # once the server runs: one request through the whole app (its worker thread, the
+        # routing, the body's validation), answered to nobody
+        await _asgi_request(app, "POST", "/api/v1/cycle", body, host)
+
+    app.router.on_startup.append(warm_request)
+
+
+async def _asgi_request(app, method: str, path: str, body: bytes, host: bytes) -> None:
+    scope = {"type": "http", "asgi": {"version": "3.0"}, "http_version": "1.1", "method": method,
+             "scheme": "http", "path": path, "raw_path": path.encode(), "query_string": b"", "root_path": "",
+             "headers": [(b"host", host), (b"content-type", b"application/json"),
+                         (b"content-length", str(len(body)).encode())],
+             "client": ("127.0.0.1", 0), "server": ("127.0.0.1", 0)}
+    delivered = False
+
+    async def receive():
+        nonlocal delivered
+        if not delivered:
+            delivered = True
+            return {"type": "http.request", "body": body, "more_body": False}
+        return {"type": "http.disconnect"}
+
+    async def send(message):
+        return None
+
+    await app(scope, receive, send)
 
 
 def __getattr__(name: str):

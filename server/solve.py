@@ -5,12 +5,12 @@ and every number a page or chart shows comes from the solver through here. This 
 only module that knows both the request's field paths and the solver's (:data:`API_PATHS`).
 """
 
-import json
 import math
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
 
 import numpy as np
+import orjson
 
 from . import solver
 from .errors import InputError
@@ -168,8 +168,8 @@ class SolvedScenario:
 
     results: dict
     chart_series: dict | None
-    #: the results as JSON text, serialised once (what /api/v1/cycle sends)
-    results_json: str = ""
+    #: the results as JSON, serialised once (what /api/v1/cycle sends)
+    results_json: bytes = b""
 
 
 def solve_results(inputs: CycleRequest) -> dict:
@@ -213,11 +213,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    try:  # serialised once: the encoder refuses NaN and infinity, which is the check itself
-        results_json = json.dumps(results, allow_nan=False, separators=(",", ":"))
-        bad = None
-    except ValueError:
-        bad = first_non_finite(results)
+    bad = first_non_finite(results)
     if bad is None and series is not None:
         bad = next((f"chart_series.{name}" for name, values in _series_arrays(series)
                     if not np.isfinite(values).all()), None)
@@ -225,7 +221,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         raise InputError(
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
         )
-    return SolvedScenario(results, series, results_json)
+    return SolvedScenario(results, series, orjson.dumps(results, option=orjson.OPT_SERIALIZE_NUMPY))
 
 
 def _series_arrays(series: dict, prefix: str = ""):
@@ -291,6 +287,16 @@ def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
 
 
 def first_non_finite(obj, path="") -> str | None:
+    """The path of the first NaN or infinity in plain data, or None. Lists of numbers are
+    checked at once with numpy (the curves hold thousands)."""
+    if isinstance(obj, list) and obj and isinstance(obj[0], float):
+        try:
+            values = np.asarray(obj, dtype=float)
+        except (TypeError, ValueError):
+            values = None
+        if values is not None and values.ndim == 1:
+            bad = np.flatnonzero(~np.isfinite(values))
+            return f"{path}.{int(bad[0])}" if bad.size else None
     if isinstance(obj, float):
         return None if math.isfinite(obj) else path or "result"
     if isinstance(obj, dict):

@@ -37,7 +37,7 @@ def plotly_url() -> str:
 def page_json(value) -> Markup:
     """JSON for a <script type="application/json"> block: fast (orjson) and HTML-safe (the
     characters that could end the block or start markup are escaped, as Jinja's tojson does)."""
-    text = orjson.dumps(value).decode()
+    text = orjson.dumps(value, option=orjson.OPT_SERIALIZE_NUMPY).decode()
     for char, escaped in (("<", "\\u003c"), (">", "\\u003e"), ("&", "\\u0026"), ("'", "\\u0027")):
         text = text.replace(char, escaped)
     return Markup(text)
@@ -92,12 +92,15 @@ class PageCache:
         self._parts: OrderedDict = OrderedDict()
         self._lock = threading.Lock()
 
-    def get(self, key, build):
+    def get(self, key, build, keep=lambda value: True):
+        """The part under ``key``, built on first use; ``keep`` says whether to cache it."""
         with self._lock:
             if key in self._parts:
                 self._parts.move_to_end(key)
                 return self._parts[key]
         value = build()  # outside the lock: two first views may both build, one result is kept
+        if not keep(value):
+            return value
         with self._lock:
             self._parts[key] = value
             self._parts.move_to_end(key)

@@ -1,6 +1,7 @@
 """HTML pages: home, the scenario editor (new or from a demo scenario), vendor assets."""
 
 import json
+import os
 from functools import lru_cache
 from pathlib import Path
 
@@ -22,7 +23,13 @@ PLOTLY_JS = Path(plotly.__file__).parent / "package_data" / "plotly.min.js"
 
 
 def _demos(request: Request):
-    return load_demo_scenarios(request.app.state.settings.demo_dir)
+    """The demo scenarios, read again only when a file in the folder changed."""
+    folder = request.app.state.settings.demo_dir
+    try:
+        files = tuple(sorted((e.name, e.stat().st_mtime_ns) for e in os.scandir(folder) if e.name.endswith(".json")))
+    except OSError:
+        files = ()
+    return request.app.state.pages.get(("demos", str(folder), files), lambda: load_demo_scenarios(folder))
 
 
 def _templates(request: Request):
@@ -37,10 +44,8 @@ def home(request: Request):
     )
 
 
-def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None,
-                cache_key=None):
-    """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once
-    (rendered once per ``cache_key`` when given: inputs that never change, such as a demo's)."""
+def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None):
+    """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once."""
     try:
         state = prefill(inputs)
     except PrefillError as exc:
@@ -62,9 +67,7 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
             html, figures = render_results(_templates(request), results, results["chart_series"], Units("si"))
             return html, page_json(figures), None
 
-        parts = (request.app.state.pages.get(cache_key, first_results) if cache_key is not None
-                 else first_results())
-        context["initial_html"], context["initial_figures"], context["initial_error"] = parts
+        context["initial_html"], context["initial_figures"], context["initial_error"] = first_results()
     return _templates(request).TemplateResponse(request, "scenario.html", context)
 
 
@@ -108,8 +111,11 @@ def demo_scenario(request: Request, slug: str):
     demo = next((d for d in _demos(request) if d.slug == slug), None)
     if demo is None:
         raise HTTPException(404, f"no demo scenario named {slug!r}")
-    return editor_page(request, demo.name, demo.description, demo.inputs, solve=True,
-                       cache_key=("demo", demo.slug, demo.version, SOLVER_VERSION))
+    # the whole page is the same for every visitor: rendered once per demo file and solver
+    page = request.app.state.pages.get(
+        ("demo page", demo.slug, demo.version, SOLVER_VERSION),
+        lambda: editor_page(request, demo.name, demo.description, demo.inputs, solve=True).body)
+    return HTMLResponse(page)
 
 
 @router.get("/favicon.ico", include_in_schema=False)

@@ -62,7 +62,8 @@ RESULT_PARTS = ("best", "unconstrained_optimum", "chambers_full", "at_end", "der
 
 def _get_or_404(request: Request, sid: str) -> Scenario:
     store = _store(request)
-    s = store.get(sid)
+    # saved scenarios never change: the parsed record is kept for the next view
+    s = request.app.state.scenarios.get(("scenario", sid), lambda: store.get(sid), keep=lambda s: s is not None)
     if s is None:
         raise HTTPException(404, f"no saved scenario {sid!r}: check the link")
     if not all(isinstance(s.results.get(k), dict) for k in RESULT_PARTS):
@@ -206,7 +207,9 @@ def compare_page(request: Request, ids: str = Query("", max_length=400), units: 
     rows = _input_rows(scenarios)
     return _templates(request).TemplateResponse(request, "compare.html", {
         "scenarios": scenarios, "rows": rows, "u": u, "units": units, "ids": ",".join(wanted),
-        "figures": compact(overlay([(s.name, s.results) for s in scenarios], u)),
+        "figures": request.app.state.pages.get(
+            ("compare", tuple(wanted), units, solver.SOLVER_VERSION),
+            lambda: page_json(compact(overlay([(s.name, s.results) for s in scenarios], u)))),
         "cautions": CAUTIONS,
     })
 

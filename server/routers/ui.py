@@ -27,7 +27,8 @@ async def post_results(request: Request, inputs: CycleRequest, units: UnitSystem
     solved = await within_budget(request, solve, inputs, with_chart_series=True)
     html, figures = render_results(request.app.state.templates, solved.results, solved.chart_series, Units(units))
     # encoded once, fast: the figures are most of the answer
-    return Response(orjson.dumps({"html": html, "figures": figures, "results": solved.results}),
+    return Response(orjson.dumps({"html": html, "figures": figures, "results": solved.results},
+                                 option=orjson.OPT_SERIALIZE_NUMPY),
                     media_type="application/json")
 
 
