@@ -57,9 +57,15 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
     at_cap = cake_flow(cap, V, filtration, filter_area) <= supply_flow(cap)
     lo = np.zeros_like(V)
     hi = cap.copy()
+    # "the cake passes more than the supply gives", P / (mu R) > Q(P), as P > mu R Q(P):
+    # no division, and the cake's resistance per unit alpha worked out once
+    f = filtration
+    cake_per_alpha = f.solids_per_filtrate * V / filter_area**2
+    medium = f.medium_resistance / filter_area
     for _ in range(BISECTION_STEPS):
         mid = 0.5 * (lo + hi)
-        cake_wins = cake_flow(mid, V, filtration, filter_area) > supply_flow(mid)
+        alpha = f.resistance_ref if f.compressibility == 0.0 else f.specific_resistance(mid)
+        cake_wins = mid > f.viscosity * (alpha * cake_per_alpha + medium) * supply_flow(mid)
         hi = np.where(cake_wins, mid, hi)
         lo = np.where(cake_wins, lo, mid)
     pressure = np.where(at_cap, cap, hi)

@@ -175,6 +175,8 @@ class CycleFamily:
 
     def __init__(self, filtration: Filtration, filter_area: float, feed, cycle: CycleSettings, V_needed: float):
         self.filtration, self.filter_area, self.feed, self.cycle = filtration, filter_area, feed, cycle
+        self.V_needed = V_needed
+        self._crossings = {}  # end criterion -> (volume span searched, crossing volume or None)
         self.wash_per_filtrate = self._wash_per_filtrate()
         self.curve = feed.curve(filtration, filter_area, 4.0 * V_needed)
         self.V_star = self._optimum_volume(V_needed)
@@ -266,9 +268,18 @@ class CycleFamily:
         if end.criterion == "time":
             V = float(self.curve.volume(end.time))
             return (V, "time") if V < V_full else (V_full, LIMITED_BY_CHAMBERS)
-        if end.criterion == "flow":
-            return self._flow_end(end, V_full)
-        return self._pressure_end(end, V_full)
+        span = max(self.V_needed, V_full)
+        known = self._crossings.get(end)
+        if known is None or known[0] < span:
+            # where the threshold is crossed does not depend on the chambers: found once for
+            # every thickness the family serves, then capped by each one's full chambers
+            V, reason = self._flow_end(end, span) if end.criterion == "flow" else self._pressure_end(end, span)
+            known = (span, V if reason != LIMITED_BY_CHAMBERS else None)
+            self._crossings[end] = known
+        V_cross = known[1]
+        if V_cross is not None and V_cross <= V_full:
+            return V_cross, end.criterion
+        return V_full, LIMITED_BY_CHAMBERS
 
     def _flow_end(self, end: EndCriterion, V_full: float) -> tuple[float, str]:
         with np.errstate(divide="ignore"):
@@ -309,21 +320,22 @@ class CycleFamily:
     def _first_crossing(g, V_full: float, reason: str) -> tuple[float, str]:
         """First V in (0, V_full] where g(V) >= 0 (g rising through zero), else V_full.
 
-        A grid of 4,001 volumes finds the first step where g turns non-negative; the same
-        search inside that step, three times over, narrows it to 4,000^-4 of V_full (the
-        floating-point resolution). Vectorised, and right where g jumps (pressure steps),
+        A grid of 4,097 volumes finds the first step where g turns non-negative (a dip of g
+        shorter than a step could pass unseen, as between any grid's points); the same search
+        inside that step, four times over with 1,025 points, narrows it to about 4e-16 of
+        V_full (the floating-point resolution). Vectorised, and right where g jumps (pressure steps),
         where a root finder would not be.
         """
-        grid = np.linspace(0.0, V_full, 4001)
+        grid = np.linspace(0.0, V_full, 4097)
         hits = np.nonzero(g(grid) >= 0.0)[0]
         if hits.size == 0:
             return V_full, LIMITED_BY_CHAMBERS
         k = int(hits[0])
         lo, hi = grid[max(k - 1, 0)], grid[k]
-        for _ in range(3):
+        for _ in range(4):
             if hi <= lo:
                 break
-            sub = np.linspace(lo, hi, 4001)
+            sub = np.linspace(lo, hi, 1025)
             j = int(np.argmax(g(sub) >= 0.0))  # g(hi) >= 0, so one exists
             lo, hi = sub[max(j - 1, 0)], sub[j]
         return float(hi), reason

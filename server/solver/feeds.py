@@ -13,6 +13,7 @@ largest filtrate volume the cycle will ask about; closed-form curves ignore it.
 """
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from scipy.interpolate import PchipInterpolator
@@ -342,12 +343,7 @@ class PumpCurve:
         if self.max_pressure is not None and not self.max_pressure > 0.0:
             raise SolverInputError("max_pressure", f"must be > 0 Pa; got {self.max_pressure:.6g}")
         object.__setattr__(self, "points", tuple(pts))
-        q = np.array([p[0] for p in pts])
-        P = np.array([p[1] for p in pts])
-        dense_q = np.unique(np.concatenate((q, np.linspace(q[0], q[-1], max(4 * q.size, 2000)))))
-        dense_p = PchipInterpolator(q, P)(dense_q)
-        inverse = GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p))
-        object.__setattr__(self, "_supply", UniformTable(inverse, float(P.min()), float(P.max())))
+        object.__setattr__(self, "_supply", _pump_supply_table(tuple(pts)))
 
     @property
     def pressure_cap(self) -> float:
@@ -381,6 +377,19 @@ class PumpCurve:
                 f"for a truer end of the cycle."
             )
         return out
+
+
+@lru_cache(maxsize=64)
+def _pump_supply_table(points: tuple) -> UniformTable:
+    """Flow against pressure for a pump curve given as sorted (flow, pressure) points: the
+    monotone cubic through them, inverted, tabulated (kept: a scenario's curve comes back with
+    every request about it)."""
+    q = np.array([p[0] for p in points])
+    P = np.array([p[1] for p in points])
+    dense_q = np.unique(np.concatenate((q, np.linspace(q[0], q[-1], max(4 * q.size, 2000)))))
+    dense_p = PchipInterpolator(q, P)(dense_q)
+    inverse = GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p))
+    return UniformTable(inverse, float(P.min()), float(P.max()))
 
 
 def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: float) -> float:
