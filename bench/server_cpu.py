@@ -85,15 +85,34 @@ def main() -> None:
                 f"/compare?ids={ids[0]},{ids[1]}"), 200), "page"))
             rows.append(("POST /ui/results (Calculate), pump-fed", per_request(lambda: http.post(
                 "/ui/results", json=demos["kaolin_pump_fed"]), 100), None))
+
+            # memory: resident size over 10,000 mixed requests after the warm-up above
+            mixed = [lambda: http.get("/healthz"), lambda: http.post("/api/v1/cycle", json=demos["copper_concentrate"]),
+                     lambda: http.get("/demo/hydroxide_sludge"), lambda: http.get(f"/s/{ids[1]}"),
+                     lambda: http.post("/api/v1/cycle", json=pump), lambda: http.get("/scenarios")]
+            rss = [resident_kb(server.pid)]
+            for k in range(10_000):
+                mixed[k % len(mixed)]()
+                if (k + 1) % 2_500 == 0:
+                    rss.append(resident_kb(server.pid))
         print(f"{'request':52s} {'server CPU':>11s} {'x /healthz':>11s}  target")
         for name, seconds, kind in rows:
             target = f"<= {TARGETS[kind]:g}x" if kind else ""
             print(f"{name:52s} {seconds * 1e3:8.3f} ms {seconds / floor:10.1f}x  {target}")
         print(f"(clock ticks of {1e3 / os.sysconf('SC_CLK_TCK'):.0f} ms over each batch; server on core "
               f"{server_core}, client on core {client_core})")
+        print("server resident memory over 10,000 mixed requests: "
+              + " -> ".join(f"{kb / 1024:.1f} MB" for kb in rss)
+              + f" ({100 * (rss[-1] - rss[0]) / rss[0]:+.1f} %, target within 5 %)")
     finally:
         server.terminate()
         server.wait(10)
+
+
+def resident_kb(pid: int) -> int:
+    """Resident set size of a process [kB]."""
+    line = next(x for x in Path(f"/proc/{pid}/status").read_text().splitlines() if x.startswith("VmRSS:"))
+    return int(line.split()[1])
 
 
 def _timed(fn) -> float:

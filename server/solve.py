@@ -5,6 +5,7 @@ and every number a page or chart shows comes from the solver through here. This 
 only module that knows both the request's field paths and the solver's (:data:`API_PATHS`).
 """
 
+import json
 import math
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
@@ -213,7 +214,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    bad = first_non_finite(results)
+    bad = _first_non_finite_fast(results)
     if bad is None and series is not None:
         bad = next((f"chart_series.{name}" for name, values in _series_arrays(series)
                     if not np.isfinite(values).all()), None)
@@ -284,6 +285,19 @@ def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
     return {"filtrate_throughput": span("filtrate_throughput"), "solids_throughput": span("solids_throughput"),
             "filtration_time": span("filtration_time"), "cycle_time": span("cycle_time"),
             "basis": basis + ("; " + "; ".join(notes) if notes else "")}
+
+
+def _first_non_finite_fast(results: dict) -> str | None:
+    """first_non_finite for results: the curves with numpy, the rest by the C JSON encoder,
+    which refuses NaN and infinity; the path is looked for only when something is wrong."""
+    for name, values in results["curves"].items():
+        if not np.isfinite(np.asarray(values, dtype=float)).all():
+            return first_non_finite(values, f"curves.{name}")
+    try:
+        json.dumps({k: v for k, v in results.items() if k != "curves"}, allow_nan=False)
+    except ValueError:
+        return first_non_finite(results)
+    return None
 
 
 def first_non_finite(obj, path="") -> str | None:

@@ -13,6 +13,8 @@ References: McCabe, Smith & Harriott, Unit Operations of Chemical Engineering, c
 section 14.2 (eqs. 14.2-11 to 14.2-13).
 """
 
+import math
+
 import numpy as np
 
 
@@ -97,11 +99,15 @@ def rate_at_volume(V, K_p, B):
 
     Infinite at V = 0 when B = 0 (no cloth resistance): the first instant's flow is unbounded.
     """
+    if isinstance(V, float | int):  # one volume: plain floats (numpy's overhead is most of it)
+        return reciprocal(K_p * V + B)
     return reciprocal(K_p * np.asarray(V, dtype=float) + B)
 
 
 def reciprocal(x):
     """1/x for floats or arrays, inf where x = 0 (no warning)."""
+    if isinstance(x, float | int):
+        return 1.0 / x if x != 0 else math.inf
     with np.errstate(divide="ignore"):
         out = np.divide(1.0, np.asarray(x, dtype=float))
     return out if out.ndim else float(out)

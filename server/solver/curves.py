@@ -180,12 +180,13 @@ class UniformTable:
         self.n = n if p_hi > p_lo else 1
         self.h = (p_hi - p_lo) / (self.n - 1) if self.n > 1 else 1.0
         self.values = np.asarray(fn(np.linspace(p_lo, p_hi, self.n)), dtype=float)
+        # the step to the next value, with a zero step after the last (held beyond the table)
+        self.steps = np.append(np.diff(self.values), 0.0)
 
     def __call__(self, pressure):
         p = np.asarray(pressure, dtype=float)
         if self.n == 1:
             return np.full_like(p, self.values[0])
-        x = np.clip((p - self.p_lo) / self.h, 0.0, self.n - 1.0)
-        i = np.minimum(x.astype(np.intp), self.n - 2)
-        w = x - i
-        return self.values[i] + w * (self.values[i + 1] - self.values[i])
+        x = np.minimum(np.maximum((p - self.p_lo) * (1.0 / self.h), 0.0), self.n - 1.0)
+        i = x.astype(np.intp)
+        return self.values[i] + (x - i) * self.steps[i]

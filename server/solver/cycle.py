@@ -491,7 +491,10 @@ def solve_cycle(
     matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
 
     V_end, reason = family.end_volume(end, best.filtrate_volume, V_full)
-    end_cycle = family.result(press, V_end, reason)
+    if V_end == best.filtrate_volume and reason == best.limited_by:
+        end_cycle = best  # ending at the best cycle: the same cycle, not worked out again
+    else:
+        end_cycle = family.result(press, V_end, reason)
     at_end = EndResult(end_cycle, reason, end_cycle.filtrate_throughput / best.filtrate_throughput)
 
     feed_warnings = getattr(system.feed, "warnings", None)
