@@ -80,9 +80,38 @@ def _field(loc) -> str:
     return ".".join(parts) if parts else "body"
 
 
+#: The library's other messages in the tool's words (ctx holds the limits).
+_WORDED = {
+    "int_parsing": lambda c: "must be a whole number",
+    "int_from_float": lambda c: "must be a whole number",
+    "int_type": lambda c: "must be a whole number",
+    "float_parsing": lambda c: "must be a number",
+    "float_type": lambda c: "must be a number",
+    "bool_type": lambda c: "must be true or false",
+    "string_type": lambda c: "must be text",
+    "string_too_short": lambda c: "must not be empty" if c.get("min_length") == 1 else
+    f"must be at least {c.get('min_length')} characters",
+    "string_too_long": lambda c: f"must be at most {c.get('max_length')} characters",
+    "too_short": lambda c: f"give at least {c.get('min_length')} entries",
+    "too_long": lambda c: f"give at most {c.get('max_length')} entries",
+    "greater_than_equal": lambda c: f"must be at least {c.get('ge')}",
+    "greater_than": lambda c: f"must be above {c.get('gt')}",
+    "less_than_equal": lambda c: f"must be at most {c.get('le')}",
+    "less_than": lambda c: f"must be below {c.get('lt')}",
+    "literal_error": lambda c: f"must be one of {c.get('expected')}",
+    "dict_type": lambda c: "must be an object",
+    "model_type": lambda c: "must be an object",
+    "model_attributes_type": lambda c: "must be an object",
+    "list_type": lambda c: "must be a list",
+    "tuple_type": lambda c: "must be a list",
+    "json_invalid": lambda c: "the body is not valid JSON",
+}
+
+
 def clean(err: dict) -> dict:
     """One pydantic error in the app's words, with the path a person would write."""
-    msg = _PLAIN.get(err.get("type"), err.get("msg", "invalid"))
+    worded = _WORDED.get(err.get("type"))
+    msg = _PLAIN.get(err.get("type")) or (worded(err.get("ctx") or {}) if worded else err.get("msg", "invalid"))
     if msg.startswith("Value error, "):
         msg = msg[len("Value error, ") :]
     # Validators and the feed union add their own names to the path; people want fields.

@@ -13,7 +13,17 @@ from pydantic import BaseModel, Field, model_validator
 from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
 from ..solver import press as solver_press
-from .common import Density, Fraction01, PressPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
+from .common import (
+    Density,
+    Fraction01,
+    LabPressure,
+    PressPressure,
+    SolidsFraction,
+    Strict,
+    Temperature,
+    Viscosity,
+    exactly_one,
+)
 from .quantities import quantity
 
 Length = quantity("length", ge=1e-3, le=0.5, description="Chamber thickness")
@@ -50,8 +60,9 @@ class CakeIn(Strict):
     resistance_stderr: quantity(
         "specific_resistance", ge=0.0, le=1e17, description="Standard error of resistance, e.g. from a lab fit"
     ) | None = None
-    reference_pressure: PressPressure | None = Field(
-        None, description="PressPressure at which resistance applies [Pa]; needed when compressibility > 0"
+    reference_pressure: LabPressure | None = Field(
+        None, description="Pressure at which resistance applies [Pa] (from 1 Pa: alpha_0 dP^s is often "
+                          "tabulated at 1 lbf/ft^2); needed when compressibility > 0"
     )
     compressibility: quantity(
         "fraction", ge=0.0, lt=1.0, description="Cake compressibility s in alpha = alpha_ref (dP/p_ref)^s"
@@ -112,7 +123,7 @@ Duration = quantity("time", gt=0.0, le=1e6, description="Step duration")
 
 class ConstantPressureFeedIn(Strict):
     mode: Literal["constant_pressure"]
-    pressure: PressPressure = Field(description="PressPressure drop across cake and cloth [Pa]")
+    pressure: PressPressure = Field(description="Pressure drop across cake and cloth [Pa]")
 
     def to_solver(self) -> solver_feeds.ConstantPressure:
         return solver_feeds.ConstantPressure(self.pressure)
@@ -287,7 +298,7 @@ class CycleOut(BaseModel):
     dry_cake_mass: float = Field(description="Dry cake per cycle [kg]")
     wet_cake_mass: float = Field(description="Wet cake per cycle [kg]")
     final_rate: float = Field(description="Filtrate flow at the end of filtration [m³/s]")
-    final_pressure: float = Field(description="PressPressure at the end of filtration [Pa]")
+    final_pressure: float = Field(description="Pressure at the end of filtration [Pa]")
     limited_by: Literal["optimum", "chambers_full"]
     feasible: bool = Field(description="The cake fits in the chambers (within fill_fraction)")
 

@@ -9,7 +9,7 @@ from typing import Annotated
 
 from pydantic import BeforeValidator, WithJsonSchema
 
-from ..units import KINDS, MAX_LENGTH, UnitError, example, parse_quantity
+from ..units import _NUMBER, KINDS, MAX_LENGTH, UnitError, example, parse_quantity
 
 
 def _number(value: float, digits: int) -> str:
@@ -38,6 +38,38 @@ def range_text(kind, gt=None, ge=None, lt=None, le=None) -> str:
     return " and ".join(parts)
 
 
+#: Relative tolerance of an inclusive bound.
+TOLERANCE = 1e-9
+
+
+def _out_of_range(value, si: float, kind: str, allowed: str, gt, ge, lt, le) -> str:
+    """The refusal in the unit the person used (4 significant figures), with SI beside it."""
+    given = user_unit(value, kind)
+    if given is None or (given[1](0.0) == 0.0 and given[1](1.0) == 1.0):  # SI as written: said once
+        return f"must be {allowed}; got {_fmt(si, kind)}"
+    unit, to_user = given
+    bounds = [(word, to_user(b)) for word, b in (("above", gt), ("at least", ge), ("below", lt), ("at most", le))
+              if b is not None]
+    in_user = " and ".join(f"{word} {_number(b, 4)} {unit}" for word, b in bounds)
+    return f"must be {in_user} ({allowed}); got {_number(to_user(si), 4)} {unit} ({_fmt(si, kind)})"
+
+
+def user_unit(value, kind: str):
+    """(unit as written, SI -> that unit) for a string with a unit, else None."""
+    if not isinstance(value, str):
+        return None
+    match = _NUMBER.match(value)
+    unit = match.group(2).strip() if match else ""
+    if not unit:
+        return None
+    try:
+        zero, one = parse_quantity(f"0 {unit}", kind), parse_quantity(f"1 {unit}", kind)
+    except UnitError:
+        return None
+    shown = "%" if unit in ("%", "percent") else unit
+    return shown, (lambda si: (si - zero) / (one - zero))
+
+
 def _number_bounds(kind, gt, ge, lt, le) -> dict:
     """The allowed range as JSON Schema bounds on the bare-number form (in its unit: SI, or
     degC for a temperature), so clients and schema-driven tools can see the limits."""
@@ -55,12 +87,14 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
             si = parse_quantity(value, kind)
         except UnitError as exc:
             raise ValueError(str(exc)) from None
+        # an inclusive bound given exactly in another unit may come out one rounding step past
+        # it ("0.001 g/L" -> 0.0009999999999999998 kg/m^3): within 1e-9 it is the bound
         ok = (
-            (gt is None or si > gt) and (ge is None or si >= ge)
-            and (lt is None or si < lt) and (le is None or si <= le)
+            (gt is None or si > gt) and (ge is None or si >= ge - TOLERANCE * abs(ge))
+            and (lt is None or si < lt) and (le is None or si <= le + TOLERANCE * abs(le))
         )
         if not ok:
-            raise ValueError(f"must be {allowed}; got {_fmt(si, kind, 17)}")
+            raise ValueError(_out_of_range(value, si, kind, allowed, gt, ge, lt, le))
         return si
 
     schema = {

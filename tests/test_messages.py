@@ -1,0 +1,72 @@
+"""Refusals in the tool's words: in the unit the person used, 4 significant figures, percent
+as percent, never a library's phrasing; an exact bound in another unit is accepted."""
+
+import copy
+
+import pytest
+
+from tests.conftest import BASE_REQUEST
+
+
+def _msg(client, change, field, path="/api/v1/cycle", wrap=None):
+    body = copy.deepcopy(BASE_REQUEST)
+    change(body)
+    r = client.post(path, json=wrap(body) if wrap else body)
+    assert r.status_code == 422, r.text
+    return {d["field"]: d["msg"] for d in r.json()["detail"]}[field]
+
+
+def test_a_percent_field_is_answered_in_percent(client):
+    msg = _msg(client, lambda b: b["slurry"].update(solids_mass_fraction="120 %"), "slurry.solids_mass_fraction")
+    assert "below 100 %" in msg and "got 120 %" in msg
+
+
+def test_a_pressure_in_bar_is_answered_in_bar_with_si_beside(client):
+    msg = _msg(client, lambda b: b["feed"].update(pressure="-3 bar"), "feed.pressure")
+    assert "at least 0.001 bar and at most 1000 bar" in msg and "got -3 bar" in msg and "(-300000 Pa)" in msg
+
+
+def test_numbers_in_messages_carry_no_rounding_noise(client):
+    msg = _msg(client, lambda b: b["slurry"].update(solids_density="2.6000000000000001 kg/m^3"), "slurry.solids_density")
+    assert "got 2.6 kg/m" in msg and "0000000" not in msg
+
+
+@pytest.mark.parametrize("section,field,value", [
+    ("slurry", "solids_concentration", "0.001 g/L"),  # the lower bound, 1e-3 kg/m^3, given in g/L
+    ("press", "chamber_thickness", "500 mm"),          # the upper bound, 0.5 m
+    ("press", "chamber_thickness", "1 mm"),            # the lower bound, 1e-3 m
+])
+def test_an_exact_bound_in_another_unit_is_accepted(client, section, field, value):
+    body = copy.deepcopy(BASE_REQUEST)
+    if field == "solids_concentration":
+        body["slurry"].pop("solids_mass_fraction")
+    body[section][field] = value
+    assert client.post("/api/v1/cycle", json=body).status_code == 200
+
+
+def test_a_reference_pressure_of_one_pound_per_square_foot_is_accepted(client):
+    # alpha = alpha_0 dP^s is often tabulated with dP in lbf/ft^2, i.e. alpha_0 at 1 lbf/ft^2
+    body = copy.deepcopy(BASE_REQUEST)
+    body["cake"].update(compressibility=0.5, reference_pressure="1 lbf/ft^2")
+    assert client.post("/api/v1/cycle", json=body).status_code == 200
+
+
+@pytest.mark.parametrize("change,field,words", [
+    (lambda b: b["press"].update(plate_face_area=1.0, chambers=3.5), "press.chambers", "must be a whole number"),
+    (lambda b: b.update(compare_thicknesses=["30 mm"] * 60), "compare_thicknesses", "give at most 50 entries"),
+    (lambda b: b["cycle"].update(washing="sideways"), "cycle.washing", "must be one of"),
+    (lambda b: b.update(slurry=[1, 2]), "slurry", "must be an object"),
+])
+def test_library_messages_are_put_in_the_tools_words(client, change, field, words):
+    def apply(b):
+        if field == "press.chambers":
+            b["press"].pop("filter_area")
+        change(b)
+
+    msg = _msg(client, apply, field)
+    assert msg.startswith(words) and "Input should" not in msg and "List should" not in msg
+
+
+def test_an_empty_scenario_name_is_said_plainly(client):
+    msg = _msg(client, lambda b: None, "name", "/api/v1/scenarios", lambda b: {"name": "", "inputs": b})
+    assert msg == "must not be empty"
