@@ -128,7 +128,7 @@ GROUPS = [
     Group("feed", "Feed", [
         Choice("feed.mode", "Feed", sent=True, options=[
             ("constant_pressure", "constant pressure", [FormField("feed.pressure", "Feed pressure", "pressure",
-                                                          "drop across cake and cloth; presses run 5–16 bar")]),
+                                                          "drop across cake and cloth; presses run about 3–20 bar")]),
             ("constant_rate", "positive-displacement pump", [
                 FormField("feed.flow", "Set flow", "flow", "filtrate flow while below the maximum pressure"),
                 FormField("feed.max_pressure", "Maximum pressure", "pressure", "relief or set pressure, then held"),

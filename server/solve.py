@@ -15,6 +15,7 @@ import orjson
 
 from . import solver
 from .errors import InputError
+from .plausibility import input_warnings
 from .schemas.cycle import CycleRequest
 from .solver import slurry as sb
 from .solver import water
@@ -197,6 +198,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     results = {
+        "input_warnings": input_warnings(inputs.model_dump(), inputs._raw),
         "derived": derived,
         "uncertainty": uncertainty(inputs, built, sol),
         "target": target_check(inputs, sol),

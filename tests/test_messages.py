@@ -70,3 +70,50 @@ def test_library_messages_are_put_in_the_tools_words(client, change, field, word
 def test_an_empty_scenario_name_is_said_plainly(client):
     msg = _msg(client, lambda b: None, "name", "/api/v1/scenarios", lambda b: {"name": "", "inputs": b})
     assert msg == "must not be empty"
+
+
+# ---- plausibility: calculated, and flagged --------------------------------------------------------
+
+def _warnings(client, change):
+    body = copy.deepcopy(BASE_REQUEST)
+    change(body)
+    r = client.post("/api/v1/cycle", json=body)
+    assert r.status_code == 200, r.text
+    return {w["field"]: w["message"] for w in r.json()["input_warnings"]}
+
+
+def test_a_fraction_typed_with_percent_chosen_is_flagged_as_a_slip(client):
+    w = _warnings(client, lambda b: b["slurry"].update(solids_mass_fraction="0.58 %"))
+    assert "0.58 %" in w["slurry.solids_mass_fraction"] and "usual 1–60 %" in w["slurry.solids_mass_fraction"]
+    assert "would be 58 %" in w["slurry.solids_mass_fraction"]
+
+
+def test_a_pressure_a_hundred_times_too_high_is_flagged_in_the_unit_typed(client):
+    w = _warnings(client, lambda b: b["feed"].update(pressure="1000 bar"))
+    assert w["feed.pressure"].startswith("1000 bar is outside the usual 3–20 bar")
+    assert "factor of 100 too large" in w["feed.pressure"]
+
+
+def test_an_unusual_value_that_is_no_slip_is_flagged_without_a_guess(client):
+    w = _warnings(client, lambda b: b["slurry"].update(solids_density="600 kg/m^3"))
+    assert "600 kg/m^3 is outside the usual 1000–5000 kg/m³" in w["slurry.solids_density"]
+    assert "factor" not in w["slurry.solids_density"] and "looks like" not in w["slurry.solids_density"]
+
+
+def test_usual_inputs_and_every_demo_raise_no_flag(client):
+    from tests.test_pages import DEMOS
+
+    assert _warnings(client, lambda b: None) == {}
+    for demo in DEMOS:
+        assert client.post("/api/v1/cycle", json=demo.inputs).json()["input_warnings"] == [], demo.slug
+
+
+def test_a_cloth_resistance_of_zero_is_not_flagged(client):
+    assert "medium_resistance" not in _warnings(client, lambda b: b.update(medium_resistance=0))
+
+
+def test_flags_show_on_the_results_pane(client):
+    body = copy.deepcopy(BASE_REQUEST)
+    body["feed"]["pressure"] = "1000 bar"
+    html = client.post("/ui/results", json=body).json()["html"]
+    assert "feed.pressure" in html and "factor of 100 too large" in html

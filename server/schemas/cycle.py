@@ -8,7 +8,7 @@ list of feed modes is read off the ``FeedIn`` union.
 
 from typing import Annotated, Literal, get_args
 
-from pydantic import BaseModel, Field, model_validator
+from pydantic import BaseModel, Field, PrivateAttr, model_validator
 
 from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
@@ -240,6 +240,17 @@ class TargetIn(Strict):
 
 
 class CycleRequest(Strict):
+    #: the request as sent (for the units a person typed); not a field
+    _raw: dict = PrivateAttr(default_factory=dict)
+
+    @model_validator(mode="wrap")
+    @classmethod
+    def _keep_raw(cls, data, handler):
+        model = handler(data)
+        if isinstance(data, dict):
+            model._raw = data
+        return model
+
     slurry: SlurryIn
     cake: CakeIn
     medium_resistance: quantity(
@@ -341,7 +352,15 @@ class TargetOut(BaseModel):
     hours_per_day: float = Field(description="[h]")
 
 
+class InputWarningOut(BaseModel):
+    field: str = Field(description="Path of the input, as in the request")
+    message: str = Field(description="The value in the unit typed, the usual range, and a likely slip if any")
+
+
 class CycleResponse(BaseModel):
+    input_warnings: list[InputWarningOut] = Field(
+        default_factory=list, description="Inputs outside the trade's usual range (calculated as given)"
+    )
     target: TargetOut | None = None
     derived: DerivedOut
     uncertainty: UncertaintyOut | None = Field(
