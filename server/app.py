@@ -12,7 +12,7 @@ from fastapi.staticfiles import StaticFiles
 from fastapi.templating import Jinja2Templates
 
 from . import errors
-from .guards import EdgeGuard
+from .guards import EdgeGuard, one_shot_receive
 from .routers import cycle, health, labfit, pages, scenarios, ui
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
@@ -89,25 +89,19 @@ _WARM_UP = {
 
 
 def _warm(app: FastAPI, templates) -> None:
-    """First-use costs paid at start-up: the middleware stack, a solve with its chart series,
-    the page templates."""
-    from .display import Units
-    from .schemas.cycle import CycleRequest
-    from .solve import solve
-    from .views import render_results
-
+    """First-use costs paid at start-up: the middleware stack and the page templates now; a
+    solve, its chart series and the results pane once the server runs (below)."""
     app.middleware_stack = app.build_middleware_stack()
-    solved = solve(CycleRequest.model_validate(_WARM_UP), with_chart_series=True)
-    render_results(templates, solved.results, solved.chart_series, Units("si"))
     for name in ("scenario.html", "scenario_view.html", "home.html", "compare.html", "scenarios.html", "error.html"):
         templates.get_template(name)
     host = (app.state.settings.allowed_hosts or ["localhost"])[0].encode()
     body = json.dumps(_WARM_UP).encode()
 
     async def warm_request():
-        # once the server runs: one request through the whole app (its worker thread, the
-        # routing, the body's validation), answered to nobody
-        await _asgi_request(app, "POST", "/api/v1/cycle", body, host)
+        # once the server runs: the two calculating routes once each through the whole app
+        # (worker thread, routing, validation, solve, chart series, rendering), answered to nobody
+        for path in ("/api/v1/cycle", "/ui/results"):
+            await _asgi_request(app, "POST", path, body, host)
 
     app.router.on_startup.append(warm_request)
 
@@ -118,19 +112,13 @@ async def _asgi_request(app, method: str, path: str, body: bytes, host: bytes) -
              "headers": [(b"host", host), (b"content-type", b"application/json"),
                          (b"content-length", str(len(body)).encode())],
              "client": ("127.0.0.1", 0), "server": ("127.0.0.1", 0)}
-    delivered = False
-
-    async def receive():
-        nonlocal delivered
-        if not delivered:
-            delivered = True
-            return {"type": "http.request", "body": body, "more_body": False}
+    async def disconnected():
         return {"type": "http.disconnect"}
 
     async def send(message):
         return None
 
-    await app(scope, receive, send)
+    await app(scope, one_shot_receive(body, disconnected), send)
 
 
 def __getattr__(name: str):

@@ -129,16 +129,7 @@ class EdgeGuard:
                                  f"the request body did not arrive within {self.body_timeout:g} s")
         if body is None:  # the client went away
             return None
-        replayed = False
-
-        async def replay():
-            nonlocal replayed
-            if not replayed:
-                replayed = True
-                return {"type": "http.request", "body": body, "more_body": False}
-            return await receive()
-
-        return await self.app(scope, replay, send_with_headers)
+        return await self.app(scope, one_shot_receive(body, receive), send_with_headers)
 
     async def _read(self, receive) -> bytes | None:
         chunks, size = [], 0
@@ -172,6 +163,20 @@ def _slash_location(scope) -> bytes | None:
         return None
     query = scope.get("query_string", b"")
     return target + (b"?" + query if query and _SAFE_QUERY.match(query) else b"")
+
+
+def one_shot_receive(body: bytes, then):
+    """An ASGI receive that hands over a body already read, then defers to ``then``."""
+    delivered = False
+
+    async def receive():
+        nonlocal delivered
+        if not delivered:
+            delivered = True
+            return {"type": "http.request", "body": body, "more_body": False}
+        return await then()
+
+    return receive
 
 
 def _without_body(send):

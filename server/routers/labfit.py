@@ -3,11 +3,12 @@
 from fastapi import APIRouter, Request, UploadFile
 
 from ..budget import within_budget
-from ..errors import InputError, read_upload
+from ..errors import InputError
 from ..lab import fit_request
 from ..labdata import CsvError, parse_readings
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.labfit import LabFitRequest, LabFitResponse
+from ..uploads import read_upload
 
 router = APIRouter(prefix="/api/v1", tags=["lab-fit"], responses=ERROR_RESPONSES)
 MAX_CSV_BYTES = 1_000_000

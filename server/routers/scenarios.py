@@ -13,12 +13,13 @@ from .. import solver
 from ..budget import within_budget
 from ..charts import compact, overlay
 from ..display import Units, UnitSystem
-from ..errors import InputError, read_upload
+from ..errors import InputError
 from ..scenarios import differences, save, solve_inputs
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
 from ..solve import CAUTIONS
 from ..storage import Scenario
+from ..uploads import read_upload
 from ..views import page_json, render_results
 
 

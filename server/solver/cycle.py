@@ -445,17 +445,8 @@ def peak_scan(throughput, V_scale: float, knots=(), held_from: float = 0.0) -> T
 
 
 def numeric_optimum_volume(throughput, V_scale: float, knots=()) -> float:
-    """Volume that maximises a throughput function over all volumes (global), see :func:`peak_scan`.
-
-    Parameters
-    ----------
-    throughput : callable
-        Q(V) [m^3/s], vectorised over V [m^3].
-    V_scale : float
-        A volume of the right order, such as the chambers-full volume [m^3].
-    knots : array_like
-        Volumes where the filtration curve changes form [m^3].
-    """
+    """Volume that maximises a throughput function over all volumes (global): the best point
+    of :func:`peak_scan` (same parameters), scanned past the last knot."""
     return peak_scan(throughput, V_scale, knots, max(knots, default=0.0)).V_best
 
 
