@@ -320,3 +320,11 @@ def _num(value, kind: str) -> str:
 
 
 _SI = {"flow": "m^3/s", "pressure": "Pa", "time": "s", "length": "m"}
+
+
+#: The label people see for each input path (for messages about a field, such as input_warnings).
+LABELS = {}
+for _group in GROUPS:
+    for _item in _group.items:
+        for _field in ([f for _, _, fields in _item.options for f in fields] if isinstance(_item, Choice) else [_item]):
+            LABELS.setdefault(_field.path, _field.label)

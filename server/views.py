@@ -74,8 +74,9 @@ def render_results(templates, results: dict, chart_series: dict, units) -> tuple
     Returns (HTML of the results pane, plotly figures by chart key).
     """
     from .charts import compact, figures
+    from .forms import LABELS
 
-    html = templates.get_template("_results.html").render({"results": results, "u": units})
+    html = templates.get_template("_results.html").render({"results": results, "u": units, "labels": LABELS})
     return html, compact(figures(chart_series, results, units))
 
 

@@ -116,4 +116,4 @@ def test_flags_show_on_the_results_pane(client):
     body = copy.deepcopy(BASE_REQUEST)
     body["feed"]["pressure"] = "1000 bar"
     html = client.post("/ui/results", json=body).json()["html"]
-    assert "feed.pressure" in html and "factor of 100 too large" in html
+    assert "Feed pressure:" in html and "factor of 100 too large" in html

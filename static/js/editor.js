@@ -113,6 +113,28 @@
     window.presscycleCharts.plot(results, figures);
   }
 
+  // Results shown are always those of the inputs on screen: after an edit or a failed
+  // calculation they are greyed and say so (also to screen readers) until Calculate succeeds.
+  let stale = false;
+  function markStale(message) {
+    if (!results.querySelector(".js-plotly-plot, .verdict, .cards")) return; // nothing shown yet
+    stale = true;
+    results.classList.add("stale");
+    let note = document.getElementById("stale-note");
+    if (!note) {
+      note = document.createElement("p");
+      note.id = "stale-note";
+      note.className = "stale-note";
+      note.setAttribute("role", "status");
+      results.prepend(note);
+    }
+    note.textContent = message;
+  }
+  function clearStale() {
+    stale = false;
+    results.classList.remove("stale");
+  }
+
   async function calculate() {
     clearErrors();
     status.textContent = "Calculating…";
@@ -125,17 +147,29 @@
       });
     } catch (e) {
       status.textContent = "The server did not answer; check the connection and try again.";
-      return;
+      markStale("Not calculated: these results are for earlier inputs.");
+      return false;
     }
     const data = await response.json().catch(() => ({}));
-    if (response.status === 422) { status.textContent = ""; showErrors(data.detail || []); return; }
-    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; return; }
+    if (response.status === 422) {
+      status.textContent = "";
+      showErrors(data.detail || []);
+      markStale("The inputs on the left do not calculate: these results are for earlier inputs.");
+      return false;
+    }
+    if (!response.ok) {
+      status.textContent = data.detail || `The server answered ${response.status}.`;
+      markStale("Not calculated: these results are for earlier inputs.");
+      return false;
+    }
     lastBody = body;
     results.innerHTML = data.html;
+    clearStale();
     figures = data.figures || {};
     plotAll();
     status.textContent = "Done.";
     document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, results: data.results } }));
+    return true;
   }
 
   async function saveScenario() {
@@ -146,6 +180,14 @@
       note: document.getElementById("save-note").value.trim(),
       inputs: collect(),
     };
+    if (stale) {
+      // what is saved is what is on screen: calculate the edited inputs first
+      saveStatus.textContent = "Calculating before saving…";
+      if (!(await calculate())) {
+        saveStatus.textContent = "Not saved: the inputs do not calculate; please correct the marked fields.";
+        return;
+      }
+    }
     const parent = document.getElementById("save-parent").value;
     if (parent) body.parent = parent;
     saveStatus.textContent = "Saving…";
@@ -169,6 +211,13 @@
   }
 
   form.addEventListener("submit", (e) => { e.preventDefault(); calculate(); });
+  const onEdit = (e) => {
+    const name = e.target.name || "";
+    if (name === "@display" || name.startsWith("@save") || e.target.closest("[data-group=save]")) return;
+    markStale("You changed the inputs: press Calculate to see their results. These are for the earlier inputs.");
+  };
+  form.addEventListener("input", onEdit);
+  form.addEventListener("change", onEdit);
   document.getElementById("save").addEventListener("click", saveScenario);
   form.querySelectorAll("[data-choice] > select").forEach((sel) => {
     sel.addEventListener("change", () => {

@@ -166,3 +166,34 @@ def test_new_scenario_page_and_static_assets_load_locally(page):
     shown = page.locator(".error:not([hidden])").all_inner_texts()
     assert len(shown) >= 3 and all("required" in t or "give" in t for t in shown), shown
     assert page.watch.bad_responses == []
+
+
+def test_results_are_marked_out_of_date_after_an_edit_and_after_a_failed_calculation(page):
+    page.goto(page.base + "/demo/iron_oxide_pigment")
+    results = page.locator("#results")
+    assert "stale" not in (results.get_attribute("class") or "")
+    page.fill("#f-cycle-downtime", "80")  # an edit, not yet calculated
+    assert "stale" in results.get_attribute("class")
+    assert "press Calculate" in page.inner_text("#stale-note")
+    page.click("#calculate")
+    wait_results(page)
+    assert "stale" not in results.get_attribute("class")
+    page.fill("#f-press-chamber_thickness", "-5")
+    page.click("#calculate")
+    page.locator(".field .error:not([hidden])").first.wait_for()
+    assert "stale" in results.get_attribute("class")
+    assert "do not calculate" in page.inner_text("#stale-note")
+    page.watch.bad_responses.clear()  # the 422 above was the point
+
+
+def test_save_after_an_edit_calculates_first_and_stores_what_is_shown(page):
+    page.goto(page.base + "/demo/iron_oxide_pigment")
+    before = headline(page)
+    page.fill("#f-cycle-downtime", "80")
+    page.fill("#save-name", "pigment, 80 min downtime")
+    page.click("#save")
+    page.wait_for_url(re.compile(r"/s/[A-Za-z0-9_-]+$"), timeout=20000)
+    saved = headline(page)
+    assert saved != before  # the edited inputs' results, calculated before saving
+    assert "80" in page.inner_text("body")
+    clean(page)
