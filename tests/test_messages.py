@@ -46,6 +46,7 @@ def test_an_exact_bound_in_another_unit_is_accepted(client, section, field, valu
 
 def test_a_reference_pressure_of_one_pound_per_square_foot_is_accepted(client):
     # alpha = alpha_0 dP^s is often tabulated with dP in lbf/ft^2, i.e. alpha_0 at 1 lbf/ft^2
+    # (common practice, no source)
     body = copy.deepcopy(BASE_REQUEST)
     body["cake"].update(compressibility=0.5, reference_pressure="1 lbf/ft^2")
     assert client.post("/api/v1/cycle", json=body).status_code == 200
