@@ -5,7 +5,6 @@ the API points straight at the input. Alternatives (mass fraction or concentrati
 are choices: only the chosen alternative's fields are sent.
 """
 
-import re
 from dataclasses import dataclass, field
 
 UNIT_CHOICES = {
@@ -178,9 +177,6 @@ GROUPS = [
     ]),
 ]
 
-_NUM_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
-
-
 def split_quantity(value, kind: str) -> tuple[str, str]:
     """A stored input ("58 %", 0.18, "7 bar") as (number text, unit choice) for the form."""
     choices = [u for _, u in UNIT_CHOICES.get(kind, [("", "")])]
@@ -191,10 +187,14 @@ def split_quantity(value, kind: str) -> tuple[str, str]:
         if bare is not None and bare in choices:
             return repr(value) if isinstance(value, float) else str(value), bare
         return _si_to_choice(float(value), kind, choices)
-    m = _NUM_UNIT.match(str(value))
-    if not m:
-        return str(value), choices[0]
-    number, unit = m.group(1), m.group(2)
+    from .units import UnitError, split_number
+
+    text = str(value).strip()
+    try:
+        unit = split_number(text)[1]
+    except UnitError:
+        return text, choices[0]
+    number = text[: len(text) - len(unit)].strip() if unit else text
     normal = unit.replace("**", "^").replace(" ", "")
     for u in choices:
         if u.replace(" ", "") == normal:
