@@ -78,8 +78,12 @@ GROUPS = [
                                                  "by mass; typically 1–60 %")]),
             ("concentration", "per slurry volume", [FormField("slurry.solids_concentration", "Solids per slurry volume",
                                                        "concentration", "dry solids per m³ of slurry; typically 10–800 kg/m³")]),
+            ("per_liquid", "per liquid volume", [FormField("slurry.solids_per_liquid", "Solids per liquid volume",
+                                                   "concentration", "dry solids per m³ (or g per L) of slurry liquid")]),
         ]),
-        FormField("slurry.solids_density", "Solids density", "density", "minerals 2000–5000 kg/m³, organics 1000–1600"),
+        FormField("slurry.solids_density", "Solids density", "density",
+          "minerals 2000–5000 kg/m³, organics 1000–1600; blank when the cake's dry bulk density and "
+          "moisture are given (they fix it)", optional=True),
         FormField("slurry.liquid_density", "Filtrate density", "density",
           "blank: water at the temperature, or 998 kg/m³", optional=True),
         Choice("slurry.viscosity_basis", "Filtrate viscosity from", [
@@ -103,6 +107,13 @@ GROUPS = [
             ("wet_to_dry_ratio", "wet-to-dry ratio", [FormField("cake.wet_to_dry_ratio", "Wet / dry cake mass", "ratio",
                                                         "typically 1.1–5; about 2 for fine minerals")]),
             ("porosity", "porosity", [FormField("cake.porosity", "Cake porosity", "fraction", "void fraction; typically 30–80 %")]),
+            ("bulk_density", "dry bulk density", [FormField("cake.dry_bulk_density", "Cake dry bulk density", "density",
+                                                     "dry solids per cake volume; needs the solids density")]),
+            ("bulk_moisture", "dry bulk density and moisture", [
+                FormField("cake.dry_bulk_density", "Cake dry bulk density", "density",
+                          "dry solids per cake volume; with the moisture it fixes the solids density"),
+                FormField("cake.moisture", "Cake moisture", "fraction", "liquid / wet cake mass; typically 8–80 %"),
+            ]),
         ]),
     ]),
     Group("cloth", "Cloth", [
@@ -247,13 +258,17 @@ def prefill(inputs: dict) -> dict:
     for group in GROUPS:
         for item in group.items:
             if isinstance(item, Choice):
-                picked = item.options[0][0]
+                picked, most = item.options[0][0], 0
                 for value, _, fields in item.options:
                     if item.sent:
                         if _get(inputs, item.name) == value:
                             picked = value
-                    elif any(_get(inputs, f.path) is not None for f in fields):
-                        picked = value
+                        continue
+                    # the option that holds most of the given fields ("dry bulk density and
+                    # moisture" over "moisture" when both are given; the first on a tie)
+                    present = sum(_get(inputs, f.path) is not None for f in fields)
+                    if present > most:
+                        picked, most = value, present
                 choices[item.name] = picked
                 for value, _, fields in item.options:
                     for f in fields:
