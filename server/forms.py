@@ -41,6 +41,11 @@ class FormField:
     optional: bool = False
 
     @property
+    def full_label(self) -> str:
+        """The label on its own, for tables and messages ("Standard error of α", not "… its standard error")."""
+        return FULL_LABELS.get(self.path, self.label)
+
+    @property
     def id(self) -> str:
         return "f-" + self.path.replace(".", "-")
 
@@ -337,9 +342,23 @@ def _num(value, kind: str) -> str:
 _SI = {"flow": "m^3/s", "pressure": "Pa", "time": "s", "length": "m"}
 
 
+#: Labels that read on their own where the form's "… measured at" leans on the field above.
+FULL_LABELS = {
+    "cake.resistance_stderr": "Standard error of α",
+    "cake.reference_pressure": "Pressure at which α was measured",
+    "medium_resistance_stderr": "Standard error of R_m",
+    "cycle.wash_basis": "Wash ratio counted per",
+    "cycle.end.flow": "End at a filtrate flow below",
+    "cycle.end.flow_per_area": "End at a flow per filter area below",
+    "cycle.end.flow_fraction": "End at a share of the initial flow below",
+    "target.hours_per_day": "Press running hours per day",
+}
+#: Bare numbers of these inputs are in a unit the field's kind does not say.
+BARE_UNITS = {"target.hours_per_day": "h"}
+
 #: The label people see for each input path (for messages about a field, such as input_warnings).
 LABELS = {}
 for _group in GROUPS:
     for _item in _group.items:
         for _field in ([f for _, _, fields in _item.options for f in fields] if isinstance(_item, Choice) else [_item]):
-            LABELS.setdefault(_field.path, _field.label)
+            LABELS.setdefault(_field.path, _field.full_label)
