@@ -8,14 +8,15 @@ are choices: only the chosen alternative's fields are sent.
 from dataclasses import dataclass, field
 
 UNIT_CHOICES = {
-    "pressure": [("bar", "bar"), ("kPa", "kPa"), ("MPa", "MPa"), ("psi", "psi"), ("Pa", "Pa")],
+    "pressure": [("bar", "bar"), ("kPa", "kPa"), ("MPa", "MPa"), ("psi (lbf/in²)", "psi"), ("atm", "atm"),
+                 ("lbf/ft²", "lbf/ft^2"), ("Pa", "Pa")],
     "length": [("mm", "mm"), ("in", "in"), ("m", "m")],
     "area": [("m²", "m^2"), ("ft²", "ft^2"), ("cm²", "cm^2")],
     "volume": [("m³", "m^3"), ("L", "L"), ("ft³", "ft^3"), ("US gal", "gal")],
     "time": [("min", "min"), ("h", "h"), ("s", "s")],
-    "viscosity": [("mPa·s", "mPa*s"), ("cP", "cP"), ("Pa·s", "Pa*s")],
+    "viscosity": [("mPa·s", "mPa*s"), ("cP", "cP"), ("Pa·s", "Pa*s"), ("lb/(ft·s)", "lb/(ft*s)")],
     "density": [("kg/m³", "kg/m^3"), ("g/cm³", "g/cm^3"), ("lb/ft³", "lb/ft^3")],
-    "concentration": [("kg/m³", "kg/m^3"), ("g/L", "g/L"), ("lb/ft³", "lb/ft^3")],
+    "concentration": [("kg/m³", "kg/m^3"), ("g/L", "g/L"), ("lb/ft³", "lb/ft^3"), ("lb/US gal", "lb/gal")],
     "specific_resistance": [("m/kg", "m/kg"), ("ft/lb", "ft/lb")],
     "medium_resistance": [("1/m", "1/m"), ("1/ft", "1/ft")],
     "fraction": [("%", "%"), ("fraction", "")],
@@ -24,10 +25,21 @@ UNIT_CHOICES = {
     "washing": [("–", "")],
     "wash_basis": [("–", "")],
     "temperature": [("°C", "degC"), ("°F", "degF"), ("K", "K")],
-    "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("m³/s", "m^3/s")],
+    "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("ft³/min", "ft^3/min"), ("m³/s", "m^3/s")],
     "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
     "mass_rate": [("t/day", "t/day"), ("t/h", "t/h"), ("kg/h", "kg/h"), ("short ton/day", "ton/day")],
 }
+
+
+def pretty_unit(kind: str, unit: str) -> str:
+    """How a unit of the menus (pint spelling) is written for people: its menu label."""
+    for label, value in UNIT_CHOICES.get(kind, []) + UNIT_CHOICES.get(_MENU_OF.get(kind, ""), []):
+        if value == unit:
+            return label
+    return unit.replace("**", "^").replace("^2", "²").replace("^3", "³").replace("*", "·")
+
+
+_MENU_OF = {"density": "concentration", "concentration": "density"}
 
 
 @dataclass(frozen=True)
@@ -39,6 +51,8 @@ class FormField:
     kind: str
     hint: str
     optional: bool = False
+    #: the field whose unit this one shares (a standard error is in its value's unit)
+    unit_of: str | None = None
 
     @property
     def full_label(self) -> str:
@@ -52,6 +66,20 @@ class FormField:
     @property
     def units(self):
         return UNIT_CHOICES[self.kind]
+
+    def hint_in(self, unit: str | None) -> str:
+        """The hint with its usual range ("{usual}") written in ``unit`` (a menu value)."""
+        if "{usual}" not in self.hint:
+            return self.hint
+        from .plausibility import usual_range
+
+        return self.hint.replace("{usual}", usual_range(self.path, unit))
+
+    def hints(self) -> dict:
+        """The hint in each unit of the field's menu, for the page to follow the unit chosen."""
+        if "{usual}" not in self.hint or len(self.units) < 2:
+            return {}
+        return {value: self.hint_in(value) for _, value in self.units}
 
 
 @dataclass(frozen=True)
@@ -80,14 +108,14 @@ GROUPS = [
     Group("slurry", "Slurry", [
         Choice("slurry.basis", "Solids given as", [
             ("mass_fraction", "mass fraction", [FormField("slurry.solids_mass_fraction", "Solids in the slurry", "fraction",
-                                                 "by mass; typically 1–60 %")]),
+                                                 "by mass; typically {usual}")]),
             ("concentration", "per slurry volume", [FormField("slurry.solids_concentration", "Solids per slurry volume",
-                                                       "concentration", "dry solids per m³ of slurry; typically 10–800 kg/m³")]),
+                                                       "concentration", "dry solids per m³ of slurry; typically {usual}")]),
             ("per_liquid", "per liquid volume", [FormField("slurry.solids_per_liquid", "Solids per liquid volume",
-                                                   "concentration", "dry solids per m³ (or g per L) of slurry liquid")]),
+                                                   "concentration", "dry solids per m³ (or g per L) of slurry liquid; typically {usual}")]),
         ]),
         FormField("slurry.solids_density", "Solids density", "density",
-          "minerals 2000–5000 kg/m³, organics 1000–1600; blank when the cake's dry bulk density and "
+          "typically {usual} (organics from 1000); blank when the cake's dry bulk density and "
           "moisture are given (they fix it)", optional=True),
         FormField("slurry.liquid_density", "Filtrate density", "density",
           "blank: water at the temperature, or 998 kg/m³", optional=True),
@@ -95,37 +123,38 @@ GROUPS = [
             ("temperature", "temperature (water-like)", [FormField("slurry.temperature", "Slurry temperature", "temperature",
                                                              "water-like filtrate; 1–99 °C")]),
             ("viscosity", "measured viscosity", [FormField("slurry.viscosity", "Filtrate viscosity", "viscosity",
-                                                   "water is 1.0 mPa·s at 20 °C; typically 0.3–5")]),
+                                                   "water is 1.0 mPa·s at 20 °C; typically {usual}")]),
         ]),
     ]),
     Group("cake", "Cake", [
         FormField("cake.resistance", "Specific cake resistance α", "specific_resistance",
-          "from your lab test; 1e9 free-draining to 1e14 m/kg for slimes"),
+          "from your lab test; typically {usual} (free-draining to slimes)"),
         FormField("cake.resistance_stderr", "… its standard error", "specific_resistance",
-          "optional, from the lab fit: shows how far the answer moves", optional=True),
+          "optional, from the lab fit: shows how far the answer moves; in α's unit", optional=True,
+          unit_of="cake.resistance"),
         FormField("cake.reference_pressure", "… measured at", "pressure",
           "the test pressure of α; needed when s > 0", optional=True),
         FormField("cake.compressibility", "Compressibility s", "ratio", "0 incompressible; 0.1–0.9 compressible", optional=True),
         Choice("cake.liquid_basis", "Cake liquid given as", [
             ("moisture", "moisture", [FormField("cake.moisture", "Cake moisture", "fraction",
-                                        "liquid / wet cake mass; typically 8–80 %")]),
+                                        "liquid / wet cake mass; typically {usual}")]),
             ("wet_to_dry_ratio", "wet-to-dry ratio", [FormField("cake.wet_to_dry_ratio", "Wet / dry cake mass", "ratio",
-                                                        "typically 1.1–5; about 2 for fine minerals")]),
-            ("porosity", "porosity", [FormField("cake.porosity", "Cake porosity", "fraction", "void fraction; typically 30–80 %")]),
+                                                        "typically {usual}; about 2 for fine minerals")]),
+            ("porosity", "porosity", [FormField("cake.porosity", "Cake porosity", "fraction", "void fraction; typically {usual}")]),
             ("bulk_density", "dry bulk density", [FormField("cake.dry_bulk_density", "Cake dry bulk density", "density",
-                                                     "dry solids per cake volume; needs the solids density")]),
+                                                     "dry solids per cake volume, typically {usual}; needs the solids density")]),
             ("bulk_moisture", "dry bulk density and moisture", [
                 FormField("cake.dry_bulk_density", "Cake dry bulk density", "density",
-                          "dry solids per cake volume; with the moisture it fixes the solids density"),
-                FormField("cake.moisture", "Cake moisture", "fraction", "liquid / wet cake mass; typically 8–80 %"),
+                          "dry solids per cake volume, typically {usual}; with the moisture it fixes the solids density"),
+                FormField("cake.moisture", "Cake moisture", "fraction", "liquid / wet cake mass; typically {usual}"),
             ]),
         ]),
     ]),
     Group("cloth", "Cloth", [
         FormField("medium_resistance", "Cloth resistance R_m", "medium_resistance",
-          "from your lab test; typically 1e9–1e12 1/m; 0 neglects the cloth"),
+          "from your lab test; typically {usual}; 0 neglects the cloth"),
         FormField("medium_resistance_stderr", "… its standard error", "medium_resistance",
-          "optional, from the lab fit", optional=True),
+          "optional, from the lab fit; in R_m's unit", optional=True, unit_of="medium_resistance"),
     ]),
     Group("press", "Press", [
         Choice("press.geometry", "Press given as", [
@@ -136,21 +165,21 @@ GROUPS = [
                 FormField("press.chambers", "Number of chambers", "count", "plates in the pack minus one"),
             ]),
         ]),
-        FormField("press.chamber_thickness", "Chamber thickness", "length", "typically 20–60 mm"),
+        FormField("press.chamber_thickness", "Chamber thickness", "length", "typically {usual}"),
         FormField("press.fill_fraction", "Usable chamber fill", "fraction",
-          "share of chamber volume the cake may fill; 80–100 %", optional=True),
+          "share of chamber volume the cake may fill; {usual}", optional=True),
     ]),
     Group("feed", "Feed", [
         Choice("feed.mode", "Feed", sent=True, options=[
             ("constant_pressure", "constant pressure", [FormField("feed.pressure", "Feed pressure", "pressure",
-                                                          "drop across cake and cloth; presses run about 3–20 bar")]),
+                                                          "drop across cake and cloth; presses run about {usual}")]),
             ("constant_rate", "positive-displacement pump", [
                 FormField("feed.flow", "Set flow", "flow", "filtrate flow while below the maximum pressure"),
-                FormField("feed.max_pressure", "Maximum pressure", "pressure", "relief or set pressure, then held"),
+                FormField("feed.max_pressure", "Maximum pressure", "pressure", "relief or set pressure, then held; usually {usual}"),
             ]),
             ("pump_curve", "centrifugal pump curve", [
                 FormField("feed.points", "Pump curve (flow, pressure per line)", "curve", "pressure must fall as flow rises"),
-                FormField("feed.max_pressure", "Relief pressure", "pressure", "blank: none", optional=True),
+                FormField("feed.max_pressure", "Relief pressure", "pressure", "blank: none; usually {usual}", optional=True),
             ]),
             ("pressure_steps", "pressure in steps", [
                 FormField("feed.steps", "Steps (pressure, duration per line)", "steps", "the last step is held"),
@@ -158,7 +187,7 @@ GROUPS = [
         ]),
     ]),
     Group("cycle", "Cycle", [
-        FormField("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically 10–60 min"),
+        FormField("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically {usual}"),
         FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below; 0 = no washing", optional=True),
         FormField("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
         FormField("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
@@ -326,8 +355,20 @@ def _fill_value(values: dict, f: FormField, raw) -> None:
         values[f.path] = (raw or "through", "")
     elif f.kind == "wash_basis":
         values[f.path] = (raw or "filtrate", "")
+    elif f.unit_of is not None:
+        unit = values.get(f.unit_of, ("", f.units[0][1]))[1]
+        values[f.path] = (_in_unit(raw, f.kind, unit) if raw is not None else "", unit)
     else:
         values[f.path] = split_quantity(raw, f.kind) if raw is not None else ("", f.units[0][1])
+
+
+def _in_unit(raw, kind: str, unit: str) -> str:
+    """A stored value shown in ``unit`` (a standard error in its value's unit)."""
+    number, given = split_quantity(raw, kind)
+    if given == unit:
+        return number
+    si = _parse_si(raw if isinstance(raw, str) else f"{raw}", kind)
+    return _si_to_choice(si, kind, [unit])[0]
 
 
 def _num(value, kind: str) -> str:

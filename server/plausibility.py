@@ -11,31 +11,67 @@ from dataclasses import dataclass
 
 from .schemas.quantities import user_unit
 
-#: usual range per request field: (low, high) in SI, and how the range is written for people
+#: usual range per request field, in SI (the editor's hints show it in the unit chosen)
 USUAL = {
-    "slurry.solids_mass_fraction": (0.01, 0.60, "1–60 %"),
-    "slurry.solids_concentration": (10.0, 800.0, "10–800 kg/m³"),
-    "slurry.solids_density": (1000.0, 5000.0, "1000–5000 kg/m³"),
-    "slurry.viscosity": (0.3e-3, 5e-3, "0.3–5 mPa·s"),
-    "cake.resistance": (1e9, 1e14, "1e9–1e14 m/kg"),
-    "cake.moisture": (0.08, 0.80, "8–80 %"),
-    "cake.wet_to_dry_ratio": (1.1, 5.0, "1.1–5"),
-    "cake.porosity": (0.30, 0.80, "30–80 %"),
-    "medium_resistance": (1e9, 1e12, "1e9–1e12 1/m"),
-    "press.chamber_thickness": (0.020, 0.060, "20–60 mm"),
-    "press.fill_fraction": (0.80, 1.0, "80–100 %"),
-    "feed.pressure": (3e5, 20e5, "3–20 bar"),
-    "feed.max_pressure": (3e5, 20e5, "3–20 bar"),
-    "cycle.downtime": (600.0, 3600.0, "10–60 min"),
+    "slurry.solids_mass_fraction": (0.01, 0.60),
+    "slurry.solids_concentration": (10.0, 800.0),
+    "slurry.solids_per_liquid": (10.0, 1500.0),
+    "slurry.solids_density": (1000.0, 5000.0),
+    "slurry.viscosity": (0.3e-3, 5e-3),
+    "cake.resistance": (1e9, 1e14),
+    "cake.moisture": (0.08, 0.80),
+    "cake.wet_to_dry_ratio": (1.1, 5.0),
+    "cake.porosity": (0.30, 0.80),
+    "cake.dry_bulk_density": (300.0, 3500.0),
+    "medium_resistance": (1e9, 1e12),
+    "press.chamber_thickness": (0.020, 0.060),
+    "press.fill_fraction": (0.80, 1.0),
+    "feed.pressure": (3e5, 20e5),
+    "feed.max_pressure": (3e5, 20e5),
+    "cycle.downtime": (600.0, 3600.0),
 }
 #: fields where 0 has its own meaning (0 neglects the cloth): never flagged
 ZERO_ALLOWED = {"medium_resistance"}
 KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration": "density",
-         "slurry.solids_density": "density", "slurry.viscosity": "viscosity",
+         "slurry.solids_per_liquid": "density", "slurry.solids_density": "density", "slurry.viscosity": "viscosity",
          "cake.resistance": "specific_resistance", "cake.moisture": "fraction", "cake.wet_to_dry_ratio": "fraction",
-         "cake.porosity": "fraction", "medium_resistance": "medium_resistance", "press.chamber_thickness": "length",
-         "press.fill_fraction": "fraction", "feed.pressure": "pressure", "feed.max_pressure": "pressure",
-         "cycle.downtime": "time"}
+         "cake.porosity": "fraction", "cake.dry_bulk_density": "density", "medium_resistance": "medium_resistance",
+         "press.chamber_thickness": "length", "press.fill_fraction": "fraction", "feed.pressure": "pressure",
+         "feed.max_pressure": "pressure", "cycle.downtime": "time"}
+#: the unit a range is written in when none was typed (the editor's first choice)
+DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
+                 "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min"}
+#: ratios that are plain numbers, never percent
+PLAIN = {"cake.wet_to_dry_ratio"}
+
+
+def _nice(x: float) -> str:
+    """A range end as people write it: 3 significant figures, powers of ten as 1e9."""
+    if x == 0.0:
+        return "0"
+    if 1e-3 <= abs(x) < 1e5:
+        return f"{float(f'{x:.3g}'):g}"
+    mantissa, exponent = f"{x:.2e}".split("e")
+    return f"{mantissa.rstrip('0').rstrip('.')}e{int(exponent)}"
+
+
+def usual_range(path: str, unit: str | None = None) -> str:
+    """The usual range of ``path`` written in ``unit`` (a unit as the editor's menus spell it;
+    None: the editor's first choice), e.g. "3–20 bar", "43.5–290 psi", "1–60 %"."""
+    from .forms import pretty_unit
+    from .units import parse_quantity
+
+    low, high = USUAL[path]
+    kind = KINDS[path]
+    if path in PLAIN:
+        return f"{_nice(low)}–{_nice(high)}"
+    if unit is None:
+        unit = DEFAULT_UNITS[kind]
+    if unit == "":
+        return f"{_nice(low)}–{_nice(high)}" + ("" if kind == "fraction" else f" {pretty_unit(kind, '')}")
+    zero, one = parse_quantity(f"0 {unit}", kind), parse_quantity(f"1 {unit}", kind)
+    lo, hi = ((v - zero) / (one - zero) for v in (low, high))
+    return f"{_nice(lo)}–{_nice(hi)} {pretty_unit(kind, unit)}"
 
 
 @dataclass(frozen=True)
@@ -56,7 +92,7 @@ def input_warnings(si: dict, raw: dict) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
     validated request as a dict), ``raw`` the request as sent (for the units typed)."""
     out = []
-    for path, (low, high, usual) in USUAL.items():
+    for path, (low, high) in USUAL.items():
         value = _get(si, path)
         if not isinstance(value, float | int) or (value == 0 and path in ZERO_ALLOWED):
             continue
@@ -64,12 +100,18 @@ def input_warnings(si: dict, raw: dict) -> list[dict]:
             continue
         typed = _get(raw, path)
         shown = _in_typed_unit(typed, value, KINDS[path])
+        given = user_unit(typed, KINDS[path])
+        usual = usual_range(path, _menu_spelling(given[0]) if given else None)
         message = f"{shown} is outside the usual {usual}; it was calculated as given."
         slip = _slip(typed, value, low, high)
         if slip:
             message += " " + slip
         out.append({"field": path, "message": message})
     return out
+
+
+def _menu_spelling(unit: str) -> str:
+    return unit.replace("³", "^3").replace("²", "^2").replace("·", "*")
 
 
 def _in_typed_unit(typed, value: float, kind: str) -> str:

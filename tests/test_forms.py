@@ -138,7 +138,8 @@ def _close(a, b, rel=1e-5):
     (7e5, "pressure", ("7", "bar")),          # SI numbers show in the first unit offered
     ("40 mm", "length", ("40", "mm")),
     (20, "temperature", ("20", "degC")),       # a bare temperature is in °C, as in the API
-    ("2 atm", "pressure", ("2.02650", "bar")),  # a unit not offered converts to the first offered
+    ("2 atm", "pressure", ("2", "atm")),  # atm is offered now (issue 10)
+    ("2 kgf/cm^2", "pressure", ("1.96133", "bar")),  # a unit not offered converts to the first offered
 ])
 def test_stored_values_split_into_number_and_unit_choice(value, kind, expected):
     number, unit = split_quantity(value, kind)

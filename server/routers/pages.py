@@ -54,7 +54,7 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
         "parent": parent,
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
         "state": state,
-        "initial_html": None, "initial_figures": None, "initial_error": None,
+        "initial_html": None, "initial_figures": None, "initial_error": None, "flags": {},
     }
     if solve:
         def first_results():
@@ -63,11 +63,13 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
             except InputError:
                 # the page still opens; Calculate marks what is wrong at the fields
                 return None, None, ("These inputs do not solve as they stand: press Calculate to see what "
-                                    "to correct.")
+                                    "to correct."), {}
             html, figures = render_results(_templates(request), results, results["chart_series"], Units("si"))
-            return html, page_json(figures), None
+            flags = {w["field"]: w["message"] for w in results.get("input_warnings", [])}
+            return html, page_json(figures), None, flags
 
-        context["initial_html"], context["initial_figures"], context["initial_error"] = first_results()
+        (context["initial_html"], context["initial_figures"], context["initial_error"],
+         context["flags"]) = first_results()
     return _templates(request).TemplateResponse(request, "scenario.html", context)
 
 

@@ -22,25 +22,12 @@
     node[parts[parts.length - 1]] = value;
   }
 
-  // Numbers go to the server as typed ("19 000", "1,2E11", "19.000,5"): the server reads them
-  // (server/units.py split_number) and asks when one is ambiguous ("19,000"). A unit typed
-  // after the number ("2 atm") wins over the unit menu.
-  const NUMBER = /^[-+]?(?:\d|[.,]\d)[\d.,'\u2019 \u00a0\u2009\u202f]*(?:[eE][-+]?\d+)?/;
-  function typedUnit(text) {
-    const m = text.trim().match(NUMBER);
-    return Boolean(m) && text.trim().slice(m[0].length).trim() !== "";
-  }
-
   function unitOf(path, suffix) {
     const sel = Array.from(form.querySelectorAll(`[name="${path}@${suffix || "unit"}"]`)).find(visible);
     return sel ? sel.value : "";
   }
 
-  function quantity(value, unit) {
-    const v = value.trim();
-    if (!unit || typedUnit(v)) return v;
-    return `${v} ${unit}`;
-  }
+  const quantity = window.presscycleEntry.withUnit;
 
   function lines(text) {
     return text.split(/\r?\n/).map((l) => l.trim()).filter((l) => l && !l.startsWith("#"));
@@ -79,10 +66,20 @@
       else if (kind === "list") value = listItems(raw).map((x) => quantity(x, unitOf(path)));
       else if (kind === "count") value = /^\d+$/.test(raw.replace(/[ \u00a0\u2009\u202f]/g, "")) ? Number(raw.replace(/\D/g, "")) : raw;
       else if (el.tagName === "SELECT") value = raw;
-      else value = quantity(raw, unitOf(path));
+      else value = quantity(raw, unitOf(el.dataset.unitOf || path));
       setPath(body, path, value);
     });
     return body;
+  }
+
+  // values outside the trade's usual range: calculated, and flagged beside their field
+  function showFlags(warnings) {
+    form.querySelectorAll(".flag").forEach((e) => { e.hidden = true; e.textContent = ""; });
+    (warnings || []).forEach((w) => {
+      const field = fieldFor(w.field || "");
+      const flag = field && field.querySelector && field.querySelector(".flag");
+      if (flag) { flag.textContent = w.message; flag.hidden = false; }
+    });
   }
 
   function clearErrors() {
@@ -125,27 +122,9 @@
     window.presscycleCharts.plot(results, figures);
   }
 
-  // Results shown are always those of the inputs on screen: after an edit or a failed
-  // calculation they are greyed and say so (also to screen readers) until Calculate succeeds.
-  let stale = false;
-  function markStale(message) {
-    if (!results.querySelector(".js-plotly-plot, .verdict, .cards")) return; // nothing shown yet
-    stale = true;
-    results.classList.add("stale");
-    let note = document.getElementById("stale-note");
-    if (!note) {
-      note = document.createElement("p");
-      note.id = "stale-note";
-      note.className = "stale-note";
-      note.setAttribute("role", "status");
-      results.prepend(note);
-    }
-    note.textContent = message;
-  }
-  function clearStale() {
-    stale = false;
-    results.classList.remove("stale");
-  }
+  const staleness = window.presscycleStale(results);
+  const markStale = staleness.mark;
+  const clearStale = staleness.clear;
 
   async function calculate() {
     clearErrors();
@@ -179,6 +158,7 @@
     clearStale();
     figures = data.figures || {};
     plotAll();
+    showFlags(data.results && data.results.input_warnings);
     status.textContent = "Done.";
     document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, results: data.results } }));
     return true;
@@ -192,7 +172,7 @@
       note: document.getElementById("save-note").value.trim(),
       inputs: collect(),
     };
-    if (stale) {
+    if (staleness.stale) {
       // what is saved is what is on screen: calculate the edited inputs first
       saveStatus.textContent = "Calculating before saving…";
       if (!(await calculate())) {
@@ -234,6 +214,20 @@
   form.querySelectorAll("[data-choice] > select").forEach((sel) => {
     sel.addEventListener("change", () => {
       sel.parentElement.querySelectorAll(":scope > .option").forEach((o) => { o.hidden = o.dataset.option !== sel.value; });
+    });
+  });
+  // a hint's usual range and a standard error's unit follow the unit chosen for the value
+  form.querySelectorAll('select[name$="@unit"]').forEach((sel) => {
+    sel.addEventListener("change", () => {
+      const field = sel.closest(".field");
+      const hint = field && field.querySelector(".hint[data-hints]");
+      if (hint) {
+        const text = JSON.parse(hint.dataset.hints)[sel.value];
+        if (text) hint.textContent = text;
+      }
+      const path = sel.name.slice(0, -"@unit".length);
+      const label = sel.options[sel.selectedIndex].textContent;
+      form.querySelectorAll(`[data-unit-label-of="${path}"]`).forEach((span) => { span.textContent = label; });
     });
   });
   form.querySelectorAll('[name="@display"]').forEach((r) => r.addEventListener("change", () => { if (lastBody) calculate(); }));

@@ -20,7 +20,11 @@
       const file = e.target.files[0];
       if (!file) return;
       const reader = new FileReader();
-      reader.onload = () => { node.querySelector("textarea[data-name=csv]").value = reader.result; };
+      reader.onload = () => { node.querySelector("textarea[data-name=csv]").value = reader.result; edited(); };
+      reader.onerror = () => {
+        status.textContent = `The file ${file.name} could not be read.`;
+        staleness.mark("The file could not be read: these results are for earlier readings.");
+      };
       reader.readAsText(file);
     });
     tests.appendChild(node);
@@ -32,14 +36,13 @@
     const raw = el ? el.value.trim() : "";
     if (!raw) return undefined;
     const unit = block.querySelector(`[data-unit="${name}"]`);
-    const v = raw.indexOf(".") < 0 ? raw.replace(",", ".") : raw;
-    return unit && unit.value ? `${v} ${unit.value}` : v;
+    return window.presscycleEntry.withUnit(raw, unit ? unit.value : "");
   }
 
   function collect() {
     const body = { tests: [] };
     const ref = document.getElementById("ref-p").value.trim();
-    if (ref) body.reference_pressure = `${ref.replace(",", ".")} ${document.getElementById("ref-p-unit").value}`;
+    if (ref) body.reference_pressure = window.presscycleEntry.withUnit(ref, document.getElementById("ref-p-unit").value);
     Array.from(tests.children).forEach((block) => {
       const t = {};
       ["name", "pressure", "area", "temperature", "viscosity", "c", "dry_cake_mass"].forEach((k) => {
@@ -81,15 +84,25 @@
     const response = await fetch("/ui/lab-fit", {
       method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(collect()),
     }).catch(() => null);
-    if (!response) { status.textContent = "The server did not answer."; return; }
+    const earlier = "Not fitted: these results are for earlier readings.";
+    if (!response) { status.textContent = "The server did not answer."; staleness.mark(earlier); return; }
     const data = await response.json().catch(() => ({}));
-    if (response.status === 422) { status.textContent = ""; showErrors(data.detail || []); return; }
-    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; return; }
+    if (response.status === 422) {
+      status.textContent = ""; showErrors(data.detail || []);
+      staleness.mark("The readings on the left do not fit: these results are for earlier readings.");
+      return;
+    }
+    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; staleness.mark(earlier); return; }
     results.innerHTML = data.html;
+    staleness.clear();
     window.presscycleCharts.plot(results, data.figures || {});
     status.textContent = "Done.";
   }
 
+  const staleness = window.presscycleStale(results);
+  const edited = () => staleness.mark("You changed the readings: press Fit to see their results. These are for the earlier readings.");
+  form.addEventListener("input", edited);
+  form.addEventListener("change", edited);
   document.getElementById("add-test").addEventListener("click", addTest);
   form.addEventListener("submit", (e) => { e.preventDefault(); fit(); });
   addTest();
