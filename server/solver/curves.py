@@ -53,6 +53,9 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
         [Pa], [m^3/s]. The pressure never exceeds ``pressure_cap``.
     """
     V = np.asarray(V, dtype=float)
+    nodes = getattr(supply_flow, "nodes", None)
+    if nodes is not None:
+        return _operating_point_on_nodes(*nodes(pressure_cap), V, filtration, filter_area)
     cap = np.full_like(V, pressure_cap)
     at_cap = cake_flow(cap, V, filtration, filter_area) <= supply_flow(cap)
     lo = np.zeros_like(V)
@@ -75,6 +78,74 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
     # the supply's flow is.
     flow = np.where(np.isfinite(flow), np.minimum(flow, supply_flow(lo)), supply_flow(lo))
     return pressure, flow
+
+
+NEWTON_STEPS = 4  # within one table segment (1e-4 of the range wide): from 1e-4 to round-off
+
+
+def _operating_point_on_nodes(p, q, V, filtration, filter_area):
+    """``operating_point`` for a piecewise-linear supply Q(P) through nodes (p, q), p rising
+    from 0 to the cap: exact on each segment, no iteration over the whole grid.
+
+    The volume at which the operating pressure reaches node j is closed-form, from
+    p_j = mu q_j (alpha(p_j) c V / A^2 + R_m / A); these volumes rise with p_j (the supply
+    falls, alpha p^-1 falls for s < 1), so each filtrate volume's segment is a binary search
+    away. On its segment Q is linear in P: an incompressible cake's operating pressure is then
+    the root of a linear equation; a compressible cake's is refined by Newton's method from the
+    interpolated pressure, kept inside the segment. Past the last node (the cap) the pressure
+    is held and the cake sets the flow.
+    """
+    f = filtration
+    A2 = filter_area**2
+    medium = f.medium_resistance / filter_area
+    if f.compressibility and p.size > 2:
+        # below the table the supply is flat and a compressible cake's pressure may span
+        # decades: nodes in geometric steps there keep Newton's start close. With a cloth the
+        # pressure never falls below the cloth's share mu q R_m / A; without, the first
+        # segment is solved in closed form below.
+        floor = f.viscosity * q[0] * medium if medium > 0.0 else 1e-9 * p[1]
+        if floor < p[1]:
+            n = int(min(200, np.ceil(np.log(p[1] / floor) / np.log(1.15)))) + 1
+            extra = np.geomspace(floor, p[1], n)[:-1]
+            p = np.concatenate(([0.0], extra, p[1:]))
+            q = np.concatenate((np.full(n, q[0]), q[1:]))
+    alpha_nodes = f.specific_resistance(p) if f.compressibility else np.full_like(p, f.resistance_ref)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        V_nodes = (p / (f.viscosity * q) - medium) * A2 / (alpha_nodes * f.solids_per_filtrate)
+    V_nodes = np.where(q > 0.0, np.maximum(V_nodes, 0.0), np.inf)
+    V_nodes[0] = 0.0  # zero pressure: no filtrate yet (0/0 for a compressible cake without cloth)
+    V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
+    last = p.size - 1
+    j = np.clip(np.searchsorted(V_nodes, V, side="right") - 1, 0, last - 1)
+    p0, p1, q0, q1 = p[j], p[j + 1], q[j], q[j + 1]
+    m = (q1 - q0) / (p1 - p0)  # <= 0
+    cake_per_alpha = f.solids_per_filtrate * V / A2
+    if f.compressibility == 0.0:
+        muR = f.viscosity * (f.resistance_ref * cake_per_alpha + medium)
+        P = muR * (q0 - m * p0) / (1.0 - muR * m)
+    else:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            w = np.where(np.isfinite(V_nodes[j + 1]) & (V_nodes[j + 1] > V_nodes[j]),
+                         (V - V_nodes[j]) / (V_nodes[j + 1] - V_nodes[j]), 0.0)
+        P = p0 + np.clip(w, 0.0, 1.0) * (p1 - p0)
+        s_, a_ref, p_ref, mu = f.compressibility, f.resistance_ref, f.reference_pressure, f.viscosity
+        for _ in range(NEWTON_STEPS):
+            alpha = a_ref * (np.maximum(P, 1e-300) / p_ref) ** s_
+            R = alpha * cake_per_alpha + medium
+            Q = q0 + m * (P - p0)
+            g = P - mu * Q * R
+            dg = 1.0 - mu * (m * R + Q * s_ * alpha * cake_per_alpha / np.maximum(P, 1e-300))
+            P = np.clip(P - g / dg, p0, p1)
+        if medium == 0.0:
+            # the first segment without a cloth: P = mu q0 alpha_ref (P/p_ref)^s c V / A^2
+            first = j == 0
+            P = np.where(first, (mu * q0 * a_ref * cake_per_alpha * p_ref**-s_) ** (1.0 / (1.0 - s_)), P)
+    at_cap = V >= V_nodes[last]
+    P = np.where(at_cap, p[last], P)
+    supply = q0 + m * (P - p0)
+    flow = np.where(at_cap, cake_flow(p[last], V, filtration, filter_area), supply)
+    flow = np.where(np.isfinite(flow), np.minimum(flow, supply), supply)
+    return P, flow
 
 
 def volume_grid(V_max: float, n: int = 2000) -> np.ndarray:
@@ -182,6 +253,21 @@ class UniformTable:
         self.values = np.asarray(fn(np.linspace(p_lo, p_hi, self.n)), dtype=float)
         # the step to the next value, with a zero step after the last (held beyond the table)
         self.steps = np.append(np.diff(self.values), 0.0)
+        self._nodes = {}
+
+    def nodes(self, cap: float) -> tuple[np.ndarray, np.ndarray]:
+        """The table as (pressure, flow) nodes from 0 to ``cap`` [Pa]: the first value held
+        below the table, the table's nodes below the cap, and the value at the cap."""
+        key = float(cap)
+        cached = self._nodes.get(key)
+        if cached is None:
+            grid = self.p_lo + self.h * np.arange(self.n) if self.n > 1 else np.array([self.p_lo])
+            inside = (grid > 0.0) & (grid < cap)
+            p = np.concatenate(([0.0], grid[inside], [cap]))
+            cached = (p, np.asarray(self(p), dtype=float))
+            if len(self._nodes) < 16:
+                self._nodes[key] = cached
+        return cached
 
     def __call__(self, pressure):
         p = np.asarray(pressure, dtype=float)

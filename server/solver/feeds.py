@@ -355,8 +355,10 @@ class PumpCurve:
         """Below its lowest listed pressure the pump gives its highest flow: a kink there [Pa]."""
         return (self.points[-1][1],)
 
-    def supply_flow(self, pressure):
-        return self._supply(pressure)
+    @property
+    def supply_flow(self):
+        """Q_supply(dP) [m^3/s]: a table with nodes, so the operating point is solved per segment."""
+        return self._supply
 
     def curve(self, filtration: Filtration, filter_area: float, V_max: float = 1.0) -> TabulatedCurve:
         return _supply_curve(self, filtration, filter_area, V_max, self.grid_points)

@@ -122,6 +122,29 @@ def test_pump_curve_operating_points_match_the_explicit_inverse():
     np.testing.assert_allclose(curve.pressure_at(V_of_P), Ps, rtol=2e-4)
 
 
+@pytest.mark.parametrize("s", [0.0, 0.45, 0.9])
+@pytest.mark.parametrize("R_m", [R_M, 0.0])
+def test_per_segment_operating_point_matches_bisection_and_the_rate_equation(s, R_m):
+    # The exact-per-segment solve (the supply table's nodes) against the general bisection
+    # (the same table, its nodes hidden) and against the rate equation it must satisfy.
+    from server.solver.curves import cake_flow, operating_point
+
+    Q, P = falling_pump()
+    pump = PumpCurve(tuple(zip(Q, P)), max_pressure=6.5e5)
+    table = pump.supply_flow
+    f = filtration(s, R_m)
+    V = np.concatenate(([0.0], np.geomspace(1e-4, 80.0, 3000)))
+    fast_P, fast_Q = operating_point(table, pump.pressure_cap, V, f, A)
+    slow_P, slow_Q = operating_point(lambda p: table(p), pump.pressure_cap, V, f, A)
+    np.testing.assert_allclose(fast_P, slow_P, rtol=1e-9, atol=1e-9 * pump.pressure_cap)
+    np.testing.assert_allclose(fast_Q, slow_Q, rtol=1e-9)
+    assert fast_P.max() <= pump.pressure_cap
+    held = fast_P < pump.pressure_cap * (1 - 1e-12)
+    # where the pressure is below the cap the cake passes exactly what the pump gives
+    passes = cake_flow(fast_P[held], V[held], f, A)
+    np.testing.assert_allclose(np.where(np.isfinite(passes), passes, fast_Q[held]), table(fast_P[held]), rtol=1e-9)
+
+
 def test_pump_curve_mass_balance_and_pressure_limit():
     Q, P = falling_pump()
     pump = PumpCurve(tuple(zip(Q, P)), max_pressure=5.5e5)
