@@ -176,7 +176,7 @@ def throughput_vs_thickness(s: dict, results: dict, L_press: float, u: Units) ->
     x_title = f"Chamber thickness ({t_label})"
     if min(L_shown) <= Lm <= max(L_shown):
         top = left["range"][1] if left else max(Q)
-        name = f"chambers just fill at the optimum: {Lm:.3g} {t_label}"
+        name = f"chambers just full at optimum: {Lm:.3g} {t_label}"
         traces.append({"type": "scatter", "mode": "lines", "name": name, "x": [Lm, Lm], "y": [0.0, top],
                        "line": {"color": COLORS["grey"], "dash": "dot", "width": 1.5}, "hoverinfo": "skip"})
     else:
@@ -208,7 +208,7 @@ def throughput_map(s: dict, results: dict, L_press: float, u: Units) -> dict:
                       "tickmode": "array", "tickvals": tickvals, "ticktext": ticktext},
          "hovertemplate": (f"filtration %{{x:.3g}} {t_label}<br>chamber %{{y:.3g}} {L_label}"
                            f"<br>throughput %{{z:.3g}} {q_label}<extra></extra>")},
-        {"type": "scatter", "mode": "lines", "name": "chambers full: the press stops there, before the set time",
+        {"type": "scatter", "mode": "lines", "name": "chambers full (the press stops there)",
          "x": u("time", s["chambers_full_time"]),
          "y": u("thickness", s["chamber_thickness"]), "line": {"color": COLORS["full"], "width": 3},
          "hovertemplate": f"chambers full after %{{x:.3g}} {t_label} at %{{y:.3g}} {L_label}<extra></extra>"},
@@ -299,12 +299,23 @@ def figures(series: dict, results: dict, u: Units) -> dict:
     }
 
 
+#: Characters of a scenario's name kept in a legend entry (fits a 360 px wide chart).
+LEGEND_NAME = 26
+
+
+def _short(name: str) -> str:
+    return name if len(name) <= LEGEND_NAME else name[: LEGEND_NAME - 1].rstrip() + "…"
+
+
 def overlay(scenarios: list[tuple[str, dict]], u: Units) -> dict:
     """Compare view: throughput against cycle time and against thickness, one line per scenario."""
     q_label, t_label, L_label = u.label("flow"), u.label("time"), u.label("thickness")
     time_traces, thick_traces = [], []
     for i, (raw_name, results) in enumerate(scenarios):
-        name = html.escape(raw_name)  # plotly reads a little HTML in trace names
+        # plotly reads a little HTML in trace names; a legend entry does not wrap, so a long
+        # name is shortened there (the hover label gives it whole)
+        full = html.escape(raw_name)
+        name = html.escape(_short(raw_name))
         s = results["chart_series"]
         color = OVERLAY[i % len(OVERLAY)]
         st = s["throughput_time"]
@@ -312,14 +323,14 @@ def overlay(scenarios: list[tuple[str, dict]], u: Units) -> dict:
         time_traces.append({"type": "scatter", "mode": "lines", "name": name, "line": {"color": color, "width": 2.5},
                             "x": u("time", [st["cycle_time"][k] for k in ok]),
                             "y": u("flow", [st["filtrate_throughput"][k] for k in ok]),
-                            "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
+                            "hovertemplate": f"%{{x:.3g}} {t_label}: %{{y:.3g}} {q_label}<extra>{full}</extra>"})
         b = results["best"]
         time_traces.append(_marker(f"{name}: best", u("time", b["cycle_time"]), u("flow", b["filtrate_throughput"]),
                                    color, "circle", f"%{{x:.3g}} {u.label('time')}: %{{y:.3g}} {q_label}"))
         sl = s["throughput_thickness"]
         thick_traces.append({"type": "scatter", "mode": "lines", "name": name, "line": {"color": color, "width": 2.5},
                              "x": u("thickness", sl["chamber_thickness"]), "y": u("flow", sl["filtrate_throughput"]),
-                             "hovertemplate": f"%{{x:.3g}} {L_label}: %{{y:.3g}} {q_label}<extra>{name}</extra>"})
+                             "hovertemplate": f"%{{x:.3g}} {L_label}: %{{y:.3g}} {q_label}<extra>{full}</extra>"})
         thick_traces.append(_marker(f"{name}: this press", u("thickness", s["chamber_thickness"]),
                                     u("flow", b["filtrate_throughput"]), color, "circle",
                                     f"%{{x:.3g}} {u.label('thickness')}: %{{y:.3g}} {q_label}"))
