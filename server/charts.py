@@ -34,8 +34,9 @@ HEADROOM = 1.03
 def _axis(title: str, **extra) -> dict:
     """An axis with its title; margins grow to fit ticks and title; large and small numbers
     in powers of ten (never SI letters such as "T" or "m", which read as units)."""
+    # short ticks outside the plot keep an x label clear of a y label where the axes meet
     return {"title": {"text": title}, "gridcolor": "#e5e7eb", "zeroline": False, "automargin": True,
-            "exponentformat": "power", **extra}
+            "exponentformat": "power", "ticks": "outside", "ticklen": 4, "tickcolor": "#9ca3af", **extra}
 
 
 def _list(a) -> list:
