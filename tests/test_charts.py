@@ -211,6 +211,10 @@ def test_percent_axes_stop_at_100(solved_demos):
 def test_the_lab_resistance_axis_is_in_powers_of_ten(lab_figs):
     axis = lab_figs["compressibility"]["layout"]["yaxis"]
     assert axis["type"] == "log" and "m/kg" in axis["title"]["text"] and axis["exponentformat"] == "power"
+    # pressures over less than a decade: ticks at 1 bar times powers of two, written out in full
+    p_axis = lab_figs["compressibility"]["layout"]["xaxis"]
+    assert p_axis["type"] == "log" and p_axis["tick0"] == 0 and p_axis["dtick"] == pytest.approx(math.log10(2))
+    assert p_axis["tickformat"] == ".3~g"
 
 
 @pytest.mark.parametrize("slug", [d.slug for d in DEMOS])
