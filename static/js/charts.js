@@ -72,7 +72,16 @@
 
   const observer = "ResizeObserver" in window ? new ResizeObserver((entries) => entries.forEach((e) => fit(e.target))) : null;
 
+  const observed = new Set();
+
   function plot(root, figures) {
+    // charts of an earlier results pane, replaced since: no longer watched
+    observed.forEach((el) => {
+      if (!el.isConnected) {
+        observer.unobserve(el);
+        observed.delete(el);
+      }
+    });
     Object.entries(figures).forEach(([key, fig]) => {
       const el = document.getElementById(`chart-${key}`);
       if (!el || !window.Plotly) return;
@@ -81,7 +90,10 @@
       delete layout.title;
       if (el.clientWidth > 0) layout.width = el.clientWidth;
       window.Plotly.newPlot(el, fig.data, layout, { displaylogo: false });
-      if (observer) observer.observe(el);
+      if (observer) {
+        observer.observe(el);
+        observed.add(el);
+      }
     });
     root.querySelectorAll("button.csv").forEach((b) => b.addEventListener("click", () => download(b.dataset.chart, figures)));
   }

@@ -16,6 +16,8 @@ from tests.browser.test_lab import DATA, fill_test
 
 pytestmark = [pytest.mark.browser, pytest.mark.slow]
 DEMOS = Path(__file__).resolve().parents[2] / "demo_cases"
+#: the lab tests of tests/browser/test_lab.py (Geankoplis, see tests/data/README.md)
+LAB_TESTS = [("Example 14.2-1", "338", "geankoplis_14_2_1.csv"), ("Problem 14.2-1", "46.2", "geankoplis_p14_2_1.csv")]
 
 # Every label plotly drew in a chart, with its box in page pixels. Labels of one kind (one
 # axis's ticks, the legend, the colour bar) are laid out by plotly among themselves; the test
@@ -103,10 +105,10 @@ def open_page(page, kind: str, saved_ids) -> int:
         n = 2
     else:
         page.goto(page.base + "/lab")
-        blocks = page.locator("#tests > fieldset")
-        fill_test(blocks.nth(0), "Example 14.2-1", "338", (DATA / "geankoplis_14_2_1.csv").read_text())
-        page.click("#add-test")
-        fill_test(blocks.nth(1), "Problem 14.2-1", "46.2", (DATA / "geankoplis_p14_2_1.csv").read_text())
+        for i, (name, kPa, readings) in enumerate(LAB_TESTS):
+            if i:
+                page.click("#add-test")
+            fill_test(page.locator("#tests > fieldset").nth(i), name, kPa, (DATA / readings).read_text())
         page.click("#fit")
         page.wait_for_selector("[data-testid=lab-results]")
         n = 3
