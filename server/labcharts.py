@@ -1,6 +1,7 @@
 """Plotly figures of lab test evaluations: the t/V line of each test, and alpha against pressure."""
 
 import html
+import math
 
 import numpy as np
 
@@ -58,7 +59,9 @@ def compressibility(result: dict) -> dict | None:
          "hovertemplate": "%{x:.3g} bar: %{y:.3g} m/kg<extra>power law</extra>"},
     ], "layout": {
         **BASE_LAYOUT, "title": {"text": "Specific cake resistance against pressure"},
-        "xaxis": _axis("Pressure drop (bar)", type="log"),
+        # ticks at 1 bar times powers of 2 (0.25, 0.5, 1, 2, 4 ...), labelled in full: plotly's
+        # own log ticks over less than a decade label only the first digit
+        "xaxis": _axis("Pressure drop (bar)", type="log", tick0=0, dtick=math.log10(2), tickformat=".3~g"),
         "yaxis": _axis("Specific cake resistance α (m/kg)", type="log"),
     }}
 

@@ -16,11 +16,24 @@ def _list(a) -> list:
     return np.asarray(a, dtype=float).tolist()
 
 
+#: The thickness charts run from half to twice this press's chamber thickness ...
+THICKNESS_SPAN = (0.5, 2.0)
+#: ... widened to take in the thickness at which the chambers just fill at the optimum (the
+#: thickness the results recommend) when it lies within a factor of 4 of the chamber, with a
+#: tenth to spare beyond it; further off, the chart leaves it out and says where it is.
+THICKNESS_REACH, THICKNESS_SPARE = 4.0, 1.1
+
+
 def thickness_grid(L_press: float, L_matched: float, n: int = 120) -> np.ndarray:
-    """Chamber thicknesses [m] around this press's and the matched one, 1 mm to 500 mm."""
-    lo = max(1e-3, 0.3 * min(L_press, L_matched))
-    hi = min(0.5, 2.5 * max(L_press, L_matched))
-    return np.unique(np.concatenate((np.linspace(lo, hi, n), [L_press], [min(max(L_matched, lo), hi)])))
+    """Chamber thicknesses [m] around this press's: half to twice it, widened to the matched
+    thickness (chambers just full at the optimum) when that lies within a factor of 4; never
+    below 1 mm nor above 500 mm. Holds L_press itself, and L_matched when it is in range."""
+    lo, hi = THICKNESS_SPAN[0] * L_press, THICKNESS_SPAN[1] * L_press
+    if L_press / THICKNESS_REACH <= L_matched <= L_press * THICKNESS_REACH:
+        lo, hi = min(lo, L_matched / THICKNESS_SPARE), max(hi, L_matched * THICKNESS_SPARE)
+    lo, hi = max(1e-3, min(lo, L_press)), min(0.5, max(hi, L_press))
+    extra = [L_press] + ([L_matched] if lo <= L_matched <= hi else [])
+    return np.unique(np.concatenate((np.linspace(lo, hi, n), extra)))
 
 
 def throughput_against_time(family: CycleFamily, solution: CycleSolution) -> dict:

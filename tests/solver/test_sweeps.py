@@ -94,3 +94,28 @@ def test_the_feed_says_whether_its_pressure_varies(feed, varies):
     assert s["pressure_varies"] is varies
     pressures = s["filtration"]["pressure"]
     assert (max(pressures) > min(pressures) * 1.01) is varies
+
+
+@pytest.mark.parametrize("ratio", [0.2, 0.3, 0.6, 0.95, 1.0, 1.7, 2.8, 3.9, 4.5, 10.0])
+def test_the_thickness_range_is_half_to_twice_the_chamber_widened_to_the_matched_thickness(ratio):
+    from server.solver.sweeps import thickness_grid
+
+    L = 0.032
+    L_matched = ratio * L
+    grid = thickness_grid(L, L_matched)
+    assert np.all(np.diff(grid) > 0) and L in grid
+    reachable = 0.25 <= ratio <= 4.0
+    # half to twice the chamber; where the matched thickness is within a factor of 4 the range
+    # takes it in with a tenth to spare, and the grid holds it exactly
+    lo = min(0.5 * L, L_matched / 1.1) if reachable else 0.5 * L
+    hi = max(2.0 * L, L_matched * 1.1) if reachable else 2.0 * L
+    assert grid[0] == pytest.approx(lo, rel=1e-12) and grid[-1] == pytest.approx(hi, rel=1e-12)
+    assert (L_matched in grid) is reachable
+
+
+def test_the_thickness_range_stays_within_1_to_500_mm():
+    from server.solver.sweeps import thickness_grid
+
+    assert thickness_grid(0.0015, 0.0012)[0] == pytest.approx(1e-3)
+    assert thickness_grid(0.3, 0.9)[-1] == pytest.approx(0.5)
+    assert 0.3 in thickness_grid(0.3, 0.9)
