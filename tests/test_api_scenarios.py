@@ -6,6 +6,7 @@ import sqlite3
 import pytest
 
 from server.settings import PROJECT_ROOT
+from server.store import pack, unpack
 
 COPPER = json.loads((PROJECT_ROOT / "demo_cases" / "copper_concentrate.json").read_text())["inputs"]
 
@@ -105,9 +106,9 @@ def test_a_changed_solver_is_flagged_with_both_numbers(client, tmp_path):
     created = save(client)
     db = client.app.state.store.path
     conn = sqlite3.connect(db)
-    results = json.loads(conn.execute("SELECT results FROM scenarios WHERE id = ?", (created["id"],)).fetchone()[0])
+    results = unpack(conn.execute("SELECT results FROM scenarios WHERE id = ?", (created["id"],)).fetchone()[0])
     results["best"]["filtrate_throughput"] *= 1.1  # as if an older solver had computed it
-    conn.execute("UPDATE scenarios SET results = ? WHERE id = ?", (json.dumps(results), created["id"]))
+    conn.execute("UPDATE scenarios SET results = ? WHERE id = ?", (pack(results), created["id"]))
     conn.commit()
     conn.close()
     html = client.get(created["link"]).text
