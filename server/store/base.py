@@ -203,12 +203,70 @@ def listed(sid, name, note, created, summary_json) -> Listed:
     return Listed(sid, name, note, created, summary)
 
 
-def record(row, results) -> Scenario:
-    """A Scenario from (id, name, note, created, inputs-json, results, solver_version, parent,
-    summary-json); ValueError/TypeError when any part has the wrong shape."""
-    s = Scenario(row[0], row[1], row[2], row[3], json.loads(row[4]), unpack(results), row[6], row[7],
+def record(row) -> Scenario:
+    """A Scenario from (id, name, note, created, inputs-json, results as stored, solver_version,
+    parent, summary-json); ValueError/TypeError when any part has the wrong shape."""
+    s = Scenario(row[0], row[1], row[2], row[3], json.loads(row[4]), unpack(row[5]), row[6], row[7],
                  json.loads(row[8]))
     if not (all(isinstance(v, str) for v in (s.id, s.name, s.note, s.created, s.solver_version))
             and all(isinstance(v, dict) for v in (s.inputs, s.results, s.summary))):
         raise ValueError("a part of the record has the wrong shape")
     return s
+
+
+class ListQueries:
+    """Lists, pages and searches, the same on every store: keyset pages on (created, seq), where
+    ``seq`` is the store's insertion number (``_SEQ``), ``_P`` its parameter mark, ``_match(n)``
+    its condition for n search patterns, ``_read(sql, args, one)`` its query."""
+
+    _SEQ: str
+    _P: str
+    _SHOWN = "id, name, note, created, summary"
+
+    def _match(self, n: int) -> str:
+        raise NotImplementedError
+
+    def _read(self, sql: str, args=(), one=False):
+        raise NotImplementedError
+
+    def mark_damaged(self, what: str):
+        raise NotImplementedError
+
+    def _where(self, q: str) -> tuple[str, tuple]:
+        terms = search_terms(q)
+        if not terms:
+            return "", ()
+        return f"WHERE {self._match(len(terms))}", tuple(like_pattern(t) for t in terms)
+
+    def _total(self, where: str, args: tuple) -> int:
+        return self._read(f"SELECT count(*) FROM scenarios {where}", args, one=True)[0]
+
+    def _one_listed(self, row) -> Listed:
+        try:
+            return listed(*row)
+        except (ValueError, TypeError):
+            self.mark_damaged(f"the summary of scenario {row[0]!r} in {self} is damaged")
+
+    def page(self, q: str, cursor: str | None, per_page: int) -> Page:
+        at = Cursor.decode(cursor) if cursor else None
+        where, args = self._where(q)
+        total = self._total(where, args)
+        order, p, seq = "DESC", self._P, self._SEQ
+        if at is not None:
+            op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
+            where = f"{where} {'AND' if where else 'WHERE'} (created, {seq}) {op} ({p}, {p})"
+            args = (*args, at.created, at.seq)
+        rows = self._read(f"SELECT created, {seq}, id, name, note, summary FROM scenarios {where} "
+                          f"ORDER BY created {order}, {seq} {order} LIMIT {p}", (*args, per_page + 1))
+        return page_from_rows(rows, at, per_page, total, self._one_listed)
+
+    def search(self, q: str, page: int, per_page: int) -> tuple[list[Listed], int]:
+        where, args = self._where(q)
+        rows = self._read(f"SELECT {self._SHOWN} FROM scenarios {where} ORDER BY created DESC, {self._SEQ} DESC "
+                          f"LIMIT {self._P} OFFSET {self._P}", (*args, per_page, (page - 1) * per_page))
+        return [self._one_listed(r) for r in rows], self._total(where, args)
+
+    def recent(self, n: int) -> list[Listed]:
+        rows = self._read(f"SELECT {self._SHOWN} FROM scenarios ORDER BY created DESC, {self._SEQ} DESC "
+                          f"LIMIT {self._P}", (n,))
+        return [self._one_listed(r) for r in rows]

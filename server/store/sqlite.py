@@ -23,21 +23,15 @@ from pathlib import Path
 
 from .base import (
     SCHEMA_VERSION,
-    Cursor,
-    Listed,
-    Page,
+    ListQueries,
     Scenario,
     StorageError,
     compact,
     dumps,
-    like_pattern,
-    listed,
     new_id,
     now_iso,
     pack,
-    page_from_rows,
     record,
-    search_terms,
     search_text,
     unpack,
 )
@@ -82,7 +76,7 @@ def _schema_2(conn, solver_version: str):
                        (rowid, search_text(name, note, inputs, summary)))
 
 
-class SqliteStore:
+class SqliteStore(ListQueries):
     def __init__(self, path: Path | str, check_integrity: bool = True, solver_version: str | None = None):
         self.path = Path(path)
         #: why the file is served read-only (None: writable)
@@ -99,6 +93,9 @@ class SqliteStore:
             raise StorageError(f"the folder of {self.path} cannot be created ({exc.strerror}); "
                                f"point PRESSCYCLE_DB at a writable place") from None
         self._migrate()
+
+    _SEQ = "rowid"  # insertion order: orders scenarios saved in the same millisecond
+    _P = "?"
 
     def __repr__(self):
         return f"SqliteStore({str(self.path)!r})"
@@ -285,53 +282,13 @@ class SqliteStore:
         if r is None:
             return None
         try:
-            return record(r, r[5])
+            return record(r)
         except (ValueError, TypeError):
             self.mark_damaged(f"the record of scenario {r[0]!r} in {self.path} is damaged")
 
-    def _where(self, q: str) -> tuple[str, tuple]:
-        terms = search_terms(q)
-        if not terms:
-            return "", ()
-        match = " AND ".join(["text LIKE ? ESCAPE '\\'"] * len(terms))
-        return (f"WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE {match})",
-                tuple(like_pattern(t) for t in terms))
-
-    def _total(self, where: str, args: tuple) -> int:
-        return self._read(f"SELECT count(*) FROM scenarios {where}", args, one=True)[0]
-
-    def _one_listed(self, row) -> Listed:
-        try:
-            return listed(*row)
-        except (ValueError, TypeError):
-            self.mark_damaged(f"the summary of scenario {row[0]!r} in {self.path} is damaged")
-
-    def _listed(self, rows) -> list[Listed]:
-        return [self._one_listed(r) for r in rows]
-
-    def page(self, q: str, cursor: str | None, per_page: int) -> Page:
-        at = Cursor.decode(cursor) if cursor else None
-        where, args = self._where(q)
-        order = "DESC"
-        if at is not None:
-            op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
-            where = f"{where} {'AND' if where else 'WHERE'} (created, rowid) {op} (?, ?)"
-            args = (*args, at.created, at.seq)
-        rows = self._read(f"SELECT created, rowid, id, name, note, summary FROM scenarios {where} "
-                          f"ORDER BY created {order}, rowid {order} LIMIT ?", (*args, per_page + 1))
-        return page_from_rows(rows, at, per_page, self._total(*self._where(q)), self._one_listed)
-
-    def search(self, q: str, page: int, per_page: int) -> tuple[list[Listed], int]:
-        where, args = self._where(q)
-        rows = self._read(f"SELECT id, name, note, created, summary FROM scenarios {where} "
-                          f"ORDER BY created DESC, rowid DESC LIMIT ? OFFSET ?",
-                          (*args, per_page, (page - 1) * per_page))
-        return self._listed(rows), self._total(where, args)
-
-    def recent(self, n: int) -> list[Listed]:
-        rows = self._read("SELECT id, name, note, created, summary FROM scenarios ORDER BY created DESC, rowid DESC "
-                          "LIMIT ?", (n,))
-        return self._listed(rows)
+    def _match(self, n: int) -> str:
+        return ("rowid IN (SELECT rowid FROM scenarios_search WHERE "
+                + " AND ".join(["text LIKE ? ESCAPE '\\'"] * n) + ")")
 
 
 def _kind(exc: sqlite3.DatabaseError) -> str:
