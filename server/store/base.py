@@ -241,6 +241,10 @@ class ListQueries:
     def _total(self, where: str, args: tuple) -> int:
         return self._read(f"SELECT count(*) FROM scenarios {where}", args, one=True)[0]
 
+    def _source(self, where: str, total: int) -> tuple[str, str]:
+        """The table (with any plan hint) and the condition of a list query that finds ``total`` rows."""
+        return "scenarios", where
+
     def _one_listed(self, row) -> Listed:
         try:
             return listed(*row)
@@ -251,20 +255,23 @@ class ListQueries:
         at = Cursor.decode(cursor) if cursor else None
         where, args = self._where(q)
         total = self._total(where, args)
+        source, where = self._source(where, total)
         order, p, seq = "DESC", self._P, self._SEQ
         if at is not None:
             op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
             where = f"{where} {'AND' if where else 'WHERE'} (created, {seq}) {op} ({p}, {p})"
             args = (*args, at.created, at.seq)
-        rows = self._read(f"SELECT created, {seq}, id, name, note, summary FROM scenarios {where} "
+        rows = self._read(f"SELECT created, {seq}, id, name, note, summary FROM {source} {where} "
                           f"ORDER BY created {order}, {seq} {order} LIMIT {p}", (*args, per_page + 1))
         return page_from_rows(rows, at, per_page, total, self._one_listed)
 
     def search(self, q: str, page: int, per_page: int) -> tuple[list[Listed], int]:
         where, args = self._where(q)
-        rows = self._read(f"SELECT {self._SHOWN} FROM scenarios {where} ORDER BY created DESC, {self._SEQ} DESC "
+        total = self._total(where, args)
+        source, where = self._source(where, total)
+        rows = self._read(f"SELECT {self._SHOWN} FROM {source} {where} ORDER BY created DESC, {self._SEQ} DESC "
                           f"LIMIT {self._P} OFFSET {self._P}", (*args, per_page, (page - 1) * per_page))
-        return [self._one_listed(r) for r in rows], self._total(where, args)
+        return [self._one_listed(r) for r in rows], total
 
     def recent(self, n: int) -> list[Listed]:
         rows = self._read(f"SELECT {self._SHOWN} FROM scenarios ORDER BY created DESC, {self._SEQ} DESC "

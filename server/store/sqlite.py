@@ -28,10 +28,12 @@ from .base import (
     StorageError,
     compact,
     dumps,
+    like_pattern,
     new_id,
     now_iso,
     pack,
     record,
+    search_terms,
     search_text,
     unpack,
 )
@@ -94,6 +96,8 @@ class SqliteStore(ListQueries):
                                f"point PRESSCYCLE_DB at a writable place") from None
         self._migrate()
 
+    #: searches with more matches than this walk the newest-first index (see _source)
+    walk_above = 1000
     _SEQ = "rowid"  # insertion order: orders scenarios saved in the same millisecond
     _P = "?"
 
@@ -286,9 +290,31 @@ class SqliteStore(ListQueries):
         except (ValueError, TypeError):
             self.mark_damaged(f"the record of scenario {r[0]!r} in {self.path} is damaged")
 
-    def _match(self, n: int) -> str:
-        return ("rowid IN (SELECT rowid FROM scenarios_search WHERE "
-                + " AND ".join(["text LIKE ? ESCAPE '\\'"] * n) + ")")
+    def _where(self, q: str) -> tuple[str, tuple]:
+        """A search through the trigram index: the text as a phrase (any substring of three
+        characters or more, ``%`` and ``_`` literal); shorter text by LIKE over the search table."""
+        terms = search_terms(q)
+        if not terms:
+            return "", ()
+        term = terms[0]
+        if len(term) >= 3:
+            return ("WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE scenarios_search MATCH ?)",
+                    ('"' + term.replace('"', '""') + '"',))
+        return ("WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE text LIKE ? ESCAPE '\\')",
+                (like_pattern(term),))
+
+    def _total(self, where: str, args: tuple) -> int:
+        if where:  # the search table alone: no row of scenarios is read
+            inner = where.removeprefix("WHERE rowid IN (").removesuffix(")").replace("SELECT rowid", "SELECT count(*)")
+            return self._read(inner, args, one=True)[0]
+        return super()._total(where, args)
+
+    def _source(self, where: str, total: int) -> tuple[str, str]:
+        # Many matches: walk the newest-first index and stop after a page (matches come every
+        # few rows). Few: look the matches up and sort them. The crossing is near 1,000 at 100,000.
+        if where and total > self.walk_above:
+            return "scenarios INDEXED BY scenarios_created", where.replace("WHERE rowid IN", "WHERE +rowid IN")
+        return "scenarios", where
 
 
 def _kind(exc: sqlite3.DatabaseError) -> str:
