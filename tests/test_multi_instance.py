@@ -19,6 +19,8 @@ SAVES = 400
 
 def test_saves_survive_an_instance_killed_mid_load(pg_url, tmp_path):
     servers = [LiveServer(pg_url, log_dir=tmp_path).start(timeout=60), LiveServer(pg_url, log_dir=tmp_path).start(timeout=60)]
+    # one client per instance (keep-alive; the same port after the restart)
+    clients = [httpx.Client(base_url=s.url, timeout=30) for s in servers]
     acknowledged, lost_in_flight, lock = {}, [], threading.Lock()
     killed, restarted = threading.Event(), threading.Event()
 
@@ -28,7 +30,7 @@ def test_saves_survive_an_instance_killed_mid_load(pg_url, tmp_path):
         for _ in range(200):  # a refused connection sent nothing: try again (the instance restarts)
             was_restarted = restarted.is_set()
             try:
-                r = httpx.post(f"{servers[target].url}/api/v1/scenarios", json=body, timeout=30)
+                r = clients[target].post("/api/v1/scenarios", json=body)
             except httpx.ConnectError:
                 threading.Event().wait(0.1)
                 continue
@@ -75,5 +77,7 @@ def test_saves_survive_an_instance_killed_mid_load(pg_url, tmp_path):
         assert stored <= {f"save {k}" for k in range(SAVES)} and total == len(stored)
     finally:
         chaos.join(90)
+        for c in clients:
+            c.close()
         for s in servers:
             s.stop()
