@@ -5,7 +5,6 @@ the API points straight at the input. Alternatives (mass fraction or concentrati
 are choices: only the chosen alternative's fields are sent.
 """
 
-import re
 from dataclasses import dataclass, field
 
 UNIT_CHOICES = {
@@ -40,6 +39,11 @@ class FormField:
     kind: str
     hint: str
     optional: bool = False
+
+    @property
+    def full_label(self) -> str:
+        """The label on its own, for tables and messages ("Standard error of α", not "… its standard error")."""
+        return FULL_LABELS.get(self.path, self.label)
 
     @property
     def id(self) -> str:
@@ -79,8 +83,12 @@ GROUPS = [
                                                  "by mass; typically 1–60 %")]),
             ("concentration", "per slurry volume", [FormField("slurry.solids_concentration", "Solids per slurry volume",
                                                        "concentration", "dry solids per m³ of slurry; typically 10–800 kg/m³")]),
+            ("per_liquid", "per liquid volume", [FormField("slurry.solids_per_liquid", "Solids per liquid volume",
+                                                   "concentration", "dry solids per m³ (or g per L) of slurry liquid")]),
         ]),
-        FormField("slurry.solids_density", "Solids density", "density", "minerals 2000–5000 kg/m³, organics 1000–1600"),
+        FormField("slurry.solids_density", "Solids density", "density",
+          "minerals 2000–5000 kg/m³, organics 1000–1600; blank when the cake's dry bulk density and "
+          "moisture are given (they fix it)", optional=True),
         FormField("slurry.liquid_density", "Filtrate density", "density",
           "blank: water at the temperature, or 998 kg/m³", optional=True),
         Choice("slurry.viscosity_basis", "Filtrate viscosity from", [
@@ -104,6 +112,13 @@ GROUPS = [
             ("wet_to_dry_ratio", "wet-to-dry ratio", [FormField("cake.wet_to_dry_ratio", "Wet / dry cake mass", "ratio",
                                                         "typically 1.1–5; about 2 for fine minerals")]),
             ("porosity", "porosity", [FormField("cake.porosity", "Cake porosity", "fraction", "void fraction; typically 30–80 %")]),
+            ("bulk_density", "dry bulk density", [FormField("cake.dry_bulk_density", "Cake dry bulk density", "density",
+                                                     "dry solids per cake volume; needs the solids density")]),
+            ("bulk_moisture", "dry bulk density and moisture", [
+                FormField("cake.dry_bulk_density", "Cake dry bulk density", "density",
+                          "dry solids per cake volume; with the moisture it fixes the solids density"),
+                FormField("cake.moisture", "Cake moisture", "fraction", "liquid / wet cake mass; typically 8–80 %"),
+            ]),
         ]),
     ]),
     Group("cloth", "Cloth", [
@@ -178,9 +193,6 @@ GROUPS = [
     ]),
 ]
 
-_NUM_UNIT = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
-
-
 def split_quantity(value, kind: str) -> tuple[str, str]:
     """A stored input ("58 %", 0.18, "7 bar") as (number text, unit choice) for the form."""
     choices = [u for _, u in UNIT_CHOICES.get(kind, [("", "")])]
@@ -191,10 +203,14 @@ def split_quantity(value, kind: str) -> tuple[str, str]:
         if bare is not None and bare in choices:
             return repr(value) if isinstance(value, float) else str(value), bare
         return _si_to_choice(float(value), kind, choices)
-    m = _NUM_UNIT.match(str(value))
-    if not m:
-        return str(value), choices[0]
-    number, unit = m.group(1), m.group(2)
+    from .units import UnitError, split_number
+
+    text = str(value).strip()
+    try:
+        unit = split_number(text)[1]
+    except UnitError:
+        return text, choices[0]
+    number = text[: len(text) - len(unit)].strip() if unit else text
     normal = unit.replace("**", "^").replace(" ", "")
     for u in choices:
         if u.replace(" ", "") == normal:
@@ -247,13 +263,17 @@ def prefill(inputs: dict) -> dict:
     for group in GROUPS:
         for item in group.items:
             if isinstance(item, Choice):
-                picked = item.options[0][0]
+                picked, most = item.options[0][0], 0
                 for value, _, fields in item.options:
                     if item.sent:
                         if _get(inputs, item.name) == value:
                             picked = value
-                    elif any(_get(inputs, f.path) is not None for f in fields):
-                        picked = value
+                        continue
+                    # the option that holds most of the given fields ("dry bulk density and
+                    # moisture" over "moisture" when both are given; the first on a tie)
+                    present = sum(_get(inputs, f.path) is not None for f in fields)
+                    if present > most:
+                        picked, most = value, present
                 choices[item.name] = picked
                 for value, _, fields in item.options:
                     for f in fields:
@@ -322,9 +342,23 @@ def _num(value, kind: str) -> str:
 _SI = {"flow": "m^3/s", "pressure": "Pa", "time": "s", "length": "m"}
 
 
+#: Labels that read on their own where the form's "… measured at" leans on the field above.
+FULL_LABELS = {
+    "cake.resistance_stderr": "Standard error of α",
+    "cake.reference_pressure": "Pressure at which α was measured",
+    "medium_resistance_stderr": "Standard error of R_m",
+    "cycle.wash_basis": "Wash ratio counted per",
+    "cycle.end.flow": "End at a filtrate flow below",
+    "cycle.end.flow_per_area": "End at a flow per filter area below",
+    "cycle.end.flow_fraction": "End at a share of the initial flow below",
+    "target.hours_per_day": "Press running hours per day",
+}
+#: Bare numbers of these inputs are in a unit the field's kind does not say.
+BARE_UNITS = {"target.hours_per_day": "h"}
+
 #: The label people see for each input path (for messages about a field, such as input_warnings).
 LABELS = {}
 for _group in GROUPS:
     for _item in _group.items:
         for _field in ([f for _, _, fields in _item.options for f in fields] if isinstance(_item, Choice) else [_item]):
-            LABELS.setdefault(_field.path, _field.label)
+            LABELS.setdefault(_field.path, _field.full_label)

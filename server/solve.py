@@ -44,6 +44,8 @@ API_PATHS = {
     "balance.solids_mass_fraction": ("slurry", "solids_mass_fraction"),
     "balance.solids_concentration": ("slurry", "solids_concentration"),
     "balance.solids_density": ("slurry", "solids_density"),
+    "balance.solids_per_liquid": ("slurry", "solids_per_liquid"),
+    "balance.dry_bulk_density": ("cake", "dry_bulk_density"),
     "balance.liquid_density": ("slurry", "liquid_density"),
     "balance.moisture": ("cake", "moisture"),
     "balance.wet_to_dry_ratio": ("cake", "wet_to_dry_ratio"),
@@ -73,7 +75,7 @@ def solver_errors():
     try:
         yield
     except solver.SolverInputError as exc:
-        raise InputError([(api_path(exc.parameter), exc.message)]) from None
+        raise InputError([(api_path(p), exc.message) for p in exc.parameters]) from None
 
 
 CAUTIONS = [
@@ -91,7 +93,8 @@ RESULT_UNITS = {
     "chamber_thickness": "m", "c": "kg/m^3", "cake_volume_ratio": "1", "porosity": "1",
     "wet_to_dry_ratio": "1", "moisture": "1", "solids_mass_fraction": "1",
     "liquid_density": "kg/m^3", "viscosity": "Pa*s", "resistance_at_feed": "m/kg",
-    "filter_area": "m^2", "chamber_volume": "m^3", "chambers_full_volume": "m^3",
+    "filter_area": "m^2", "chamber_volume": "m^3", "chamber_volume_each": "m^3",
+    "solids_density": "kg/m^3", "dry_bulk_density": "kg/m^3", "chambers_full_volume": "m^3",
     "cake_constant": "s/m^6", "medium_constant": "s/m^3", "matched_chamber_thickness": "m",
     "throughput_gain_unconstrained": "1", "throughput_ratio_to_best": "1", "time": "s",
     "pressure": "Pa", "flow": "m^3/s", "required": "kg/s or m^3/s", "achieved": "kg/s or m^3/s",
@@ -129,9 +132,14 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
     with inputs_of("balance"):
         bal = sb.balance(
             liquid_density=rho_l, solids_density=s.solids_density, solids_mass_fraction=s.solids_mass_fraction,
-            solids_concentration=s.solids_concentration, moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio,
-            porosity=k.porosity,
+            solids_concentration=s.solids_concentration, solids_per_liquid=s.solids_per_liquid,
+            moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio, porosity=k.porosity,
+            dry_bulk_density=k.dry_bulk_density,
         )
+        if bal.solids_density is None:
+            raise solver.SolverInputError(
+                "solids_density", "give the solids density (or the cake's dry bulk density with its moisture or "
+                "wet-to-dry ratio, which fixes it): the cake's volume depends on it")
     with inputs_of("press"):
         press = inputs.press.to_solver()
     with inputs_of("feed"):
@@ -152,9 +160,11 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
         "feed_mode": feed.mode, "c": bal.solids_per_filtrate, "cake_volume_ratio": bal.cake_volume_ratio,
         "porosity": bal.porosity, "wet_to_dry_ratio": bal.wet_to_dry_ratio,
         "moisture": bal.moisture, "solids_mass_fraction": bal.solids_mass_fraction,
-        "liquid_density": rho_l, "viscosity": mu,
+        "liquid_density": rho_l, "viscosity": mu, "solids_density": bal.solids_density,
+        "dry_bulk_density": (1.0 - bal.porosity) * bal.solids_density,
         "resistance_at_feed": filtration.specific_resistance(feed.pressure_cap),
         "filter_area": press.filter_area, "chamber_volume": press.chamber_volume,
+        "chamber_volume_each": press.chamber_volume / inputs.press.chambers if inputs.press.chambers else None,
     }
     return BuiltSystem(solver.PressSystem(filtration, press, feed, settings), end, derived)
 

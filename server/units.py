@@ -44,7 +44,11 @@ KINDS = {
     ]
 }
 
-_NUMBER = re.compile(r"^\s*([-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(.*?)\s*$")
+_SPACES = " \u00a0\u2009\u202f"  # space, no-break space, thin space, narrow no-break space
+_MANTISSA = re.compile(r"^([-+]?)((?:\d|[.,]\d)[\d.,'\u2019" + _SPACES + r"]*)")
+_EXPONENT = re.compile(r"^[eE][-+]?\d+")
+_GROUP = re.compile(r"^\d{3}(?:[.,]\d*)?$")
+_SPACED_GROUP = re.compile("[" + _SPACES + "]+([^" + _SPACES + "]+)")
 _REPLACEMENTS = [
     ("·", "*"), ("⋅", "*"), ("×", "*"), ("²", "^2"), ("³", "^3"), ("⁻¹", "^-1"),
     ("µ", "u"), ("μ", "u"), ("°C", "degC"), ("°F", "degF"), ("℃", "degC"), ("wt%", "%"),
@@ -56,6 +60,85 @@ MAX_LENGTH = 64
 
 class UnitError(ValueError):
     """A quantity string that cannot be read, or is of the wrong dimension."""
+
+
+class AmbiguousNumber(UnitError):
+    """A number that reads two ways ("19,000": nineteen thousand, or 19 with a decimal comma)."""
+
+
+def split_number(text: str) -> tuple[float, str]:
+    """The number at the start of ``text`` as engineers write it, and the rest (the unit).
+
+    Accepted: a decimal point or a decimal comma; digits grouped by spaces (also no-break and
+    thin spaces), apostrophes, or by the separator that is not the decimal one ("19,000.5",
+    "19.000,5"); an exponent ("1.2e11", "1,2E11"). A single dot is always a decimal point (as
+    the API has always read it). A single comma followed by exactly three digits ("19,000") is
+    refused as ambiguous (``AmbiguousNumber``): the tool never guesses which was meant.
+    """
+    s = text.strip()
+    m = _MANTISSA.match(s)
+    if not m:
+        raise UnitError(f"could not read a number in {text!r}")
+    sign, candidate = m.group(1), m.group(2)
+    # space-grouped digits: each group after a space is three digits (the last may carry the
+    # decimals); anything else after a space is the unit ("5 1/m" is 5 in 1/m)
+    first = re.match("[^" + _SPACES + "]+", candidate)
+    taken, pos = [first.group(0)], first.end()
+    while re.fullmatch(r"\d{1,3}", taken[0].replace("'", "").replace("\u2019", "")) and "," not in taken[-1] \
+            and "." not in taken[-1]:
+        group = _SPACED_GROUP.match(candidate, pos)
+        if group is None or _GROUP.match(group.group(1)) is None:
+            break
+        taken.append(group.group(1))
+        pos = group.end()
+    spaced = len(taken) > 1
+    mantissa = "".join(taken)
+    rest = s[m.start(2) + pos:]
+    # a trailing separator belongs to nothing ("5." reads as 5.; "5," is refused below)
+    exponent = _EXPONENT.match(rest)
+    if exponent:
+        rest = rest[exponent.end():]
+    digits = _plain_digits(mantissa, spaced, text)
+    number = float(sign + digits + (exponent.group(0) if exponent else ""))
+    return number, rest.strip()
+
+
+def _plain_digits(mantissa: str, grouped: bool, text: str) -> str:
+    """``mantissa`` ("19 000,5" with the spaces removed: "19000,5") as "19000.5"."""
+    apostrophes = "'" in mantissa or "\u2019" in mantissa
+    body = mantissa.replace("'", "").replace("\u2019", "")
+    grouped = grouped or apostrophes
+    dots, commas = body.count("."), body.count(",")
+    if dots and commas:
+        decimal = "." if body.rfind(".") > body.rfind(",") else ","
+        group = "," if decimal == "." else "."
+        if body.count(decimal) > 1 or grouped:
+            raise UnitError(f"could not read the number in {text!r}")
+    elif dots > 1 or commas > 1:
+        decimal, group = None, "." if dots else ","
+        if grouped:
+            raise UnitError(f"could not read the number in {text!r}")
+    elif commas == 1:
+        head, tail = body.split(",")
+        if not grouped and re.fullmatch(r"[1-9]\d{0,2}", head) and re.fullmatch(r"\d{3}", tail):
+            raise AmbiguousNumber(
+                f"{text.strip()!r} reads two ways: {head} {tail} or {head}.{tail}; "
+                f"write {head}{tail} (or {head} {tail}) or {head}.{tail}"
+            )
+        decimal, group = ",", None
+    else:
+        decimal, group = ".", None
+    if group:
+        whole, _, fraction = body.partition(decimal) if decimal else (body, "", "")
+        groups = whole.split(group)
+        if not (re.fullmatch(r"\d{1,3}", groups[0]) and all(re.fullmatch(r"\d{3}", g) for g in groups[1:])):
+            raise UnitError(f"could not read the number in {text!r}: digits are grouped in threes")
+        body = "".join(groups) + ("." + fraction if decimal else "")
+    elif decimal == ",":
+        body = body.replace(",", ".")
+    if not re.fullmatch(r"\d*\.?\d*", body) or not re.search(r"\d", body) or body.endswith(",") :
+        raise UnitError(f"could not read the number in {text!r}")
+    return body
 
 
 @lru_cache(maxsize=1)
@@ -108,10 +191,13 @@ def _parse_text(value: str, kind: str) -> float:
     """A "<number> <unit>" string -> SI float (see parse_quantity); errors are not cached."""
     if len(value) > MAX_LENGTH:
         raise UnitError(f"a quantity is at most {MAX_LENGTH} characters")
-    match = _NUMBER.match(value)
-    if not match:
-        raise UnitError(f"could not read {value!r}: write a number and a unit, such as {example(kind)}")
-    number, unit = float(match.group(1)), _normalise(match.group(2)) or None
+    try:
+        number, unit = split_number(value)
+    except AmbiguousNumber:
+        raise
+    except UnitError as exc:
+        raise UnitError(f"{exc}: write a number and a unit, such as {example(kind)}") from None
+    unit = _normalise(unit) or None
     if not math.isfinite(number):
         raise UnitError("must be a finite number")
     k = KINDS[kind]

@@ -43,8 +43,21 @@ def page_json(value) -> Markup:
     return Markup(text)
 
 
+def when(iso: str) -> Markup:
+    """A stored UTC timestamp as a readable ``<time>``: "2026-12-02 01:23 UTC" as served, turned
+    into the reader's local time by static/js/dates.js."""
+    from datetime import datetime
+
+    try:
+        t = datetime.fromisoformat(iso)
+    except (TypeError, ValueError):
+        return Markup("<time>{}</time>").format(iso)
+    return Markup('<time datetime="{}" data-local>{} UTC</time>').format(iso, t.strftime("%Y-%m-%d %H:%M"))
+
+
 def register_filters(env, static_root) -> None:
     env.filters["fmt"] = fmt
+    env.filters["when"] = when
     env.filters["page_json"] = page_json
     env.globals["static_url"] = StaticUrls(static_root)
     env.globals["plotly_url"] = plotly_url

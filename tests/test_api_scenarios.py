@@ -142,8 +142,20 @@ def test_curves_download_as_csv(client):
     created = save(client)
     r = client.get(f"/s/{created['id']}/curves.csv")
     lines = r.text.splitlines()
-    assert lines[0].startswith("time [s],filtrate_volume [m^3]")
+    assert lines[0] == ("Time [min],Filtrate volume [m³],Pressure [bar],Filtrate flow [m³/h],"
+                        "Cake thickness per face [mm]")
     assert len(lines) == 242
+    stored = client.get(f"/api/v1/scenarios/{created['id']}").json()["results"]["curves"]
+    last = [float(x) for x in lines[-1].split(",")]
+    # display units by exact definitions (NIST SP 811, appendix B): 1 min = 60 s, 1 bar = 1e5 Pa
+    assert last[0] == pytest.approx(stored["time"][-1] / 60.0, rel=5e-6)
+    assert last[2] == pytest.approx(stored["pressure"][-1] / 1e5, rel=5e-6)
+    assert last[3] == pytest.approx(stored["flow"][-1] * 3600.0, rel=5e-6)
+    assert all(len(cell.replace("-", "").replace(".", "").split("e")[0].lstrip("0")) <= 6 for cell in lines[-1].split(","))
+    us = client.get(f"/s/{created['id']}/curves.csv?units=us").text.splitlines()
+    assert us[0].startswith("Time [min],Filtrate volume [ft³],Pressure [psi],Filtrate flow [US gpm]")
+    # 1 psi = 6894.757293168 Pa (NIST SP 811, appendix B)
+    assert float(us[-1].split(",")[2]) == pytest.approx(stored["pressure"][-1] / 6894.757293168, rel=5e-6)
 
 
 def test_compare_view_highlights_differing_inputs(client):
@@ -152,7 +164,10 @@ def test_compare_view_highlights_differing_inputs(client):
     changed["press"]["chamber_thickness"] = "60 mm"
     b = save(client, name="60 mm", inputs=changed)
     html = client.get(f"/compare?ids={a['id']},{b['id']}").text
-    assert 'class="differs"><th scope="row">press.chamber_thickness' in html
+    # inputs in the editor's words and units, not API keys and JSON (issue 10)
+    assert 'class="differs"><th scope="row">Chamber thickness</th><td class="text">40 mm</td><td class="text">60 mm' in html
+    assert "press.chamber_thickness" not in html and "plate_face_area" not in html and "constant_pressure" not in html
+    assert "30 mm, 40 mm, 50 mm, 60 mm" in html and '["' not in html
     assert client.get(f"/compare?ids={a['id']}").status_code == 400
     assert client.get(f"/compare?ids={a['id']},nope").status_code == 404
 

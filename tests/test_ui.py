@@ -63,3 +63,32 @@ def test_lab_fit_update_refuses_bad_readings_at_the_test(client):
     r = client.post("/ui/lab-fit", json={"tests": [bad]})
     assert r.status_code == 422
     assert r.json()["detail"][0]["field"].startswith("tests.0")
+
+
+def _pane(client, body) -> str:
+    r = client.post("/ui/results?units=si", json=body)
+    assert r.status_code == 200, r.text
+    return r.json()["html"]
+
+
+def test_pane_states_chamber_volume_area_convention_and_daily_basis(client):
+    import json
+    from pathlib import Path
+
+    body = json.loads((Path(__file__).resolve().parents[1] / "demo_cases" / "copper_concentrate.json").read_text())["inputs"]
+    html = _pane(client, body)  # 60 chambers, 1.9 m^2 per face, 40 mm: 4.56 m^3 in all, 76 L each
+    assert "Filter area <span class=\"muted\">(both faces of every chamber)</span>" in html
+    assert "4.56 m³; 76.0 L" in html
+    assert "Dry solids per day (24 h running)" in html
+    assert "running 22.0 h a day\n    (averaged over the calendar day; the figures above count 24 h of running)" in html
+
+
+def test_a_range_too_narrow_to_show_says_so(client):
+    import json
+    from pathlib import Path
+
+    body = json.loads((Path(__file__).resolve().parents[1] / "demo_cases" / "copper_concentrate.json").read_text())["inputs"]
+    body["cake"]["resistance_stderr"] = "1e3 m/kg"  # a billionth of alpha: no visible spread
+    html = _pane(client, body)
+    assert "the standard errors move it by less than the last digit shown" in html
+    assert " to " not in html.split('data-testid="uncertainty"')[1].split("</p>")[0].split("filtration time of")[0]

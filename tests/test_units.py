@@ -80,3 +80,57 @@ def test_bare_numbers_are_si_except_temperature_in_celsius():
 def test_bad_quantities_get_plain_messages(value, kind, fragment):
     with pytest.raises(UnitError, match=fragment):
         parse_quantity(value, kind)
+
+
+# --- numbers as engineers type them (issue 10) -------------------------------------------
+# The separators are the usual written conventions (common practice, no source): a decimal
+# point or comma; digits grouped in threes by spaces, thin or no-break spaces, apostrophes,
+# or by the separator that is not the decimal one.
+ACCEPTED = [
+    ("1.5", 1.5, ""), ("1,5", 1.5, ""), (".5", 0.5, ""), (",5", 0.5, ""), ("-3,5 degC", -3.5, "degC"),
+    ("+2e-3", 0.002, ""), ("1.2e11", 1.2e11, ""), ("1,2E11 m/kg", 1.2e11, "m/kg"),
+    ("19 000", 19000.0, ""), ("19\u2009000 cm^2", 19000.0, "cm^2"), ("19\u202f000", 19000.0, ""),
+    ("19\u00a0000", 19000.0, ""), ("19'000", 19000.0, ""), ("1 500 000,25 Pa", 1500000.25, "Pa"),
+    ("19 000.5 m", 19000.5, "m"), ("1 500,5", 1500.5, ""),
+    ("19.000,5", 19000.5, ""), ("19,000.5", 19000.5, ""), ("1.500.000", 1.5e6, ""), ("1,500,000", 1.5e6, ""),
+    ("1.234.567,89", 1234567.89, ""),
+    ("19.000", 19.0, ""),  # a single dot is always the decimal point, as the API has always read it
+    ("0,500", 0.5, ""),  # "0,500" cannot be grouping (a leading zero group): decimal comma
+    ("1,50", 1.5, ""), ("1,5000", 1.5, ""),
+    ("5 1/m", 5.0, "1/m"), ("2 000 1/m", 2000.0, "1/m"), ("1e10 1/m", 1e10, "1/m"), ("2 atm", 2.0, "atm"),
+    ("12 %", 12.0, "%"), ("12%", 12.0, "%"),
+]
+AMBIGUOUS = ["19,000", "1,500", "999,999 Pa", "1,000e3", "-19,000"]
+REFUSED = ["abc", "", "25,32,40", "1,5,5", "1.5.5", "1 000,000.5", "1.000,000,5", "19'000,000.5"]
+
+
+@pytest.mark.parametrize("text, number, unit", ACCEPTED)
+def test_split_number_reads_what_engineers_type(text, number, unit):
+    from server.units import split_number
+
+    got, rest = split_number(text)
+    assert got == pytest.approx(number, rel=1e-15) and rest == unit
+
+
+@pytest.mark.parametrize("text", AMBIGUOUS)
+def test_split_number_asks_when_a_comma_reads_two_ways(text):
+    from server.units import AmbiguousNumber, split_number
+
+    with pytest.raises(AmbiguousNumber) as err:
+        split_number(text)
+    head, tail = text.strip("-").split(" ")[0].split("e")[0].split(",")
+    assert f"{head} {tail} or {head}.{tail}" in str(err.value)
+
+
+@pytest.mark.parametrize("text", REFUSED)
+def test_numbers_it_cannot_read_are_refused(text):
+    with pytest.raises(UnitError):
+        parse_quantity(f"{text} mm", "length")
+
+
+def test_typed_numbers_reach_si_through_parse_quantity():
+    assert parse_quantity("19 000 cm^2", "area") == pytest.approx(1.9)
+    assert parse_quantity("1,2E11 m/kg", "specific_resistance") == pytest.approx(1.2e11)
+    assert parse_quantity("0,58 %", "fraction") == pytest.approx(0.0058)
+    with pytest.raises(UnitError, match="reads two ways"):
+        parse_quantity("19,000 cm^2", "area")

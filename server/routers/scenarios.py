@@ -14,6 +14,7 @@ from ..budget import within_budget
 from ..charts import compact, overlay
 from ..display import Units, UnitSystem
 from ..errors import InputError
+from ..inputs_table import compare_rows, input_rows
 from ..scenarios import Redrawn, redraw, save
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
@@ -172,21 +173,29 @@ def scenario_json(request: Request, sid: str):
     return JSONResponse(_out(request, s), headers={"content-disposition": f'inline; filename="presscycle-{sid}.json"'})
 
 
+#: The best cycle's filtration curves in the CSV: (heading, stored key, display quantity).
+CURVE_COLUMNS = [("Time", "time", "time"), ("Filtrate volume", "filtrate_volume", "volume"),
+                 ("Pressure", "pressure", "pressure"), ("Filtrate flow", "flow", "flow"),
+                 ("Cake thickness per face", "cake_thickness", "thickness")]
+
+
 @pages.get("/s/{sid}/curves.csv")
-def scenario_csv(request: Request, sid: str):
+def scenario_csv(request: Request, sid: str, units: UnitSystem = "si"):
+    """The best cycle's filtration curves in the display units chosen, 6 significant figures."""
     s = _get_or_404(request, sid)
     drawn = _redrawn(request, s)
     if drawn.series_from is None:
         raise HTTPException(409, "this solver version refuses the inputs of this scenario, and its curves are "
                                  "recomputed from them: open the scenario to see why")
     c = drawn.results["curves"]
+    u = Units(units)
     buf = io.StringIO()
     w = csv.writer(buf)
-    w.writerow(["time [s]", "filtrate_volume [m^3]", "pressure [Pa]", "flow [m^3/s]", "cake_thickness [m]"])
-    for row in zip(c["time"], c["filtrate_volume"], c["pressure"], c["flow"], c["cake_thickness"]):
-        w.writerow([repr(float(x)) for x in row])
-    return Response(buf.getvalue(), media_type="text/csv",
-                    headers={"content-disposition": f'attachment; filename="presscycle-{sid}-curves.csv"'})
+    w.writerow([f"{head} [{u.label(q)}]" for head, _, q in CURVE_COLUMNS])
+    for row in zip(*(u(q, c[key]) for _, key, q in CURVE_COLUMNS), strict=True):
+        w.writerow([f"{float(x):.6g}" for x in row])
+    return Response(buf.getvalue(), media_type="text/csv; charset=utf-8",
+                    headers={"content-disposition": f'attachment; filename="presscycle-{sid}-curves-{units}.csv"'})
 
 
 @pages.get("/s/{sid}", response_class=HTMLResponse)
@@ -206,6 +215,7 @@ def scenario_page(request: Request, sid: str, units: UnitSystem = "si"):
         "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
         "figures": figures, "changed": drawn.changed, "series_from": drawn.series_from,
         "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
+        "input_rows": input_rows(s.inputs),
     })
 
 
@@ -273,18 +283,5 @@ def _drawable(request: Request, scenarios: list[Scenario]) -> list[tuple[str, di
     return out
 
 
-def _flatten(d, prefix=""):
-    out = {}
-    for k, v in d.items():
-        key = f"{prefix}.{k}" if prefix else k
-        if isinstance(v, dict):
-            out.update(_flatten(v, key))
-        else:
-            out[key] = json.dumps(v, ensure_ascii=False) if isinstance(v, list) else str(v)
-    return out
-
-
 def _input_rows(scenarios):
-    flat = [_flatten(s.inputs) for s in scenarios]
-    keys = sorted({k for f in flat for k in f})
-    return [(k, [f.get(k, "–") for f in flat], len({f.get(k, "–") for f in flat}) > 1) for k in keys]
+    return compare_rows([s.inputs for s in scenarios])

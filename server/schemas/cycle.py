@@ -36,7 +36,13 @@ class SlurryIn(Strict):
     solids_concentration: quantity(
         "density", ge=1e-3, le=5000.0, description="Dry solids per volume of slurry"
     ) | None = None
-    solids_density: Density = Field(description="Density of the dry solids [kg/m³]")
+    solids_per_liquid: quantity(
+        "density", ge=1e-3, le=25000.0, description="Dry solids per volume of slurry liquid (e.g. g of solids per L of water)"
+    ) | None = None
+    solids_density: Density | None = Field(
+        None, description="Density of the dry solids [kg/m³]; may be left out when the cake is given by its dry "
+                          "bulk density with its moisture or wet-to-dry ratio (a saturated cake then fixes it)"
+    )
     liquid_density: Density | None = Field(
         None, description="Filtrate density [kg/m³]; default water at the temperature, or 998 kg/m³"
     )
@@ -47,7 +53,7 @@ class SlurryIn(Strict):
 
     @model_validator(mode="after")
     def _alternatives(self):
-        exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
+        exactly_one(self, ("solids_mass_fraction", "solids_concentration", "solids_per_liquid"))
         exactly_one(self, ("viscosity", "temperature"))
         return self
 
@@ -72,10 +78,17 @@ class CakeIn(Strict):
         "fraction", gt=1.0, le=100.0, description="Wet cake mass / dry cake mass"
     ) | None = None
     porosity: Fraction01 | None = Field(None, description="Cake void fraction [-]")
+    dry_bulk_density: quantity(
+        "density", ge=1.0, le=25000.0, description="Dry solids mass per cake volume; alone (with the solids "
+        "density), or with moisture or wet_to_dry_ratio (then the solids density may be left out)"
+    ) | None = None
 
     @model_validator(mode="after")
     def _alternatives(self):
-        exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
+        if self.dry_bulk_density is not None and self.porosity is None:
+            exactly_one(self, ("moisture", "wet_to_dry_ratio"), required=False)
+        else:
+            exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity", "dry_bulk_density"))
         if self.compressibility > 0.0 and self.reference_pressure is None:
             raise ValueError(
                 "give reference_pressure: with compressibility above 0 the resistance "
@@ -283,7 +296,11 @@ class DerivedOut(BaseModel):
     viscosity: float = Field(description="Filtrate viscosity [Pa·s]")
     resistance_at_feed: float = Field(description="Specific cake resistance at the feed pressure [m/kg]")
     filter_area: float = Field(description="[m²]")
-    chamber_volume: float = Field(description="Total chamber volume A L / 2 [m³]")
+    chamber_volume: float = Field(description="Total chamber volume A L / 2 [m³] (A counts both faces of every chamber)")
+    chamber_volume_each: float | None = Field(
+        None, description="Volume of one chamber [m³]; null when the press is given by its total filter area")
+    solids_density: float = Field(description="Solids density, as given or fixed by the cake [kg/m³]")
+    dry_bulk_density: float = Field(description="Cake dry bulk density, dry solids per cake volume [kg/m³]")
     chambers_full_volume: float = Field(description="Filtrate volume when the chambers are full [m³]")
     cake_constant: float | None = Field(description="K_p in t = K_p V²/2 + B V [s/m⁶]")
     medium_constant: float | None = Field(description="B in t = K_p V²/2 + B V [s/m³]")

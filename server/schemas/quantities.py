@@ -9,7 +9,7 @@ from typing import Annotated
 
 from pydantic import BeforeValidator, WithJsonSchema
 
-from ..units import _NUMBER, KINDS, MAX_LENGTH, UnitError, example, parse_quantity
+from ..units import KINDS, MAX_LENGTH, UnitError, example, parse_quantity, split_number
 
 
 def _number(value: float, digits: int) -> str:
@@ -58,8 +58,10 @@ def user_unit(value, kind: str):
     """(unit as written, SI -> that unit) for a string with a unit, else None."""
     if not isinstance(value, str):
         return None
-    match = _NUMBER.match(value)
-    unit = match.group(2).strip() if match else ""
+    try:
+        unit = split_number(value)[1]
+    except UnitError:
+        return None
     if not unit:
         return None
     try:
@@ -99,7 +101,7 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
 
     schema = {
         "anyOf": [{"type": "number", **_number_bounds(kind, gt, ge, lt, le)},
-                  {"type": "string", "maxLength": MAX_LENGTH, "pattern": r"^\s*[-+]?(\d+(\.\d*)?|\.\d+)"}],
+                  {"type": "string", "maxLength": MAX_LENGTH, "pattern": r"^\s*[-+]?(\d|[.,]\d)"}],
         "x-si-unit": KINDS[kind].label,
         "description": (
             f"{description} [{KINDS[kind].label}]; a bare number is in "

@@ -13,14 +13,22 @@ class SolverInputError(ValueError):
     path to a field of the request.
     """
 
-    def __init__(self, parameter: str, message: str):
+    def __init__(self, parameter: str, message: str, also: tuple[str, ...] = ()):
         super().__init__(f"{parameter}: {message}")
         self.parameter = parameter
         self.message = message
+        #: other inputs the same message concerns (a combination no input alone is wrong in)
+        self.also = tuple(also)
+
+    @property
+    def parameters(self) -> tuple[str, ...]:
+        return (self.parameter, *self.also)
 
     def within(self, prefix: str) -> "SolverInputError":
-        """The same error, its path prefixed by where the raising object sits."""
-        return SolverInputError(f"{prefix}.{self.parameter}" if prefix else self.parameter, self.message)
+        """The same error, its paths prefixed by where the raising object sits."""
+        def put(p):
+            return f"{prefix}.{p}" if prefix else p
+        return SolverInputError(put(self.parameter), self.message, tuple(put(p) for p in self.also))
 
 
 @contextmanager

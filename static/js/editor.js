@@ -22,9 +22,13 @@
     node[parts[parts.length - 1]] = value;
   }
 
-  function num(text) {
-    const t = text.trim();
-    return t.indexOf(".") < 0 ? t.replace(",", ".") : t;
+  // Numbers go to the server as typed ("19 000", "1,2E11", "19.000,5"): the server reads them
+  // (server/units.py split_number) and asks when one is ambiguous ("19,000"). A unit typed
+  // after the number ("2 atm") wins over the unit menu.
+  const NUMBER = /^[-+]?(?:\d|[.,]\d)[\d.,'\u2019 \u00a0\u2009\u202f]*(?:[eE][-+]?\d+)?/;
+  function typedUnit(text) {
+    const m = text.trim().match(NUMBER);
+    return Boolean(m) && text.trim().slice(m[0].length).trim() !== "";
   }
 
   function unitOf(path, suffix) {
@@ -33,8 +37,9 @@
   }
 
   function quantity(value, unit) {
-    if (!unit) return Number(value);
-    return `${value} ${unit}`;
+    const v = value.trim();
+    if (!unit || typedUnit(v)) return v;
+    return `${v} ${unit}`;
   }
 
   function lines(text) {
@@ -45,8 +50,15 @@
     const u0 = unitOf(path, "unit0"), u1 = unitOf(path, "unit1");
     return lines(el.value).map((l) => {
       const cells = l.split(/[;\t]|,(?=\s)|\s+/).map((c) => c.trim()).filter(Boolean);
-      return [quantity(num(cells[0] || ""), u0), quantity(num(cells[1] || ""), u1)];
+      return [quantity(cells[0] || "", u0), quantity(cells[1] || "", u1)];
     });
+  }
+
+  // a list ("25, 32, 40"): items apart by ";", whitespace or a comma and a space; with none of
+  // those, commas part the items ("25,32,40"), so a decimal comma needs "; " between items
+  function listItems(raw) {
+    const parts = /[;\s]/.test(raw) ? raw.split(/;|,(?=\s)|\s+/) : raw.split(",");
+    return parts.map((x) => x.trim()).filter(Boolean);
   }
 
   function collect() {
@@ -64,10 +76,10 @@
       const kind = el.dataset.kind || "";
       let value;
       if (kind === "curve" || kind === "steps") value = pairs(el, path);
-      else if (kind === "list") value = raw.split(/[\s;,]+/).filter(Boolean).map((x) => quantity(num(x), unitOf(path)));
-      else if (kind === "count") value = Number(num(raw));
+      else if (kind === "list") value = listItems(raw).map((x) => quantity(x, unitOf(path)));
+      else if (kind === "count") value = /^\d+$/.test(raw.replace(/[ \u00a0\u2009\u202f]/g, "")) ? Number(raw.replace(/\D/g, "")) : raw;
       else if (el.tagName === "SELECT") value = raw;
-      else value = quantity(num(raw), unitOf(path));
+      else value = quantity(raw, unitOf(path));
       setPath(body, path, value);
     });
     return body;

@@ -1,0 +1,117 @@
+"""Inputs as people read them: each given input under the editor's label, its value as
+entered with its unit written out ("4150 kg/m³", "30 m³/h at 7 bar; 60 m³/h at 5 bar").
+
+Used where saved inputs are shown to people: the saved page (and its print), the compare page.
+The field table is the editor's (forms.GROUPS), so labels never drift apart.
+"""
+
+from .forms import BARE_UNITS, GROUPS, Choice
+from .units import KINDS
+
+#: the SI unit a bare number of each form kind is in, as people write it
+_BARE = {"pressure": "Pa", "length": "m", "area": "m²", "volume": "m³", "time": "s", "viscosity": "Pa·s",
+         "density": "kg/m³", "concentration": "kg/m³", "specific_resistance": "m/kg",
+         "medium_resistance": "1/m", "temperature": "°C", "flow": "m³/s", "flux": "m³/(m²·s)", "mass_rate": "kg/s"}
+_PRETTY = [("**", "^"), ("^2", "²"), ("^3", "³"), ("*", "·"), ("degC", "°C"), ("degF", "°F"), ("gpm", "US gpm")]
+
+
+def _unit(text: str) -> str:
+    for old, new in _PRETTY:
+        text = text.replace(old, new)
+    return text
+
+
+def _value(raw, kind: str) -> str:
+    """One value as entered, its unit written for people."""
+    if isinstance(raw, bool) or raw is None:
+        return "–"
+    if isinstance(raw, int | float):
+        unit = _BARE.get(kind, "")
+        return f"{raw:g} {unit}".strip()
+    text = " ".join(str(raw).split())
+    return _unit(text)
+
+
+def _pairs(raw, kinds: tuple[str, str], joiner: str) -> str:
+    if not isinstance(raw, list):
+        return _value(raw, "")
+    out = []
+    for p in raw:
+        if isinstance(p, list | tuple) and len(p) == 2:
+            out.append(f"{_value(p[0], kinds[0])} {joiner} {_value(p[1], kinds[1])}")
+        else:
+            out.append(_value(p, ""))
+    return "; ".join(out)
+
+
+def _get(inputs: dict, path: str):
+    node = inputs
+    for part in path.split("."):
+        if not isinstance(node, dict) or part not in node:
+            return None
+        node = node[part]
+    return node
+
+
+def input_rows(inputs: dict) -> list[tuple[str, str]]:
+    """(label, value as entered) for every input given, in the editor's order."""
+    rows: list[tuple[str, str]] = []
+    seen: set[str] = set()
+    for group in GROUPS:
+        for item in group.items:
+            fields = []
+            if isinstance(item, Choice):
+                if item.sent:
+                    chosen = _get(inputs, item.name)
+                    options = {value: label for value, label, _ in item.options}
+                    if chosen is not None:
+                        rows.append((item.label, options.get(chosen, str(chosen))))
+                    fields = [f for value, _, fs in item.options if value == chosen for f in fs]
+                else:
+                    fields = [f for _, _, fs in item.options for f in fs]
+            else:
+                fields = [item]
+            for f in fields:
+                raw = _get(inputs, f.path)
+                if raw is None or f.path in seen:
+                    continue
+                seen.add(f.path)
+                shown = _shown(raw, f.kind)
+                if f.path in BARE_UNITS and isinstance(raw, int | float):
+                    shown = f"{shown} {BARE_UNITS[f.path]}"
+                rows.append((f.full_label, shown))
+    return rows
+
+
+def _shown(raw, kind: str) -> str:
+    if kind == "curve":
+        return _pairs(raw, ("flow", "pressure"), "at")
+    if kind == "steps":
+        return _pairs(raw, ("pressure", "time"), "for")
+    if kind == "length_list":
+        return ", ".join(_value(x, "length") for x in raw) if isinstance(raw, list) else _value(raw, "length")
+    if kind == "washing":
+        return {"through": "through-washing (wash plates)", "simple": "simple washing (filtrate path)"}.get(raw, str(raw))
+    if kind == "wash_basis":
+        return {"filtrate": "filtrate volume", "cake_pores": "cake pore volume"}.get(raw, str(raw))
+    if kind in ("fraction", "ratio", "count") and isinstance(raw, int | float) and not isinstance(raw, bool):
+        return f"{raw:g} ({100 * raw:.4g} %)" if kind == "fraction" else f"{raw:g}"
+    return _value(raw, kind)
+
+
+def compare_rows(all_inputs: list[dict]) -> list[tuple[str, list[str], bool]]:
+    """(label, value per scenario, differ) over the union of the inputs given, in the editor's order."""
+    per = [dict(input_rows(i)) for i in all_inputs]
+    order: list[str] = []
+    for rows in (input_rows(i) for i in all_inputs):
+        for label, _ in rows:
+            if label not in order:
+                order.append(label)
+    out = []
+    for label in order:
+        values = [p.get(label, "–") for p in per]
+        out.append((label, values, len(set(values)) > 1))
+    return out
+
+
+assert set(_BARE) <= set(KINDS) | {"concentration"}

@@ -1,0 +1,46 @@
+"""Inputs shown to people (saved page, print, compare): the editor's labels, units written out."""
+
+import json
+import re
+from pathlib import Path
+
+from server.inputs_table import compare_rows, input_rows
+
+DEMOS = Path(__file__).resolve().parents[1] / "demo_cases"
+
+
+def demo(name):
+    return json.loads((DEMOS / f"{name}.json").read_text())["inputs"]
+
+
+def test_rows_use_labels_and_written_units():
+    rows = dict(input_rows(demo("kaolin_pump_fed")))
+    assert rows["Solids density"] == "2600 kg/m³"
+    assert rows["Feed"] == "centrifugal pump curve"
+    assert rows["Pump curve (flow, pressure per line)"].startswith("0 m³/h at 8.5 bar; 20 m³/h at 8 bar")
+    assert rows["End at a flow per filter area below"] == "60 L/(m²·h)"
+    assert rows["Chamber thicknesses to compare"] == "25 mm, 32 mm, 40 mm, 50 mm"
+    assert not any(re.fullmatch(r"[a-z_]+(\.[a-z_]+)*", label) for label in rows)  # no API keys
+
+
+def test_bare_numbers_say_their_unit():
+    inputs = demo("copper_concentrate")
+    inputs["press"]["fill_fraction"] = 0.95
+    inputs["medium_resistance"] = 4e10
+    inputs["cycle"]["downtime"] = 1080
+    rows = dict(input_rows(inputs))
+    assert rows["Usable chamber fill"] == "0.95 (95 %)"
+    assert rows["Cloth resistance R_m"] == "4e+10 1/m"
+    assert rows["Downtime per cycle"] == "1080 s"
+    assert rows["Pressure at which α was measured"] == "7 bar"
+    assert rows["Press running hours per day"] == "22 h"
+
+
+def test_compare_rows_mark_what_differs_in_editor_order():
+    a, b = demo("copper_concentrate"), demo("copper_concentrate")
+    b["press"]["chamber_thickness"] = "60 mm"
+    rows = compare_rows([a, b])
+    labels = [label for label, _, _ in rows]
+    assert labels.index("Solids in the slurry") < labels.index("Chamber thickness") < labels.index("Feed pressure")
+    differ = {label: values for label, values, d in rows if d}
+    assert differ == {"Chamber thickness": ["40 mm", "60 mm"]}
