@@ -16,7 +16,7 @@ from .guards import EdgeGuard, one_shot_receive
 from .routers import cycle, health, labfit, pages, scenarios, ui
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
-from .storage import SqliteStore, StorageError
+from .store import StorageError, open_store
 from .units import warm_up
 from .views import PageCache, register_filters
 
@@ -57,10 +57,11 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.openapi_schema = None  # built on first use, with the limits above
     app.state.settings = settings
     try:
-        app.state.store = SqliteStore(settings.db)
+        app.state.store = open_store(settings.db)
     except StorageError as exc:
         # a clear start-up error, not a traceback, and nothing written over
         raise SystemExit(f"presscycle cannot start: {exc}") from None
+    app.router.on_shutdown.append(app.state.store.close)
     app.mount("/static", CachedStatic(directory=PROJECT_ROOT / "static"), name="static")
     app.include_router(health.router)
     app.include_router(cycle.router)

@@ -17,7 +17,7 @@ from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
 from .schemas.cycle import FEED_MODES
-from .storage import StorageError
+from .store import StorageError
 
 log = logging.getLogger("presscycle")
 

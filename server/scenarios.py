@@ -1,6 +1,15 @@
-"""Saving scenarios: validate and solve the inputs, keep them as entered with their results."""
+"""Saving scenarios: validate and solve the inputs, keep them as entered with their results;
+and drawing a saved one again.
+
+A scenario is stored compact (schema 2): inputs as entered, its results without the curves
+and chart series, its summary, solver version and parent. The curves and chart series are a
+deterministic function of the inputs and the solver version, so the page recomputes them
+(:func:`redraw`); under the solver that saved the scenario they are the saved ones. A record
+migrated from schema 1 under another solver version kept its own series and is drawn from them.
+"""
 
 import math
+from dataclasses import dataclass
 
 from pydantic import ValidationError
 
@@ -8,7 +17,7 @@ from . import solver
 from .errors import InputError
 from .schemas.cycle import CycleRequest
 from .solve import solve
-from .storage import Scenario, ScenarioStore
+from .store import SERIES_KEYS, Scenario, ScenarioStore, compact
 
 SUMMARY_KEYS = ("filtration_time", "cycle_time", "filtrate_throughput", "solids_throughput", "chamber_fill",
                 "filtrate_volume", "limited_by")
@@ -43,8 +52,43 @@ def save(store: ScenarioStore, name: str, note: str, inputs: dict, parent: str |
     if parent is not None and store.get(parent) is None:
         raise InputError([(("body", "parent"), f"no saved scenario {parent!r}")])
     results = solve_inputs(inputs)
-    return store.create(name.strip(), note.strip(), inputs, results, solver.SOLVER_VERSION, parent,
+    return store.create(name.strip(), note.strip(), inputs, compact(results), solver.SOLVER_VERSION, parent,
                         summary_of(results))
+
+
+@dataclass(frozen=True)
+class Redrawn:
+    """A saved scenario made whole again for its page, API answer and comparisons."""
+
+    #: the saved results with curves and chart series
+    results: dict
+    #: key figures the current solver gives differently: (figure, saved, now)
+    changed: list
+    #: the results the charts are drawn with: the saved ones, or the current solver's when it
+    #: changed the figures (its curves must not be marked with another solver's optimum)
+    chart_results: dict | None
+    #: "saved": curves and charts are the saved ones (stored, or recomputed by the same solver
+    #: to the same figures); "current": redrawn by the current solver, which gives other
+    #: figures; None: the current solver refuses the inputs and nothing was stored to draw
+    series_from: str | None
+
+
+def redraw(s: Scenario) -> Redrawn:
+    """The saved results with their curves and chart series, and what the current solver changed."""
+    try:
+        now = solve_inputs(s.inputs)
+    except InputError:
+        now = None
+    changed = differences(s.results, now) if now is not None else [("inputs", "valid when saved",
+                                                                    "refused by this version")]
+    if all(k in s.results for k in SERIES_KEYS):  # kept at migration: drawn as saved
+        return Redrawn(s.results, changed, s.results, "saved")
+    if now is None:
+        return Redrawn(s.results, changed, None, None)
+    results = {**s.results, **{k: now[k] for k in SERIES_KEYS}}
+    if changed:
+        return Redrawn(results, changed, now, "current")
+    return Redrawn(results, changed, results, "saved")
 
 
 def differences(saved: dict, now: dict, rel: float = 1e-9) -> list[tuple[str, float, float]]:

@@ -1,4 +1,5 @@
 import copy
+import itertools
 import os
 
 import pytest
@@ -41,3 +42,31 @@ def client(tmp_path_factory):
 @pytest.fixture
 def base_request():
     return copy.deepcopy(BASE_REQUEST)
+
+
+CI = os.environ.get("CI", "").lower() == "true"
+
+
+@pytest.fixture(scope="session")
+def pg_server():
+    """A throwaway PostgreSQL server for the whole session (tests/pgserver.py), stopped at the end.
+    Without the server binaries the PostgreSQL tests skip, except in CI, where they fail."""
+    from tests.pgserver import PgServer, binaries
+
+    if binaries() is None:
+        message = "PostgreSQL's initdb/pg_ctl are not installed (Debian package postgresql; make test installs it)"
+        if CI:
+            pytest.fail(message + ": CI runs the PostgreSQL tests, it does not skip them")
+        pytest.skip(message)
+    server = PgServer()
+    yield server
+    server.stop()
+
+
+_databases = itertools.count()
+
+
+@pytest.fixture
+def pg_url(pg_server):
+    """The URL of a fresh, empty database on the session's PostgreSQL server."""
+    return pg_server.new_database(f"test_{os.getpid()}_{next(_databases)}")

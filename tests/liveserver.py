@@ -20,8 +20,11 @@ class LiveServer:
     """uvicorn with the app factory; the database and demo folder are the test's, whatever
     PRESSCYCLE_* the surrounding environment exports."""
 
-    def __init__(self, db: Path, port: int | None = None, demo_dir: Path = ROOT / "demo_cases"):
-        self.db = Path(db)
+    def __init__(self, db: Path | str, port: int | None = None, demo_dir: Path = ROOT / "demo_cases",
+                 log_dir: Path | None = None):
+        # an SQLite file, or a postgresql:// URL (then log_dir says where the log goes)
+        self.db = db if isinstance(db, str) and "://" in db else Path(db)
+        self.log_dir = Path(log_dir) if log_dir else None
         self.demo_dir = Path(demo_dir)
         self.port = port or free_port()
         self.url = f"http://127.0.0.1:{self.port}"
@@ -31,7 +34,8 @@ class LiveServer:
         env = {k: v for k, v in os.environ.items() if not k.startswith("PRESSCYCLE_")}
         env.update(PRESSCYCLE_DB=str(self.db), PRESSCYCLE_DEMO_DIR=str(self.demo_dir))
         # output goes to a file: a pipe nobody reads would stall a chatty server
-        self.log = self.db.with_suffix(f".{self.port}.log")
+        self.log = (self.log_dir / f"server.{self.port}.log" if self.log_dir
+                    else self.db.with_suffix(f".{self.port}.log"))
         self._log_file = open(self.log, "ab")  # noqa: SIM115 (closed in stop/kill)
         self.proc = subprocess.Popen(
             [sys.executable, "-m", "uvicorn", "--factory", "server.app:create_app", "--host", "127.0.0.1", "--port", str(self.port),

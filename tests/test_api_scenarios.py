@@ -6,6 +6,7 @@ import sqlite3
 import pytest
 
 from server.settings import PROJECT_ROOT
+from server.store import pack, unpack
 
 COPPER = json.loads((PROJECT_ROOT / "demo_cases" / "copper_concentrate.json").read_text())["inputs"]
 
@@ -105,9 +106,9 @@ def test_a_changed_solver_is_flagged_with_both_numbers(client, tmp_path):
     created = save(client)
     db = client.app.state.store.path
     conn = sqlite3.connect(db)
-    results = json.loads(conn.execute("SELECT results FROM scenarios WHERE id = ?", (created["id"],)).fetchone()[0])
+    results = unpack(conn.execute("SELECT results FROM scenarios WHERE id = ?", (created["id"],)).fetchone()[0])
     results["best"]["filtrate_throughput"] *= 1.1  # as if an older solver had computed it
-    conn.execute("UPDATE scenarios SET results = ? WHERE id = ?", (json.dumps(results), created["id"]))
+    conn.execute("UPDATE scenarios SET results = ? WHERE id = ?", (pack(results), created["id"]))
     conn.commit()
     conn.close()
     html = client.get(created["link"]).text
@@ -180,3 +181,74 @@ def test_oversized_scenario_body_is_a_413(client):
     huge = {"name": "x", "note": "", "inputs": {"pad": "x" * 3_000_000}}
     r = client.post("/api/v1/scenarios", json=huge)
     assert r.status_code == 413
+
+
+def test_list_pages_by_cursor_with_next_and_previous(client):
+    ids = [save(client, name=f"cursor walk {i}", note="cursorwalk")["id"] for i in range(23)]
+    first = client.get("/api/v1/scenarios", params={"q": "cursorwalk"}).json()
+    assert first["page"] == 1 and first["previous"] is None and first["total"] == 23
+    second = client.get("/api/v1/scenarios", params={"q": "cursorwalk", "cursor": first["next"]}).json()
+    assert [i["id"] for i in first["items"] + second["items"]] == ids[::-1]
+    assert second["next"] is None and second["page"] is None
+    back = client.get("/api/v1/scenarios", params={"q": "cursorwalk", "cursor": second["previous"]}).json()
+    assert back["items"] == first["items"]
+    html = client.get("/scenarios", params={"q": "cursorwalk"}).text
+    assert 'rel="next"' in html and 'rel="prev"' not in html
+    older = html.split('rel="next"')[0].rsplit('href="', 1)[1].split('"')[0].replace("&amp;", "&")
+    assert all(f"/s/{i}" in client.get("/scenarios" + older).text for i in ids[:3])
+
+
+def test_a_bad_cursor_is_a_422_at_the_cursor(client):
+    for path in ("/api/v1/scenarios", "/scenarios"):
+        r = client.get(path, params={"cursor": "not-a-cursor"}, headers={"accept": "application/json"})
+        assert r.status_code == 422 and r.json()["detail"][0]["field"] == "query.cursor", path
+        assert "next or previous" in r.json()["detail"][0]["msg"]
+
+
+def test_a_saved_demo_takes_a_few_kilobytes(client):
+    created = save(client)
+    db = client.app.state.store.path
+    conn = sqlite3.connect(db)
+    row = conn.execute("SELECT length(inputs) + length(results) + length(summary) + length(name) + length(note) "
+                       "FROM scenarios WHERE id = ?", (created["id"],)).fetchone()
+    conn.close()
+    assert row[0] < 4000  # 155 kB with the chart series (schema 1)
+
+
+def test_the_saved_page_redraws_exactly_the_series_computed_when_saving(client):
+    from server.scenarios import solve_inputs
+
+    created = save(client)
+    got = client.get(f"/api/v1/scenarios/{created['id']}").json()["results"]
+    fresh = solve_inputs(COPPER)
+    assert got["chart_series"] == fresh["chart_series"] and got["curves"] == fresh["curves"]
+
+
+def test_charts_redrawn_by_a_changed_solver_say_so(client):
+    created = save(client)
+    db = client.app.state.store.path
+    conn = sqlite3.connect(db)
+    results = unpack(conn.execute("SELECT results FROM scenarios WHERE id = ?", (created["id"],)).fetchone()[0])
+    results["best"]["cycle_time"] *= 1.5
+    conn.execute("UPDATE scenarios SET results = ?, solver_version = '0.0.9' WHERE id = ?",
+                 (pack(results), created["id"]))
+    conn.commit()
+    conn.close()
+    html = client.get(created["link"]).text
+    assert "solver-changed" in html and "drawn by the current solver" in html
+
+
+def test_listing_can_be_turned_off_leaving_links_working(tmp_path):
+    from fastapi.testclient import TestClient
+
+    from server.app import create_app
+    from tests.conftest import app_settings
+
+    settings = app_settings(tmp_path).model_copy(update={"list_scenarios": False})
+    with TestClient(create_app(settings)) as c:
+        sid = save(c, name="hidden from lists")["id"]
+        assert c.get("/api/v1/scenarios").status_code == 403
+        r = c.get("/scenarios")
+        assert r.status_code == 403 and "open a scenario by its link" in r.text
+        assert "hidden from lists" not in c.get("/").text
+        assert c.get(f"/s/{sid}").status_code == 200

@@ -4,7 +4,7 @@ import sqlite3
 
 import pytest
 
-from server.storage import APPLICATION_ID, SCHEMA_VERSION, SqliteStore, StorageError
+from server.store import APPLICATION_ID, SCHEMA_VERSION, SqliteStore, StorageError
 
 
 def make(store, name, note=""):

@@ -38,7 +38,7 @@ def _templates(request: Request):
 
 @router.get("/", response_class=HTMLResponse)
 def home(request: Request):
-    recent = request.app.state.store.recent(6)
+    recent = request.app.state.store.recent(6) if request.app.state.settings.list_scenarios else []
     return _templates(request).TemplateResponse(
         request, "home.html", {"demos": _demos(request), "cautions": CAUTIONS, "recent": recent}
     )

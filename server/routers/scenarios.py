@@ -15,11 +15,11 @@ from ..charts import compact, overlay
 from ..display import Units, UnitSystem
 from ..errors import InputError
 from ..inputs_table import compare_rows, input_rows
-from ..scenarios import differences, save, solve_inputs
+from ..scenarios import Redrawn, redraw, save
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
 from ..solve import CAUTIONS
-from ..storage import Scenario
+from ..store import Cursor, Listed, Scenario
 from ..uploads import read_upload
 from ..views import page_json, render_results
 
@@ -53,13 +53,42 @@ def _link(sid: str) -> str:
     return f"/s/{sid}"
 
 
-def _out(s: Scenario) -> dict:
+def _out(request: Request, s: Scenario) -> dict:
+    """A saved scenario as the API and the export give it: results with curves and chart series."""
     return {"id": s.id, "name": s.name, "note": s.note, "created": s.created, "inputs": s.inputs,
-            "results": s.results, "solver_version": s.solver_version, "parent": s.parent, "link": _link(s.id)}
+            "results": _redrawn(request, s).results, "solver_version": s.solver_version, "parent": s.parent,
+            "link": _link(s.id)}
 
 
 #: The parts of stored results every page reads; a record without them is damaged.
-RESULT_PARTS = ("best", "unconstrained_optimum", "chambers_full", "at_end", "derived", "curves", "chart_series")
+RESULT_PARTS = ("best", "unconstrained_optimum", "chambers_full", "at_end", "derived")
+
+
+def _redrawn(request: Request, s: Scenario) -> Redrawn:
+    """Curves and chart series of a saved scenario, and what the current solver changed:
+    computed once per scenario and solver version (saved scenarios never change)."""
+    return request.app.state.pages.get(("redrawn", s.id, solver.SOLVER_VERSION), lambda: redraw(s))
+
+
+def _listing_allowed(request: Request) -> None:
+    if not request.app.state.settings.list_scenarios:
+        raise HTTPException(403, "this server does not list saved scenarios (PRESSCYCLE_LIST_SCENARIOS is off): "
+                                 "open a scenario by its link")
+
+
+def _cursor(cursor: str | None) -> str | None:
+    """A cursor from the query, checked: a bad one is a 422 at ``cursor``."""
+    if cursor:
+        try:
+            Cursor.decode(cursor)
+        except ValueError as exc:
+            raise InputError([(("query", "cursor"), str(exc))]) from None
+    return cursor or None
+
+
+def _item(s: Listed) -> dict:
+    return {"id": s.id, "name": s.name, "note": s.note, "created": s.created, "link": _link(s.id),
+            "summary": s.summary}
 
 
 def _get_or_404(request: Request, sid: str) -> Scenario:
@@ -81,17 +110,30 @@ async def create_scenario(request: Request, body: ScenarioIn) -> dict:
 
 
 @router.get("", response_model=ScenarioList)
-def list_scenarios(request: Request, q: str = Query("", max_length=200), page: int = Query(1, ge=1, le=100000)):
-    """Saved scenarios, newest first; q searches name and note."""
-    items, total = _store(request).search(q.strip(), page, PER_PAGE)
-    return {"items": [{"id": s.id, "name": s.name, "note": s.note, "created": s.created, "link": _link(s.id),
-                       "summary": s.summary} for s in items],
-            "page": page, "pages": max(1, math.ceil(total / PER_PAGE)), "total": total, "q": q}
+def list_scenarios(request: Request, q: str = Query("", max_length=200),
+                   cursor: str | None = Query(None, max_length=200, description=(
+                       "The `next` or `previous` value of a list answer: the page after (older) or before "
+                       "(newer) it. Every page costs the same.")),
+                   page: int | None = Query(None, ge=1, le=100000, description=(
+                       "A page number (20 a page): deep pages cost more than `cursor`. Ignored with a cursor."))):
+    """Saved scenarios, newest first, 20 a page; q finds scenarios whose name, note or summary words
+    (what limits the cycle, the feed mode) contain every word of q. Page on with `next` / `previous`."""
+    _listing_allowed(request)
+    store = _store(request)
+    if page is not None and page > 1 and not cursor:
+        items, total = store.search(q.strip(), page, PER_PAGE)
+        nxt = prev = None
+    else:
+        found = store.page(q.strip(), _cursor(cursor), PER_PAGE)
+        items, total, nxt, prev = found.items, found.total, found.next, found.previous
+        page = None if cursor else 1
+    return {"items": [_item(s) for s in items], "page": page, "pages": max(1, math.ceil(total / PER_PAGE)),
+            "total": total, "q": q, "next": nxt, "previous": prev}
 
 
 @router.get("/{sid:scenario_id}", response_model=ScenarioOut)
 def get_scenario(request: Request, sid: str) -> dict:
-    return _out(_get_or_404(request, sid))
+    return _out(request, _get_or_404(request, sid))
 
 
 @router.post("/import", response_model=ScenarioCreated, status_code=201, openapi_extra={"requestBody": {"content": {
@@ -128,7 +170,7 @@ def _templates(request: Request):
 @pages.get("/s/{sid}.json")
 def scenario_json(request: Request, sid: str):
     s = _get_or_404(request, sid)
-    return JSONResponse(_out(s), headers={"content-disposition": f'inline; filename="presscycle-{sid}.json"'})
+    return JSONResponse(_out(request, s), headers={"content-disposition": f'inline; filename="presscycle-{sid}.json"'})
 
 
 #: The best cycle's filtration curves in the CSV: (heading, stored key, display quantity).
@@ -141,7 +183,11 @@ CURVE_COLUMNS = [("Time", "time", "time"), ("Filtrate volume", "filtrate_volume"
 def scenario_csv(request: Request, sid: str, units: UnitSystem = "si"):
     """The best cycle's filtration curves in the display units chosen, 6 significant figures."""
     s = _get_or_404(request, sid)
-    c = s.results["curves"]
+    drawn = _redrawn(request, s)
+    if drawn.series_from is None:
+        raise HTTPException(409, "this solver version refuses the inputs of this scenario, and its curves are "
+                                 "recomputed from them: open the scenario to see why")
+    c = drawn.results["curves"]
     u = Units(units)
     buf = io.StringIO()
     w = csv.writer(buf)
@@ -156,24 +202,18 @@ def scenario_csv(request: Request, sid: str, units: UnitSystem = "si"):
 def scenario_page(request: Request, sid: str, units: UnitSystem = "si"):
     s = _get_or_404(request, sid)
     u = Units(units)
-
-    def solver_check():  # once per scenario and solver version: saved scenarios never change
-        try:
-            return differences(s.results, solve_inputs(s.inputs))
-        except InputError:
-            return [("inputs", "valid when saved", "refused by this version")]
+    drawn = _redrawn(request, s)
 
     def rendered():
-        html, figures = render_results(_templates(request), s.results, s.results["chart_series"], u)
+        html, figures = render_results(_templates(request), drawn.results, drawn.results.get("chart_series"), u,
+                                       chart_results=drawn.chart_results)
         return html, page_json(figures)
 
-    cache = request.app.state.pages
-    changed = cache.get(("solver check", sid, solver.SOLVER_VERSION), solver_check)
-    results_html, figures = cache.get(("saved page", sid, units, solver.SOLVER_VERSION), rendered)
+    results_html, figures = request.app.state.pages.get(("saved page", sid, units, solver.SOLVER_VERSION), rendered)
     parent = _store(request).get(s.parent) if s.parent else None
     return _templates(request).TemplateResponse(request, "scenario_view.html", {
         "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
-        "figures": figures, "changed": changed,
+        "figures": figures, "changed": drawn.changed, "series_from": drawn.series_from,
         "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
         "input_rows": input_rows(s.inputs),
     })
@@ -188,7 +228,7 @@ def scenario_copy(request: Request, sid: str):
                        s.inputs, solve=True, parent=s)
 
 
-def _listable(store, items: list[Scenario]) -> list[Scenario]:
+def _listable(store, items: list[Listed]) -> list[Listed]:
     """The list shows each scenario's summary figures: a summary without them is damage."""
     for s in items:
         figures = [s.summary.get(k) for k in ("chamber_thickness", "filtration_time", "cycle_time",
@@ -199,12 +239,20 @@ def _listable(store, items: list[Scenario]) -> list[Scenario]:
 
 
 @pages.get("/scenarios", response_class=HTMLResponse)
-def scenarios_page(request: Request, q: str = Query("", max_length=200), page: int = Query(1, ge=1, le=100000)):
-    items, total = _store(request).search(q.strip(), page, PER_PAGE)
-    items = _listable(_store(request), items)
+def scenarios_page(request: Request, q: str = Query("", max_length=200),
+                   cursor: str | None = Query(None, max_length=200), page: int | None = Query(None, ge=1, le=100000)):
+    _listing_allowed(request)
+    store = _store(request)
+    if page is not None and page > 1 and not cursor:  # an old page-number link: still answered
+        items, total = store.search(q.strip(), page, PER_PAGE)
+        found = None
+    else:
+        found = store.page(q.strip(), _cursor(cursor), PER_PAGE)
+        items, total = found.items, found.total
     return _templates(request).TemplateResponse(request, "scenarios.html", {
-        "items": items, "q": q, "page": page, "pages": max(1, math.ceil(total / PER_PAGE)), "total": total,
-        "u": Units("si"),
+        "items": _listable(store, items), "q": q, "total": total, "u": Units("si"),
+        "next": found.next if found else None, "previous": found.previous if found else None,
+        "first": bool(cursor or page),
     })
 
 
@@ -220,9 +268,19 @@ def compare_page(request: Request, ids: str = Query("", max_length=400), units: 
         "scenarios": scenarios, "rows": rows, "u": u, "units": units, "ids": ",".join(wanted),
         "figures": request.app.state.pages.get(
             ("compare", tuple(wanted), units, solver.SOLVER_VERSION),
-            lambda: page_json(compact(overlay([(s.name, s.results) for s in scenarios], u)))),
+            lambda: page_json(compact(overlay(_drawable(request, scenarios), u)))),
         "cautions": CAUTIONS,
     })
+
+
+def _drawable(request: Request, scenarios: list[Scenario]) -> list[tuple[str, dict]]:
+    """(name, results with chart series) of the compared scenarios a chart can be drawn for."""
+    out = []
+    for s in scenarios:
+        drawn = _redrawn(request, s)
+        if drawn.chart_results is not None:
+            out.append((s.name, {**drawn.chart_results, "chart_series": drawn.results["chart_series"]}))
+    return out
 
 
 def _input_rows(scenarios):

@@ -23,7 +23,9 @@ class ScenarioOut(BaseModel):
     note: str
     created: str = Field(description="ISO 8601, UTC")
     inputs: dict
-    results: dict = Field(description="As computed when saved (SI)")
+    results: dict = Field(description=(
+        "As computed when saved (SI); its curves and chart_series are recomputed from the inputs by the "
+        "solver_version that saved them, or by the current solver when that gives other figures"))
     solver_version: str
     parent: str | None
     link: str
@@ -40,7 +42,9 @@ class ScenarioSummary(BaseModel):
 
 class ScenarioList(BaseModel):
     items: list[ScenarioSummary]
-    page: int
+    page: int | None = Field(description="The page number asked for (1 without page or cursor; null with a cursor)")
     pages: int
-    total: int
+    total: int = Field(description="Scenarios in the list (matching q)")
     q: str
+    next: str | None = Field(None, description="Cursor of the next (older) page; pass it as `cursor`. Null at the end")
+    previous: str | None = Field(None, description="Cursor of the previous (newer) page; null on the first page")

@@ -1,76 +1,48 @@
-"""Saved scenarios: the one storage interface, and its SQLite implementation.
+"""Saved scenarios in SQLite (standard library): the default store, one file, nothing to install.
 
-Everything the routes need goes through :class:`ScenarioStore`; another database can be
-added by implementing it, without touching the routes. Scenarios are immutable: there is
-no update and no delete, so a saved link always shows what was sent.
+One file, WAL mode, a busy timeout for concurrent writers, a connection per operation (safe
+across threads). The schema is created and migrated at start-up; the file is marked with our
+application id so a foreign or corrupted file is refused with a clear error instead of being
+written over. At start-up SQLite's quick_check reads every page: damage anywhere refuses the
+start and leaves the file as it was. A file or folder that cannot be written is served
+read-only (saves are refused in words); a record found damaged later stops all writes to the
+file; a full disk is said so.
 
-SQLite (standard library): one file, WAL mode, a busy timeout for concurrent writers, a
-connection per operation (safe across threads). The schema is created and migrated at
-start-up; the file is marked with our application id so a foreign or corrupted file is
-refused with a clear error instead of being written over. At start-up SQLite's quick_check
-reads every page: damage anywhere refuses the start and leaves the file as it was. A file
-or folder that cannot be written is served read-only (saves are refused in words); a
-record found damaged later stops all writes to the file; a full disk is said so.
+Search: an FTS5 table with the trigram tokenizer over each scenario's search text (name,
+note, summary words), queried with LIKE, so any substring of three characters or more is
+found through the index; shorter words are matched by scanning that small table.
 """
 
 import errno
 import json
 import os
-import secrets
 import sqlite3
 import tempfile
 from contextlib import contextmanager
-from dataclasses import dataclass
-from datetime import UTC, datetime
 from pathlib import Path
-from typing import Protocol
+
+from .base import (
+    SCHEMA_VERSION,
+    ListQueries,
+    Scenario,
+    StorageError,
+    compact,
+    dumps,
+    like_pattern,
+    new_id,
+    now_iso,
+    pack,
+    record,
+    search_terms,
+    search_text,
+    unpack,
+)
 
 APPLICATION_ID = 0x50524359  # "PRCY": marks a presscycle database file
-SCHEMA_VERSION = 1
-ID_BYTES = 9  # 12 url-safe characters, 72 random bits: unguessable
 
 
-class StorageError(RuntimeError):
-    """The database cannot be used (foreign, corrupted, newer schema, unwritable, full).
-
-    ``status`` is the HTTP status a request that meets it gets: 503 while the database
-    cannot take the request, 507 when the disk is full.
-    """
-
-    def __init__(self, message: str, status: int = 503):
-        super().__init__(message)
-        self.status = status
-
-
-@dataclass(frozen=True)
-class Scenario:
-    id: str
-    name: str
-    note: str
-    created: str  # ISO 8601, UTC
-    inputs: dict  # as entered, with units
-    results: dict  # as computed at save time (SI)
-    solver_version: str
-    parent: str | None
-    summary: dict  # key figures for lists
-
-
-class ScenarioStore(Protocol):
-    def create(self, name: str, note: str, inputs: dict, results: dict, solver_version: str,
-               parent: str | None, summary: dict) -> Scenario: ...
-
-    def get(self, scenario_id: str) -> Scenario | None: ...
-
-    def search(self, q: str, page: int, per_page: int) -> tuple[list[Scenario], int]: ...
-
-    def recent(self, n: int) -> list[Scenario]: ...
-
-    def mark_damaged(self, what: str): ...
-
-
-_MIGRATIONS = {
-    1: [
-        """CREATE TABLE scenarios (
+def _schema_1(conn):
+    conn.execute("""CREATE TABLE scenarios (
             id TEXT PRIMARY KEY,
             name TEXT NOT NULL,
             note TEXT NOT NULL,
@@ -80,26 +52,60 @@ _MIGRATIONS = {
             solver_version TEXT NOT NULL,
             parent TEXT REFERENCES scenarios(id),
             summary TEXT NOT NULL
-        )""",
-        "CREATE INDEX scenarios_created ON scenarios(created DESC)",
-    ],
-}
+        )""")
+    conn.execute("CREATE INDEX scenarios_created ON scenarios(created DESC)")
 
 
-class SqliteStore:
-    def __init__(self, path: Path | str, check_integrity: bool = True):
+def _schema_2(conn, solver_version: str):
+    """Compact results, a search index. Schema 1 kept every chart series with the results
+    (about 155 kB a scenario); they are recomputed on view now. A record saved by another
+    solver version keeps its series (this solver would draw different ones): nothing that
+    cannot be recomputed is dropped."""
+    conn.execute("CREATE VIRTUAL TABLE scenarios_search USING fts5(text, tokenize='trigram')")
+    rows = conn.execute("SELECT rowid, name, note, inputs, results, solver_version, summary FROM scenarios")
+    update = conn.cursor()
+    for rowid, name, note, inputs, results, version, summary in rows:
+        try:
+            kept = unpack(results)
+            inputs, summary = json.loads(inputs), json.loads(summary)
+        except (ValueError, TypeError):
+            continue  # a damaged record stays byte for byte as it was; reading it says so
+        if not all(isinstance(v, dict) for v in (kept, inputs, summary)):
+            continue
+        update.execute("UPDATE scenarios SET results = ? WHERE rowid = ?",
+                       (pack(compact(kept) if version == solver_version else kept), rowid))
+        update.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)",
+                       (rowid, search_text(name, note, inputs, summary)))
+
+
+class SqliteStore(ListQueries):
+    def __init__(self, path: Path | str, check_integrity: bool = True, solver_version: str | None = None):
         self.path = Path(path)
         #: why the file is served read-only (None: writable)
         self.read_only: str | None = None
         #: what damage was found while running (None: none); no write goes into a damaged file
         self.damaged: str | None = None
         self.check_integrity = check_integrity
+        if solver_version is None:
+            from ..solver import SOLVER_VERSION as solver_version
+        self.solver_version = solver_version
         try:
             self.path.parent.mkdir(parents=True, exist_ok=True)
         except OSError as exc:
             raise StorageError(f"the folder of {self.path} cannot be created ({exc.strerror}); "
                                f"point PRESSCYCLE_DB at a writable place") from None
         self._migrate()
+
+    #: searches with more matches than this walk the newest-first index (see _source)
+    walk_above = 1000
+    _SEQ = "rowid"  # insertion order: orders scenarios saved in the same millisecond
+    _P = "?"
+
+    def __repr__(self):
+        return f"SqliteStore({str(self.path)!r})"
+
+    def close(self) -> None:
+        pass  # a connection per operation: nothing held open
 
     def _connect(self) -> sqlite3.Connection:
         if self.read_only:
@@ -161,12 +167,14 @@ class SqliteStore:
                 if not existing:
                     conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")  # a new file: ours from now on
                 conn.execute("PRAGMA journal_mode = WAL")
+                steps = {1: _schema_1, 2: lambda c: _schema_2(c, self.solver_version)}
                 for v in range(version + 1, SCHEMA_VERSION + 1):
                     conn.execute("BEGIN IMMEDIATE")
-                    for statement in _MIGRATIONS[v]:
-                        conn.execute(statement)
+                    steps[v](conn)
                     conn.execute(f"PRAGMA user_version = {v}")
                     conn.execute("COMMIT")
+                if 0 < version < 2:
+                    conn.execute("VACUUM")  # give back the space the chart series took
                 conn.execute("SELECT count(*) FROM scenarios").fetchone()
             finally:
                 conn.close()
@@ -174,6 +182,9 @@ class SqliteStore:
             if _kind(exc) == "read-only":
                 raise StorageError(f"{self.path} cannot be opened for writing ({exc}); make the file and its "
                                    f"folder writable, or point PRESSCYCLE_DB at another file") from None
+            if _kind(exc) == "full":
+                raise StorageError(f"{self.path} could not be migrated: the disk is full. Nothing was changed; "
+                                   f"free some space and start again") from None
             raise StorageError(f"{self.path} cannot be opened ({exc}); nothing was changed") from None
         except sqlite3.DatabaseError as exc:
             raise StorageError(
@@ -227,73 +238,83 @@ class SqliteStore:
                 raise StorageError(f"{self.damaged}: no more writes go into it; restore it from a backup") from None
             raise StorageError(f"the database {self.path} could not be used ({exc}); try again") from None
 
-    def _row(self, r) -> Scenario:
-        try:
-            s = Scenario(r[0], r[1], r[2], r[3], json.loads(r[4]), json.loads(r[5]), r[6], r[7], json.loads(r[8]))
-            shape_ok = (all(isinstance(v, str) for v in (s.id, s.name, s.note, s.created, s.solver_version))
-                        and all(isinstance(v, dict) for v in (s.inputs, s.results, s.summary)))
-        except (ValueError, TypeError):
-            shape_ok = False
-        if not shape_ok:
-            self.mark_damaged(f"the record of scenario {r[0]!r} in {self.path} is damaged")
-        return s
-
     def mark_damaged(self, what: str):
         """Stop all writes into a file found damaged, and say so (raises StorageError)."""
         self.damaged = what
         raise StorageError(f"{what}: no more writes go into the file; restore it from a backup and restart presscycle")
 
     _COLUMNS = "id, name, note, created, inputs, results, solver_version, parent, summary"
+    _MARKS = ", ".join("?" * 9)
 
     def create(self, name, note, inputs, results, solver_version, parent, summary) -> Scenario:
-        created = datetime.now(UTC).isoformat(timespec="milliseconds")
-        payload = (name, note, created, json.dumps(inputs, allow_nan=False),
-                   json.dumps(results, allow_nan=False), solver_version, parent, json.dumps(summary, allow_nan=False))
+        created = now_iso()
+        payload = (name, note, created, dumps(inputs), pack(results), solver_version, parent, dumps(summary))
+        text = search_text(name, note, inputs, summary)
         with self._errors(writing=True):
-            return self._insert(payload, name, note, created, inputs, results, solver_version, parent, summary)
+            conn = self._connect()
+            try:
+                for _ in range(10):
+                    sid = new_id()
+                    try:
+                        conn.execute("BEGIN IMMEDIATE")
+                        cur = conn.execute(f"INSERT INTO scenarios ({self._COLUMNS}) VALUES ({self._MARKS})",
+                                           (sid, *payload))
+                        conn.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)", (cur.lastrowid, text))
+                        conn.execute("COMMIT")
+                        return Scenario(sid, name, note, created, inputs, results, solver_version, parent, summary)
+                    except sqlite3.IntegrityError:
+                        conn.execute("ROLLBACK")  # an id collision: draw again
+                    except BaseException:
+                        if conn.in_transaction:
+                            conn.execute("ROLLBACK")
+                        raise
+                raise StorageError("could not draw a free scenario id")
+            finally:
+                conn.close()
 
-    def _insert(self, payload, name, note, created, inputs, results, solver_version, parent, summary) -> Scenario:
-        conn = self._connect()
-        try:
-            for _ in range(10):
-                sid = secrets.token_urlsafe(ID_BYTES)
-                try:
-                    conn.execute(f"INSERT INTO scenarios ({self._COLUMNS}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                                 (sid, *payload))
-                    return Scenario(sid, name, note, created, inputs, results, solver_version, parent, summary)
-                except sqlite3.IntegrityError:
-                    continue  # an id collision: draw again
-            raise StorageError("could not draw a free scenario id")
-        finally:
-            conn.close()
+    def _read(self, sql: str, args=(), one=False):
+        with self._errors(writing=False):
+            conn = self._connect()
+            try:
+                cur = conn.execute(sql, args)
+                return cur.fetchone() if one else cur.fetchall()
+            finally:
+                conn.close()
 
     def get(self, scenario_id: str) -> Scenario | None:
-        with self._errors(writing=False):
-            conn = self._connect()
-            try:
-                r = conn.execute(f"SELECT {self._COLUMNS} FROM scenarios WHERE id = ?", (scenario_id,)).fetchone()
-            finally:
-                conn.close()
-        return self._row(r) if r else None
+        r = self._read(f"SELECT {self._COLUMNS} FROM scenarios WHERE id = ?", (scenario_id,), one=True)
+        if r is None:
+            return None
+        try:
+            return record(r)
+        except (ValueError, TypeError):
+            self.mark_damaged(f"the record of scenario {r[0]!r} in {self.path} is damaged")
 
-    def search(self, q: str, page: int, per_page: int) -> tuple[list[Scenario], int]:
-        like = "%" + q.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
-        where = "WHERE name LIKE ? ESCAPE '\\' OR note LIKE ? ESCAPE '\\'" if q else ""
-        args = (like, like) if q else ()
-        with self._errors(writing=False):
-            conn = self._connect()
-            try:
-                total = conn.execute(f"SELECT count(*) FROM scenarios {where}", args).fetchone()[0]
-                rows = conn.execute(
-                    f"SELECT {self._COLUMNS} FROM scenarios {where} ORDER BY created DESC, rowid DESC LIMIT ? OFFSET ?",
-                    (*args, per_page, (page - 1) * per_page),
-                ).fetchall()
-            finally:
-                conn.close()
-        return [self._row(r) for r in rows], total
+    def _where(self, q: str) -> tuple[str, tuple]:
+        """A search through the trigram index: the text as a phrase (any substring of three
+        characters or more, ``%`` and ``_`` literal); shorter text by LIKE over the search table."""
+        terms = search_terms(q)
+        if not terms:
+            return "", ()
+        term = terms[0]
+        if len(term) >= 3:
+            return ("WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE scenarios_search MATCH ?)",
+                    ('"' + term.replace('"', '""') + '"',))
+        return ("WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE text LIKE ? ESCAPE '\\')",
+                (like_pattern(term),))
 
-    def recent(self, n: int) -> list[Scenario]:
-        return self.search("", 1, n)[0]
+    def _total(self, where: str, args: tuple) -> int:
+        if where:  # the search table alone: no row of scenarios is read
+            inner = where.removeprefix("WHERE rowid IN (").removesuffix(")").replace("SELECT rowid", "SELECT count(*)")
+            return self._read(inner, args, one=True)[0]
+        return super()._total(where, args)
+
+    def _source(self, where: str, total: int) -> tuple[str, str]:
+        # Many matches: walk the newest-first index and stop after a page (matches come every
+        # few rows). Few: look the matches up and sort them. The crossing is near 1,000 at 100,000.
+        if where and total > self.walk_above:
+            return "scenarios INDEXED BY scenarios_created", where.replace("WHERE rowid IN", "WHERE +rowid IN")
+        return "scenarios", where
 
 
 def _kind(exc: sqlite3.DatabaseError) -> str:
