@@ -122,7 +122,7 @@ def _plain_digits(mantissa: str, grouped: bool, text: str) -> str:
         head, tail = body.split(",")
         if not grouped and re.fullmatch(r"[1-9]\d{0,2}", head) and re.fullmatch(r"\d{3}", tail):
             raise AmbiguousNumber(
-                f"{text.strip()!r} reads two ways: {head} {tail} or {head}.{tail}; "
+                f"{head},{tail} reads two ways: {head} {tail} or {head}.{tail}; "
                 f"write {head}{tail} (or {head} {tail}) or {head}.{tail}"
             )
         decimal, group = ",", None

@@ -93,13 +93,16 @@ def saved_ids(live_server):
 
 
 def open_page(page, kind: str, saved_ids) -> int:
-    """Open one of the four pages with its charts drawn; the number of charts."""
+    """Open one of the pages with its charts drawn; the number of charts."""
     if kind == "editor":
         page.goto(page.base + "/demo/kaolin_pump_fed")
         n = 4
     elif kind == "saved":
         page.goto(page.base + f"/s/{saved_ids[1]}")
         n = 4
+    elif kind == "list":
+        page.goto(page.base + "/scenarios")
+        n = 0
     elif kind == "compare":
         page.goto(page.base + f"/compare?ids={','.join(saved_ids)}")
         n = 2
@@ -116,7 +119,7 @@ def open_page(page, kind: str, saved_ids) -> int:
     return n
 
 
-PAGES = ["editor", "saved", "compare", "lab"]
+PAGES = ["editor", "saved", "compare", "lab", "list"]
 
 
 @pytest.fixture(scope="module")
