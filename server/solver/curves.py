@@ -15,6 +15,8 @@ Solid/Liquid Separation: Principles of Industrial Filtration, chapters on pump-f
 filtration (the supply/cake-resistance construction; from memory).
 """
 
+from bisect import bisect_right
+
 import numpy as np
 
 BISECTION_STEPS = 48  # brackets the pressure to 2^-48 of the cap
@@ -171,6 +173,15 @@ class TabulatedCurve:
         self.slope = np.diff(self.r) / dV
         self.slope = np.append(self.slope, self.slope[-1])
         self.t = np.concatenate(([0.0], np.cumsum(0.5 * (self.r[:-1] + self.r[1:]) * dV)))
+        # plain lists for scalar calls: the cycle search asks one volume at a time, and a
+        # bisect on a list is many times quicker than numpy's machinery on one number
+        self._Vl, self._tl, self._rl, self._kl, self._Pl = (
+            a.tolist() for a in (self.V, self.t, self.r, self.slope, self.P))
+        self._last = self.V.size - 1
+
+    def _i(self, v: float) -> int:
+        i = bisect_right(self._Vl, v) - 1
+        return 0 if i < 0 else (self._last if i > self._last else i)
 
     @property
     def V_max(self) -> float:
@@ -186,6 +197,10 @@ class TabulatedCurve:
         return np.clip(np.searchsorted(self.V, V, side="right") - 1, 0, self.V.size - 1)
 
     def time(self, V):
+        if isinstance(V, float):
+            i = self._i(V)
+            h = V - self._Vl[i]
+            return self._tl[i] + self._rl[i] * h + 0.5 * self._kl[i] * h * h
         V = np.asarray(V, dtype=float)
         i = self._segment(V)
         h = V - self.V[i]
@@ -202,12 +217,23 @@ class TabulatedCurve:
         return out if out.ndim else float(out)
 
     def rate(self, V):
+        if isinstance(V, float):
+            i = self._i(V)
+            return 1.0 / (self._rl[i] + self._kl[i] * (V - self._Vl[i]))
         V = np.asarray(V, dtype=float)
         i = self._segment(V)
         out = 1.0 / (self.r[i] + self.slope[i] * (V - self.V[i]))
         return out if out.ndim else float(out)
 
     def pressure_at(self, V):
+        if isinstance(V, float):
+            Vl, Pl = self._Vl, self._Pl
+            if V <= Vl[0]:
+                return Pl[0]
+            if V >= Vl[-1]:
+                return Pl[-1]
+            i = bisect_right(Vl, V) - 1
+            return Pl[i] + (Pl[i + 1] - Pl[i]) * (V - Vl[i]) / (Vl[i + 1] - Vl[i])
         out = np.interp(V, self.V, self.P)
         return out if np.ndim(out) else float(out)
 
