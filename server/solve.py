@@ -5,7 +5,6 @@ and every number a page or chart shows comes from the solver through here. This 
 only module that knows both the request's field paths and the solver's (:data:`API_PATHS`).
 """
 
-import json
 import math
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
@@ -205,6 +204,11 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         matched_chamber_thickness=sol.matched_chamber_thickness,
         throughput_gain_unconstrained=sol.throughput_gain_unconstrained,
     )
+    # the curves are checked finite as arrays, before they become lists
+    arrays = {k: np.asarray(v, dtype=float) for k, v in sol.curves.items()}
+    bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in arrays.items()
+                if not np.isfinite(v).all()), None)
+    curves = {k: v.tolist() for k, v in arrays.items()}
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     results = {
@@ -216,7 +220,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
         "chambers_full": _cycle_dict(sol.chambers_full),
         "at_end": at_end,
-        "curves": {k: np.asarray(v, dtype=float).tolist() for k, v in sol.curves.items()},
+        "curves": curves,
         "thickness_comparison": [
             {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
             for L, t in rows
@@ -226,7 +230,8 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    bad = _first_non_finite_fast(results)
+    if bad is None and _any_non_finite({k: v for k, v in results.items() if k not in _TEXT_PARTS}):
+        bad = first_non_finite(results)
     if bad is None and series is not None:
         bad = next((f"chart_series.{name}" for name, values in _series_arrays(series)
                     if not np.isfinite(values).all()), None)
@@ -299,17 +304,28 @@ def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
             "basis": basis + ("; " + "; ".join(notes) if notes else "")}
 
 
-def _first_non_finite_fast(results: dict) -> str | None:
-    """first_non_finite for results: the curves with numpy, the rest by the C JSON encoder,
-    which refuses NaN and infinity; the path is looked for only when something is wrong."""
-    for name, values in results["curves"].items():
-        if not np.isfinite(np.asarray(values, dtype=float)).all():
-            return first_non_finite(values, f"curves.{name}")
-    try:
-        json.dumps({k: v for k, v in results.items() if k != "curves"}, allow_nan=False)
-    except ValueError:
-        return first_non_finite(results)
-    return None
+#: parts of the results that hold no numbers computed for the request
+_TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings")
+
+
+def _any_non_finite(data) -> bool:
+    """Whether plain data holds a NaN or an infinity anywhere: x * 0 is 0 for a finite x and
+    NaN otherwise, so one sum answers for every number (no overflow, no per-path bookkeeping;
+    first_non_finite finds the path when the answer is yes)."""
+    stack, acc = [data], 0.0
+    pop, push = stack.pop, stack.extend
+    while stack:
+        item = pop()
+        kind = type(item)
+        if kind is float:
+            acc += item * 0.0
+        elif kind is dict:
+            push(item.values())
+        elif kind is list or kind is tuple:
+            push(item)
+        elif isinstance(item, float):  # numpy's float64, as a plain float (no warning)
+            acc += float(item) * 0.0
+    return acc != 0.0
 
 
 def first_non_finite(obj, path="") -> str | None:

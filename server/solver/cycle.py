@@ -200,7 +200,7 @@ class CycleFamily:
     def wash_time(self, V):
         c = self.cycle
         if self.wash_per_filtrate == 0.0:
-            return np.zeros_like(np.asarray(V, dtype=float)) if np.ndim(V) else 0.0
+            return 0.0 if isinstance(V, float) else np.zeros_like(np.asarray(V, dtype=float))
         final_pressure = self.curve.pressure_at(V)
         mu = self.filtration.viscosity
         return wash_time(
@@ -208,13 +208,23 @@ class CycleFamily:
             final_pressure, c.wash_pressure if c.wash_pressure is not None else final_pressure,
         )
 
+    def stage_times(self, V) -> tuple:
+        """(filtration, wash, downtime) [s] of the cycle ending at V [m^3], vectorised."""
+        return self.curve.time(V), self.wash_time(V), self.cycle.downtime
+
+    @staticmethod
+    def total(stage_times: tuple):
+        """The whole cycle time from its stages' times [s]."""
+        t_f, t_w, t_d = stage_times
+        return t_f + t_w + t_d
+
     def cycle_time(self, V):
         """Whole cycle time T = t_f + t_w + t_d [s] for an end volume V [m^3], vectorised.
 
-        The one place the stages of a cycle are added up: the results, the optimum and every
-        chart series use it.
+        The stages are listed in one place (stage_times) and added up in one (total): the
+        results, the optimum and every chart series use them.
         """
-        return self.curve.time(V) + self.wash_time(V) + self.cycle.downtime
+        return self.total(self.stage_times(V))
 
     def throughput(self, V):
         """Filtrate throughput V / T [m^3/s], vectorised."""
@@ -237,6 +247,8 @@ class CycleFamily:
         """End volume of the best cycle whose cake fits in chambers that fill at ``V_full``
         [m^3], vectorised over V_full: the highest throughput in (0, V_full]."""
         if self.scan is None:  # a single peak: the optimum, or full chambers before it
+            if isinstance(V_full, float):
+                return min(self.V_star, V_full)
             out = np.minimum(self.V_star, V_full)
             return out if np.ndim(out) else float(out)
         return self.scan.best_within(V_full, self.throughput)
@@ -244,10 +256,9 @@ class CycleFamily:
     def result(self, press: Press, V: float, limited_by: str) -> CycleResult:
         v = self.filtration.cake_volume_ratio
         V = float(V)
-        t_f = float(self.curve.time(V))
-        t_w = float(self.wash_time(V))
-        t_d = self.cycle.downtime
-        T = float(self.cycle_time(V))
+        times = self.stage_times(V)
+        t_f, t_w, t_d = (float(t) for t in times)
+        T = float(self.total(times))
         c = self.filtration.solids_per_filtrate
         fill = float(press.chamber_fill(V, v))
         return CycleResult(
@@ -451,7 +462,7 @@ def numeric_optimum_volume(throughput, V_scale: float, knots=()) -> float:
 
 
 def _scalar_or_none(x):
-    return float(x) if x is not None and np.isscalar(x) else None
+    return float(x) if isinstance(x, float | int) else None
 
 
 def solve_cycle(

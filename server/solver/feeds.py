@@ -100,6 +100,8 @@ class ConstantPressureCurve:
         return cp.rate_at_volume(V, self.K_p, self.B)
 
     def pressure_at(self, V):
+        if isinstance(V, float):
+            return self.pressure
         return np.full_like(np.asarray(V, dtype=float), self.pressure) if np.ndim(V) else self.pressure
 
     def optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
