@@ -6,7 +6,7 @@ declared here once: its model converts itself to the solver object (``to_solver`
 list of feed modes is read off the ``FeedIn`` union.
 """
 
-from typing import Annotated, Literal, get_args
+from typing import Annotated, ClassVar, Literal, get_args
 
 from pydantic import BaseModel, Field, PrivateAttr, model_validator
 
@@ -134,7 +134,16 @@ PumpFlow = quantity("flow", ge=0.0, le=100.0, description="Pump flow")
 Duration = quantity("time", gt=0.0, le=1e6, description="Step duration")
 
 
-class ConstantPressureFeedIn(Strict):
+class FeedModeIn(Strict):
+    """What every feed mode's model shares."""
+
+    #: its cycles are in closed form: a request solves in well under a millisecond, without
+    #: the hop to a worker thread (budget.within_budget)
+    closed_form: ClassVar[bool] = False
+
+
+class ConstantPressureFeedIn(FeedModeIn):
+    closed_form: ClassVar[bool] = True
     mode: Literal["constant_pressure"]
     pressure: PressPressure = Field(description="Pressure drop across cake and cloth [Pa]")
 
@@ -142,7 +151,7 @@ class ConstantPressureFeedIn(Strict):
         return solver_feeds.ConstantPressure(self.pressure)
 
 
-class ConstantRateFeedIn(Strict):
+class ConstantRateFeedIn(FeedModeIn):
     mode: Literal["constant_rate"]
     flow: Flow = Field(description="Set flow of a positive-displacement pump [m³/s]")
     max_pressure: PressPressure = Field(description="Relief or set pressure, then held [Pa]")
@@ -151,7 +160,7 @@ class ConstantRateFeedIn(Strict):
         return solver_feeds.ConstantRate(self.flow, self.max_pressure)
 
 
-class PumpCurveFeedIn(Strict):
+class PumpCurveFeedIn(FeedModeIn):
     mode: Literal["pump_curve"]
     points: list[tuple[PumpFlow, PressPressure]] = Field(
         min_length=2, max_length=5000,
@@ -163,7 +172,7 @@ class PumpCurveFeedIn(Strict):
         return solver_feeds.PumpCurve(tuple(self.points), self.max_pressure)
 
 
-class PressureStepsFeedIn(Strict):
+class PressureStepsFeedIn(FeedModeIn):
     mode: Literal["pressure_steps"]
     steps: list[tuple[PressPressure, Duration]] = Field(
         min_length=1, max_length=100,
