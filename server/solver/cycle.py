@@ -19,7 +19,7 @@ from scipy.optimize import minimize_scalar
 
 from .errors import SolverInputError
 from .feeds import Filtration
-from .press import Press
+from .press import Press, chambers_full_volume
 from .washing import wash_rate_divisor, wash_time
 
 LIMITED_BY_OPTIMUM = "optimum"
@@ -270,6 +270,35 @@ class CycleFamily:
             feasible=fill <= press.fill_fraction * (1.0 + 1e-12),
         )
 
+    def results(self, press: Press, V, chamber_thickness, limited_by) -> list[CycleResult]:
+        """:meth:`result` for many cycles at once: end volumes ``V`` [m^3] in chambers of
+        ``chamber_thickness`` [m] (arrays of one length; ``limited_by`` one reason or one per
+        cycle). A thickness comparison asks for all its cycles in one go."""
+        f, v = self.filtration, self.filtration.cake_volume_ratio
+        V = np.asarray(V, dtype=float)
+        L = np.broadcast_to(np.asarray(chamber_thickness, dtype=float), V.shape)
+        times = self.stage_times(V)
+        t_f, t_w = (np.broadcast_to(np.asarray(t, dtype=float), V.shape) for t in times[:2])
+        T = np.asarray(self.total(times), dtype=float)
+        c = f.solids_per_filtrate
+        fill = press.chamber_fill(V, v, L)
+        columns = {
+            "filtrate_volume": V, "filtration_time": t_f, "wash_volume": self.wash_per_filtrate * V,
+            "wash_time": t_w, "cycle_time": T, "filtrate_throughput": V / T, "solids_throughput": c * V / T,
+            "cake_thickness": press.cake_thickness(V, v), "chamber_fill": fill, "dry_cake_mass": c * V,
+            "wet_cake_mass": f.wet_to_dry_ratio * c * V,
+            "final_rate": np.broadcast_to(np.asarray(self.curve.rate(V), dtype=float), V.shape),
+            "final_pressure": np.broadcast_to(np.asarray(self.curve.pressure_at(V), dtype=float), V.shape),
+        }
+        lists = {k: np.asarray(x, dtype=float).tolist() for k, x in columns.items()}
+        feasible = (fill <= press.fill_fraction * (1.0 + 1e-12)).tolist()
+        reasons = [limited_by] * V.size if isinstance(limited_by, str) else list(limited_by)
+        t_d = self.cycle.downtime
+        return [
+            CycleResult(**{k: lists[k][i] for k in lists}, downtime=t_d, limited_by=reasons[i], feasible=feasible[i])
+            for i in range(V.size)
+        ]
+
     def end_volume(self, end: EndCriterion, V_best: float, V_full: float) -> tuple[float, str]:
         """Filtrate volume at which the end criterion stops filtration, and why."""
         if end.criterion == "best":
@@ -501,12 +530,7 @@ def solve_cycle(
 
     feed_warnings = getattr(system.feed, "warnings", None)
     warnings = list(feed_warnings(system.filtration, press.filter_area)) if feed_warnings else []
-    if best.chamber_fill < LOW_FILL_WARNING * press.fill_fraction:
-        warnings.append(
-            f"At the best cycle the cake fills only {100 * best.chamber_fill:.0f} % of the "
-            f"chambers: soft, partly filled cakes may discharge badly. Chambers of about "
-            f"{1000 * matched:.0f} mm would fill at the optimum."
-        )
+    warnings += _fill_warnings(best, press.fill_fraction, matched)
     return CycleSolution(
         best=best,
         unconstrained_optimum=unconstrained,
@@ -520,6 +544,16 @@ def solve_cycle(
         B=_scalar_or_none(getattr(family.curve, "B", None)),
         warnings=warnings,
     )
+
+
+def _fill_warnings(best: CycleResult, fill_fraction: float, matched: float) -> list[str]:
+    if best.chamber_fill < LOW_FILL_WARNING * fill_fraction:
+        return [
+            f"At the best cycle the cake fills only {100 * best.chamber_fill:.0f} % of the "
+            f"chambers: soft, partly filled cakes may discharge badly. Chambers of about "
+            f"{1000 * matched:.0f} mm would fill at the optimum."
+        ]
+    return []
 
 
 def cycle_family_for(system: PressSystem, thicknesses=()) -> CycleFamily:
@@ -540,9 +574,40 @@ def compare_thicknesses(
     thicknesses = [float(L) for L in thicknesses]
     if not thicknesses:
         return []
+    end = end or EndCriterion()
     family = family or cycle_family_for(system, thicknesses)
+    press, f = system.press, system.filtration
+    v = f.cake_volume_ratio
+    Ls = np.asarray(thicknesses)
+    n = Ls.size
+    # every thickness's cycles at once: the curve and the optimum are the same for all
+    V_full = np.asarray(chambers_full_volume(press.filter_area, Ls, v, press.fill_fraction), dtype=float)
+    V_star = float(family.V_star)
+    V_best = np.broadcast_to(np.asarray(family.best_volume(V_full), dtype=float), V_full.shape)
+    unconstrained = family.results(press, np.full(n, V_star), Ls, LIMITED_BY_OPTIMUM)
+    full = family.results(press, V_full, Ls, LIMITED_BY_CHAMBERS)
+    between = np.flatnonzero((V_best != V_star) & (V_best < V_full))  # a lower peak inside (steps, pumps)
+    inner = dict(zip(between.tolist(), family.results(press, V_best[between], Ls[between], LIMITED_BY_OPTIMUM)))
+    best = [unconstrained[i] if V_best[i] == V_star else (full[i] if V_best[i] >= V_full[i] else inner[i])
+            for i in range(n)]
+    ends = [family.end_volume(end, best[i].filtrate_volume, float(V_full[i])) for i in range(n)]
+    redo = [i for i, (V_end, reason) in enumerate(ends)
+            if not (V_end == best[i].filtrate_volume and reason == best[i].limited_by)]
+    again = family.results(press, np.array([ends[i][0] for i in redo]), Ls[redo], [ends[i][1] for i in redo]) \
+        if redo else []
+    at_end = dict(zip(redo, again))
+    feed_warnings = getattr(system.feed, "warnings", None)
+    shared = list(feed_warnings(f, press.filter_area)) if feed_warnings else []
+    matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
+    K_p, B = _scalar_or_none(getattr(family.curve, "K_p", None)), _scalar_or_none(getattr(family.curve, "B", None))
     out = []
-    for L in thicknesses:
-        variant = PressSystem(system.filtration, system.press.with_thickness(L), system.feed, system.cycle)
-        out.append((L, solve_cycle(variant, end, family, with_curves=False)))
+    for i, L in enumerate(thicknesses):
+        end_cycle = at_end.get(i, best[i])
+        out.append((L, CycleSolution(
+            best=best[i], unconstrained_optimum=unconstrained[i], chambers_full=full[i],
+            at_end=EndResult(end_cycle, ends[i][1], end_cycle.filtrate_throughput / best[i].filtrate_throughput),
+            chambers_full_volume=float(V_full[i]), matched_chamber_thickness=matched,
+            throughput_gain_unconstrained=unconstrained[i].filtrate_throughput / best[i].filtrate_throughput - 1.0,
+            curves={}, K_p=K_p, B=B, warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched),
+        )))
     return out

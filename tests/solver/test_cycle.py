@@ -225,3 +225,50 @@ def test_washing_by_pore_volumes_needs_the_porosity():
     system = PressSystem(base.filtration, base.press, base.feed, CycleSettings(1200.0, 2.0, wash_basis="cake_pores"))
     with pytest.raises(SolverInputError, match="porosity"):
         solve_cycle(system)
+
+
+def _same_solution(a, b):
+    """Two CycleSolutions agree in every figure (1e-12 relative) and every word."""
+    from dataclasses import fields
+
+    for part in ("best", "unconstrained_optimum", "chambers_full"):
+        x, y = getattr(a, part), getattr(b, part)
+        for fld in fields(x):
+            u, w = getattr(x, fld.name), getattr(y, fld.name)
+            if isinstance(u, float):
+                assert w == pytest.approx(u, rel=1e-12, abs=1e-300), (part, fld.name)
+            else:
+                assert u == w, (part, fld.name)
+    assert a.at_end.end_reason == b.at_end.end_reason
+    assert a.at_end.cycle.filtrate_volume == pytest.approx(b.at_end.cycle.filtrate_volume, rel=1e-12)
+    assert a.at_end.throughput_ratio_to_best == pytest.approx(b.at_end.throughput_ratio_to_best, rel=1e-12)
+    assert a.chambers_full_volume == pytest.approx(b.chambers_full_volume, rel=1e-12)
+    assert a.warnings == b.warnings
+
+
+@pytest.mark.parametrize("feed_kind", ["constant_pressure", "pump", "steps"])
+@pytest.mark.parametrize("end", [None, ("time", 1500.0), ("flow_fraction", 0.2), ("chambers_full", None)])
+def test_the_comparison_at_once_equals_one_solve_per_thickness(feed_kind, end):
+    # compare_thicknesses solves every thickness in one go; each must be exactly the cycle a
+    # press of that thickness alone gives (solve_cycle, one thickness at a time) on the same
+    # filtration curve (a tabulated curve built for another span differs in the 8th digit)
+    from server.solver import EndCriterion, PressureSteps, PumpCurve, cycle_family_for
+
+    base = make_system(wash_ratio=0.5, s=0.3)
+    if feed_kind == "pump":
+        q = np.array([0.0, 20.0, 40.0, 60.0]) / 3600
+        feed = PumpCurve(tuple(zip(q, np.array([8.0, 7.0, 5.0, 2.0]) * 1e5)))
+    elif feed_kind == "steps":
+        feed = PressureSteps(((1e5, 600.0), (3e5, 900.0), (7e5, 1e6)))
+    else:
+        feed = base.feed
+    system = PressSystem(base.filtration, base.press, feed, base.cycle)
+    criterion = EndCriterion() if end is None else (
+        EndCriterion(end[0]) if end[1] is None else EndCriterion(**{"criterion": end[0].split("_")[0], end[0]: end[1]}))
+    L_match = solve_cycle(system).matched_chamber_thickness
+    Ls = [0.25 * L_match, 0.7 * L_match, L_match, 1.6 * L_match, 0.012, 0.05]
+    family = cycle_family_for(system, Ls)
+    for L, sol in compare_thicknesses(system, Ls, criterion, family):
+        alone = solve_cycle(PressSystem(system.filtration, system.press.with_thickness(L), feed, system.cycle),
+                            criterion, family)
+        _same_solution(sol, alone)
