@@ -14,7 +14,7 @@ from .schemas.quantities import user_unit
 #: usual range per request field, in SI (the editor's hints show it in the unit chosen)
 USUAL = {
     "slurry.solids_mass_fraction": (0.01, 0.60),
-    "slurry.solids_concentration": (10.0, 800.0),
+    "slurry.solids_concentration": (10.0, 1500.0),
     "slurry.solids_per_liquid": (10.0, 1500.0),
     "slurry.solids_density": (1000.0, 5000.0),
     "slurry.viscosity": (0.3e-3, 5e-3),
@@ -25,6 +25,11 @@ USUAL = {
     "cake.dry_bulk_density": (300.0, 3500.0),
     "medium_resistance": (1e9, 1e12),
     "press.chamber_thickness": (0.020, 0.060),
+    "press.plate_face_area": (0.05, 6.0),
+    "press.filter_area": (1.0, 2000.0),
+    "press.chambers": (5, 200),
+    "cake.compressibility": (0.0, 0.9),
+    "cycle.wash_pressure": (1e5, 20e5),
     "press.fill_fraction": (0.80, 1.0),
     "feed.pressure": (3e5, 20e5),
     "feed.max_pressure": (3e5, 20e5),
@@ -37,12 +42,16 @@ KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration
          "cake.resistance": "specific_resistance", "cake.moisture": "fraction", "cake.wet_to_dry_ratio": "fraction",
          "cake.porosity": "fraction", "cake.dry_bulk_density": "density", "medium_resistance": "medium_resistance",
          "press.chamber_thickness": "length", "press.fill_fraction": "fraction", "feed.pressure": "pressure",
-         "feed.max_pressure": "pressure", "cycle.downtime": "time"}
+         "feed.max_pressure": "pressure", "cycle.downtime": "time", "press.plate_face_area": "area",
+         "press.filter_area": "area", "press.chambers": "fraction", "cake.compressibility": "fraction",
+         "cycle.wash_pressure": "pressure"}
 #: the unit a range is written in when none was typed (the editor's first choice)
 DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
-                 "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min"}
-#: ratios that are plain numbers, never percent
-PLAIN = {"cake.wet_to_dry_ratio"}
+                 "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2"}
+#: plain numbers, never percent
+PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility"}
+#: how far outside the usual range a value must be before a unit slip is suspected
+SLIP_MARGIN = 3.0
 
 
 def _nice(x: float) -> str:
@@ -99,9 +108,12 @@ def input_warnings(si: dict, raw: dict) -> list[dict]:
         if low <= value <= high:
             continue
         typed = _get(raw, path)
-        shown = _in_typed_unit(typed, value, KINDS[path])
+        shown = _in_typed_unit(typed, value, KINDS[path], path)
         given = user_unit(typed, KINDS[path])
-        usual = usual_range(path, _menu_spelling(given[0]) if given else None)
+        if given:
+            usual = usual_range(path, _menu_spelling(given[0]))
+        else:  # a bare number: the range as the API reads bare numbers (SI, fractions as fractions)
+            usual = usual_range(path, "" if KINDS[path] == "fraction" else _SI_SPELLING.get(KINDS[path]))
         message = f"{shown} is outside the usual {usual}; it was calculated as given."
         slip = _slip(typed, value, low, high)
         if slip:
@@ -114,21 +126,53 @@ def _menu_spelling(unit: str) -> str:
     return unit.replace("³", "^3").replace("²", "^2").replace("·", "*")
 
 
-def _in_typed_unit(typed, value: float, kind: str) -> str:
+#: the SI unit of a bare number, as the menus spell it
+_SI_SPELLING = {"density": "kg/m^3", "viscosity": "Pa*s", "specific_resistance": "m/kg", "medium_resistance": "1/m",
+                "length": "m", "pressure": "Pa", "time": "s", "area": "m^2"}
+
+
+def _in_typed_unit(typed, value: float, kind: str, path: str = "") -> str:
     given = user_unit(typed, kind)
     if given is not None:
         unit, to_user = given
         return f"{to_user(value):.4g} {unit}"
-    return f"{value:.4g}" if kind == "fraction" else f"{value:.4g} (SI)"
+    if kind == "fraction":
+        return f"{value:.4g}"
+    from .forms import pretty_unit
+
+    return f"{value:.4g} {pretty_unit(kind, _SI_SPELLING[kind])} (a bare number is in SI units)"
 
 
 def _slip(typed, value: float, low: float, high: float) -> str | None:
-    """What the value would be if it were a common slip, when that lands in the usual range."""
+    """What the value would be if it were a common slip, when that lands in the usual range.
+
+    Only a value well outside the range (SLIP_MARGIN) is suspected: 35 bar is unusual, not a slip.
+    """
     if isinstance(typed, str) and typed.strip().endswith("%") and low <= value * 100 <= high:
         return (f"It looks like a fraction typed where % is chosen: {value * 100:.4g} as a fraction would be "
                 f"{value * 1e4:.4g} %.")
-    for factor in (10, 100):
+    if low / SLIP_MARGIN <= value <= high * SLIP_MARGIN:
+        return None
+    if isinstance(typed, str) and "." in typed and low <= value * 1000 <= high:
+        return ("It is a factor of 1000 too small for the usual range: a dot is read as the decimal point, "
+                "so for thousands write the digits without it or group them with a space (19 000).")
+    for factor in (10, 100, 1000):
         for scaled, word in ((value * factor, "small"), (value / factor, "large")):
             if low <= scaled <= high:
                 return f"It is a factor of {factor} too {word} for the usual range: check the unit."
     return None
+
+
+def derived_warnings(derived: dict, si: dict) -> list[dict]:
+    """Flags for figures the inputs fix together: a solids density fixed by the cake's dry bulk
+    density and moisture, outside the usual range of solids."""
+    out = []
+    cake, slurry = si.get("cake") or {}, si.get("slurry") or {}
+    if cake.get("dry_bulk_density") is not None and slurry.get("solids_density") is None:
+        rho_s = derived.get("solids_density")
+        low, high = USUAL["slurry.solids_density"]
+        if rho_s is not None and not low <= rho_s <= high:
+            out.append({"field": "cake.dry_bulk_density", "message": (
+                f"With the cake's moisture, this dry bulk density means solids of {rho_s:.0f} kg/m³, outside the "
+                f"usual {usual_range('slurry.solids_density')} of solids; it was calculated as given: check both.")})
+    return out

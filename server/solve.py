@@ -14,7 +14,8 @@ import orjson
 
 from . import solver
 from .errors import InputError
-from .plausibility import input_warnings
+from .plausibility import derived_warnings, input_warnings
+from .schemas.common import DENSITY_MAX, DENSITY_MIN
 from .schemas.cycle import CycleRequest
 from .solver import slurry as sb
 from .solver import water
@@ -77,6 +78,10 @@ def solver_errors():
         raise InputError([(api_path(p), exc.message) for p in exc.parameters]) from None
 
 
+#: the solids densities the API accepts (schemas.common.Density): a density fixed by the cake must
+#: lie there too
+SOLIDS_DENSITY_RANGE = (DENSITY_MIN, DENSITY_MAX)
+
 CAUTIONS = [
     "Results are estimates from filtration test data, not a guarantee of press performance.",
     "The press and plate pressure ratings set by their maker, guards, lockout before opening, "
@@ -135,6 +140,15 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
             moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio, porosity=k.porosity,
             dry_bulk_density=k.dry_bulk_density,
         )
+        if s.solids_density is None and bal.solids_density is not None and not (
+                SOLIDS_DENSITY_RANGE[0] <= bal.solids_density <= SOLIDS_DENSITY_RANGE[1]):
+            low, high = SOLIDS_DENSITY_RANGE
+            liquid = "wet_to_dry_ratio" if k.wet_to_dry_ratio is not None else "moisture"
+            raise solver.SolverInputError(
+                "dry_bulk_density", f"with this cake liquid content, a dry bulk density of {k.dry_bulk_density:.4g} "
+                f"kg/m³ means solids of {bal.solids_density:.0f} kg/m³ (porosity {bal.porosity:.4g}); solids lie "
+                f"between {low:g} and {high:g} kg/m³: check the dry bulk density and the {liquid.replace('_', ' ')}",
+                also=(liquid,))
         if bal.solids_density is None:
             raise solver.SolverInputError(
                 "solids_density", "give the solids density (or the cake's dry bulk density with its moisture or "
@@ -209,10 +223,11 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in arrays.items()
                 if not np.isfinite(v).all()), None)
     curves = {k: v.tolist() for k, v in arrays.items()}
+    si_inputs = inputs.model_dump()
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     results = {
-        "input_warnings": input_warnings(inputs.model_dump(), inputs._raw),
+        "input_warnings": input_warnings(si_inputs, inputs._raw) + derived_warnings(built.derived, si_inputs),
         "derived": derived,
         "uncertainty": uncertainty(inputs, built, sol),
         "target": target_check(inputs, sol),

@@ -48,6 +48,7 @@ _SPACES = " \u00a0\u2009\u202f"  # space, no-break space, thin space, narrow no-
 _MANTISSA = re.compile(r"^([-+]?)((?:\d|[.,]\d)[\d.,'\u2019" + _SPACES + r"]*)")
 _EXPONENT = re.compile(r"^[eE][-+]?\d+")
 _GROUP = re.compile(r"^\d{3}(?:[.,]\d*)?$")
+_TIMES_TEN = re.compile(r"(?<=\d)\s*[×x*·]\s*10\s*(?:\^|\*\*)\s*([-+]?\d+)")
 _SPACED_GROUP = re.compile("[" + _SPACES + "]+([^" + _SPACES + "]+)")
 _REPLACEMENTS = [
     ("·", "*"), ("⋅", "*"), ("×", "*"), ("²", "^2"), ("³", "^3"), ("⁻¹", "^-1"),
@@ -75,7 +76,7 @@ def split_number(text: str) -> tuple[float, str]:
     the API has always read it). A single comma followed by exactly three digits ("19,000") is
     refused as ambiguous (``AmbiguousNumber``): the tool never guesses which was meant.
     """
-    s = text.strip()
+    s = _TIMES_TEN.sub(r"e\1", text.strip())  # "1.2×10^11", "1,2 x 10^11" -> "1.2e11"
     m = _MANTISSA.match(s)
     if not m:
         raise UnitError(f"could not read a number in {text!r}")
@@ -98,7 +99,7 @@ def split_number(text: str) -> tuple[float, str]:
     exponent = _EXPONENT.match(rest)
     if exponent:
         rest = rest[exponent.end():]
-    digits = _plain_digits(mantissa, spaced, text)
+    digits = _plain_digits(mantissa, spaced, sign + mantissa)
     number = float(sign + digits + (exponent.group(0) if exponent else ""))
     return number, rest.strip()
 
@@ -121,9 +122,10 @@ def _plain_digits(mantissa: str, grouped: bool, text: str) -> str:
     elif commas == 1:
         head, tail = body.split(",")
         if not grouped and re.fullmatch(r"[1-9]\d{0,2}", head) and re.fullmatch(r"\d{3}", tail):
+            sign = "-" if text.lstrip().startswith("-") else ""
             raise AmbiguousNumber(
-                f"{head},{tail} reads two ways: {head} {tail} or {head}.{tail}; "
-                f"write {head}{tail} (or {head} {tail}) or {head}.{tail}"
+                f"{sign}{head},{tail} reads two ways: {sign}{head} {tail} or {sign}{head}.{tail}; "
+                f"write {sign}{head}{tail} (or {sign}{head} {tail}) or {sign}{head}.{tail}"
             )
         decimal, group = ",", None
     else:

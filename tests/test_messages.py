@@ -118,3 +118,43 @@ def test_flags_show_on_the_results_pane(client):
     body["feed"]["pressure"] = "1000 bar"
     html = client.post("/ui/results", json=body).json()["html"]
     assert "Feed pressure:" in html and "factor of 100 too large" in html
+
+
+def test_a_value_just_outside_the_usual_range_is_not_called_a_slip(client):
+    w = _warnings(client, lambda b: b["feed"].update(pressure="35 bar"))
+    assert w["feed.pressure"].startswith("35 bar is outside the usual 3–20 bar")
+    assert "factor" not in w["feed.pressure"]  # 35 bar is unusual, not ten times too much
+
+
+def test_a_dot_read_as_decimal_point_shows_as_a_factor_of_1000(client):
+    # "19.000 cm^2" meant as 19 000 cm^2 by a reader of dot-grouped thousands: 19 cm^2 per face
+    def change(b):
+        b["press"] = {"plate_face_area": "19.000 cm^2", "chambers": 40, "chamber_thickness": "40 mm"}
+    w = _warnings(client, change)
+    assert w["press.plate_face_area"].startswith("19 cm^2 is outside the usual 500–60000 cm²")
+    assert "factor of 1000 too small" in w["press.plate_face_area"] and "19 000" in w["press.plate_face_area"]
+
+
+def test_a_bare_number_is_shown_with_its_si_unit(client):
+    w = _warnings(client, lambda b: b["press"].update(fill_fraction=0.5))
+    assert w["press.fill_fraction"].startswith("0.5 is outside the usual 0.8–1")
+
+
+def test_a_solids_density_fixed_by_the_cake_must_be_one_solids_have(client):
+    # saturated cake: porosity = (m - 1) rho_b / rho_l; rho_s = rho_b / (1 - porosity) (worked by hand:
+    # 2900 kg/m^3 at 25 % moisture: m = 4/3, porosity = (1/3)(2900)/1000 = 0.9667, solids 2900/0.0333 = 87 000)
+    body = copy.deepcopy(BASE_REQUEST)
+    body["slurry"].pop("solids_density")
+    body["slurry"]["liquid_density"] = "1000 kg/m^3"
+    body["cake"] = {k: v for k, v in body["cake"].items() if k not in ("moisture", "porosity", "wet_to_dry_ratio")}
+    body["cake"].update(dry_bulk_density="2900 kg/m^3", moisture="25 %")
+    r = client.post("/api/v1/cycle", json=body)
+    assert r.status_code == 422
+    assert {d["field"] for d in r.json()["detail"]} == {"cake.dry_bulk_density", "cake.moisture"}
+    assert "solids of 87000 kg/m³ (porosity 0.9667)" in r.text
+    # 300 kg/m^3 at 8 % moisture: porosity 0.0261, solids of 308 kg/m^3, lighter than water: calculated, flagged
+    body["cake"].update(dry_bulk_density="300 kg/m^3", moisture="8 %")
+    r = client.post("/api/v1/cycle", json=body)
+    assert r.status_code == 200, r.text
+    flags = {w["field"]: w["message"] for w in r.json()["input_warnings"]}
+    assert "solids of 308 kg/m³" in flags["cake.dry_bulk_density"]

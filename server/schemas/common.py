@@ -7,7 +7,8 @@ from .quantities import quantity
 
 Fraction01 = quantity("fraction", gt=0.0, lt=1.0, description="Fraction")
 SolidsFraction = quantity("fraction", ge=1e-6, lt=1.0, description="Solids mass fraction of the slurry")
-Density = quantity("density", ge=100.0, le=25000.0, description="Density")
+DENSITY_MIN, DENSITY_MAX = 100.0, 25000.0  # kg/m^3: from light organics to the densest solids
+Density = quantity("density", ge=DENSITY_MIN, le=DENSITY_MAX, description="Density")
 Viscosity = quantity("viscosity", ge=1e-5, le=10.0, description="Viscosity")
 Temperature = quantity("temperature", gt=273.15, lt=373.15, description="Temperature")
 #: A pressure on a press: feed, relief, wash, terminal and reference pressures.

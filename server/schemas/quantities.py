@@ -97,6 +97,11 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
         )
         if not ok:
             raise ValueError(_out_of_range(value, si, kind, allowed, gt, ge, lt, le))
+        # within the tolerance past an inclusive bound it is the bound, for every later check too
+        if ge is not None and si < ge:
+            return ge
+        if le is not None and si > le:
+            return le
         return si
 
     schema = {
