@@ -27,6 +27,7 @@ UNIT_CHOICES = {
     "temperature": [("°C", "degC"), ("°F", "degF"), ("K", "K")],
     "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("ft³/min", "ft^3/min"), ("m³/s", "m^3/s")],
     "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
+    "hours": [("h", "h")],
     "mass_rate": [("t/day", "t/day"), ("t/h", "t/h"), ("kg/h", "kg/h"), ("short ton/day", "ton/day")],
 }
 
@@ -53,6 +54,8 @@ class FormField:
     optional: bool = False
     #: the field whose unit this one shares (a standard error is in its value's unit)
     unit_of: str | None = None
+    #: "choice=option": with that option chosen this field is redundant, shown disabled, not sent
+    unused_with: str | None = None
 
     @property
     def full_label(self) -> str:
@@ -115,8 +118,8 @@ GROUPS = [
                                                    "concentration", "dry solids per m³ (or g per L) of slurry liquid; typically {usual}")]),
         ]),
         FormField("slurry.solids_density", "Solids density", "density",
-          "typically {usual} (organics from 1000); blank when the cake's dry bulk density and "
-          "moisture are given (they fix it)", optional=True),
+          "typically {usual}, organics at the low end; not needed when the cake is given by its dry bulk "
+          "density and moisture (they fix it)", optional=True, unused_with="cake.liquid_basis=bulk_moisture"),
         FormField("slurry.liquid_density", "Filtrate density", "density",
           "blank: water at the temperature, or 998 kg/m³", optional=True),
         Choice("slurry.viscosity_basis", "Filtrate viscosity from", [
@@ -214,7 +217,7 @@ GROUPS = [
             ("filtrate", "filtrate", [FormField("target.filtrate_throughput", "Required filtrate", "flow",
                                         "averaged over the day")]),
         ]),
-        FormField("target.hours_per_day", "Press running hours per day", "ratio",
+        FormField("target.hours_per_day", "Press running hours per day", "hours",
           "availability after maintenance and stops; blank: 24 h", optional=True),
     ]),
     Group("compare", "Compare", [
@@ -394,8 +397,6 @@ FULL_LABELS = {
     "cycle.end.flow_fraction": "End at a share of the initial flow below",
     "target.hours_per_day": "Press running hours per day",
 }
-#: Bare numbers of these inputs are in a unit the field's kind does not say.
-BARE_UNITS = {"target.hours_per_day": "h"}
 
 #: The label people see for each input path (for messages about a field, such as input_warnings).
 LABELS = {}

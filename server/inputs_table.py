@@ -5,13 +5,14 @@ Used where saved inputs are shown to people: the saved page (and its print), the
 The field table is the editor's (forms.GROUPS), so labels never drift apart.
 """
 
-from .forms import BARE_UNITS, GROUPS, Choice
+from .forms import GROUPS, Choice
 from .units import KINDS
 
 #: the SI unit a bare number of each form kind is in, as people write it
 _BARE = {"pressure": "Pa", "length": "m", "area": "m²", "volume": "m³", "time": "s", "viscosity": "Pa·s",
          "density": "kg/m³", "concentration": "kg/m³", "specific_resistance": "m/kg",
-         "medium_resistance": "1/m", "temperature": "°C", "flow": "m³/s", "flux": "m³/(m²·s)", "mass_rate": "kg/s"}
+         "medium_resistance": "1/m", "temperature": "°C", "flow": "m³/s", "flux": "m³/(m²·s)", "mass_rate": "kg/s",
+         "hours": "h"}
 _PRETTY = [("**", "^"), ("^2", "²"), ("^3", "³"), ("*", "·"), ("degC", "°C"), ("degF", "°F"), ("gpm", "US gpm")]
 
 
@@ -76,10 +77,7 @@ def input_rows(inputs: dict) -> list[tuple[str, str]]:
                 if raw is None or f.path in seen:
                     continue
                 seen.add(f.path)
-                shown = _shown(raw, f.kind)
-                if f.path in BARE_UNITS and isinstance(raw, int | float):
-                    shown = f"{shown} {BARE_UNITS[f.path]}"
-                rows.append((f.full_label, shown))
+                rows.append((f.full_label, _shown(raw, f.kind)))
     return rows
 
 

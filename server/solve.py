@@ -313,7 +313,9 @@ def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
         values = [getattr(b, key) for b in corners]
         return [min(values), max(values)]
 
-    basis = "best cycle at resistance and cloth resistance each one standard error below and above"
+    given = [name for name, se in (("the specific cake resistance", se_a), ("the cloth resistance", se_r)) if se]
+    basis = (f"the best cycle with {' and '.join(given)} one standard error below and above"
+             + (", in every combination" if len(given) == 2 else ""))
     return {"filtrate_throughput": span("filtrate_throughput"), "solids_throughput": span("solids_throughput"),
             "filtration_time": span("filtration_time"), "cycle_time": span("cycle_time"),
             "basis": basis + ("; " + "; ".join(notes) if notes else "")}

@@ -41,6 +41,7 @@ KINDS = {
         Kind("flux", "m/s", "m³/(m²·s)"),
         Kind("mass", "kg", "kg"),
         Kind("mass_rate", "kg/s", "kg/s"),
+        Kind("hours", "hour", "h", bare_unit="hour"),  # running hours: a bare number is in hours
     ]
 }
 
@@ -252,6 +253,7 @@ _EXAMPLES = {
     "flux": '"150 L/(m^2*h)"',
     "mass": '"12 kg" or "25 lb"',
     "mass_rate": '"120 t/day" or "5 t/h"',
+    "hours": '"22 h" or 22 (h)',
 }
 
 

@@ -158,3 +158,15 @@ def test_a_solids_density_fixed_by_the_cake_must_be_one_solids_have(client):
     assert r.status_code == 200, r.text
     flags = {w["field"]: w["message"] for w in r.json()["input_warnings"]}
     assert "solids of 308 kg/m³" in flags["cake.dry_bulk_density"]
+
+
+def test_running_hours_take_a_unit(client):
+    # hours a day: a bare number is hours, and "22 h" or "1320 min" say the same (1 h = 60 min)
+    answers = []
+    for hours in (22, "22 h", "1320 min"):
+        body = copy.deepcopy(BASE_REQUEST)
+        body["target"] = {"solids_throughput": "100 t/day", "hours_per_day": hours}
+        r = client.post("/api/v1/cycle", json=body)
+        assert r.status_code == 200, r.text
+        answers.append(r.json()["target"]["hours_per_day"])
+    assert answers == [22.0, 22.0, 22.0]

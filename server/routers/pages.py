@@ -64,7 +64,8 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
                 # the page still opens; Calculate marks what is wrong at the fields
                 return None, None, ("These inputs do not solve as they stand: press Calculate to see what "
                                     "to correct."), {}
-            html, figures = render_results(_templates(request), results, results["chart_series"], Units("si"))
+            html, figures = render_results(_templates(request), results, results["chart_series"], Units("si"),
+                                           inputs=inputs)
             flags = {w["field"]: w["message"] for w in results.get("input_warnings", [])}
             return html, page_json(figures), None, flags
 

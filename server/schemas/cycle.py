@@ -252,7 +252,7 @@ class TargetIn(Strict):
         "flow", gt=0.0, le=100.0, description="Required filtrate, averaged over the day"
     ) | None = None
     hours_per_day: quantity(
-        "fraction", ge=0.1, le=24.0, description="Hours a day the press runs (availability)"
+        "hours", ge=0.1, le=24.0, description="Hours a day the press runs (availability)"
     ) = Field(24.0, description="[h/day]; default 24")
 
     @model_validator(mode="after")

@@ -21,7 +21,8 @@
       const xa = "xaxis" + (tr.xaxis && tr.xaxis !== "x" ? tr.xaxis.slice(1) : "");
       const ya = "yaxis" + (tr.yaxis && tr.yaxis !== "y" ? tr.yaxis.slice(1) : "");
       if (tr.type === "contour") {
-        rows.push(["series", title(xa), title(ya), "throughput"]);
+        const bar = tr.colorbar && tr.colorbar.title;
+        rows.push(["series", title(xa), title(ya), (bar && (bar.text || bar)) || "throughput"]);
         tr.y.forEach((y, i) => tr.x.forEach((x, j) => rows.push([tr.name, x, y, tr.z[i][j]])));
       } else {
         rows.push(["series", title(xa), title(ya)]);

@@ -43,9 +43,32 @@
 
   // a list ("25, 32, 40"): items apart by ";", whitespace or a comma and a space; with none of
   // those, commas part the items ("25,32,40"), so a decimal comma needs "; " between items
+  // A bare comma stays in its number ("32,5" is a decimal comma; the server asks about
+  // "19,000"), except in a run like "25,32,40" whose parts cannot be one number.
   function listItems(raw) {
-    const parts = /[;\s]/.test(raw) ? raw.split(/;|,(?=\s)|\s+/) : raw.split(",");
-    return parts.map((x) => x.trim()).filter(Boolean);
+    const parts = raw.split(/;|,(?=\s)|\s+/).map((x) => x.trim()).filter(Boolean);
+    return parts.flatMap((x) => {
+      const pieces = x.split(",");
+      const oneNumber = pieces.length === 2 || pieces.slice(1).every((p) => /^\d{3}(\D|$)/.test(p));
+      return oneNumber ? [x] : pieces.filter(Boolean);
+    });
+  }
+
+  // a field another choice makes redundant (the solids density when the cake's dry bulk density
+  // and moisture fix it): shown disabled, not sent
+  function unused(el) {
+    const rule = el.closest("[data-unused-with]");
+    if (!rule) return false;
+    const [choice, option] = rule.dataset.unusedWith.split("=");
+    const sel = form.querySelector(`[name="${choice}@choice"]`);
+    return Boolean(sel) && sel.value === option;
+  }
+  function markUnused() {
+    form.querySelectorAll("[data-unused-with]").forEach((field) => {
+      const off = unused(field);
+      field.classList.toggle("unused", off);
+      field.querySelectorAll("input, select").forEach((i) => { i.disabled = off; });
+    });
   }
 
   function collect() {
@@ -57,7 +80,7 @@
     });
     form.querySelectorAll("input[name], textarea[name], select[name]").forEach((el) => {
       const path = el.name;
-      if (path.indexOf("@") >= 0 || !visible(el) || el.closest("[data-group=save]")) return;
+      if (path.indexOf("@") >= 0 || !visible(el) || el.closest("[data-group=save]") || unused(el)) return;
       const raw = el.value.trim();
       if (raw === "") return;
       const kind = el.dataset.kind || "";
@@ -114,7 +137,7 @@
         status.textContent = `${d.field}: ${d.msg}`;
       }
     });
-    if (first) first.focus();
+    if (first) { first.scrollIntoView({ block: "center" }); first.focus({ preventScroll: true }); }
     status.textContent = status.textContent || "Please correct the marked fields.";
   }
 
@@ -126,10 +149,14 @@
   const markStale = staleness.mark;
   const clearStale = staleness.clear;
 
+  let edits = 0; // counts edits, so an answer to earlier inputs is never shown as current
+  let asked = 0; // counts calculations, so only the latest answer is shown
   async function calculate() {
     clearErrors();
     status.textContent = "Calculating…";
     const body = collect();
+    const editsAtAsk = edits;
+    const mine = ++asked;
     const units = form.querySelector('[name="@display"]:checked').value;
     let response;
     try {
@@ -142,6 +169,7 @@
       return false;
     }
     const data = await response.json().catch(() => ({}));
+    if (mine !== asked) return false; // a later Calculate is on its way: this answer is stale
     if (response.status === 422) {
       status.textContent = "";
       showErrors(data.detail || []);
@@ -159,6 +187,12 @@
     figures = data.figures || {};
     plotAll();
     showFlags(data.results && data.results.input_warnings);
+    if (edits !== editsAtAsk) {
+      // the inputs changed while this was calculated: shown, but marked as for earlier inputs
+      markStale("You changed the inputs while this was calculated: press Calculate to see their results.");
+      status.textContent = "Done, for the inputs as they were.";
+      return false;
+    }
     status.textContent = "Done.";
     document.dispatchEvent(new CustomEvent("presscycle:results", { detail: { body, results: data.results } }));
     return true;
@@ -206,6 +240,7 @@
   const onEdit = (e) => {
     const name = e.target.name || "";
     if (name === "@display" || name.startsWith("@save") || e.target.closest("[data-group=save]")) return;
+    edits += 1;
     markStale("You changed the inputs: press Calculate to see their results. These are for the earlier inputs.");
   };
   form.addEventListener("input", onEdit);
@@ -214,8 +249,10 @@
   form.querySelectorAll("[data-choice] > select").forEach((sel) => {
     sel.addEventListener("change", () => {
       sel.parentElement.querySelectorAll(":scope > .option").forEach((o) => { o.hidden = o.dataset.option !== sel.value; });
+      markUnused();
     });
   });
+  markUnused();
   // a hint's usual range and a standard error's unit follow the unit chosen for the value
   form.querySelectorAll('select[name$="@unit"]').forEach((sel) => {
     sel.addEventListener("change", () => {

@@ -85,3 +85,71 @@ def test_a_failed_lab_fit_greys_the_earlier_fit(page):
     assert "stale" in page.get_attribute("#results", "class")
     assert "earlier readings" in page.inner_text("#results .stale-note")
     page.watch.bad_responses.clear()
+
+
+def test_a_decimal_comma_in_the_thickness_list_stays_one_thickness(page):
+    page.goto(page.base + "/demo/copper_concentrate")
+    page.fill("#f-compare_thicknesses", "32,5; 40")
+    assert page.evaluate("window.presscycle.collect()")["compare_thicknesses"] == ["32,5 mm", "40 mm"]
+    page.fill("#f-compare_thicknesses", "25,32,40")  # commas alone between entries
+    assert page.evaluate("window.presscycle.collect()")["compare_thicknesses"] == ["25 mm", "32 mm", "40 mm"]
+    r = calculate(page)
+    wait_results(page)
+    assert [row["chamber_thickness"] for row in r.json()["results"]["thickness_comparison"]] == \
+        pytest.approx([0.025, 0.032, 0.040])
+    clean(page)
+
+
+def test_an_edit_while_calculating_leaves_the_answer_marked_out_of_date(page):
+    # every answer is held back 1.5 s, so the downtime can change while the first is on its way
+    page.add_init_script("""{
+      const real = window.fetch;
+      window.fetch = (...args) => new Promise((ok) => setTimeout(() => ok(real(...args)), 1500));
+    }""")
+    page.goto(page.base + "/demo/iron_oxide_pigment")
+    page.fill("#f-cycle-downtime", "30")
+    page.click("#calculate")
+    page.fill("#f-cycle-downtime", "80")  # while the 30-minute answer is on its way
+    page.wait_for_function("document.getElementById('status').textContent.startsWith('Done')", timeout=20000)
+    assert page.inner_text("#status") == "Done, for the inputs as they were."
+    assert "stale" in page.get_attribute("#results", "class")
+    # Save then calculates the 80-minute inputs first: the saved page shows what was calculated
+    page.fill("#save-name", "edited while calculating")
+    page.click("#save")
+    page.wait_for_url(lambda url: "/s/" in url, timeout=30000)
+    assert "80 min" in page.inner_text("[data-testid=inputs]")
+    # the saved cycle is the 80-minute one: the API's answer for those inputs, as shown (3 figures)
+    import json
+
+    from tests.browser.test_layout import DEMOS
+    inputs = json.loads((DEMOS / "iron_oxide_pigment.json").read_text())["inputs"]
+    inputs["cycle"]["downtime"] = "80 min"
+    api = page.request.post(page.base + "/api/v1/cycle", data=inputs).json()
+    assert headline(page)["cycle_time"] == f"{api['best']['cycle_time'] / 60:.3g} min"
+    clean(page)
+
+
+def test_solids_density_is_set_aside_when_the_cake_fixes_it(page):
+    page.goto(page.base + "/demo/copper_concentrate")
+    page.select_option("#c-cake-liquid_basis", "bulk_moisture")
+    assert page.is_disabled("#f-slurry-solids_density")
+    page.fill("#f-cake-dry_bulk_density-bulk_moisture", "3400")
+    page.fill("#f-cake-moisture-bulk_moisture", "9.5")
+    body = page.evaluate("window.presscycle.collect()")
+    assert "solids_density" not in body["slurry"]
+    r = calculate(page)
+    wait_results(page)
+    assert r.status == 200
+    page.select_option("#c-cake-liquid_basis", "moisture")
+    assert not page.is_disabled("#f-slurry-solids_density")
+    clean(page)
+
+
+def test_printing_the_editor_prints_its_inputs_in_words(page):
+    page.goto(page.base + "/demo/kaolin_pump_fed")
+    assert not page.locator("[data-testid=print-inputs]").is_visible()
+    page.emulate_media(media="print")
+    table = page.locator("[data-testid=print-inputs]")
+    assert table.is_visible()
+    assert "centrifugal pump curve" in table.inner_text() and "Chamber thickness" in table.inner_text()
+    page.emulate_media(media="screen")
