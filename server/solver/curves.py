@@ -132,12 +132,15 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
         P = p0 + np.clip(w, 0.0, 1.0) * (p1 - p0)
         s_, a_ref, p_ref, mu = f.compressibility, f.resistance_ref, f.reference_pressure, f.viscosity
         for _ in range(NEWTON_STEPS):
-            alpha = a_ref * (np.maximum(P, 1e-300) / p_ref) ** s_
-            R = alpha * cake_per_alpha + medium
-            Q = q0 + m * (P - p0)
-            g = P - mu * Q * R
-            dg = 1.0 - mu * (m * R + Q * s_ * alpha * cake_per_alpha / np.maximum(P, 1e-300))
-            step = g / dg
+            with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+                alpha = a_ref * (np.maximum(P, 1e-300) / p_ref) ** s_
+                R = alpha * cake_per_alpha + medium
+                Q = q0 + m * (P - p0)
+                g = P - mu * Q * R
+                dg = 1.0 - mu * (m * R + Q * s_ * alpha * cake_per_alpha / np.maximum(P, 1e-300))
+                step = g / dg
+            # out of floating-point range (a pressure next to zero): go to the segment's middle
+            step = np.where(np.isfinite(step), step, P - 0.5 * (p0 + p1))
             P = np.clip(P - step, p0, p1)
             if np.all(np.abs(step) <= 1e-14 * p1):  # converged (quadratically) to round-off
                 break
