@@ -184,6 +184,7 @@ class TabulatedCurve:
         self._Vl, self._tl, self._rl, self._kl, self._Pl = (
             a.tolist() for a in (self.V, self.t, self.r, self.slope, self.P))
         self._last = self.V.size - 1
+        self._V_inner, self._t_inner = self.V[1:], self.t[1:]
 
     def _i(self, v: float) -> int:
         i = bisect_right(self._Vl, v) - 1
@@ -200,7 +201,9 @@ class TabulatedCurve:
         return self.V[1:]
 
     def _segment(self, V):
-        return np.clip(np.searchsorted(self.V, V, side="right") - 1, 0, self.V.size - 1)
+        # the count of inner nodes at or below V: the segment's index, 0 below the first node
+        # and the last segment beyond the end (no clipping needed)
+        return np.searchsorted(self._V_inner, V, side="right")
 
     def time(self, V):
         if isinstance(V, float):
@@ -215,7 +218,7 @@ class TabulatedCurve:
 
     def volume(self, t):
         t = np.asarray(t, dtype=float)
-        i = np.clip(np.searchsorted(self.t, t, side="right") - 1, 0, self.t.size - 1)
+        i = np.searchsorted(self._t_inner, t, side="right")
         dt = t - self.t[i]
         r, k = self.r[i], self.slope[i]
         h = 2.0 * dt / (r + np.sqrt(np.maximum(r * r + 2.0 * k * dt, 0.0)))
