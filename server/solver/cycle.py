@@ -347,12 +347,12 @@ class CycleFamily:
         start = float(self.curve.pressure_at(0.0))
         if end.pressure > top:
             raise SolverInputError(
-                "end.pressure", f"the feed never reaches {end.pressure:.6g} Pa: its highest pressure is {top:.6g} Pa"
+                "end.pressure", f"the feed never reaches {_bar(end.pressure)}: its highest pressure is {_bar(top)}"
             )
         if start >= end.pressure:
             raise SolverInputError(
-                "end.pressure", f"the feed is at {start:.6g} Pa from the start, not below the terminal "
-                f"pressure {end.pressure:.6g} Pa: filtration would end at once",
+                "end.pressure", f"the feed is at {_bar(start)} from the start, not below the terminal "
+                f"pressure {_bar(end.pressure)}: filtration would end at once",
             )
         return self._first_crossing(lambda V: self.curve.pressure_at(V) - end.pressure, V_full, "pressure")
 
@@ -544,6 +544,11 @@ def solve_cycle(
         B=_scalar_or_none(getattr(family.curve, "B", None)),
         warnings=warnings,
     )
+
+
+def _bar(pressure: float) -> str:
+    """A pressure for a message: bar, as presses are rated, with Pa beside."""
+    return f"{pressure / 1e5:.4g} bar ({pressure:.6g} Pa)"
 
 
 def _fill_warnings(best: CycleResult, fill_fraction: float, matched: float) -> list[str]:
