@@ -7,6 +7,7 @@ The field table is the editor's (forms.GROUPS), so labels never drift apart.
 
 from .forms import GROUPS, Choice
 from .units import KINDS
+from .views import power_of_ten
 
 #: the SI unit a bare number of each form kind is in, as people write it
 _BARE = {"pressure": "Pa", "length": "m", "area": "m²", "volume": "m³", "time": "s", "viscosity": "Pa·s",
@@ -28,7 +29,8 @@ def _value(raw, kind: str) -> str:
         return "–"
     if isinstance(raw, int | float):
         unit = _BARE.get(kind, "")
-        return f"{raw:g} {unit}".strip()
+        number = f"{raw:g}"
+        return f"{power_of_ten(raw, None) if 'e' in number else number} {unit}".strip()
     text = " ".join(str(raw).split())
     return _unit(text)
 

@@ -9,6 +9,23 @@ import orjson
 from markupsafe import Markup
 
 
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def power_of_ten(value: float, digits: int | None = 3) -> str:
+    """``value`` as people write large and small numbers: "1.85×10¹¹" (not "1.85e+11");
+    ``digits`` None: as many as the number has ("4×10¹⁰" for 4e10).
+
+    >>> power_of_ten(1.853e11), power_of_ten(-4.2e-5, 2), power_of_ten(4e10, None)
+    ('1.85×10¹¹', '-4.2×10⁻⁵', '4×10¹⁰')
+    """
+    text = f"{value:.{digits - 1}e}" if digits else f"{value:e}"
+    mantissa, exponent = text.split("e")
+    if digits is None:
+        mantissa = mantissa.rstrip("0").rstrip(".")
+    return f"{mantissa}×10{str(int(exponent)).translate(_SUPERSCRIPT)}"
+
+
 def fmt(value, digits: int = 3) -> str:
     """A number to ``digits`` significant figures, plainly written."""
     if value is None:
@@ -19,7 +36,7 @@ def fmt(value, digits: int = 3) -> str:
         return "0"
     mag = abs(value)
     if mag >= 1e6 or mag < 1e-3:
-        return f"{value:.{digits - 1}e}"
+        return power_of_ten(value, digits)
     decimals = max(digits - 1 - int(math.floor(math.log10(mag))), 0)
     return f"{value:,.{decimals}f}"
 

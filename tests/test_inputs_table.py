@@ -30,7 +30,7 @@ def test_bare_numbers_say_their_unit():
     inputs["cycle"]["downtime"] = 1080
     rows = dict(input_rows(inputs))
     assert rows["Usable chamber fill"] == "0.95 (95 %)"
-    assert rows["Cloth resistance R_m"] == "4e+10 1/m"
+    assert rows["Cloth resistance R_m"] == "4×10¹⁰ 1/m"
     assert rows["Downtime per cycle"] == "1080 s"
     assert rows["Pressure at which α was measured"] == "7 bar"
     assert rows["Press running hours per day"] == "22 h"
