@@ -276,28 +276,26 @@ class CycleFamily:
         cycle). A thickness comparison asks for all its cycles in one go."""
         f, v = self.filtration, self.filtration.cake_volume_ratio
         V = np.asarray(V, dtype=float)
-        L = np.broadcast_to(np.asarray(chamber_thickness, dtype=float), V.shape)
-        times = self.stage_times(V)
-        t_f, t_w = (np.broadcast_to(np.asarray(t, dtype=float), V.shape) for t in times[:2])
-        T = np.asarray(self.total(times), dtype=float)
+        n = V.size
+
+        def column(x):  # one value per cycle, as a list of plain floats
+            x = np.asarray(x, dtype=float)
+            return x.tolist() if x.shape == V.shape else [float(x)] * n
+
+        t_f, t_w, t_d = self.stage_times(V)
+        T = np.asarray(self.total((t_f, t_w, t_d)), dtype=float)
         c = f.solids_per_filtrate
-        fill = press.chamber_fill(V, v, L)
-        columns = {
-            "filtrate_volume": V, "filtration_time": t_f, "wash_volume": self.wash_per_filtrate * V,
-            "wash_time": t_w, "cycle_time": T, "filtrate_throughput": V / T, "solids_throughput": c * V / T,
-            "cake_thickness": press.cake_thickness(V, v), "chamber_fill": fill, "dry_cake_mass": c * V,
-            "wet_cake_mass": f.wet_to_dry_ratio * c * V,
-            "final_rate": np.broadcast_to(np.asarray(self.curve.rate(V), dtype=float), V.shape),
-            "final_pressure": np.broadcast_to(np.asarray(self.curve.pressure_at(V), dtype=float), V.shape),
-        }
-        lists = {k: np.asarray(x, dtype=float).tolist() for k, x in columns.items()}
+        fill = np.asarray(press.chamber_fill(V, v, chamber_thickness), dtype=float)
         feasible = (fill <= press.fill_fraction * (1.0 + 1e-12)).tolist()
-        reasons = [limited_by] * V.size if isinstance(limited_by, str) else list(limited_by)
-        t_d = self.cycle.downtime
-        return [
-            CycleResult(**{k: lists[k][i] for k in lists}, downtime=t_d, limited_by=reasons[i], feasible=feasible[i])
-            for i in range(V.size)
-        ]
+        reasons = [limited_by] * n if isinstance(limited_by, str) else list(limited_by)
+        # columns in CycleResult's field order
+        rows = zip(
+            V.tolist(), column(t_f), column(self.wash_per_filtrate * V), column(t_w), [float(t_d)] * n,
+            T.tolist(), (V / T).tolist(), (c * V / T).tolist(), column(press.cake_thickness(V, v)),
+            fill.tolist(), (c * V).tolist(), (f.wet_to_dry_ratio * c * V).tolist(), column(self.curve.rate(V)),
+            column(self.curve.pressure_at(V)), reasons, feasible, strict=True,
+        )
+        return [CycleResult(*row) for row in rows]
 
     def end_volume(self, end: EndCriterion, V_best: float, V_full: float) -> tuple[float, str]:
         """Filtrate volume at which the end criterion stops filtration, and why."""
@@ -574,13 +572,18 @@ def compare_thicknesses(
     """The same press and slurry at each chamber thickness [m]: its cycle solution.
 
     The filtration curve and the optimum do not depend on the thickness, so they are
-    computed once (or taken from ``family``) for all thicknesses.
+    computed once (or taken from ``family``) for all thicknesses; a tabulated curve's cycles
+    are worked out for every thickness at once (arrays), a closed form's one by one (floats).
     """
     thicknesses = [float(L) for L in thicknesses]
     if not thicknesses:
         return []
     end = end or EndCriterion()
     family = family or cycle_family_for(system, thicknesses)
+    if family.scan is None:
+        # a closed-form curve: one plain-float solve per thickness is quicker than arrays
+        return [(L, solve_cycle(PressSystem(system.filtration, system.press.with_thickness(L), system.feed,
+                                            system.cycle), end, family, with_curves=False)) for L in thicknesses]
     press, f = system.press, system.filtration
     v = f.cake_volume_ratio
     Ls = np.asarray(thicknesses)
