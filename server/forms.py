@@ -121,10 +121,10 @@ GROUPS = [
           "typically {usual}, organics at the low end; not needed when the cake is given by its dry bulk "
           "density and moisture (they fix it)", optional=True, unused_with="cake.liquid_basis=bulk_moisture"),
         FormField("slurry.liquid_density", "Filtrate density", "density",
-          "blank: water at the temperature, or 998 kg/m³", optional=True),
+          "typically {usual}; blank: water at the temperature, or 998 kg/m³", optional=True),
         Choice("slurry.viscosity_basis", "Filtrate viscosity from", [
             ("temperature", "temperature (water-like)", [FormField("slurry.temperature", "Slurry temperature", "temperature",
-                                                             "water-like filtrate; 1–99 °C")]),
+                                                             "water-like filtrate; typically {usual}")]),
             ("viscosity", "measured viscosity", [FormField("slurry.viscosity", "Filtrate viscosity", "viscosity",
                                                    "water is 1.0 mPa·s at 20 °C; typically {usual}")]),
         ]),
@@ -191,7 +191,7 @@ GROUPS = [
     ]),
     Group("cycle", "Cycle", [
         FormField("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically {usual}"),
-        FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below; 0 = no washing", optional=True),
+        FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below, typically {usual}; 0 = no washing", optional=True),
         FormField("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
         FormField("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
         FormField("cycle.wash_pressure", "Wash pressure", "pressure", "blank: the filtration pressure", optional=True),
@@ -202,7 +202,7 @@ GROUPS = [
             ("time", "a set time", [FormField("cycle.end.time", "Filtration time", "time", "from the start of feeding")]),
             ("flow", "a filtrate flow", [
                 FormField("cycle.end.flow", "Flow below", "flow", "give one of these three: the filtrate flow", optional=True),
-                FormField("cycle.end.flow_per_area", "… or flow per filter area below", "flux", "e.g. 20–100 L/(m²·h)", optional=True),
+                FormField("cycle.end.flow_per_area", "… or flow per filter area below", "flux", "usually {usual}", optional=True),
                 FormField("cycle.end.flow_fraction", "… or share of the initial flow below", "fraction", "e.g. 10 %", optional=True),
             ]),
             ("pressure", "a terminal pressure", [FormField("cycle.end.pressure", "Terminal pressure", "pressure",

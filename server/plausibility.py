@@ -30,6 +30,10 @@ USUAL = {
     "press.chambers": (5, 200),
     "cake.compressibility": (0.0, 0.9),
     "cycle.wash_pressure": (1e5, 20e5),
+    "slurry.liquid_density": (900.0, 1400.0),
+    "slurry.temperature": (278.15, 368.15),
+    "cycle.wash_ratio": (0.0, 5.0),
+    "cycle.end.flow_per_area": (5.0 / 3.6e6, 500.0 / 3.6e6),
     "press.fill_fraction": (0.80, 1.0),
     "feed.pressure": (3e5, 20e5),
     "feed.max_pressure": (3e5, 20e5),
@@ -44,12 +48,14 @@ KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration
          "press.chamber_thickness": "length", "press.fill_fraction": "fraction", "feed.pressure": "pressure",
          "feed.max_pressure": "pressure", "cycle.downtime": "time", "press.plate_face_area": "area",
          "press.filter_area": "area", "press.chambers": "fraction", "cake.compressibility": "fraction",
-         "cycle.wash_pressure": "pressure"}
+         "cycle.wash_pressure": "pressure", "slurry.liquid_density": "density", "slurry.temperature": "temperature",
+         "cycle.wash_ratio": "fraction", "cycle.end.flow_per_area": "flux"}
 #: the unit a range is written in when none was typed (the editor's first choice)
 DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
-                 "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2"}
+                 "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2",
+                 "temperature": "degC", "flux": "L/(m^2*h)"}
 #: plain numbers, never percent
-PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility"}
+PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility", "cycle.wash_ratio"}
 #: how far outside the usual range a value must be before a unit slip is suspected
 SLIP_MARGIN = 3.0
 
@@ -128,7 +134,8 @@ def _menu_spelling(unit: str) -> str:
 
 #: the SI unit of a bare number, as the menus spell it
 _SI_SPELLING = {"density": "kg/m^3", "viscosity": "Pa*s", "specific_resistance": "m/kg", "medium_resistance": "1/m",
-                "length": "m", "pressure": "Pa", "time": "s", "area": "m^2"}
+                "length": "m", "pressure": "Pa", "time": "s", "area": "m^2", "temperature": "degC",
+                "flux": "m^3/(m^2*s)"}
 
 
 def _in_typed_unit(typed, value: float, kind: str, path: str = "") -> str:
@@ -139,8 +146,12 @@ def _in_typed_unit(typed, value: float, kind: str, path: str = "") -> str:
     if kind == "fraction":
         return f"{value:.4g}"
     from .forms import pretty_unit
+    from .units import parse_quantity
 
-    return f"{value:.4g} {pretty_unit(kind, _SI_SPELLING[kind])} (a bare number is in SI units)"
+    unit = _SI_SPELLING[kind]  # a bare number's unit: SI, or °C for a temperature
+    zero, one = parse_quantity(f"0 {unit}", kind), parse_quantity(f"1 {unit}", kind)
+    where = "°C" if kind == "temperature" else "SI units"
+    return f"{(value - zero) / (one - zero):.4g} {pretty_unit(kind, unit)} (a bare number is in {where})"
 
 
 def _slip(typed, value: float, low: float, high: float) -> str | None:

@@ -170,3 +170,13 @@ def test_running_hours_take_a_unit(client):
         assert r.status_code == 200, r.text
         answers.append(r.json()["target"]["hours_per_day"])
     assert answers == [22.0, 22.0, 22.0]
+
+
+def test_a_bare_temperature_is_flagged_in_degrees_celsius(client):
+    # a bare temperature is in °C in the API: 98 is 98 °C, above the usual 5–95 °C
+    def hot(value):
+        return lambda b: (b["slurry"].pop("viscosity", None), b["slurry"].update(temperature=value))
+    w = _warnings(client, hot(98))
+    assert w["slurry.temperature"].startswith("98 °C (a bare number is in °C) is outside the usual 5–95 °C")
+    w = _warnings(client, hot("208.4 degF"))  # 98 °C
+    assert w["slurry.temperature"].startswith("208.4 degF is outside the usual 41–203 °F")
