@@ -34,6 +34,10 @@ USUAL = {
     "slurry.temperature": (278.15, 368.15),
     "cycle.wash_ratio": (0.0, 5.0),
     "cycle.end.flow_per_area": (5.0 / 3.6e6, 500.0 / 3.6e6),
+    # list entries ("*" stands for each entry's index)
+    "compare_thicknesses.*": (0.010, 0.100),
+    "feed.steps.*.0": (0.3e5, 20e5),
+    "feed.points.*.1": (0.3e5, 20e5),
     "press.fill_fraction": (0.80, 1.0),
     "feed.pressure": (3e5, 20e5),
     "feed.max_pressure": (3e5, 20e5),
@@ -49,7 +53,8 @@ KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration
          "feed.max_pressure": "pressure", "cycle.downtime": "time", "press.plate_face_area": "area",
          "press.filter_area": "area", "press.chambers": "fraction", "cake.compressibility": "fraction",
          "cycle.wash_pressure": "pressure", "slurry.liquid_density": "density", "slurry.temperature": "temperature",
-         "cycle.wash_ratio": "fraction", "cycle.end.flow_per_area": "flux"}
+         "cycle.wash_ratio": "fraction", "cycle.end.flow_per_area": "flux", "compare_thicknesses.*": "length",
+         "feed.steps.*.0": "pressure", "feed.points.*.1": "pressure"}
 #: the unit a range is written in when none was typed (the editor's first choice)
 DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
                  "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2",
@@ -107,25 +112,49 @@ def input_warnings(si: dict, raw: dict) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
     validated request as a dict), ``raw`` the request as sent (for the units typed)."""
     out = []
-    for path, (low, high) in USUAL.items():
-        value = _get(si, path)
-        if not isinstance(value, float | int) or (value == 0 and path in ZERO_ALLOWED):
-            continue
-        if low <= value <= high:
-            continue
-        typed = _get(raw, path)
-        shown = _in_typed_unit(typed, value, KINDS[path], path)
-        given = user_unit(typed, KINDS[path])
-        if given:
-            usual = usual_range(path, _menu_spelling(given[0]))
-        else:  # a bare number: the range as the API reads bare numbers (SI, fractions as fractions)
-            usual = usual_range(path, "" if KINDS[path] == "fraction" else _SI_SPELLING.get(KINDS[path]))
-        message = f"{shown} is outside the usual {usual}; it was calculated as given."
-        slip = _slip(typed, value, low, high)
-        if slip:
-            message += " " + slip
-        out.append({"field": path, "message": message})
+    for key, (low, high) in USUAL.items():
+        for path, value, typed in _entries(si, raw, key):
+            if not isinstance(value, float | int) or (value == 0 and key in ZERO_ALLOWED) or low <= value <= high:
+                continue
+            out.append({"field": path, "message": _unusual(key, value, typed, low, high)})
     return out
+
+
+def _unusual(key: str, value: float, typed, low: float, high: float) -> str:
+    """The flag of one value outside its usual range, in the unit typed, a likely slip named."""
+    kind = KINDS[key]
+    shown = _in_typed_unit(typed, value, kind)
+    given = user_unit(typed, kind)
+    if given:
+        usual = usual_range(key, _menu_spelling(given[0]))
+    else:  # a bare number: the range as the API reads bare numbers (SI, fractions as fractions)
+        usual = usual_range(key, "" if kind == "fraction" else _SI_SPELLING.get(kind))
+    message = f"{shown} is outside the usual {usual}; it was calculated as given."
+    slip = _slip(typed, value, low, high)
+    return message + (" " + slip if slip else "")
+
+
+def _entries(si, raw, key: str, done: str = ""):
+    """(path, SI value, value as sent) of each input that ``key`` names; "*" in ``key`` stands
+    for every index of a list."""
+    head, _, rest = key.partition(".")
+    if head == "*":
+        if not isinstance(si, list):
+            return
+        for i, item in enumerate(si):
+            typed = raw[i] if isinstance(raw, list) and i < len(raw) else None
+            yield from _entries(item, typed, rest, f"{done}{i}.") if rest else [(f"{done}{i}", item, typed)]
+        return
+    si_next = si.get(head) if isinstance(si, dict) else (si[int(head)] if isinstance(si, list | tuple)
+                                                        and head.isdigit() and int(head) < len(si) else None)
+    raw_next = raw.get(head) if isinstance(raw, dict) else (raw[int(head)] if isinstance(raw, list | tuple)
+                                                           and head.isdigit() and int(head) < len(raw) else None)
+    if si_next is None:
+        return
+    if rest:
+        yield from _entries(si_next, raw_next, rest, f"{done}{head}.")
+    else:
+        yield f"{done}{head}", si_next, raw_next
 
 
 def _menu_spelling(unit: str) -> str:
@@ -138,7 +167,7 @@ _SI_SPELLING = {"density": "kg/m^3", "viscosity": "Pa*s", "specific_resistance":
                 "flux": "m^3/(m^2*s)"}
 
 
-def _in_typed_unit(typed, value: float, kind: str, path: str = "") -> str:
+def _in_typed_unit(typed, value: float, kind: str) -> str:
     given = user_unit(typed, kind)
     if given is not None:
         unit, to_user = given

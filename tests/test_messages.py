@@ -180,3 +180,13 @@ def test_a_bare_temperature_is_flagged_in_degrees_celsius(client):
     assert w["slurry.temperature"].startswith("98 °C (a bare number is in °C) is outside the usual 5–95 °C")
     w = _warnings(client, hot("208.4 degF"))  # 98 °C
     assert w["slurry.temperature"].startswith("208.4 degF is outside the usual 41–203 °F")
+
+
+def test_list_entries_are_flagged_each_at_its_index(client):
+    def change(b):
+        b["compare_thicknesses"] = ["30 mm", "200 mm"]
+        b["feed"] = {"mode": "pressure_steps", "steps": [["1 bar", "10 min"], ["70 bar", "60 min"]]}
+    w = _warnings(client, change)
+    assert w["compare_thicknesses.1"].startswith("200 mm is outside the usual 10–100 mm")
+    assert w["feed.steps.1.0"].startswith("70 bar is outside the usual 0.3–20 bar")
+    assert "compare_thicknesses.0" not in w and "feed.steps.0.0" not in w

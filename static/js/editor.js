@@ -101,7 +101,7 @@
     (warnings || []).forEach((w) => {
       const field = fieldFor(w.field || "");
       const flag = field && field.querySelector && field.querySelector(".flag");
-      if (flag) { flag.textContent = w.message; flag.hidden = false; }
+      if (flag) { flag.textContent = flag.hidden ? w.message : `${flag.textContent} ${w.message}`; flag.hidden = false; }
     });
   }
 
