@@ -17,9 +17,8 @@ from . import solver
 from .errors import InputError
 from .plausibility import input_warnings
 from .schemas.cycle import CycleRequest
-from .solver import planning
+from .solver import planning, water
 from .solver import slurry as sb
-from .solver import water
 from .solver.errors import inputs_of
 
 DEFAULT_LIQUID_DENSITY = 998.0  # kg/m^3, water near 20 degC

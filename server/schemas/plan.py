@@ -162,7 +162,6 @@ class PlanResponse(BaseModel):
     energy: EnergyOut
     uncertainty: UncertaintyPlanOut | None
     sensitivity: SensitivityOut | None
-    charts: dict
     warnings: list[str]
     cautions: list[str]
     units: dict[str, str]
