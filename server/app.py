@@ -67,6 +67,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(cycle.router)
     app.include_router(labfit.router)
     app.include_router(plan.router)
+    app.include_router(plan.pages)
     app.include_router(ui.router)
     app.include_router(scenarios.router)
     app.include_router(scenarios.pages)

@@ -333,6 +333,7 @@ def make_plan(req: PlanRequest) -> dict:
         "basis": basis.name, "required": required, "throughput": Q_plan, "best_throughput": Q_best,
         "presses_needed": presses, "presses_with_spare": presses + req.spares,
         "utilisation": required / (presses * Q_plan),
+        "needed_per_press": required / (presses * shift_factor),
         "chambers_needed": _chambers_needed(req, built, basis, required),
         "schedule": schedule, "seasons": seasons,
         "cloth": _cloth(req, built, best, per_filtrate, warnings),

@@ -80,19 +80,21 @@ class StaticUrls:
 
 
 def render_results(templates, results: dict, chart_series: dict | None, units,
-                   chart_results: dict | None = None) -> tuple[str, dict]:
+                   chart_results: dict | None = None, plan_link: str | None = None) -> tuple[str, dict]:
     """The results pane and its charts, for every page that shows a scenario's results.
 
     The editor's first view, its partial update after Calculate and a saved scenario's page
     all come through here: the same template, the same figures, the same cautions.
     Returns (HTML of the results pane, plotly figures by chart key). ``chart_results`` marks
     the charts when they come from another solve than the pane (a saved scenario redrawn by a
-    changed solver); no ``chart_series``: no charts.
+    changed solver); no ``chart_series``: no charts. ``plan_link``: the scenario's Plan page
+    (a saved or demo scenario; unsaved inputs are asked to be saved first).
     """
     from .charts import compact, figures
     from .forms import LABELS
 
-    html = templates.get_template("_results.html").render({"results": results, "u": units, "labels": LABELS})
+    html = templates.get_template("_results.html").render({"results": results, "u": units, "labels": LABELS,
+                                                                "plan_link": plan_link})
     if chart_series is None:
         return html, {}
     return html, compact(figures(chart_series, chart_results or results, units))

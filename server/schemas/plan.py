@@ -155,6 +155,8 @@ class PlanResponse(BaseModel):
     presses_needed: int
     presses_with_spare: int
     utilisation: float = Field(description="Of each needed press [-]")
+    needed_per_press: float = Field(
+        description="Best throughput each needed press must reach (the charts' mark) [kg/s or m³/s]")
     chambers_needed: int | None
     schedule: ScheduleOut | None
     seasons: list[SeasonOut]
