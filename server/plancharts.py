@@ -36,7 +36,7 @@ def histogram(plan: dict, u: Units) -> dict | None:
         data.append(_vline(u(q, mc["throughput"][key]), key.upper(), color, "dot"))
     data.append(_vline(u(q, plan["needed_per_press"]), "needed per press", COLORS["best"], "solid"))
     layout = _layout(f"Best throughput of one press over {mc['samples']:,} samples",
-                     f"Best throughput, {BASIS_WORDS[plan['basis']]} [{unit}]", "Samples [-]",
+                     f"Best throughput [{unit}]", "Samples [-]",
                      bargap=0.05)
     layout["yaxis2"] = {"overlaying": "y", "range": [0, 1], "visible": False, "fixedrange": True}
     return {"data": data, "layout": layout}
@@ -59,7 +59,7 @@ def tornado(plan: dict, u: Units) -> dict | None:
          "marker": {"color": COLORS["best"]}, "hovertemplate": f"%{{y}} high: %{{x:.4g}} {unit}<extra></extra>"},
     ]
     layout = _layout("Best throughput with each uncertain input at its low and high end",
-                     f"Best throughput, {BASIS_WORDS[plan['basis']]} [{unit}]", "", barmode="overlay")
+                     f"Best throughput [{unit}]", "", barmode="overlay")
     layout["yaxis"]["automargin"] = True
     layout["height"] = 160 + 40 * len(rows)
     return {"data": data, "layout": layout}
