@@ -187,7 +187,22 @@ GROUPS = [
         ]),
     ]),
     Group("cycle", "Cycle", [
-        FormField("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically {usual}"),
+        Choice("cycle.downtime_basis", "Downtime given as", [
+            ("total", "one figure", [FormField("cycle.downtime", "Downtime per cycle", "time",
+                                               "open, discharge, clean cloths, close; typically {usual}")]),
+            ("parts", "its parts", [
+                FormField("cycle.downtime_parts.fixed", "Fixed downtime per cycle", "time",
+                          "open, close and start of discharge"),
+                FormField("cycle.downtime_parts.per_chamber", "… plus per chamber", "time",
+                          "plate shifting and discharge of one chamber; needs plates and chambers", optional=True),
+                FormField("cycle.downtime_parts.cloth_wash.time", "Cloth wash time", "time",
+                          "one wash of every cloth; blank: none", optional=True),
+                FormField("cycle.downtime_parts.cloth_wash.every_cycles", "… every (cycles)", "count",
+                          "a number of cycles, or best (needs the cloth's wear below)", optional=True),
+                FormField("cloth.resistance_growth_per_cycle", "Cloth wear", "medium_resistance",
+                          "cloth resistance added each cycle since a wash; blank: none", optional=True),
+            ]),
+        ]),
         FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below; 0 = no washing", optional=True),
         FormField("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
         FormField("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
@@ -351,6 +366,8 @@ def _fill_value(values: dict, f: FormField, raw) -> None:
     elif f.kind == "length_list":
         Ls = raw or []
         values[f.path] = (", ".join(_num(L, "length") for L in Ls), "mm")
+    elif f.kind == "count" and raw == "best":
+        values[f.path] = ("best", "")
     elif f.kind == "washing":
         values[f.path] = (raw or "through", "")
     elif f.kind == "wash_basis":

@@ -74,3 +74,18 @@ def test_old_saved_scenarios_without_a_plan_still_read(client):
     sid = r.json()["id"]
     assert client.get(f"/api/v1/scenarios/{sid}").json()["plan"] is None
     assert "saved-plan" not in client.get(f"/s/{sid}").text
+
+
+def test_downtime_parts_show_on_the_saved_page_and_fill_the_editor_of_a_copy(client):
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["press"] = {"plate_face_area": "1 m^2", "chambers": 25, "chamber_thickness": "40 mm"}
+    inputs["cycle"] = {"downtime_parts": {"fixed": "10 min", "per_chamber": "20 s",
+                                          "cloth_wash": {"time": "1 h", "every_cycles": "best"}}}
+    inputs["cloth"] = {"resistance_growth_per_cycle": "2e9 1/m"}
+    sid = client.post("/api/v1/scenarios", json={"name": "parts", "inputs": inputs}).json()["id"]
+    saved = client.get(f"/s/{sid}").text
+    for label, value in (("Fixed downtime per cycle", "10 min"), ("… plus per chamber", "20 s"),
+                         ("Cloth wear", "2e9 1/m")):
+        assert f'<th scope="row">{label}</th><td>{value}</td>' in saved
+    editor = client.get(f"/s/{sid}/copy").text
+    assert 'value="best"' in editor and 'value="10"' in editor
