@@ -21,7 +21,7 @@ from . import solver
 from .errors import InputError, clean
 from .schemas.cycle import CycleRequest
 from .schemas.plan import RANGE_KINDS, PlanRequest
-from .solve import CAUTIONS, MAX_PRESSES, BuiltSystem, api_path, build_system
+from .solve import CAUTIONS, MAX_PRESSES, BuiltSystem, api_path, build_system, first_non_finite
 from .solver import planning
 from .units import UnitError, parse_quantity
 
@@ -342,6 +342,9 @@ def make_plan(req: PlanRequest) -> dict:
         "warnings": warnings, "cautions": CAUTIONS, "units": PLAN_UNITS,
     }
     plan.update(_uncertainty(req, built, family, basis, required, Q_best, shift_factor, presses))
+    bad = first_non_finite(plan)
+    if bad is not None:
+        raise InputError([(("body",), f"these inputs give a plan out of numeric range ({bad}); check the magnitudes")])
     return plan
 
 

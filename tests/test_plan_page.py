@@ -89,3 +89,27 @@ def test_downtime_parts_show_on_the_saved_page_and_fill_the_editor_of_a_copy(cli
         assert f'<th scope="row">{label}</th><td>{value}</td>' in saved
     editor = client.get(f"/s/{sid}/copy").text
     assert 'value="best"' in editor and 'value="10"' in editor
+
+
+def test_every_plan_chart_has_units_on_its_axes_and_finite_data(client):
+    import math
+
+    from server.display import Units
+    from server.plancharts import plan_figures
+
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["cycle"] = {"downtime_parts": {"fixed": 1200, "cloth_wash": {"time": "2 h", "every_cycles": "best"}}}
+    inputs["cloth"] = {"resistance_growth_per_cycle": 2e9}
+    inputs["cake"]["resistance_stderr"] = 2e10
+    plan = client.post("/api/v1/plan", json={**PLAN, "inputs": inputs}).json()
+    for system in ("si", "us"):
+        figures = plan_figures(plan, Units(system))
+        assert set(figures) == {"histogram", "tornado", "seasons", "cloth", "cycle_growth"}
+        for key, fig in figures.items():
+            assert "[" in fig["layout"]["xaxis"]["title"]["text"], key
+            if key != "tornado":  # the tornado's y axis holds the inputs' names
+                assert "[" in fig["layout"]["yaxis"]["title"]["text"], key
+            for trace in fig["data"]:
+                for name in ("x", "y"):
+                    values = [v for v in trace.get(name, []) if not isinstance(v, str)]
+                    assert all(math.isfinite(v) for v in values), (key, name)
