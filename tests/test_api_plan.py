@@ -224,3 +224,55 @@ def test_downtime_parts_and_lab_fit_fields_are_checked(client, cycle_in, extra, 
     r = client.post("/api/v1/plan", json=body)
     assert r.status_code == 422, r.text
     assert any(d["loc"] == field for d in r.json()["detail"]), r.json()
+
+
+def test_the_plans_samples_of_the_lab_fit_carry_the_requested_correlation():
+    from server.plan import Samples
+    from server.schemas.plan import PlanRequest
+    from server.solve import build_system
+
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["cake"]["resistance_stderr"] = 1e10
+    inputs.update(medium_resistance_stderr=5e9, resistance_medium_correlation=-0.92)
+    req = PlanRequest.model_validate(plan_body(inputs=inputs, samples=20000))
+    drawn = Samples(req, build_system(req.inputs), 20000)
+    ln_a, ln_r = np.log(drawn.values["cake.resistance"]), np.log(drawn.values["medium_resistance"])
+    assert np.corrcoef(ln_a, ln_r)[0, 1] == pytest.approx(-0.92, abs=0.01)
+    # log-normal about the fitted values, with the standard errors as relative spreads
+    assert np.median(drawn.values["cake.resistance"]) == pytest.approx(1e11, rel=0.01)
+    assert np.std(ln_a) == pytest.approx(0.1, rel=0.03) and np.std(ln_r) == pytest.approx(0.1, rel=0.03)
+
+
+@pytest.mark.parametrize("stderr", [1e8, 1e9])
+def test_small_lab_fit_errors_put_p50_on_the_deterministic_answer(client, stderr):
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["cake"]["resistance_stderr"] = stderr
+    got = post_plan(client, plan_body(inputs=inputs, samples=4001))
+    assert got["uncertainty"]["throughput"]["p50"] == pytest.approx(got["best_throughput"], rel=stderr / 1e11)
+
+
+def test_a_pump_fed_scenario_samples_each_cycle_on_its_own_and_says_so(client):
+    import json
+    from pathlib import Path
+
+    demo = json.loads((Path(__file__).resolve().parents[1] / "demo_cases" / "kaolin_pump_fed.json").read_text())
+    inputs = demo.get("inputs", demo)
+    inputs["cake"]["resistance_stderr"] = "3e10 m/kg"
+    got = post_plan(client, plan_body(inputs=inputs, samples=10000, target={"dry_solids_per_day": "200 t/day"}))
+    u = got["uncertainty"]
+    assert u["samples"] == 400 and "400" in u["notes"][0]
+    assert u["throughput"]["p10"] < u["throughput"]["p50"] < u["throughput"]["p90"]
+    # the tornado's ends are whole cycle solves: one of them against /api/v1/cycle
+    row = got["sensitivity"]["tornado"][0]
+    variant = copy.deepcopy(inputs)
+    variant["cake"]["resistance"] = row["high"]
+    variant["cake"].pop("resistance_stderr")
+    # the cycle call tabulates the pump-fed curve further (its thickness comparison): within 1e-6
+    assert row["throughput_high"] == pytest.approx(cycle(client, variant)["best"]["solids_throughput"], rel=1e-6)
+
+
+def test_a_scenario_file_with_a_plan_imports_with_it(client):
+    body = {"name": "imported", "inputs": BASE_REQUEST, "plan": {"target": {"dry_solids_per_day": "80 t/day"}}}
+    r = client.post("/api/v1/scenarios/import", json=body)
+    assert r.status_code == 201, r.text
+    assert client.get(f"/api/v1/scenarios/{r.json()['id']}").json()["plan"] == body["plan"]
