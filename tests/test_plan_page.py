@@ -84,8 +84,8 @@ def test_downtime_parts_show_on_the_saved_page_and_fill_the_editor_of_a_copy(cli
     inputs["cloth"] = {"resistance_growth_per_cycle": "2e9 1/m"}
     sid = client.post("/api/v1/scenarios", json={"name": "parts", "inputs": inputs}).json()["id"]
     saved = client.get(f"/s/{sid}").text
-    for label, value in (("Fixed downtime per cycle", "10 min"), ("… plus per chamber", "20 s"),
-                         ("Cloth wear", "2e9 1/m")):
+    for label, value in (("Fixed downtime per cycle", "10 min"), ("Downtime per chamber", "20 s"),
+                         ("Cloth wear per cycle", "2e9 1/m")):
         assert f'<th scope="row">{label}</th><td>{value}</td>' in saved
     editor = client.get(f"/s/{sid}/copy").text
     assert 'value="best"' in editor and 'value="10"' in editor

@@ -91,3 +91,27 @@ def test_plan_page_draws_under_the_real_csp(browser, live_server, saved):
     assert pg.locator(".js-plotly-plot").count() == 5
     assert errors == []
     context.close()
+
+
+def test_the_editor_calculates_with_downtime_from_its_parts(page, saved):
+    from tests.browser.test_editor import headline, wait_results
+
+    page.goto(page.base + f"/s/{saved}/copy")
+    page.wait_for_selector("[data-testid=headline]")
+    assert page.input_value("#f-cycle-downtime") == ""
+    assert page.input_value("#f-cycle-downtime_parts-cloth_wash-every_cycles") == "best"
+    before = headline(page)["cycle_time"]
+    page.fill("#f-cycle-downtime_parts-per_chamber", "30")  # seconds a chamber: a longer cycle
+    page.select_option("select[name='cycle.downtime_parts.per_chamber@unit']", "s")
+    page.click("#calculate")
+    wait_results(page)
+    assert headline(page)["cycle_time"] != before
+    # one figure and its parts together: refused at the cycle, in words
+    page.fill("#f-cycle-downtime", "20")
+    page.click("#calculate")
+    page.wait_for_function("document.getElementById('status').textContent !== 'Done.'")
+    page.wait_for_selector(".error:not([hidden])")
+    assert "only one of downtime or downtime_parts" in page.locator(".error:not([hidden])").first.inner_text()
+    # the 422 above was the point
+    page.watch.console_errors[:] = [e for e in page.watch.console_errors if "422" not in e]
+    clean(page)
