@@ -23,7 +23,7 @@ from .schemas.cycle import CycleRequest
 from .schemas.plan import RANGE_KINDS, PlanRequest
 from .solve import CAUTIONS, MAX_PRESSES, BuiltSystem, api_path, build_system, first_non_finite
 from .solver import planning
-from .units import UnitError, parse_quantity
+from .units import KINDS, UnitError, parse_quantity
 
 #: Most samples of a feed without a closed-form optimum (each solved on its own).
 MAX_SLOW_SAMPLES = 400
@@ -438,7 +438,8 @@ def _uncertainty(req, built, family, basis, required, nominal, shift_factor, pre
     tornado = []
     for path, (low, high) in drawn.ends.items():
         Q = _evaluate(req, built, family, basis, {path: np.array([low, high])}, 2)
-        tornado.append({"input": path, "label": LABELS[path], "low": low, "high": high,
+        tornado.append({"input": path, "label": LABELS[path], "unit": KINDS[RANGE_KINDS[path]].label,
+                        "low": low, "high": high,
                         "throughput_low": float(Q[0]), "throughput_high": float(Q[1]), "variance_share": None})
     tornado.sort(key=lambda r: -abs(r["throughput_high"] - r["throughput_low"]))
     shares, uncertainty = {}, None

@@ -113,3 +113,9 @@ def test_every_plan_chart_has_units_on_its_axes_and_finite_data(client):
                 for name in ("x", "y"):
                     values = [v for v in trace.get(name, []) if not isinstance(v, str)]
                     assert all(math.isfinite(v) for v in values), (key, name)
+
+
+def test_the_variance_shares_are_shown_with_units(client, saved):
+    page = client.get(f"/s/{saved}/plan").text
+    assert 'data-testid="plan-shares"' in page
+    assert "cake resistance</th><td>" in page and " m/kg</td>" in page

@@ -102,8 +102,8 @@ def _number(text: str):
     return int(value) if value.is_integer() and "." not in text and "e" not in text.lower() else value
 
 
-def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict | None, query: dict,
-              back: str, parent_id: str | None, units: str = "si"):
+async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict | None, query: dict,
+                    back: str, parent_id: str | None, units: str = "si"):
     """The Plan page of a scenario: its form, and the plan when the form (or the saved plan) gives one."""
     given = {k: v for k, v in query.items() if k in DEFAULT_FORM}
     if given:
@@ -122,7 +122,7 @@ def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict | Non
         context["plan_json"] = json.dumps(plan_inputs)
         try:
             req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
-            result = make_plan(req)
+            result = await within_budget(request, make_plan, req)
         except ValidationError as exc:
             context["errors"] = [(_where(loc), msg) for loc, msg in InputError.from_validation(exc, ()).errors]
         except InputError as exc:
@@ -140,19 +140,20 @@ def _where(loc) -> str:
 
 
 @pages.get("/s/{sid}/plan", response_class=HTMLResponse)
-def saved_plan_page(request: Request, sid: str, units: UnitSystem = "si"):
+async def saved_plan_page(request: Request, sid: str, units: UnitSystem = "si"):
     from .scenarios import _get_or_404
 
     s = _get_or_404(request, sid)
-    return plan_page(request, s.name, s.inputs, s.results.get("plan_inputs"), dict(request.query_params),
+    return await plan_page(request, s.name, s.inputs, s.results.get("plan_inputs"), dict(request.query_params),
                      f"/s/{sid}", sid, units)
 
 
 @pages.get("/demo/{slug}/plan", response_class=HTMLResponse)
-def demo_plan_page(request: Request, slug: str, units: UnitSystem = "si"):
+async def demo_plan_page(request: Request, slug: str, units: UnitSystem = "si"):
     from .pages import _demos
 
     demo = next((d for d in _demos(request) if d.slug == slug), None)
     if demo is None:
         raise HTTPException(404, f"no demo scenario named {slug!r}")
-    return plan_page(request, demo.name, demo.inputs, None, dict(request.query_params), f"/demo/{slug}", None, units)
+    return await plan_page(request, demo.name, demo.inputs, None, dict(request.query_params), f"/demo/{slug}", None,
+                           units)

@@ -123,6 +123,7 @@ class EnergyOut(BaseModel):
 class TornadoOut(BaseModel):
     input: str
     label: str
+    unit: str = Field(description="The SI unit of low and high (\"-\": a fraction)")
     low: float = Field(description="The input's low value, SI")
     high: float = Field(description="The input's high value, SI")
     throughput_low: float = Field(description="Best throughput with the input low [target basis]")
