@@ -40,13 +40,15 @@ DISPLAY = {
     "specific_resistance": {"si": Shown("m/kg", "m/kg"), "us": Shown("ft/lb", "ft/lb")},
     "medium_resistance": {"si": Shown("1/m", "1/m"), "us": Shown("1/ft", "1/ft")},
     "percent": {"si": Shown("%", "percent"), "us": Shown("%", "percent")},
+    "energy": {"si": Shown("kWh", "kWh"), "us": Shown("kWh", "kWh")},
+    "specific_energy": {"si": Shown("kWh/t", "kWh/t"), "us": Shown("kWh/short ton", "kWh/short_ton")},
 }
 
 SI_OF = {
     "time": "s", "volume": "m**3", "volume_small": "m**3", "flow": "m**3/s", "flux": "m/s", "mass": "kg",
     "mass_rate": "kg/s", "mass_per_day": "kg/s", "thickness": "m", "pressure": "Pa", "area": "m**2",
     "density": "kg/m**3", "viscosity": "Pa*s", "specific_resistance": "m/kg", "medium_resistance": "1/m",
-    "percent": "dimensionless",
+    "percent": "dimensionless", "energy": "J", "specific_energy": "J/kg",
 }
 
 

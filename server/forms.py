@@ -190,8 +190,20 @@ GROUPS = [
         ]),
     ]),
     Group("cycle", "Cycle", [
-        FormField("cycle.downtime", "Downtime per cycle", "time", "open, discharge, clean cloths, close; typically {usual}"),
-        FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below, typically {usual}; 0 = no washing", optional=True),
+        FormField("cycle.downtime", "Downtime per cycle", "time",
+                  "open, discharge, clean cloths, close; typically {usual}; or leave blank and give its parts"),
+        FormField("cycle.downtime_parts.fixed", "… or its parts: fixed per cycle", "time",
+                  "open, close and start of discharge", optional=True),
+        FormField("cycle.downtime_parts.per_chamber", "… plus per chamber", "time",
+                  "plate shifting and discharge of one chamber; needs plates and chambers", optional=True),
+        FormField("cycle.downtime_parts.cloth_wash.time", "… plus a cloth wash of", "time",
+                  "one wash of every cloth", optional=True),
+        FormField("cycle.downtime_parts.cloth_wash.every_cycles", "… every (cycles)", "count",
+                  "a number of cycles, or best (needs the cloth's wear)", optional=True),
+        FormField("cloth.resistance_growth_per_cycle", "Cloth wear per cycle", "medium_resistance",
+                  "cloth resistance added each cycle since a wash", optional=True),
+        FormField("cycle.wash_ratio", "Wash ratio", "ratio", "wash volumes per volume below, typically {usual}; "
+                  "0 = no washing", optional=True),
         FormField("cycle.wash_basis", "… counted per", "wash_basis", "displacement washes count cake pore volumes"),
         FormField("cycle.washing", "Washing", "washing", "through-washing: wash rate 1/4 of the final rate"),
         FormField("cycle.wash_pressure", "Wash pressure", "pressure", "blank: the filtration pressure", optional=True),
@@ -354,6 +366,8 @@ def _fill_value(values: dict, f: FormField, raw) -> None:
     elif f.kind == "length_list":
         Ls = raw or []
         values[f.path] = (", ".join(_num(L, "length") for L in Ls), "mm")
+    elif f.kind == "count" and raw == "best":
+        values[f.path] = ("best", "")
     elif f.kind == "washing":
         values[f.path] = (raw or "through", "")
     elif f.kind == "wash_basis":
@@ -396,6 +410,10 @@ FULL_LABELS = {
     "cycle.end.flow_per_area": "End at a flow per filter area below",
     "cycle.end.flow_fraction": "End at a share of the initial flow below",
     "target.hours_per_day": "Press running hours per day",
+    "cycle.downtime_parts.fixed": "Fixed downtime per cycle",
+    "cycle.downtime_parts.per_chamber": "Downtime per chamber",
+    "cycle.downtime_parts.cloth_wash.time": "Cloth wash time",
+    "cycle.downtime_parts.cloth_wash.every_cycles": "Cycles between cloth washes",
 }
 
 #: The label people see for each input path (for messages about a field, such as input_warnings).

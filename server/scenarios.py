@@ -16,6 +16,7 @@ from pydantic import ValidationError
 from . import solver
 from .errors import InputError
 from .schemas.cycle import CycleRequest
+from .schemas.plan import PlanRequest
 from .solve import solve
 from .store import SERIES_KEYS, Scenario, ScenarioStore, compact
 
@@ -41,6 +42,16 @@ def solve_inputs(inputs: dict, prefix=("body", "inputs")) -> dict:
     return {**solved.results, "chart_series": solved.chart_series}
 
 
+def check_plan(inputs: dict, plan: dict) -> None:
+    """Plan inputs saved with a scenario must make a valid plan request with its inputs."""
+    if "inputs" in plan:
+        raise InputError([(("body", "plan", "inputs"), "the plan takes the scenario's inputs: leave inputs out")])
+    try:
+        PlanRequest.model_validate({**plan, "inputs": inputs})
+    except ValidationError as exc:
+        raise InputError.from_validation(exc, ("body", "plan")) from None
+
+
 def summary_of(results: dict) -> dict:
     best = results["best"]
     out = {k: best[k] for k in SUMMARY_KEYS}
@@ -48,10 +59,14 @@ def summary_of(results: dict) -> dict:
     return out
 
 
-def save(store: ScenarioStore, name: str, note: str, inputs: dict, parent: str | None) -> Scenario:
+def save(store: ScenarioStore, name: str, note: str, inputs: dict, parent: str | None,
+         plan: dict | None = None) -> Scenario:
     if parent is not None and store.get(parent) is None:
         raise InputError([(("body", "parent"), f"no saved scenario {parent!r}")])
     results = solve_inputs(inputs)
+    if plan is not None:
+        check_plan(inputs, plan)
+        results["plan_inputs"] = plan  # kept with the results (stored as they are): no new column
     return store.create(name.strip(), note.strip(), inputs, compact(results), solver.SOLVER_VERSION, parent,
                         summary_of(results))
 

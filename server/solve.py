@@ -17,8 +17,8 @@ from .errors import InputError
 from .plausibility import derived_warnings, input_warnings
 from .schemas.common import DENSITY_MAX, DENSITY_MIN
 from .schemas.cycle import CycleRequest
+from .solver import planning, water
 from .solver import slurry as sb
-from .solver import water
 from .solver.errors import inputs_of
 
 DEFAULT_LIQUID_DENSITY = 998.0  # kg/m^3, water near 20 degC
@@ -34,6 +34,7 @@ API_PATHS = {
     "feed": ("feed",),
     "press": ("press",),
     "cycle": ("cycle",),
+    "cloth": ("cloth",),
     "end": ("cycle", "end"),
     "water.temperature": ("slurry", "temperature"),
     "filtration.viscosity": ("slurry", "viscosity"),
@@ -165,8 +166,14 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
             reference_pressure=p_ref, compressibility=k.compressibility,
             medium_resistance=inputs.medium_resistance, porosity=bal.porosity,
         )
+    parts = inputs.cycle.downtime_parts
+    dp = None
+    if parts is not None:
+        with inputs_of("cycle.downtime_parts"):
+            dp = parts.to_solver()
+            downtime = dp.per_cycle(inputs.press.chambers)  # an interval of "best": found below
     with inputs_of("cycle"):
-        settings = inputs.cycle.to_solver()
+        settings = inputs.cycle.to_solver(downtime if dp is not None else None)
     with inputs_of("end"):
         end = inputs.cycle.end.to_solver()
     derived = {
@@ -179,7 +186,24 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
         "filter_area": press.filter_area, "chamber_volume": press.chamber_volume,
         "chamber_volume_each": press.chamber_volume / inputs.press.chambers if inputs.press.chambers else None,
     }
-    return BuiltSystem(solver.PressSystem(filtration, press, feed, settings), end, derived)
+    system = solver.PressSystem(filtration, press, feed, settings)
+    if dp is not None and dp.cloth_wash_time and dp.cloth_wash_every is None:
+        system, derived["cloth_wash_every_cycles"] = _best_wash_interval(inputs, system, dp)
+    elif dp is not None and dp.cloth_wash_time:
+        derived["cloth_wash_every_cycles"] = dp.cloth_wash_every
+    derived["downtime"] = system.cycle.downtime
+    return BuiltSystem(system, end, derived)
+
+
+def _best_wash_interval(inputs: CycleRequest, system, dp):
+    """The system with the cloth wash shared over the interval of highest average throughput."""
+    growth = inputs.cloth.resistance_growth_per_cycle if inputs.cloth else 0.0
+    if not growth > 0.0:
+        raise solver.SolverInputError(
+            "cycle.downtime_parts.cloth_wash.every_cycles", '"best" needs the cloth\'s wear: give '
+            "cloth.resistance_growth_per_cycle above 0 1/m, or a number of cycles")
+    N = planning.best_wash_interval(system, growth, dp.cloth_wash_time)
+    return replace(system, cycle=replace(system.cycle, downtime=dp.per_cycle(inputs.press.chambers, N))), N
 
 
 def _cycle_dict(r: solver.CycleResult) -> dict:

@@ -97,7 +97,8 @@ class StaticUrls:
 
 
 def render_results(templates, results: dict, chart_series: dict | None, units,
-                   chart_results: dict | None = None, inputs: dict | None = None) -> tuple[str, dict]:
+                   chart_results: dict | None = None, inputs: dict | None = None,
+                   plan_link: str | None = None) -> tuple[str, dict]:
     """The results pane and its charts, for every page that shows a scenario's results.
 
     The editor's first view, its partial update after Calculate and a saved scenario's page
@@ -105,7 +106,8 @@ def render_results(templates, results: dict, chart_series: dict | None, units,
     Returns (HTML of the results pane, plotly figures by chart key). ``chart_results`` marks
     the charts when they come from another solve than the pane (a saved scenario redrawn by a
     changed solver); no ``chart_series``: no charts. ``inputs`` (the editor's) adds the inputs
-    in words for print, where the form is not printed.
+    in words for print, where the form is not printed. ``plan_link``: the scenario's Plan page
+    (a saved or demo scenario; unsaved inputs are asked to be saved first).
     """
     from .charts import compact, figures
     from .forms import LABELS
@@ -113,7 +115,7 @@ def render_results(templates, results: dict, chart_series: dict | None, units,
 
     rows = input_rows(inputs) if inputs else None
     html = templates.get_template("_results.html").render(
-        {"results": results, "u": units, "labels": LABELS, "input_rows": rows})
+        {"results": results, "u": units, "labels": LABELS, "input_rows": rows, "plan_link": plan_link})
     if chart_series is None:
         return html, {}
     return html, compact(figures(chart_series, chart_results or results, units))

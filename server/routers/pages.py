@@ -44,7 +44,8 @@ def home(request: Request):
     )
 
 
-def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None):
+def editor_page(request: Request, title: str, description: str, inputs: dict, solve: bool, parent=None,
+                plan_link: str | None = None):
     """The scenario editor, filled from ``inputs``; with ``solve`` its results shown at once."""
     try:
         state = prefill(inputs)
@@ -65,7 +66,7 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
                 return None, None, ("These inputs do not solve as they stand: press Calculate to see what "
                                     "to correct."), {}
             html, figures = render_results(_templates(request), results, results["chart_series"], Units("si"),
-                                           inputs=inputs)
+                                           inputs=inputs, plan_link=plan_link)
             flags = {w["field"]: w["message"] for w in results.get("input_warnings", [])}
             return html, page_json(figures), None, flags
 
@@ -117,7 +118,8 @@ def demo_scenario(request: Request, slug: str):
     # the whole page is the same for every visitor: rendered once per demo file and solver
     page = request.app.state.pages.get(
         ("demo page", demo.slug, demo.version, SOLVER_VERSION),
-        lambda: editor_page(request, demo.name, demo.description, demo.inputs, solve=True).body)
+        lambda: editor_page(request, demo.name, demo.description, demo.inputs, solve=True,
+                            plan_link=f"/demo/{demo.slug}/plan").body)
     return HTMLResponse(page)
 
 

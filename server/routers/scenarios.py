@@ -57,7 +57,7 @@ def _out(request: Request, s: Scenario) -> dict:
     """A saved scenario as the API and the export give it: results with curves and chart series."""
     return {"id": s.id, "name": s.name, "note": s.note, "created": s.created, "inputs": s.inputs,
             "results": _redrawn(request, s).results, "solver_version": s.solver_version, "parent": s.parent,
-            "link": _link(s.id)}
+            "link": _link(s.id), "plan": s.results.get("plan_inputs")}
 
 
 #: The parts of stored results every page reads; a record without them is damaged.
@@ -105,7 +105,8 @@ def _get_or_404(request: Request, sid: str) -> Scenario:
 @router.post("", response_model=ScenarioCreated, status_code=201)
 async def create_scenario(request: Request, body: ScenarioIn) -> dict:
     """Save a scenario: inputs as entered, results as computed now. Invalid inputs: 422, nothing stored."""
-    s = await within_budget(request, save, _store(request), body.name, body.note, body.inputs, body.parent)
+    s = await within_budget(request, save, _store(request), body.name, body.note, body.inputs, body.parent,
+                            body.plan)
     return {"id": s.id, "link": _link(s.id)}
 
 
@@ -156,7 +157,8 @@ async def import_scenario(request: Request, file: UploadFile | None = None) -> d
         raise InputError([(("body", "inputs"), "a scenario file needs an inputs object (an /api/v1/cycle request)")])
     name = str(data.get("name") or "Imported scenario")[:120]
     note = str(data.get("note") or "")[:2000]
-    s = await within_budget(request, save, _store(request), name, note, data["inputs"], None)
+    plan = data.get("plan") if isinstance(data.get("plan"), dict) else None
+    s = await within_budget(request, save, _store(request), name, note, data["inputs"], None, plan)
     return {"id": s.id, "link": _link(s.id)}
 
 
@@ -206,7 +208,7 @@ def scenario_page(request: Request, sid: str, units: UnitSystem = "si"):
 
     def rendered():
         html, figures = render_results(_templates(request), drawn.results, drawn.results.get("chart_series"), u,
-                                       chart_results=drawn.chart_results)
+                                       chart_results=drawn.chart_results, plan_link=f"/s/{sid}/plan")
         return html, page_json(figures)
 
     results_html, figures = request.app.state.pages.get(("saved page", sid, units, solver.SOLVER_VERSION), rendered)
@@ -215,7 +217,8 @@ def scenario_page(request: Request, sid: str, units: UnitSystem = "si"):
         "s": s, "u": u, "units": units, "results_html": results_html, "parent": parent,
         "figures": figures, "changed": drawn.changed, "series_from": drawn.series_from,
         "current_version": solver.SOLVER_VERSION, "inputs_json": json.dumps(s.inputs, indent=1, ensure_ascii=False),
-        "input_rows": input_rows(s.inputs),
+        "input_rows": input_rows(s.inputs), "plan_inputs": s.results.get("plan_inputs"),
+        "plan_json": json.dumps(s.results.get("plan_inputs"), indent=1, ensure_ascii=False),
     })
 
 
@@ -225,7 +228,7 @@ def scenario_copy(request: Request, sid: str):
 
     s = _get_or_404(request, sid)
     return editor_page(request, f"Copy of {s.name}", f"Edit and save as a new scenario; {s.name!r} stays as it is.",
-                       s.inputs, solve=True, parent=s)
+                       s.inputs, solve=True, parent=s, plan_link=f"/s/{sid}/plan")
 
 
 def _listable(store, items: list[Listed]) -> list[Listed]:

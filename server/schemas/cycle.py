@@ -12,6 +12,7 @@ from pydantic import BaseModel, Field, PrivateAttr, model_validator
 
 from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
+from ..solver import planning as solver_planning
 from ..solver import press as solver_press
 from .common import (
     Density,
@@ -65,6 +66,9 @@ class CakeIn(Strict):
     ) = Field(description="alpha_ref [m/kg]")
     resistance_stderr: quantity(
         "specific_resistance", ge=0.0, le=1e17, description="Standard error of resistance, e.g. from a lab fit"
+    ) | None = None
+    compressibility_stderr: quantity(
+        "fraction", ge=0.0, le=1.0, description="Standard error of compressibility, e.g. from a lab fit"
     ) | None = None
     reference_pressure: LabPressure | None = Field(
         None, description="Pressure at which resistance applies [Pa] (from 1 Pa: alpha_0 dP^s is often "
@@ -220,10 +224,37 @@ class EndIn(Strict):
                                          self.flow_fraction, self.pressure)
 
 
+class ClothWashIn(Strict):
+    time: quantity("time", gt=0.0, le=1e6, description="One cloth wash") = Field(description="[s]")
+    every_cycles: Annotated[int, Field(ge=1, le=100_000)] | Literal["best"] = Field(
+        description="Cycles between cloth washes, or \"best\": the interval of highest average throughput "
+                    "(needs cloth.resistance_growth_per_cycle)"
+    )
+
+
+class DowntimePartsIn(Strict):
+    fixed: quantity(
+        "time", ge=1.0, le=1e6, description="Open, close and start of discharge, every cycle"
+    ) = Field(description="[s]")
+    per_chamber: quantity(
+        "time", ge=0.0, le=1e4, description="Plate shifting and discharge per chamber (needs press.chambers)"
+    ) = 0.0
+    cloth_wash: ClothWashIn | None = Field(None, description="Cloth washing, shared over its interval")
+
+    def to_solver(self) -> solver_planning.DowntimeParts:
+        w = self.cloth_wash
+        every = None if w is None or w.every_cycles == "best" else w.every_cycles
+        return solver_planning.DowntimeParts(self.fixed, self.per_chamber, w.time if w else 0.0,
+                                             every if w else 1)
+
+
 class CycleIn(Strict):
     downtime: quantity(
         "time", ge=1.0, le=1e6, description="Open, discharge, clean, close per cycle"
-    ) = Field(description="[s]")
+    ) | None = Field(None, description="[s]; or give downtime_parts")
+    downtime_parts: DowntimePartsIn | None = Field(
+        None, description="Downtime from its parts (fixed, per chamber, cloth wash), instead of downtime"
+    )
     wash_ratio: quantity(
         "fraction", ge=0.0, le=100.0, description="Wash volume per filtrate volume (or per cake pore volume)"
     ) = 0.0
@@ -237,9 +268,15 @@ class CycleIn(Strict):
     wash_viscosity: Viscosity | None = Field(None, description="[Pa·s]; default: the filtrate's")
     end: EndIn = Field(default_factory=lambda: EndIn(), description="How filtration ends; default: best")
 
-    def to_solver(self) -> solver_cycle.CycleSettings:
+    @model_validator(mode="after")
+    def _one_downtime(self):
+        exactly_one(self, ("downtime", "downtime_parts"))
+        return self
+
+    def to_solver(self, downtime: float | None = None) -> solver_cycle.CycleSettings:
+        """The cycle settings; ``downtime`` [s] as worked out from downtime_parts, if given."""
         return solver_cycle.CycleSettings(
-            downtime=self.downtime, wash_ratio=self.wash_ratio, washing=self.washing,
+            downtime=self.downtime if downtime is None else downtime, wash_ratio=self.wash_ratio, washing=self.washing,
             wash_pressure=self.wash_pressure, wash_viscosity=self.wash_viscosity, wash_basis=self.wash_basis,
         )
 
@@ -259,6 +296,12 @@ class TargetIn(Strict):
     def _one(self):
         exactly_one(self, ("solids_throughput", "filtrate_throughput"))
         return self
+
+
+class ClothIn(Strict):
+    resistance_growth_per_cycle: quantity(
+        "medium_resistance", ge=0.0, le=1e14, description="Cloth resistance added per cycle since the last cloth wash"
+    ) = Field(description="[1/m]")
 
 
 class CycleRequest(Strict):
@@ -281,6 +324,10 @@ class CycleRequest(Strict):
     medium_resistance_stderr: quantity(
         "medium_resistance", ge=0.0, le=1e15, description="Standard error of medium_resistance"
     ) | None = None
+    resistance_medium_correlation: float | None = Field(
+        None, ge=-1.0, le=1.0, description="Correlation of the lab fit's cake and cloth resistance estimates [-]"
+    )
+    cloth: ClothIn | None = Field(None, description="Cloth wear between cloth washes")
     press: PressIn
     feed: FeedIn
     cycle: CycleIn
@@ -319,6 +366,9 @@ class DerivedOut(BaseModel):
     throughput_gain_unconstrained: float = Field(
         description="Unconstrained optimum throughput / best feasible throughput - 1 [-]"
     )
+    downtime: float | None = Field(None, description="Downtime per cycle, from its parts when given [s]")
+    cloth_wash_every_cycles: int | None = Field(
+        None, description="Cycles between cloth washes (the best interval when asked for) [-]")
 
 
 class CycleOut(BaseModel):

@@ -10,6 +10,8 @@ class ScenarioIn(Strict):
     note: str = Field("", max_length=2000, description="Who made it and why")
     inputs: dict = Field(description="An /api/v1/cycle request, kept as entered (with its units)")
     parent: str | None = Field(None, max_length=40, description="The scenario this one was copied from")
+    plan: dict | None = Field(None, description="Plan inputs saved with the scenario: a /api/v1/plan request "
+                                                "without its inputs (target, spares, shift, temperatures, ...)")
 
 
 class ScenarioCreated(BaseModel):
@@ -29,6 +31,7 @@ class ScenarioOut(BaseModel):
     solver_version: str
     parent: str | None
     link: str
+    plan: dict | None = Field(None, description="Plan inputs saved with the scenario, as entered")
 
 
 class ScenarioSummary(BaseModel):

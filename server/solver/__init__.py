@@ -7,6 +7,7 @@ Three layers, each tested on its own (see DEVELOPERS.md):
 - the chain that runs a whole scenario: solve_cycle, compare_thicknesses, chart_series.
 """
 
+from . import planning
 from .cycle import (
     CycleFamily,
     CycleResult,
@@ -46,5 +47,6 @@ __all__ = [
     "cycle_family_for",
     "filter_area_from_plates",
     "numeric_optimum_volume",
+    "planning",
     "solve_cycle",
 ]

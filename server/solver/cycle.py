@@ -165,6 +165,15 @@ class CycleSolution:
     warnings: list[str] = field(default_factory=list)
 
 
+def wash_per_filtrate(c: CycleSettings, f: Filtration) -> float:
+    """Wash volume per filtrate volume [-]: the wash ratio itself, or ratio x cake pores."""
+    if c.wash_basis == "filtrate" or c.wash_ratio == 0.0:
+        return c.wash_ratio
+    if f.porosity is None:
+        raise SolverInputError("cycle.wash_basis", "washing by cake pore volumes needs the cake porosity")
+    return c.wash_ratio * f.porosity * f.cake_volume_ratio  # pore volume = porosity x cake volume
+
+
 class CycleFamily:
     """Every cycle one feed can run: its filtration curve with the wash and downtime that
     turn each end volume V into a whole cycle (one family member per V).
@@ -189,13 +198,7 @@ class CycleFamily:
             self.V_star = self._optimum_volume(V_needed)
 
     def _wash_per_filtrate(self) -> float:
-        """Wash volume per filtrate volume [-]: the wash ratio itself, or ratio x cake pores."""
-        c, f = self.cycle, self.filtration
-        if c.wash_basis == "filtrate" or c.wash_ratio == 0.0:
-            return c.wash_ratio
-        if f.porosity is None:
-            raise SolverInputError("cycle.wash_basis", "washing by cake pore volumes needs the cake porosity")
-        return c.wash_ratio * f.porosity * f.cake_volume_ratio  # pore volume = porosity x cake volume
+        return wash_per_filtrate(self.cycle, self.filtration)
 
     def wash_time(self, V):
         c = self.cycle

@@ -1,0 +1,159 @@
+"""POST /api/v1/plan: a production plan for a scenario."""
+
+import json
+import re
+
+from fastapi import APIRouter, HTTPException, Request
+from fastapi.responses import HTMLResponse
+from pydantic import ValidationError
+
+from ..budget import within_budget
+from ..charts import compact
+from ..display import Units, UnitSystem
+from ..errors import InputError
+from ..plan import make_plan
+from ..plancharts import plan_figures
+from ..schemas.common import ERROR_RESPONSES
+from ..schemas.plan import PlanRequest, PlanResponse
+from ..solve import CAUTIONS
+from ..views import page_json
+
+router = APIRouter(prefix="/api/v1", tags=["plan"], responses=ERROR_RESPONSES)
+
+
+@router.post("/plan", response_model=PlanResponse)
+async def post_plan(request: Request, plan: PlanRequest) -> dict:
+    """Presses and chambers needed, whole cycles a shift, seasons, cloth washes, feed energy,
+    and how sure the answer is (seeded Monte Carlo, sensitivity). Results are SI (see ``units``).
+    """
+    return await within_budget(request, make_plan, plan)
+
+
+# ---- the Plan page -------------------------------------------------------------------------
+
+pages = APIRouter(tags=["pages"], include_in_schema=False)
+
+#: The plan form's fields: (query name, label, hint). Every value is read as the API reads it.
+FORM_FIELDS = [
+    ("amount", "Target per calendar day", 'with its unit: "120 t/day" dry solids, or m^3/day of slurry or filtrate'),
+    ("hours_per_day", "Hours a working day", "h, up to 24"),
+    ("days_per_week", "Working days a week", "1 to 7"),
+    ("availability", "Availability", "share of running hours the press cycles, e.g. 85 %"),
+    ("margin", "Design margin", "extra capacity, e.g. 10 %"),
+    ("spares", "Spare presses", "whole presses on top of those needed"),
+    ("shift", "Shift length", 'e.g. "8 h"; empty: no shifts'),
+    ("temperatures", "Season temperatures", "°C, separated by ; (e.g. 8; 20; 32)"),
+    ("pump_efficiency", "Feed pump efficiency", "e.g. 50 %"),
+    ("samples", "Monte Carlo samples", "0 to 100,000"),
+    ("seed", "Seed", "the same seed gives the same answer"),
+]
+DEFAULT_FORM = {"basis": "dry_solids_per_day", "amount": "", "hours_per_day": "24", "days_per_week": "7",
+                "availability": "100 %", "margin": "0 %", "spares": "1", "shift": "", "whole_cycles": "on",
+                "temperatures": "", "pump_efficiency": "50 %", "samples": "10000", "seed": "1"}
+CHART_LABELS = {"histogram": "Best throughput over the samples", "tornado": "Sensitivity", "seasons": "Seasons",
+                "cloth": "Cloth-wash interval", "cycle_growth": "Cycle time as the cloth blinds"}
+BASES = [("dry_solids_per_day", "dry solids"), ("slurry_per_day", "slurry"), ("filtrate_per_day", "filtrate")]
+
+
+def form_from_plan(plan: dict) -> dict:
+    """The form's values from saved plan inputs (a plan request without its inputs)."""
+    form = dict(DEFAULT_FORM)
+    target = plan.get("target", {})
+    for key, _ in BASES:
+        if key in target:
+            form["basis"], form["amount"] = key, str(target[key])
+    for key in ("hours_per_day", "days_per_week", "availability", "margin", "pump_efficiency"):
+        if key in target:
+            form[key] = str(target[key])
+    for key in ("spares", "samples", "seed"):
+        if key in plan:
+            form[key] = str(plan[key])
+    shift = plan.get("shift") or {}
+    form["shift"] = str(shift.get("length", ""))
+    form["whole_cycles"] = "on" if shift.get("whole_cycles", True) else ""
+    form["temperatures"] = "; ".join(str(t) for t in plan.get("temperatures", []))
+    return form
+
+
+def plan_from_form(form: dict) -> dict:
+    """Plan inputs (a plan request without its inputs) from the form's values, as typed."""
+    target = {form["basis"]: form["amount"].strip()}
+    for key in ("hours_per_day", "days_per_week"):
+        target[key] = _number(form[key])
+    for key in ("availability", "margin", "pump_efficiency"):
+        target[key] = form[key].strip()
+    plan = {"target": target, "spares": _number(form["spares"]), "samples": _number(form["samples"]),
+            "seed": _number(form["seed"])}
+    if form["shift"].strip():
+        plan["shift"] = {"length": form["shift"].strip(), "whole_cycles": form["whole_cycles"] == "on"}
+    temps = [t.strip() for t in re.split(r";|,\s+", form["temperatures"]) if t.strip()]
+    if temps:
+        plan["temperatures"] = [_number(t) for t in temps]
+    return plan
+
+
+def _number(text: str):
+    """A plain number typed in a form field as a number (JSON), else the text (the schema says why)."""
+    text = str(text).strip()
+    try:
+        value = float(text)
+    except ValueError:
+        return text
+    return int(value) if value.is_integer() and "." not in text and "e" not in text.lower() else value
+
+
+async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict | None, query: dict,
+                    back: str, parent_id: str | None, units: str = "si"):
+    """The Plan page of a scenario: its form, and the plan when the form (or the saved plan) gives one."""
+    given = {k: v for k, v in query.items() if k in DEFAULT_FORM}
+    if given:
+        form = {**DEFAULT_FORM, "whole_cycles": "", **given}
+        if form["basis"] not in dict(BASES):
+            form["basis"] = "dry_solids_per_day"
+    elif saved_plan:
+        form = form_from_plan(saved_plan)
+    else:
+        form = dict(DEFAULT_FORM)
+    context = {"title": title, "form": form, "fields": FORM_FIELDS, "bases": BASES, "back": back,
+               "plan": None, "errors": [], "figures": "{}", "u": Units(units), "inputs_json": json.dumps(inputs),
+               "plan_json": "", "parent_id": parent_id or "", "saved_plan": saved_plan, "cautions": CAUTIONS}
+    if form["amount"].strip():
+        plan_inputs = plan_from_form(form)
+        context["plan_json"] = json.dumps(plan_inputs)
+        try:
+            req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
+            result = await within_budget(request, make_plan, req)
+        except ValidationError as exc:
+            context["errors"] = [(_where(loc), msg) for loc, msg in InputError.from_validation(exc, ()).errors]
+        except InputError as exc:
+            context["errors"] = [(_where(loc), msg) for loc, msg in exc.errors]
+        else:
+            context["plan"] = result
+            figures = plan_figures(result, Units(units))
+            context["figures"] = page_json(compact(figures))
+            context["charts"] = [(key, CHART_LABELS[key]) for key in figures]
+    return request.app.state.templates.TemplateResponse(request, "plan.html", context)
+
+
+def _where(loc) -> str:
+    return ".".join(str(p) for p in loc if p != "body") or "plan"
+
+
+@pages.get("/s/{sid}/plan", response_class=HTMLResponse)
+async def saved_plan_page(request: Request, sid: str, units: UnitSystem = "si"):
+    from .scenarios import _get_or_404
+
+    s = _get_or_404(request, sid)
+    return await plan_page(request, s.name, s.inputs, s.results.get("plan_inputs"), dict(request.query_params),
+                     f"/s/{sid}", sid, units)
+
+
+@pages.get("/demo/{slug}/plan", response_class=HTMLResponse)
+async def demo_plan_page(request: Request, slug: str, units: UnitSystem = "si"):
+    from .pages import _demos
+
+    demo = next((d for d in _demos(request) if d.slug == slug), None)
+    if demo is None:
+        raise HTTPException(404, f"no demo scenario named {slug!r}")
+    return await plan_page(request, demo.name, demo.inputs, None, dict(request.query_params), f"/demo/{slug}", None,
+                           units)

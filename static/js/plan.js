@@ -1,0 +1,27 @@
+// The Plan page: save the scenario again, as a new scenario, with the plan's inputs (saved
+// scenarios never change). No inline handlers: the page's CSP allows only our scripts.
+(function () {
+  "use strict";
+  const button = document.getElementById("save-plan");
+  if (!button) return;
+  button.addEventListener("click", async () => {
+    const status = document.getElementById("save-status");
+    const body = {
+      name: `${button.dataset.name} (with plan)`.slice(0, 120),
+      note: "Saved from the Plan page with its plan inputs.",
+      inputs: JSON.parse(button.dataset.inputs),
+      plan: JSON.parse(button.dataset.plan),
+    };
+    if (button.dataset.parent) body.parent = button.dataset.parent;
+    button.disabled = true;
+    status.textContent = "Saving…";
+    const response = await fetch("/api/v1/scenarios", {
+      method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(body),
+    });
+    const answer = await response.json().catch(() => ({}));
+    if (response.status === 201) { window.location.href = answer.link; return; }
+    const detail = Array.isArray(answer.detail) ? answer.detail.map((d) => `${d.field}: ${d.msg}`).join("; ") : answer.detail;
+    status.textContent = `Not saved: ${detail || response.status}`;
+    button.disabled = false;
+  });
+})();

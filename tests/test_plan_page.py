@@ -1,0 +1,121 @@
+"""The Plan page without a browser: reached from the results pane and the saved page, the form
+read as the API reads it, mistakes shown in words, plan inputs saved with a scenario."""
+
+import copy
+
+import pytest
+
+from server.routers.plan import DEFAULT_FORM, form_from_plan, plan_from_form
+from tests.conftest import BASE_REQUEST
+
+PLAN = {"target": {"dry_solids_per_day": "120 t/day", "hours_per_day": 16, "days_per_week": 5,
+                   "availability": "85 %", "margin": "10 %", "pump_efficiency": "50 %"},
+        "spares": 1, "samples": 500, "seed": 3, "shift": {"length": "8 h", "whole_cycles": True},
+        "temperatures": [8, 30]}
+
+
+def test_the_form_and_the_plan_inputs_read_each_other_back():
+    assert plan_from_form(form_from_plan(PLAN)) == PLAN
+    assert plan_from_form({**DEFAULT_FORM, "amount": "40 m^3/day", "basis": "slurry_per_day"})["target"][
+        "slurry_per_day"] == "40 m^3/day"
+
+
+@pytest.fixture(scope="module")
+def saved(client):
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["cake"]["resistance_stderr"] = 2e10
+    r = client.post("/api/v1/scenarios", json={"name": "Plan page test", "inputs": inputs, "plan": PLAN})
+    assert r.status_code == 201, r.text
+    return r.json()["id"]
+
+
+def test_saved_scenario_keeps_its_plan_inputs_and_links_the_plan(client, saved):
+    page = client.get(f"/s/{saved}").text
+    assert f'href="/s/{saved}/plan"' in page and 'data-testid="saved-plan"' in page
+    assert client.get(f"/api/v1/scenarios/{saved}").json()["plan"] == PLAN
+
+
+def test_plan_page_of_a_saved_plan_shows_the_api_answer(client, saved):
+    page = client.get(f"/s/{saved}/plan").text
+    inputs = client.get(f"/api/v1/scenarios/{saved}").json()["inputs"]
+    api = client.post("/api/v1/plan", json={**PLAN, "inputs": inputs}).json()
+    assert 'data-testid="plan-results"' in page
+    assert f'data-key="presses_needed"><dt>Presses needed</dt><dd><span class="num">{api["presses_needed"]}<' in page
+    assert api["sensitivity"]["measure_next"].replace("'", "&#39;") in page
+    for caution in api["cautions"]:
+        assert caution.replace("'", "&#39;") in page
+
+
+def test_a_mistake_in_the_form_is_shown_in_words_at_its_field(client, saved):
+    r = client.get(f"/s/{saved}/plan", params={"amount": "120 t/day", "availability": "140 %"})
+    assert r.status_code == 200
+    assert 'data-testid="plan-error"' in r.text and "target.availability" in r.text and "at most" in r.text
+
+
+def test_without_a_target_the_page_shows_the_form_only(client):
+    r = client.get("/demo/gypsum_chamber_limited/plan")
+    assert r.status_code == 200 and 'data-testid="plan-form"' in r.text and "plan-results" not in r.text
+    assert client.get("/demo/no_such_demo/plan").status_code == 404
+
+
+def test_the_demo_results_pane_links_its_plan_page(client):
+    assert 'href="/demo/gypsum_chamber_limited/plan"' in client.get("/demo/gypsum_chamber_limited").text
+
+
+def test_saving_a_plan_that_does_not_validate_is_a_422_under_plan(client):
+    r = client.post("/api/v1/scenarios", json={"name": "x", "inputs": BASE_REQUEST,
+                                               "plan": {"target": {"dry_solids_per_day": "1 t/day"}, "spares": -1}})
+    assert r.status_code == 422
+    assert r.json()["detail"][0]["loc"] == ["body", "plan", "spares"]
+
+
+def test_old_saved_scenarios_without_a_plan_still_read(client):
+    r = client.post("/api/v1/scenarios", json={"name": "no plan", "inputs": BASE_REQUEST})
+    sid = r.json()["id"]
+    assert client.get(f"/api/v1/scenarios/{sid}").json()["plan"] is None
+    assert "saved-plan" not in client.get(f"/s/{sid}").text
+
+
+def test_downtime_parts_show_on_the_saved_page_and_fill_the_editor_of_a_copy(client):
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["press"] = {"plate_face_area": "1 m^2", "chambers": 25, "chamber_thickness": "40 mm"}
+    inputs["cycle"] = {"downtime_parts": {"fixed": "10 min", "per_chamber": "20 s",
+                                          "cloth_wash": {"time": "1 h", "every_cycles": "best"}}}
+    inputs["cloth"] = {"resistance_growth_per_cycle": "2e9 1/m"}
+    sid = client.post("/api/v1/scenarios", json={"name": "parts", "inputs": inputs}).json()["id"]
+    saved = client.get(f"/s/{sid}").text
+    for label, value in (("Fixed downtime per cycle", "10 min"), ("Downtime per chamber", "20 s"),
+                         ("Cloth wear per cycle", "2e9 1/m")):
+        assert f'<th scope="row">{label}</th><td>{value}</td>' in saved
+    editor = client.get(f"/s/{sid}/copy").text
+    assert 'value="best"' in editor and 'value="10"' in editor
+
+
+def test_every_plan_chart_has_units_on_its_axes_and_finite_data(client):
+    import math
+
+    from server.display import Units
+    from server.plancharts import plan_figures
+
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["cycle"] = {"downtime_parts": {"fixed": 1200, "cloth_wash": {"time": "2 h", "every_cycles": "best"}}}
+    inputs["cloth"] = {"resistance_growth_per_cycle": 2e9}
+    inputs["cake"]["resistance_stderr"] = 2e10
+    plan = client.post("/api/v1/plan", json={**PLAN, "inputs": inputs}).json()
+    for system in ("si", "us"):
+        figures = plan_figures(plan, Units(system))
+        assert set(figures) == {"histogram", "tornado", "seasons", "cloth", "cycle_growth"}
+        for key, fig in figures.items():
+            assert "[" in fig["layout"]["xaxis"]["title"]["text"], key
+            if key != "tornado":  # the tornado's y axis holds the inputs' names
+                assert "[" in fig["layout"]["yaxis"]["title"]["text"], key
+            for trace in fig["data"]:
+                for name in ("x", "y"):
+                    values = [v for v in trace.get(name, []) if not isinstance(v, str)]
+                    assert all(math.isfinite(v) for v in values), (key, name)
+
+
+def test_the_variance_shares_are_shown_with_units(client, saved):
+    page = client.get(f"/s/{saved}/plan").text
+    assert 'data-testid="plan-shares"' in page
+    assert "cake resistance</th><td>" in page and " m/kg</td>" in page
