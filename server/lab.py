@@ -14,6 +14,8 @@ LAB_UNITS = {
     "pressure": "Pa", "area": "m^2", "viscosity": "Pa*s", "c": "kg/m^3", "slope": "s/m^6",
     "intercept": "s/m^3", "resistance": "m/kg", "medium_resistance": "1/m", "resistance_ref": "m/kg",
     "reference_pressure": "Pa", "compressibility": "1", "readings": "[s, m^3]", "line.x": "m^3", "line.y": "s/m^3",
+    "time_offset": "s", "filling.volume": "m^3", "filling.time": "s", "pressures": "Pa",
+    "tested_pressure_range": "Pa", "medium_resistance_stderr": "1/m", "resistance_medium_correlation": "1",
 }
 
 
@@ -37,14 +39,18 @@ def _solids_per_filtrate(t: LabTestIn, readings, i: int) -> float:
     return bal.solids_per_filtrate
 
 
-def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:
+def _test(t: LabTestIn, i: int, model: str) -> tuple[labfit.LabTest, list, list | None]:
+    pressures = None
     if t.csv is not None:
         try:
-            readings = parse_readings(t.csv).points
+            parsed = parse_readings(t.csv)
         except CsvError as exc:
             raise InputError([(_loc(i, "csv"), str(exc))]) from None
+        readings, pressures = parsed.points, parsed.pressures
     else:
-        readings = [tuple(p) for p in t.points]
+        readings = [(p[0], p[1]) for p in t.points]
+        if len(t.points[0]) == 3:
+            pressures = [p[2] for p in t.points]
     try:
         mu = t.viscosity if t.viscosity is not None else water.water_viscosity(t.temperature)
         c = _solids_per_filtrate(t, readings, i)
@@ -56,61 +62,84 @@ def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:
         time=tuple(p[0] for p in readings), volume=tuple(p[1] for p in readings),
         start_time=start.time if start else 0.0, start_volume=start.volume if start else 0.0,
         use=tuple(t.use) if t.use is not None else None,
+        pressures=tuple(pressures) if pressures is not None else None, model=model,
     )
-    return test, readings
+    return test, readings, pressures
+
+
+def _test_out(t: LabTestIn, test: labfit.LabTest, fit: labfit.TestFit, readings, pressures) -> dict:
+    used = set(fit.points_used)
+    return {
+        "name": t.name, "pressure": test.pressure, "area": test.area, "viscosity": test.viscosity,
+        "c": test.solids_per_filtrate, "slope": fit.slope, "slope_stderr": fit.slope_stderr,
+        "intercept": fit.intercept, "intercept_stderr": fit.intercept_stderr, "r_squared": fit.r_squared,
+        "resistance": fit.resistance, "resistance_stderr": fit.resistance_stderr,
+        "medium_resistance": fit.medium_resistance, "medium_resistance_stderr": fit.medium_resistance_stderr,
+        "resistance_medium_correlation": fit.resistance_medium_correlation,
+        "model": fit.model, "model_note": fit.model_note,
+        "time_offset": fit.time_offset, "time_offset_stderr": fit.time_offset_stderr, "filling": fit.filling,
+        "points_used": fit.points_used, "residuals": [float(r) for r in fit.residuals], "region": fit.region,
+        "readings": [[float(a), float(b)] for a, b in readings],
+        "pressures": [float(p) for p in pressures] if pressures is not None else None,
+        "line": {
+            "index": fit.indices,
+            "x": np.asarray(fit.x, dtype=float).tolist(), "y": np.asarray(fit.y, dtype=float).tolist(),
+            "used": [k in used for k in fit.indices],
+            "fitted": np.asarray(fit.fitted, dtype=float).tolist(),
+        },
+        "warnings": fit.warnings,
+    }
 
 
 def fit_request(lab_request: LabFitRequest) -> dict:
     """The whole /api/v1/lab-fit answer as plain data (SI), checked finite."""
-    tests_out, fits, warnings = [], [], []
+    tests, inputs = [], []
     for i, t in enumerate(lab_request.tests):
-        test, readings = _test(t, i)
+        test, readings, pressures = _test(t, i, lab_request.model)
+        tests.append(test)
+        inputs.append((t, readings, pressures))
         try:
-            fit = labfit.evaluate_test(test)
+            labfit.evaluate_test(test)  # each test's own errors land at its fields
         except solver.SolverInputError as exc:
             field = "csv" if (exc.parameter == "points" and t.csv is not None) else exc.parameter
             raise InputError([(_loc(i, field), exc.message)]) from None
-        fits.append(fit)
-        used = set(fit.points_used)
-        tests_out.append({
-            "name": t.name, "pressure": test.pressure, "area": test.area, "viscosity": test.viscosity,
-            "c": test.solids_per_filtrate, "slope": fit.slope, "slope_stderr": fit.slope_stderr,
-            "intercept": fit.intercept, "intercept_stderr": fit.intercept_stderr, "r_squared": fit.r_squared,
-            "resistance": fit.resistance, "resistance_stderr": fit.resistance_stderr,
-            "medium_resistance": fit.medium_resistance, "medium_resistance_stderr": fit.medium_resistance_stderr,
-            "points_used": fit.points_used, "residuals": [float(r) for r in fit.residuals], "region": fit.region,
-            "readings": [[float(a), float(b)] for a, b in readings],
-            "line": {
-                "index": fit.indices,
-                "x": np.asarray(fit.x, dtype=float).tolist(), "y": np.asarray(fit.y, dtype=float).tolist(),
-                "used": [k in used for k in fit.indices],
-                "fitted": [float(fit.intercept + fit.slope * v) for v in fit.x],
-            },
-            "warnings": fit.warnings,
-        })
-        label = t.name or f"test {i + 1}"
-        warnings.extend(f"{label}: {w}" for w in fit.warnings)
     try:
-        combined = labfit.combine_tests(
-            [f["pressure"] for f in tests_out], [f.resistance for f in fits],
-            [f.medium_resistance for f in fits], lab_request.reference_pressure,
-        )
+        fits, combined = labfit.fit_for_basis(tests, lab_request.pressure_basis, lab_request.reference_pressure)
     except solver.SolverInputError as exc:
         raise InputError([(("body", "tests"), exc.message)]) from None
+    tests_out, warnings = [], []
+    for i, ((t, readings, pressures), test, fit) in enumerate(zip(inputs, tests, fits)):
+        tests_out.append(_test_out(t, test, fit, readings, pressures))
+        label = t.name or f"test {i + 1}"
+        warnings.extend(f"{label}: {w}" for w in fit.warnings)
     warnings.extend(combined.warnings)
     s = combined.compressibility
-    for_cycle = {
-        "cake": {
-            "resistance": combined.resistance_ref,
-            "reference_pressure": combined.reference_pressure,
-            "compressibility": s if s is not None and 0.0 <= s < 1.0 else 0.0,
-        },
-        "medium_resistance": max(combined.medium_resistance, 0.0),
+    basis = lab_request.pressure_basis
+    if basis == "cake" and (s is None or not 0.0 < s < 1.0) and combined.medium_resistance > 0:
+        warnings.append(
+            "The cake pressure basis needs the compressibility from tests at two or more pressures; "
+            "with none (or none above 0) the resistances are those of the total basis.")
+    usable_s = s is not None and 0.0 <= s < 1.0
+    cake = {
+        "resistance": combined.resistance_ref,
+        "reference_pressure": combined.reference_pressure,
+        "compressibility": s if usable_s else 0.0,
+        "pressure_basis": basis,
+        "tested_pressure_range": list(combined.tested_pressures),
     }
-    if s is not None and not 0.0 <= s < 1.0:
+    if combined.resistance_ref_stderr is not None:
+        cake["resistance_stderr"] = combined.resistance_ref_stderr
+    if usable_s and combined.compressibility_stderr is not None:
+        cake["compressibility_stderr"] = combined.compressibility_stderr
+    for_cycle = {"cake": cake, "medium_resistance": max(combined.medium_resistance, 0.0)}
+    if combined.medium_resistance_stderr is not None:
+        for_cycle["medium_resistance_stderr"] = combined.medium_resistance_stderr
+    if combined.resistance_medium_correlation is not None:
+        for_cycle["resistance_medium_correlation"] = combined.resistance_medium_correlation
+    if s is not None and not usable_s:
         warnings.append("for_cycle takes the compressibility as 0 because the fitted value is outside [0, 1).")
     if combined.medium_resistance < 0:
-        warnings.append("for_cycle takes the medium resistance as 0 because the fitted mean is negative.")
+        warnings.append("for_cycle takes the medium resistance as 0 because the fitted value is negative.")
     out = {
         "tests": tests_out,
         "compressibility": s, "compressibility_stderr": combined.compressibility_stderr,
@@ -118,10 +147,15 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         "reference_pressure": combined.reference_pressure,
         "medium_resistance": combined.medium_resistance,
         "medium_resistance_spread": combined.medium_resistance_spread,
+        "medium_resistance_stderr": combined.medium_resistance_stderr,
+        "medium_resistance_trend": combined.medium_resistance_trend,
+        "resistance_compressibility_correlation": combined.resistance_compressibility_correlation,
+        "resistance_medium_correlation": combined.resistance_medium_correlation,
+        "tested_pressure_range": list(combined.tested_pressures),
+        "pressure_basis": basis,
         "for_cycle": for_cycle, "warnings": warnings, "units": LAB_UNITS,
     }
     bad = first_non_finite(out)
     if bad is not None:
         raise InputError([(("body", "tests"), f"these readings give a result out of numeric range ({bad})")])
     return out
-

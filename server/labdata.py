@@ -18,6 +18,7 @@ from .units import UnitError, parse_quantity
 MAX_ROWS = 20000
 TIME_NAMES = ("time", "t", "zeit", "elapsed time")
 VOLUME_NAMES = ("filtrate", "volume", "v", "filtrate volume", "filtrate_volume")
+PRESSURE_NAMES = ("pressure", "p", "druck", "pressure drop")
 _HEADER = re.compile(r"^\s*([^\[\(]*?)\s*[\[\(]\s*([^\]\)]+?)\s*[\]\)]\s*$")
 
 
@@ -36,6 +37,7 @@ class Readings:
     separator: str
     decimal: str
     ignored_columns: list[str]
+    pressures: list[float] | None = None  # [Pa] per reading, when a pressure column is given
 
 
 def _separator(header: str) -> str:
@@ -51,11 +53,14 @@ def _column(name: str) -> str | None:
         return "time"
     if key in VOLUME_NAMES:
         return "volume"
+    if key in PRESSURE_NAMES:
+        return "pressure"
     return None
 
 
 def parse_readings(text: str) -> Readings:
-    """(t, V) readings in SI from CSV text; CsvError names the line of any problem."""
+    """(t, V) readings in SI from CSV text, with the pressure at each reading when a pressure
+    column is given ("pressure [bar]"); CsvError names the line of any problem."""
     lines = text.splitlines()
     numbered = [(i + 1, ln) for i, ln in enumerate(lines) if ln.strip() and not ln.lstrip().startswith("#")]
     if not numbered:
@@ -84,7 +89,11 @@ def parse_readings(text: str) -> Readings:
                 f"their units, such as 'time [s], filtrate [L]'"
             )
     (t_pos, t_unit), (v_pos, v_unit) = columns["time"], columns["volume"]
-    for unit, kind, label in ((t_unit, "time", "time"), (v_unit, "volume", "filtrate")):
+    wanted = [(t_pos, "time", t_unit), (v_pos, "volume", v_unit)]
+    if "pressure" in columns:
+        wanted.append((columns["pressure"][0], "pressure", columns["pressure"][1]))
+    for _, kind, unit in wanted:
+        label = "filtrate" if kind == "volume" else kind
         try:
             parse_quantity(f"1 {unit}", kind)
         except UnitError as exc:
@@ -94,13 +103,13 @@ def parse_readings(text: str) -> Readings:
     if len(rows) > MAX_ROWS:
         raise CsvError(None, f"at most {MAX_ROWS} readings; got {len(rows)}")
     decimal_comma = sep != "," and any("," in ln for _, ln in rows)
-    points = []
+    points, pressures = [], []
     for line_no, ln in rows:
         cells = [c.strip() for c in ln.split(sep)]
-        if len(cells) < max(t_pos, v_pos) + 1:
+        if len(cells) < max(pos for pos, _, _ in wanted) + 1:
             raise CsvError(line_no, f"expected {len(names)} values separated by {_sep_name(sep)}; got {len(cells)}")
         pair = []
-        for pos, kind, unit in ((t_pos, "time", t_unit), (v_pos, "volume", v_unit)):
+        for pos, kind, unit in wanted:
             cell = cells[pos]
             if decimal_comma:
                 if "." in cell and "," in cell:
@@ -117,9 +126,12 @@ def parse_readings(text: str) -> Readings:
             except UnitError as exc:
                 raise CsvError(line_no, f"{cells[pos]!r} {unit}: {exc}") from None
         points.append((pair[0], pair[1]))
+        if len(pair) > 2:
+            pressures.append(pair[2])
     if not points:
         raise CsvError(None, "no readings below the header")
-    return Readings(points, t_unit, v_unit, _sep_name(sep), "comma" if decimal_comma else "point", ignored)
+    return Readings(points, t_unit, v_unit, _sep_name(sep), "comma" if decimal_comma else "point", ignored,
+                    pressures if "pressure" in columns else None)
 
 
 def _sep_name(sep: str) -> str:
