@@ -487,18 +487,26 @@ def _common_warnings(slope: float, intercept: float, r2: float, warnings: list):
         warnings.append(f"The readings lie poorly on a line (R² = {r2:.3f}): check the region.")
 
 
-def _iterate_basis(fit_at, s: float):
-    """Fit, then refit with the cake basis square from the last (K_p, B) until they settle."""
-    slope, intercept, out = fit_at(None)
-    if s == 0.0:
-        return out
-    for _ in range(60):
-        new_slope, new_intercept, out = fit_at((2.0 * slope, intercept))
-        done = abs(new_slope - slope) <= 1e-10 * abs(slope) and abs(new_intercept - intercept) <= 1e-10 * abs(intercept) + 1e-300
-        slope, intercept = new_slope, new_intercept
-        if done:
-            break
-    return out
+def _cake_basis_refit(residuals, start: np.ndarray, n_used: int):
+    """Least squares of a model whose V^2 term is on the cake pressure basis (it depends on the
+    fitted K_p and B themselves), from the total-basis values ``start``; the covariance from
+    the Jacobian at the optimum. Returns (parameters, covariance or None)."""
+    from scipy.optimize import least_squares
+
+    scale = np.where(np.abs(start) > 0.0, np.abs(start), 1.0)
+    sol = least_squares(lambda z: residuals(z * scale), np.sign(start) + (start == 0.0), method="lm",
+                        xtol=1e-13, ftol=1e-13, diff_step=1e-7)
+    theta = sol.x * scale
+    dof = n_used - start.size
+    cov = None
+    if dof > 0:
+        J = sol.jac
+        s2 = float(sol.fun @ sol.fun) / dof
+        try:
+            cov = s2 * np.linalg.inv(J.T @ J) / np.outer(scale, scale)
+        except np.linalg.LinAlgError:
+            cov = None
+    return theta, cov
 
 
 def _finish_classic(test, t, V, after, t0, V0, s, warnings, model_note) -> TestFit:
@@ -513,31 +521,38 @@ def _finish_classic(test, t, V, after, t0, V0, s, warnings, model_note) -> TestF
     else:
         first, last, region = _user_region(test, after, t.size)
     Va = V[after]
+    used = slice(first, last + 1)
+    fit = fit_line(x[used], y[used])
+    slope, intercept, se_slope, se_int, corr, r2 = (fit.slope, fit.intercept, fit.slope_stderr,
+                                                     fit.intercept_stderr, fit.correlation, fit.r_squared)
+    xe = x
+    if s > 0.0 and slope > 0.0 and intercept > 0.0:
+        def abscissa(theta):
+            sq = cake_basis_square(np.append(Va, V0), 2.0 * theta[0], theta[1], s)
+            return (sq[:-1] - sq[-1]) / (Va - V0)
 
-    def fit_at(constants):
-        if constants is None:
-            xe = x
-        else:
-            K_p, B = constants
-            sq = cake_basis_square(np.append(Va, V0), K_p, B, s)
-            xe = (sq[:-1] - sq[-1]) / (Va - V0)
-        fit = fit_line(xe[first:last + 1], y[first:last + 1])
-        return fit.slope, fit.intercept, (fit, xe)
-
-    fit, xe = _iterate_basis(fit_at, s)
+        theta, cov = _cake_basis_refit(lambda th: (y - th[1] - th[0] * abscissa(th))[used],
+                                       np.array([slope, intercept]), last - first + 1)
+        slope, intercept = float(theta[0]), float(theta[1])
+        xe = abscissa(theta)
+        se_slope = se_int = corr = None
+        if cov is not None:
+            se_slope, se_int = float(np.sqrt(cov[0, 0])), float(np.sqrt(cov[1, 1]))
+            corr = float(cov[0, 1] / (se_slope * se_int)) if se_slope > 0 and se_int > 0 else None
+    fitted = intercept + slope * xe
+    residuals = y[used] - fitted[used]
+    dev = y[used] - y[used].mean()
+    if s > 0.0:
+        r2 = 1.0 - float(residuals @ residuals) / float(dev @ dev) if float(dev @ dev) > 0 else 1.0
     to_alpha, to_Rm = _to_alpha_rm(test)
-    _common_warnings(fit.slope, fit.intercept, fit.r_squared, warnings)
+    _common_warnings(slope, intercept, r2, warnings)
     return TestFit(
-        slope=fit.slope, intercept=fit.intercept, slope_stderr=fit.slope_stderr,
-        intercept_stderr=fit.intercept_stderr, r_squared=fit.r_squared,
-        resistance=fit.slope * to_alpha,
-        resistance_stderr=None if fit.slope_stderr is None else fit.slope_stderr * to_alpha,
-        medium_resistance=fit.intercept * to_Rm,
-        medium_resistance_stderr=None if fit.intercept_stderr is None else fit.intercept_stderr * to_Rm,
-        points_used=[int(i) for i in after[first:last + 1]], region=region, x=x, y=y,
-        indices=[int(i) for i in after], residuals=fit.residuals, warnings=warnings, model="classic",
-        resistance_medium_correlation=fit.correlation, fitted=fit.intercept + fit.slope * xe,
-        model_note=model_note, compressibility=s,
+        slope=slope, intercept=intercept, slope_stderr=se_slope, intercept_stderr=se_int, r_squared=r2,
+        resistance=slope * to_alpha, resistance_stderr=None if se_slope is None else se_slope * to_alpha,
+        medium_resistance=intercept * to_Rm, medium_resistance_stderr=None if se_int is None else se_int * to_Rm,
+        points_used=[int(i) for i in after[used]], region=region, x=x, y=y,
+        indices=[int(i) for i in after], residuals=residuals, warnings=warnings, model="classic",
+        resistance_medium_correlation=corr, fitted=fitted, model_note=model_note, compressibility=s,
     )
 
 
@@ -546,21 +561,25 @@ def _finish_three(test, t, V, after, region, s, warnings, model_note, fill_end) 
     ta, Va = t[after], V[after]
     if last - first + 1 < 4:
         raise SolverInputError("points", "the three-parameter model needs at least 4 readings in the region")
+    used = slice(first, last + 1)
+    fit = _three_parameter(ta, Va, Va * Va, first, last)
+    coef, cov = np.asarray(fit.coef, dtype=float), fit.cov
+    sq = Va * Va
+    if s > 0.0 and coef[1] > 0.0 and coef[2] > 0.0:
+        weight = 1.0 / np.maximum(np.abs(ta[used]), 1e-300)  # the relative scatter of the total-basis fit
 
-    def fit_at(constants):
-        sq = Va * Va if constants is None else cake_basis_square(Va, constants[0], constants[1], s)
-        fit = _three_parameter(ta, Va, sq, first, last)
-        return float(fit.coef[2]), float(fit.coef[1]), (fit, sq)
+        def square(theta):
+            return cake_basis_square(Va, 2.0 * theta[2], theta[1], s)
 
-    fit, sq = _iterate_basis(fit_at, s)
-    t_d, B, half_K = (float(c) for c in fit.coef)
-    cov = fit.cov
+        coef, cov = _cake_basis_refit(lambda th: ((ta - th[0] - th[1] * Va - th[2] * square(th))[used]) * weight,
+                                      coef, last - first + 1)
+        sq = square(coef)
+    t_d, B, half_K = (float(c) for c in coef)
     se = None if cov is None else np.sqrt(np.maximum(np.diag(cov), 0.0))
     to_alpha, to_Rm = _to_alpha_rm(test)
     # the picture: (t - t_d)/V against V is the straight line B + (K_p/2) V (total basis)
     y = (ta - t_d) / Va
     fitted = B + half_K * sq / Va
-    used = slice(first, last + 1)
     res = y[used] - fitted[used]
     dev = y[used] - y[used].mean()
     r2 = 1.0 - float(res @ res) / float(dev @ dev) if float(dev @ dev) > 0 else 1.0
@@ -773,27 +792,51 @@ def _pool_medium(P, x, Rm, se_r, warnings):
     return mean, float(np.sqrt(1.0 / (1.0 / var).sum())) * birge, w, None
 
 
-def fit_for_basis(tests, basis: str, reference_pressure: float | None = None, max_rounds: int = 40):
-    """Evaluate tests and combine them; on the cake basis, iterate s with the per-test fits.
+def fit_for_basis(tests, basis: str, reference_pressure: float | None = None):
+    """Evaluate tests and combine them; on the cake basis, find the s that the per-test fits on
+    that basis give back.
 
-    Returns (per-test fits, CompressibilityFit). On the cake basis each test is refitted with
-    the s of the last combination until s settles; with one pressure (s unknown) or s outside
-    [0, 1) the total basis is kept, and the fit says so.
+    Each test's alpha on the cake basis depends on s, and s on the alphas: s solves
+    s = combine(evaluate(tests, s)).s, found by Brent's method on [0, S_MAX] (plain iteration
+    oscillates: the map's slope is below -1 when the cloth holds much of the pressure), from the
+    first sign change on a 0.1 grid. With
+    one pressure (s unknown), s <= 0 on the total basis, or no root below S_MAX, the total
+    basis is kept, and the caller says so.
+
+    Returns (per-test fits, CompressibilityFit).
     """
+    from scipy.optimize import brentq
+
     if basis not in PRESSURE_BASES:
         raise SolverInputError("pressure_basis", f"must be 'cake' or 'total'; got {basis!r}")
     fits = [evaluate_test(t) for t in tests]
     comb = _combine(tests, fits, reference_pressure)
-    if basis == "cake" and comb.compressibility is not None:
-        s_prev = None
-        for _ in range(max_rounds):
-            s = comb.compressibility
-            if not 0.0 < s < 1.0 or (s_prev is not None and abs(s - s_prev) < 1e-7):
-                break
-            fits = [evaluate_test(t, s) for t in tests]
-            comb = _combine(tests, fits, reference_pressure)
-            s_prev = s
-    return fits, comb
+    if basis != "cake" or comb.compressibility is None or not comb.compressibility > 0.0:
+        return fits, comb
+    cache = {}
+
+    def gap(s):
+        f = [evaluate_test(t, s) for t in tests]
+        c = _combine(tests, f, reference_pressure)
+        cache[s] = (f, c)
+        return c.compressibility - s
+
+    lo, found = 0.0, None
+    for hi in np.arange(0.1, S_MAX + 1e-9, 0.1):  # the first sign change from s = 0 up
+        if gap(float(hi)) < 0.0:
+            found = float(hi)
+            break
+        lo = float(hi)
+    if found is None:
+        return fits, comb
+    s_star = brentq(gap, lo, found, xtol=1e-7)
+    if s_star not in cache:
+        gap(s_star)
+    return cache[s_star]
+
+
+#: The highest compressibility the cake basis search tries.
+S_MAX = 0.9
 
 
 def _combine(tests, fits, reference_pressure):
