@@ -38,7 +38,7 @@ from .errors import SolverInputError
 #: Chance that one whole automatic region search (every block at both ends) drops a reading
 #: from clean data: each block's test runs at this share divided by the number of blocks
 #: (Bonferroni), so the search as a whole, not each test, holds the rate.
-SEARCH_FALSE_DROP = 0.005
+SEARCH_FALSE_DROP = 0.002
 #: Chance that ``auto`` calls a start offset significant in a test that has none.
 OFFSET_FALSE_ALARM = 0.005
 #: A reading is at the set pressure once its pressure is within this share of it.
@@ -487,26 +487,31 @@ def _common_warnings(slope: float, intercept: float, r2: float, warnings: list):
         warnings.append(f"The readings lie poorly on a line (R² = {r2:.3f}): check the region.")
 
 
+def _relative_scatter_cov(J, fitted, residuals):
+    """Covariance of least-squares coefficients (ordinary, unweighted) when each reading scatters
+    in proportion to its value (a share of the reading, as a clock and a cylinder are read):
+    the sandwich (J'J)^-1 J' diag(sigma^2 yhat^2) J (J'J)^-1, sigma^2 from the relative
+    residuals. None without a degree of freedom or with a fitted value <= 0."""
+    n, p = J.shape
+    if n <= p or np.any(fitted <= 0.0):
+        return None
+    sigma2 = float(((residuals / fitted) ** 2).sum()) / (n - p)
+    bread = np.linalg.inv(J.T @ J)
+    meat = J.T @ (J * (sigma2 * fitted**2)[:, None])
+    return bread @ meat @ bread
+
+
 def _cake_basis_refit(residuals, start: np.ndarray, n_used: int):
     """Least squares of a model whose V^2 term is on the cake pressure basis (it depends on the
-    fitted K_p and B themselves), from the total-basis values ``start``; the covariance from
-    the Jacobian at the optimum. Returns (parameters, covariance or None)."""
+    fitted K_p and B themselves), from the total-basis values ``start``. Returns the parameters
+    and the Jacobian of the residuals at the optimum (for the covariance)."""
     from scipy.optimize import least_squares
 
     scale = np.where(np.abs(start) > 0.0, np.abs(start), 1.0)
     sol = least_squares(lambda z: residuals(z * scale), np.sign(start) + (start == 0.0), method="lm",
                         xtol=1e-13, ftol=1e-13, diff_step=1e-7)
     theta = sol.x * scale
-    dof = n_used - start.size
-    cov = None
-    if dof > 0:
-        J = sol.jac
-        s2 = float(sol.fun @ sol.fun) / dof
-        try:
-            cov = s2 * np.linalg.inv(J.T @ J) / np.outer(scale, scale)
-        except np.linalg.LinAlgError:
-            cov = None
-    return theta, cov
+    return theta, sol.jac / scale[None, :]
 
 
 def _finish_classic(test, t, V, after, t0, V0, s, warnings, model_note) -> TestFit:
@@ -526,21 +531,26 @@ def _finish_classic(test, t, V, after, t0, V0, s, warnings, model_note) -> TestF
     slope, intercept, se_slope, se_int, corr, r2 = (fit.slope, fit.intercept, fit.slope_stderr,
                                                      fit.intercept_stderr, fit.correlation, fit.r_squared)
     xe = x
+    J = -np.column_stack((x[used], np.ones(last - first + 1)))  # d residual / d (slope, intercept)
     if s > 0.0 and slope > 0.0 and intercept > 0.0:
         def abscissa(theta):
             sq = cake_basis_square(np.append(Va, V0), 2.0 * theta[0], theta[1], s)
             return (sq[:-1] - sq[-1]) / (Va - V0)
 
-        theta, cov = _cake_basis_refit(lambda th: (y - th[1] - th[0] * abscissa(th))[used],
-                                       np.array([slope, intercept]), last - first + 1)
+        theta, J = _cake_basis_refit(lambda th: (y - th[1] - th[0] * abscissa(th))[used],
+                                     np.array([slope, intercept]), last - first + 1)
         slope, intercept = float(theta[0]), float(theta[1])
         xe = abscissa(theta)
-        se_slope = se_int = corr = None
-        if cov is not None:
-            se_slope, se_int = float(np.sqrt(cov[0, 0])), float(np.sqrt(cov[1, 1]))
-            corr = float(cov[0, 1] / (se_slope * se_int)) if se_slope > 0 and se_int > 0 else None
     fitted = intercept + slope * xe
     residuals = y[used] - fitted[used]
+    # standard errors for a scatter in proportion to the reading (the line itself stays the
+    # ordinary least-squares line of the textbooks)
+    cov = _relative_scatter_cov(J, fitted[used], residuals)
+    if cov is not None:
+        se_slope, se_int = float(np.sqrt(cov[0, 0])), float(np.sqrt(cov[1, 1]))
+        corr = float(cov[0, 1] / (se_slope * se_int)) if se_slope > 0 and se_int > 0 else None
+    elif s > 0.0:
+        se_slope = se_int = corr = None
     dev = y[used] - y[used].mean()
     if s > 0.0:
         r2 = 1.0 - float(residuals @ residuals) / float(dev @ dev) if float(dev @ dev) > 0 else 1.0
@@ -571,9 +581,12 @@ def _finish_three(test, t, V, after, region, s, warnings, model_note, fill_end) 
         def square(theta):
             return cake_basis_square(Va, 2.0 * theta[2], theta[1], s)
 
-        coef, cov = _cake_basis_refit(lambda th: ((ta - th[0] - th[1] * Va - th[2] * square(th))[used]) * weight,
-                                      coef, last - first + 1)
+        coef, J = _cake_basis_refit(lambda th: ((ta - th[0] - th[1] * Va - th[2] * square(th))[used]) * weight,
+                                    coef, last - first + 1)
         sq = square(coef)
+        r = ((ta - coef[0] - coef[1] * Va - coef[2] * sq)[used]) * weight
+        dof = last - first + 1 - 3
+        cov = float(r @ r) / dof * np.linalg.inv(J.T @ J) if dof > 0 else None
     t_d, B, half_K = (float(c) for c in coef)
     se = None if cov is None else np.sqrt(np.maximum(np.diag(cov), 0.0))
     to_alpha, to_Rm = _to_alpha_rm(test)
