@@ -115,10 +115,16 @@ def fit_request(lab_request: LabFitRequest) -> dict:
     warnings.extend(combined.warnings)
     s = combined.compressibility
     basis = lab_request.pressure_basis
-    if basis == "cake" and (s is None or not 0.0 < s < 1.0) and combined.medium_resistance > 0:
+    applied = any(f.compressibility > 0.0 for f in fits)
+    if basis == "cake" and not applied and s is not None and s > 0.0:
+        basis = "total"  # alpha was evaluated on the total basis: the cycle must use it the same way
         warnings.append(
-            "The cake pressure basis needs the compressibility from tests at two or more pressures; "
-            "with none (or none above 0) the resistances are those of the total basis.")
+            "No compressibility consistent with the cake pressure basis was found for these tests: the "
+            "resistances are evaluated on the total basis (and for_cycle says so).")
+    elif basis == "cake" and s is None and combined.medium_resistance > 0:
+        warnings.append(
+            "The cake pressure basis needs the compressibility from tests at two or more pressures; with one "
+            "pressure the resistance is that of the whole pressure drop (the same for an incompressible cake).")
     usable_s = s is not None and 0.0 <= s < 1.0
     cake = {
         "resistance": combined.resistance_ref,

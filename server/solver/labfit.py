@@ -237,7 +237,7 @@ def choose_region(x, y) -> tuple[int, int, str]:
     return first, last, _region_note(first, last, n, drops)
 
 
-def cake_share(cloth_ratio, compressibility: float, steps: int = 60):
+def cake_share(cloth_ratio, compressibility: float, steps: int = 52):
     r"""The cake's share phi = dp_c/dP of the pressure at constant dP, power-law cake.
 
     Solves :math:`\phi + r \phi^{1-s} = 1` with r = B/(K_p V) = R_m A/(alpha(dP) c V) the
@@ -256,7 +256,7 @@ def cake_share(cloth_ratio, compressibility: float, steps: int = 60):
     return 0.5 * (lo + hi)
 
 
-def cake_basis_square(V, K_p: float, B: float, compressibility: float, grid_points: int = 4000):
+def cake_basis_square(V, K_p: float, B: float, compressibility: float, grid_points: int = 1600):
     r"""The V^2 of Ruth's equation on the cake pressure basis: :math:`2\int_0^V v\,\phi(v)^s dv`.
 
     Equal to V^2 when s = 0 or there is no cloth resistance (B <= 0). Trapezoid rule on a grid
@@ -496,7 +496,7 @@ def _relative_scatter_cov(J, fitted, residuals):
     if n <= p or np.any(fitted <= 0.0):
         return None
     sigma2 = float(((residuals / fitted) ** 2).sum()) / (n - p)
-    bread = np.linalg.inv(J.T @ J)
+    bread = np.linalg.pinv(J.T @ J)
     meat = J.T @ (J * (sigma2 * fitted**2)[:, None])
     return bread @ meat @ bread
 
@@ -509,7 +509,9 @@ def _cake_basis_refit(residuals, start: np.ndarray, n_used: int):
 
     scale = np.where(np.abs(start) > 0.0, np.abs(start), 1.0)
     sol = least_squares(lambda z: residuals(z * scale), np.sign(start) + (start == 0.0), method="lm",
-                        xtol=1e-13, ftol=1e-13, diff_step=1e-7)
+                        xtol=1e-12, ftol=1e-12, diff_step=1e-7)
+    if not (sol.success and np.all(np.isfinite(sol.x)) and np.all(np.isfinite(sol.jac))):
+        raise SolverInputError("points", "the fit on the cake pressure basis does not settle for these readings")
     theta = sol.x * scale
     return theta, sol.jac / scale[None, :]
 
@@ -586,7 +588,7 @@ def _finish_three(test, t, V, after, region, s, warnings, model_note, fill_end) 
         sq = square(coef)
         r = ((ta - coef[0] - coef[1] * Va - coef[2] * sq)[used]) * weight
         dof = last - first + 1 - 3
-        cov = float(r @ r) / dof * np.linalg.inv(J.T @ J) if dof > 0 else None
+        cov = float(r @ r) / dof * np.linalg.pinv(J.T @ J) if dof > 0 else None
     t_d, B, half_K = (float(c) for c in coef)
     se = None if cov is None else np.sqrt(np.maximum(np.diag(cov), 0.0))
     to_alpha, to_Rm = _to_alpha_rm(test)
@@ -812,7 +814,7 @@ def fit_for_basis(tests, basis: str, reference_pressure: float | None = None):
     Each test's alpha on the cake basis depends on s, and s on the alphas: s solves
     s = combine(evaluate(tests, s)).s, found by Brent's method on [0, S_MAX] (plain iteration
     oscillates: the map's slope is below -1 when the cloth holds much of the pressure), from the
-    first sign change on a 0.1 grid. With
+    first sign change on a 0.15 grid. With
     one pressure (s unknown), s <= 0 on the total basis, or no root below S_MAX, the total
     basis is kept, and the caller says so.
 
@@ -834,17 +836,22 @@ def fit_for_basis(tests, basis: str, reference_pressure: float | None = None):
         cache[s] = (f, c)
         return c.compressibility - s
 
+    # from s = 0 upwards (near s = 1 the fits lose their footing, so the first root counts)
+    brackets = [float(x) for x in np.arange(0.15, S_MAX + 1e-9, 0.15)]
     lo, found = 0.0, None
-    for hi in np.arange(0.1, S_MAX + 1e-9, 0.1):  # the first sign change from s = 0 up
-        if gap(float(hi)) < 0.0:
-            found = float(hi)
-            break
-        lo = float(hi)
-    if found is None:
+    try:
+        for hi in brackets:
+            if gap(hi) < 0.0:
+                found = hi
+                break
+            lo = hi
+        if found is None:
+            return fits, comb
+        s_star = brentq(gap, lo, found, xtol=1e-6)
+        if s_star not in cache:
+            gap(s_star)
+    except (SolverInputError, np.linalg.LinAlgError, ValueError):
         return fits, comb
-    s_star = brentq(gap, lo, found, xtol=1e-7)
-    if s_star not in cache:
-        gap(s_star)
     return cache[s_star]
 
 
