@@ -183,6 +183,7 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
         "liquid_density": rho_l, "viscosity": mu, "solids_density": bal.solids_density,
         "dry_bulk_density": (1.0 - bal.porosity) * bal.solids_density,
         "resistance_at_feed": filtration.specific_resistance(feed.pressure_cap),
+        "pressure_basis": k.pressure_basis,
         "filter_area": press.filter_area, "chamber_volume": press.chamber_volume,
         "chamber_volume_each": press.chamber_volume / inputs.press.chambers if inputs.press.chambers else None,
     }

@@ -185,3 +185,76 @@ def test_random_increasing_readings_fit_or_refuse_plainly(client, dt, dv, p, ref
     r = client.post("/api/v1/lab-fit", json=body)
     assert r.status_code in (200, 422), r.text
     json.loads(r.text, parse_constant=lambda name: (_ for _ in ()).throw(AssertionError(name)))
+
+
+# ---- models, pressure readings, uncertainty carried forward (synthetic, derived here) ----
+
+def synthetic_points(P, alpha=2e11, R_m=8e10, V1=0.0, with_pressure=False):
+    """Exact readings of a 0.01 m² cell (mu 1 mPa·s, c 50 kg/m³): constant rate up to V1, then P."""
+    A, mu, c = 0.01, 1e-3, 50.0
+    K_p, B = mu * alpha * c / (A**2 * P), mu * R_m / (A * P)
+    rows = []
+    for V in [k * 0.25e-3 for k in range(1, 21)]:
+        if V <= V1:
+            q0 = 1 / (K_p * V1 + B)
+            t, p = V / q0, P * (K_p * V + B) / (K_p * V1 + B)
+        else:
+            t = V1 * (K_p * V1 + B) + K_p / 2 * (V**2 - V1**2) + B * (V - V1)
+            p = P
+        rows.append([t, V, p] if with_pressure else [t, V])
+    return {"pressure": P, "area": A, "viscosity": mu, "c": c, "points": rows}
+
+
+def test_pressure_readings_give_the_filling_period_and_exact_resistances(client):
+    data = post(client, {"tests": [synthetic_points(3e5, V1=1.1e-3, with_pressure=True)]}).json()
+    t = data["tests"][0]
+    assert t["model"] == "three_parameter" and t["filling"]["readings"] == 4
+    assert "pressure readings" in t["filling"]["how"]
+    assert t["resistance"] == pytest.approx(2e11, rel=1e-6)
+    assert t["medium_resistance"] == pytest.approx(8e10, rel=1e-6)
+    assert len(t["pressures"]) == 20
+
+
+def test_csv_with_a_pressure_column_marks_the_filling_period(client):
+    rows = synthetic_points(3e5, V1=1.1e-3, with_pressure=True)["points"]
+    csv = "time [s], filtrate [L], pressure [bar]\n" + "\n".join(f"{t!r}, {v * 1e3!r}, {p / 1e5!r}" for t, v, p in rows)
+    test = {"pressure": "3 bar", "area": 0.01, "viscosity": 1e-3, "c": 50, "csv": csv}
+    t = post(client, {"tests": [test]}).json()["tests"][0]
+    assert t["filling"]["readings"] == 4 and t["resistance"] == pytest.approx(2e11, rel=1e-6)
+
+
+def test_rows_of_two_and_three_values_cannot_be_mixed(client):
+    test = synthetic_points(3e5, with_pressure=True)
+    test["points"][3] = test["points"][3][:2]
+    assert "[time, volume, pressure]" in errors_of(post(client, {"tests": [test]}))["tests.0.points"]
+
+
+def test_an_unknown_model_or_basis_is_a_422_naming_it(client):
+    errs = errors_of(post(client, {"tests": [synthetic_points(3e5)], "model": "quadratic", "pressure_basis": "x"}))
+    assert "model" in errs and "classic" in errs["model"] and "three_parameter" in errs["model"]
+    assert "pressure_basis" in errs and "cake" in errs["pressure_basis"]
+
+
+def test_reference_pressure_defaults_to_the_geometric_mean_and_for_cycle_carries_the_errors(client):
+    # readings built with alpha at the whole pressure drop: evaluated on that (total) basis
+    data = post(client, {"tests": [synthetic_points(1e5, alpha=1e11), synthetic_points(4e5, alpha=2e11),
+                                   synthetic_points(2e5, alpha=1.4142e11)], "pressure_basis": "total"}).json()
+    assert data["reference_pressure"] == pytest.approx(2e5, rel=1e-9)
+    assert data["compressibility"] == pytest.approx(0.5, abs=1e-3)
+    assert data["tested_pressure_range"] == [1e5, 4e5]
+    fc = data["for_cycle"]
+    assert fc["cake"]["pressure_basis"] == "total"
+    for key in ("resistance", "reference_pressure", "compressibility", "resistance_stderr",
+                "compressibility_stderr", "pressure_basis", "tested_pressure_range"):
+        assert key in fc["cake"], key
+    for key in ("medium_resistance", "medium_resistance_stderr", "resistance_medium_correlation"):
+        assert key in fc, key
+    # straight into a cycle at 7 bar: outside the tested pressures, said in the unit typed
+    cycle = {"slurry": {"solids_mass_fraction": "5 %", "solids_density": 2600, "viscosity": 1e-3},
+             "cake": {**fc["cake"], "porosity": 0.5}, "press": {"filter_area": 20, "chamber_thickness": "30 mm"},
+             "feed": {"mode": "constant_pressure", "pressure": "7 bar"}, "cycle": {"downtime": "20 min"},
+             **{k: v for k, v in fc.items() if k != "cake"}}
+    res = client.post("/api/v1/cycle", json=cycle)
+    assert res.status_code == 200, res.text
+    assert any("7 bar" in w and "1 to 4 bar" in w for w in res.json()["warnings"])
+    assert res.json()["uncertainty"] is not None

@@ -341,6 +341,8 @@ class DerivedOut(BaseModel):
     liquid_density: float = Field(description="[kg/m³]")
     viscosity: float = Field(description="Filtrate viscosity [Pa·s]")
     resistance_at_feed: float = Field(description="Specific cake resistance at the feed pressure [m/kg]")
+    pressure_basis: str | None = Field(
+        None, description="cake: the resistance belongs to the pressure across the cake; total: to the whole drop")
     filter_area: float = Field(description="[m²]")
     chamber_volume: float = Field(description="Total chamber volume A L / 2 [m³] (A counts both faces of every chamber)")
     chamber_volume_each: float | None = Field(

@@ -2,7 +2,7 @@
 
 from typing import Literal
 
-from pydantic import BaseModel, Field, model_validator
+from pydantic import BaseModel, Field, field_validator, model_validator
 
 from .common import Density, Fraction01, LabPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
 from .quantities import quantity
@@ -53,12 +53,17 @@ class LabTestIn(Strict):
         None, description="0-based [first, last] readings to fit (inclusive); default: chosen automatically"
     )
 
+    @field_validator("points")
+    @classmethod
+    def _same_row_length(cls, points):
+        if points is not None and len({len(p) for p in points}) > 1:
+            raise ValueError("give every reading as [time, volume] or every reading as [time, volume, pressure]")
+        return points
+
     @model_validator(mode="after")
     def _alternatives(self):
         exactly_one(self, ("viscosity", "temperature"))
         exactly_one(self, ("points", "csv"))
-        if self.points is not None and len({len(p) for p in self.points}) > 1:
-            raise ValueError("give every reading as [time, volume] or every reading as [time, volume, pressure]")
         ways = {
             "c": self.c is not None,
             "slurry and cake data": self.solids_mass_fraction is not None or self.solids_concentration is not None,
