@@ -4,10 +4,10 @@ import numpy as np
 
 from . import solver
 from .errors import InputError
-from .labdata import CsvError, parse_readings
-from .schemas.labfit import LabFitRequest, LabTestIn
+from .labdata import CsvError, parse_compression, parse_readings
+from .schemas.labfit import CompressionFitRequest, LabFitRequest, LabTestIn
 from .solve import first_non_finite, liquid_density
-from .solver import labfit, water
+from .solver import labfit, locallaws, water
 from .solver import slurry as sb
 
 LAB_UNITS = {
@@ -164,4 +164,49 @@ def fit_request(lab_request: LabFitRequest) -> dict:
     bad = first_non_finite(out)
     if bad is not None:
         raise InputError([(("body", "tests"), f"these readings give a result out of numeric range ({bad})")])
+    return out
+
+
+def compression_request(req: CompressionFitRequest) -> dict:
+    """The /api/v1/compression-fit answer: Tiller and Leu's laws fitted to a compression-
+    permeability table, their cake averages, and cake.local for a cycle (SI, checked finite)."""
+    if req.csv is not None:
+        try:
+            rows = parse_compression(req.csv)
+        except CsvError as exc:
+            raise InputError([(("body", "csv"), str(exc))]) from None
+        where = ("body", "csv")
+    else:
+        rows = [tuple(r) for r in req.points]
+        where = ("body", "points")
+    p, a, e = (np.array(col, dtype=float) for col in zip(*rows)) if rows else ([], [], [])
+    bad = [i + 1 for i, (x, y, z) in enumerate(rows) if not (x >= 0 and y > 0 and 0 < z < 1)]
+    if bad:
+        raise InputError([(where, f"row {bad[0]}: stresses must be >= 0, resistances > 0 and solidosities "
+                                  "between 0 and 1")])
+    try:
+        fit = locallaws.fit_tiller_leu(p, a, e)
+    except solver.SolverInputError as exc:
+        raise InputError([(where, exc.message)]) from None
+    law = fit.law
+    local = {"resistance_at_zero_stress": law.resistance_at_zero_stress, "resistance_exponent": law.resistance_exponent,
+             "solidosity_at_zero_stress": law.solidosity_at_zero_stress,
+             "solidosity_exponent": law.solidosity_exponent, "stress_scale": law.stress_scale}
+    warnings = []
+    spread = float(np.sqrt(np.mean(fit.residuals_resistance**2)))
+    if spread > 0.2:
+        warnings.append(f"The resistances scatter by about {spread:.0%} about the fitted law: check the readings.")
+    dp = np.geomspace(max(float(p[p > 0].min()) if np.any(p > 0) else 1e3, 1.0), max(float(p.max()), 1e3), 40)
+    out = {
+        "local": local, "stderrs": fit.stderrs, "points": [list(r) for r in rows],
+        "averages": {"cake_pressure": dp.tolist(), "resistance": np.asarray(law.average_resistance(dp)).tolist(),
+                     "solidosity": np.asarray(law.average_solidosity(dp)).tolist()},
+        "for_cycle": {"cake": {"local": local}}, "warnings": warnings,
+        "units": {"resistance_at_zero_stress": "m/kg", "resistance_exponent": "1", "solidosity_at_zero_stress": "1",
+                  "solidosity_exponent": "1", "stress_scale": "Pa", "points": "[Pa, m/kg, 1]",
+                  "averages.cake_pressure": "Pa", "averages.resistance": "m/kg", "averages.solidosity": "1"},
+    }
+    bad_path = first_non_finite(out)
+    if bad_path is not None:
+        raise InputError([(where, f"these rows give a result out of numeric range ({bad_path})")])
     return out

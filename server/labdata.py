@@ -19,6 +19,7 @@ MAX_ROWS = 20000
 TIME_NAMES = ("time", "t", "zeit", "elapsed time")
 VOLUME_NAMES = ("filtrate", "volume", "v", "filtrate volume", "filtrate_volume")
 PRESSURE_NAMES = ("pressure", "p", "druck", "pressure drop")
+PLAIN_UNITS = ("-", "–", "1")
 _HEADER = re.compile(r"^\s*([^\[\(]*?)\s*[\[\(]\s*([^\]\)]+?)\s*[\]\)]\s*$")
 
 
@@ -106,8 +107,12 @@ def read_table(text: str, spec: dict, required: tuple, example: str) -> Table:
             label = {"volume": "filtrate volume"}.get(kind, spec[kind][2])
             raise CsvError(header_line, f"no {label} column in the header: name the columns with their "
                                         f"units, such as '{example}'")
-    wanted = [(pos, key, spec[key][1], unit) for key, (pos, unit) in columns.items()]
+    # a plain number ("[-]", "[1]") for a fraction: the bare number is the value
+    wanted = [(pos, key, spec[key][1], "" if spec[key][1] == "fraction" and unit in PLAIN_UNITS else unit)
+              for key, (pos, unit) in columns.items()]
     for _, key, kind, unit in wanted:
+        if not unit:
+            continue
         try:
             parse_quantity(f"1 {unit}", kind)
         except UnitError as exc:
@@ -135,7 +140,7 @@ def read_table(text: str, spec: dict, required: tuple, example: str) -> Table:
             if not math.isfinite(number):
                 raise CsvError(line_no, f"{cells[pos]!r} is not a finite number")
             try:
-                values[key].append(parse_quantity(f"{number!r} {unit}", kind))
+                values[key].append(parse_quantity(f"{number!r} {unit}", kind) if unit else number)
             except UnitError as exc:
                 raise CsvError(line_no, f"{cells[pos]!r} {unit}: {exc}") from None
     if not rows:

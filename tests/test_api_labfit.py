@@ -3,6 +3,7 @@
 import json
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 DATA = Path(__file__).resolve().parent / "data"
@@ -258,3 +259,53 @@ def test_reference_pressure_defaults_to_the_geometric_mean_and_for_cycle_carries
     assert res.status_code == 200, res.text
     assert any("7 bar" in w and "1 to 4 bar" in w for w in res.json()["warnings"])
     assert res.json()["uncertainty"] is not None
+
+
+# ---- compression-permeability tables (synthetic from known laws, seeded; derived here) ----
+
+def compression_csv(rng=None, porosity=False):
+    from server.solver.locallaws import TillerLeu
+
+    law = TillerLeu(5e10, 0.7, 0.25, 0.12, 2e4)
+    p = np.geomspace(5e3, 2e6, 10)
+    noise = (lambda: np.exp(rng.normal(0, 0.02, p.size))) if rng is not None else (lambda: np.ones(p.size))
+    a, e = law.local_resistance(p) * noise(), law.local_solidosity(p) * noise()
+    head = "stress [kPa]; alpha [m/kg]; " + ("porosity [%]" if porosity else "solidosity [-]")
+    rows = [f"{float(x) / 1e3!r}; {float(y)!r}; {float(100 * (1 - z) if porosity else z)!r}" for x, y, z in zip(p, a, e)]
+    return law, head + "\n" + "\n".join(rows)
+
+
+@pytest.mark.parametrize("porosity", [False, True])
+def test_compression_table_gives_the_local_laws_and_a_cycle_ready_cake(client, porosity):
+    law, csv = compression_csv(porosity=porosity)
+    r = client.post("/api/v1/compression-fit", json={"csv": csv})
+    assert r.status_code == 200, r.text
+    data = r.json()
+    for name in ("resistance_at_zero_stress", "resistance_exponent", "solidosity_at_zero_stress",
+                 "solidosity_exponent", "stress_scale"):
+        assert data["local"][name] == pytest.approx(getattr(law, name), rel=1e-3), name
+    cycle = {"slurry": {"solids_mass_fraction": "20 %", "solids_density": 2600, "viscosity": 1e-3},
+             "cake": data["for_cycle"]["cake"], "medium_resistance": 5e10,
+             "press": {"filter_area": 20, "chamber_thickness": "30 mm"},
+             "feed": {"mode": "constant_pressure", "pressure": "6 bar"}, "cycle": {"downtime": "20 min"}}
+    res = client.post("/api/v1/cycle", json=cycle)
+    assert res.status_code == 200, res.text
+    assert res.json()["derived"]["resistance_at_feed"] == pytest.approx(law.average_resistance(6e5), rel=1e-3)
+
+
+def test_compression_table_errors_name_the_line(client):
+    _, csv = compression_csv()
+    bad = csv.replace("\n", "\nten; 1e11; 0.3\n", 1)
+    r = client.post("/api/v1/compression-fit", json={"csv": bad})
+    assert r.status_code == 422 and "line 2" in r.json()["detail"][0]["msg"]
+    r = client.post("/api/v1/compression-fit", json={"points": [[1e4, 1e11, 1.5]] * 5})
+    assert r.status_code == 422 and "points" in r.json()["detail"][0]["field"]
+
+
+def test_the_lab_page_draws_the_local_laws(client):
+    _, csv = compression_csv(np.random.default_rng(3))
+    r = client.post("/ui/compression-fit", json={"csv": csv})
+    assert r.status_code == 200, r.text
+    data = r.json()
+    assert set(data["figures"]) == {"local_resistance", "local_solidosity"}
+    assert "local-laws" in data["html"] and "bar" in data["html"]

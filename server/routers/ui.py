@@ -12,10 +12,10 @@ from fastapi import APIRouter, Request, Response
 
 from ..budget import within_budget
 from ..display import Units, UnitSystem
-from ..lab import fit_request
-from ..labcharts import lab_figures
+from ..lab import compression_request, fit_request
+from ..labcharts import compression_figures, lab_figures
 from ..schemas.cycle import CycleRequest
-from ..schemas.labfit import LabFitRequest
+from ..schemas.labfit import CompressionFitRequest, LabFitRequest
 from ..solve import CAUTIONS, solve
 from ..views import render_results
 
@@ -64,3 +64,12 @@ async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
         {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
     return {"html": html, "figures": figs, "results": results}
 
+
+
+@router.post("/compression-fit")
+async def post_compression_fit(request: Request, compression: CompressionFitRequest) -> dict:
+    results = await within_budget(request, compression_request, compression)
+    figs = compression_figures(results)
+    html = request.app.state.templates.get_template("_lab_compression.html").render(
+        {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs)})
+    return {"html": html, "figures": figs, "results": results}

@@ -150,3 +150,37 @@ class LabFitResponse(BaseModel):
     for_cycle: dict = Field(description="The cake and medium_resistance fields of an /api/v1/cycle request")
     warnings: list[str]
     units: dict[str, str]
+
+
+# ---- compression-permeability tests ---------------------------------------------------
+
+Stress = quantity("pressure", ge=0.0, le=1e9, description="Effective solids pressure")
+LocalResistance = quantity("specific_resistance", gt=0.0, le=1e18, description="Local specific cake resistance")
+Solidosity = quantity("fraction", gt=0.0, lt=1.0, description="Solids volume fraction of the cake")
+
+
+class CompressionFitRequest(Strict):
+    points: list[tuple[Stress, LocalResistance, Solidosity]] | None = Field(
+        None, min_length=4, max_length=5000,
+        description="[effective solids pressure, local specific resistance, solidosity] rows of a "
+                    "compression-permeability cell")
+    csv: str | None = Field(
+        None, max_length=1_000_000,
+        description="The same as CSV text with units in the header, e.g. 'stress [kPa], alpha [m/kg], "
+                    "solidosity [-]' (or porosity instead of solidosity)")
+
+    @model_validator(mode="after")
+    def _one(self):
+        exactly_one(self, ("points", "csv"))
+        return self
+
+
+class CompressionFitResponse(BaseModel):
+    local: dict = Field(description="Tiller and Leu's parameters, as cake.local of /api/v1/cycle (SI)")
+    stderrs: dict = Field(description="Standard errors of the parameters (SI)")
+    points: list[tuple[float, float, float]] = Field(description="[p_s Pa, alpha m/kg, solidosity -] as read")
+    averages: dict = Field(description="Cake averages against the pressure across the cake: cake_pressure [Pa], "
+                                       "resistance [m/kg], solidosity [-]")
+    for_cycle: dict = Field(description="The cake field of an /api/v1/cycle request")
+    warnings: list[str]
+    units: dict[str, str]

@@ -217,7 +217,8 @@ def _positive_weights(y) -> np.ndarray:
     reading); plain weights when some y are not positive."""
     y = np.asarray(y, dtype=float)
     if np.all(y > 0.0):
-        return 1.0 / (y * y)
+        r = y / y.max()  # only the weights' ratios matter
+        return 1.0 / np.maximum(r * r, 1e-300)
     return np.full(y.size, 1.0)
 
 
