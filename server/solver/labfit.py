@@ -145,6 +145,8 @@ def _end_block_search(X, y, weights, budget_first: int, budget_last: int, keep_m
     scale[scale == 0.0] = 1.0
     R = R / scale
     z = y * sw
+    z_scale = float(np.abs(z).max())
+    z = z / (z_scale if z_scale > 0.0 and np.isfinite(z_scale) else 1.0)  # the test is scale-free; 1e-12 below is relative
     zero = np.zeros((1,))
     Sxx = np.concatenate((np.zeros((1, p, p)), np.cumsum(R[:, :, None] * R[:, None, :], axis=0)))
     Sxy = np.concatenate((np.zeros((1, p)), np.cumsum(R * z[:, None], axis=0)))
@@ -521,8 +523,8 @@ def _finish_classic(test, t, V, after, t0, V0, s, warnings, model_note) -> TestF
     x = V[after] + V0
     with np.errstate(over="ignore", divide="ignore"):
         y = (t[after] - t0) / (V[after] - V0)
-    if not np.all(np.isfinite(y)):
-        k = int(after[np.nonzero(~np.isfinite(y))[0][0]])
+    if not np.all(np.isfinite(y) & (np.abs(y) < 1e100)):
+        k = int(after[np.nonzero(~(np.isfinite(y) & (np.abs(y) < 1e100)))[0][0]])
         raise SolverInputError("points", f"reading {k + 1} has too little filtrate after the start for t/V to be computed")
     if test.use is None:
         first, last, region = choose_region(x, y)
