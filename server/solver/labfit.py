@@ -146,7 +146,8 @@ def _end_block_search(X, y, weights, budget_first: int, budget_last: int, keep_m
     R = R / scale
     z = y * sw
     z_scale = float(np.abs(z).max())
-    z = z / (z_scale if z_scale > 0.0 and np.isfinite(z_scale) else 1.0)  # the test is scale-free; 1e-12 below is relative
+    # the test is scale-free; the 1e-12 below is then relative
+    z = z / (z_scale if z_scale > 0.0 and np.isfinite(z_scale) else 1.0)
     zero = np.zeros((1,))
     Sxx = np.concatenate((np.zeros((1, p, p)), np.cumsum(R[:, :, None] * R[:, None, :], axis=0)))
     Sxy = np.concatenate((np.zeros((1, p)), np.cumsum(R * z[:, None], axis=0)))
@@ -206,7 +207,8 @@ def _region_note(first: int, last: int, n: int, drops, offset: int = 0) -> str:
     reasons = []
     for end, a, b, zk in drops:
         which = f"reading {a + 1 + offset}" if a == b else f"readings {a + 1 + offset} to {b + 1 + offset}"
-        why = "before the test settled (filling, cloth wetting)" if end == "first" else "after the cell filled or the slurry ran out"
+        why = ("before the test settled (filling, cloth wetting)" if end == "first"
+               else "after the cell filled or the slurry ran out")
         zt = "far" if not np.isfinite(zk) else f"{zk:.1f} standard errors"
         reasons.append(f"{which}, {zt} off the fit through the others, {why}")
     return (f"Automatic region: readings {first + 1 + offset} to {last + 1 + offset} of {n + offset}; left out "
@@ -525,7 +527,8 @@ def _finish_classic(test, t, V, after, t0, V0, s, warnings, model_note) -> TestF
         y = (t[after] - t0) / (V[after] - V0)
     if not np.all(np.isfinite(y) & (np.abs(y) < 1e100)):
         k = int(after[np.nonzero(~(np.isfinite(y) & (np.abs(y) < 1e100)))[0][0]])
-        raise SolverInputError("points", f"reading {k + 1} has too little filtrate after the start for t/V to be computed")
+        raise SolverInputError(
+            "points", f"reading {k + 1} has too little filtrate after the start for t/V to be computed")
     if test.use is None:
         first, last, region = choose_region(x, y)
     else:
@@ -711,7 +714,8 @@ def combine_tests(pressures, resistances, medium_resistances, reference_pressure
     if np.unique(P).size < 2:
         raise SolverInputError("pressure", "the compressibility needs tests at two or more different pressures")
     if np.any(alpha <= 0):
-        raise SolverInputError("resistance", "every test must give a positive cake resistance to fit the compressibility")
+        raise SolverInputError(
+            "resistance", "every test must give a positive cake resistance to fit the compressibility")
     x = np.log(P / p_ref)
     fit = fit_line(x, np.log(alpha))
     s = fit.slope

@@ -69,24 +69,26 @@ class TillerLeu:
     stress_scale: float
 
     def __post_init__(self):
-        if not self.resistance_at_zero_stress > 0.0:
-            raise SolverInputError("resistance_at_zero_stress", f"must be > 0 m/kg; got {self.resistance_at_zero_stress:.6g}")
-        if not 0.0 <= self.resistance_exponent < 2.0:
-            raise SolverInputError("resistance_exponent", f"must be at least 0 and below 2; got {self.resistance_exponent:.6g}")
-        if not 0.0 < self.solidosity_at_zero_stress < 1.0:
-            raise SolverInputError("solidosity_at_zero_stress", f"must be above 0 and below 1; got {self.solidosity_at_zero_stress:.6g}")
-        if not 0.0 <= self.solidosity_exponent < 1.0:
-            raise SolverInputError("solidosity_exponent", f"must be at least 0 and below 1; got {self.solidosity_exponent:.6g}")
-        if not self.stress_scale > 0.0:
-            raise SolverInputError("stress_scale", f"must be > 0 Pa; got {self.stress_scale:.6g}")
+        checks = (
+            ("resistance_at_zero_stress", self.resistance_at_zero_stress > 0.0, "must be > 0 m/kg"),
+            ("resistance_exponent", 0.0 <= self.resistance_exponent < 2.0, "must be at least 0 and below 2"),
+            ("solidosity_at_zero_stress", 0.0 < self.solidosity_at_zero_stress < 1.0, "must be above 0 and below 1"),
+            ("solidosity_exponent", 0.0 <= self.solidosity_exponent < 1.0, "must be at least 0 and below 1"),
+            ("stress_scale", self.stress_scale > 0.0, "must be > 0 Pa"),
+        )
+        for name, ok, rule in checks:
+            if not ok:
+                raise SolverInputError(name, f"{rule}; got {getattr(self, name):.6g}")
 
     def local_resistance(self, stress):
         """alpha(p_s) [m/kg] at an effective solids pressure [Pa]."""
-        return self.resistance_at_zero_stress * (1.0 + np.asarray(stress, dtype=float) / self.stress_scale) ** self.resistance_exponent
+        X = 1.0 + np.asarray(stress, dtype=float) / self.stress_scale
+        return self.resistance_at_zero_stress * X**self.resistance_exponent
 
     def local_solidosity(self, stress):
         """eps_s(p_s) [-] at an effective solids pressure [Pa]."""
-        return self.solidosity_at_zero_stress * (1.0 + np.asarray(stress, dtype=float) / self.stress_scale) ** self.solidosity_exponent
+        X = 1.0 + np.asarray(stress, dtype=float) / self.stress_scale
+        return self.solidosity_at_zero_stress * X**self.solidosity_exponent
 
     def average_resistance(self, cake_pressure):
         r"""Average specific resistance of a cake across which dp_c falls [m/kg].
