@@ -487,18 +487,12 @@ def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: flo
     return pressure * filter_area / (filtration.viscosity * filtration.medium_resistance)
 
 
-@dataclass(frozen=True)
-class SteppedPressureCurve:
-    """Constant pressure in steps; the last step is held. Closed form step by step."""
-
-    pressures: np.ndarray  # Pa, per step
-    starts: np.ndarray  # s, step start times
-    V_starts: np.ndarray  # m^3 at each step start
-    K_p: np.ndarray
-    B: np.ndarray
+class _StepSchedule:
+    """What every curve of pressure steps shares: the step of a volume, the knots and where
+    the last step is held (``pressures`` and ``V_starts`` per step)."""
 
     def _step_of_volume(self, V):
-        return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, self.K_p.size - 1)
+        return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, len(self.V_starts) - 1)
 
     @property
     def knots(self) -> np.ndarray:
@@ -509,6 +503,21 @@ class SteppedPressureCurve:
     def held_from(self) -> float:
         """The last stage's start: it is held, so one more throughput peak at most [m^3]."""
         return float(self.V_starts[-1])
+
+    def pressure_at(self, V):
+        out = self.pressures[self._step_of_volume(np.asarray(V, dtype=float))]
+        return out if np.ndim(out) else float(out)
+
+
+@dataclass(frozen=True)
+class SteppedPressureCurve(_StepSchedule):
+    """Constant pressure in steps; the last step is held. Closed form step by step."""
+
+    pressures: np.ndarray  # Pa, per step
+    starts: np.ndarray  # s, step start times
+    V_starts: np.ndarray  # m^3 at each step start
+    K_p: np.ndarray
+    B: np.ndarray
 
     def time(self, V):
         V = np.asarray(V, dtype=float)
@@ -529,10 +538,6 @@ class SteppedPressureCurve:
         V = np.asarray(V, dtype=float)
         i = self._step_of_volume(V)
         return cp.reciprocal(self.K_p[i] * V + self.B[i])
-
-    def pressure_at(self, V):
-        out = self.pressures[self._step_of_volume(np.asarray(V, dtype=float))]
-        return out if np.ndim(out) else float(out)
 
 
 @dataclass(frozen=True)
@@ -579,7 +584,7 @@ class PressureSteps:
         return SteppedPressureCurve(P, np.array(starts), np.array(V_starts), K_p, B)
 
 
-class SteppedCakeBasisCurve:
+class SteppedCakeBasisCurve(_StepSchedule):
     """Pressure steps on the cake pressure basis: each step follows its own held-pressure curve
     (the rate depends only on the pressure and the filtrate volume), shifted in time."""
 
@@ -590,17 +595,6 @@ class SteppedCakeBasisCurve:
     @property
     def V_max(self) -> float:
         return min(c.V_max for c in self.curves)
-
-    @property
-    def knots(self) -> np.ndarray:
-        return self.V_starts[1:]
-
-    @property
-    def held_from(self) -> float:
-        return float(self.V_starts[-1])
-
-    def _step(self, V):
-        return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, len(self.curves) - 1)
 
     def _each(self, index, x, fn):
         x = np.asarray(x, dtype=float)
@@ -614,7 +608,8 @@ class SteppedCakeBasisCurve:
 
     def time(self, V):
         V = np.asarray(V, dtype=float)
-        return self._each(self._step(V), V, lambda i, v: self.starts[i] + self.curves[i].time(v) - self._offsets[i])
+        return self._each(self._step_of_volume(V), V,
+                          lambda i, v: self.starts[i] + self.curves[i].time(v) - self._offsets[i])
 
     def volume(self, t):
         t = np.asarray(t, dtype=float)
@@ -623,11 +618,7 @@ class SteppedCakeBasisCurve:
 
     def rate(self, V):
         V = np.asarray(V, dtype=float)
-        return self._each(self._step(V), V, lambda i, v: self.curves[i].rate(v))
-
-    def pressure_at(self, V):
-        out = self.pressures[self._step(np.asarray(V, dtype=float))]
-        return out if np.ndim(out) else float(out)
+        return self._each(self._step_of_volume(V), V, lambda i, v: self.curves[i].rate(v))
 
 
 def _cake_basis_steps(steps, filtration: Filtration, filter_area: float, V_max: float) -> SteppedCakeBasisCurve:
