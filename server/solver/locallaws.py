@@ -167,7 +167,7 @@ def fit_tiller_leu(stress, resistance, solidosity) -> LocalLawFit:
     best = minimize_scalar(sse, bounds=(lo, hi), method="bounded", options={"xatol": 1e-6}).x if hi > lo else grid[i]
     ca, ce, sa, se_, X = lines(best)
     dof = p.size - 2
-    XtX_inv = np.linalg.inv(X.T @ X)
+    XtX_inv = np.linalg.pinv(X.T @ X)
     var_a, var_e = sa / dof * np.diag(XtX_inv), se_ / dof * np.diag(XtX_inv)
     law = TillerLeu(float(np.exp(ca[0])), float(max(ca[1], 0.0)), float(np.exp(ce[0])),
                     float(min(max(ce[1], 0.0), 0.999)), float(np.exp(best)))
