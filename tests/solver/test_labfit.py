@@ -193,3 +193,28 @@ def test_compressibility_outside_range_is_a_warning():
 def test_bad_readings_are_refused(t, V, fragment):
     with pytest.raises(SolverInputError, match=fragment):
         evaluate_test(LabTest(1e5, 0.01, 1e-3, 20.0, t, V))
+
+
+def test_cloth_resistance_is_pooled_by_its_errors_or_given_by_its_trend():
+    # synthetic (derived here): four pressures, per-test R_m with 2 % standard errors
+    P = np.array([1e5, 2e5, 4e5, 8e5])
+    alpha = 1e11 * (P / 2.83e5) ** 0.3
+    se = 0.02 * 5e10 * np.ones(4)
+    flat = combine_tests(P, alpha, [5.0e10, 5.1e10, 4.9e10, 5.0e10], None, 0.01 * alpha, se, [-0.9] * 4)
+    assert flat.medium_resistance_trend is None
+    assert flat.medium_resistance == pytest.approx(5.0e10, rel=1e-12)  # equal errors: the plain mean
+    assert flat.medium_resistance_stderr == pytest.approx(se[0] / 2, rel=1e-9)  # sqrt(1/sum w), no excess scatter
+    assert flat.reference_pressure == pytest.approx(np.exp(np.log(P).mean()))
+    assert abs(flat.resistance_compressibility_correlation) < 1e-9  # uncorrelated at the geometric mean
+    rising = combine_tests(P, alpha, 5e10 * (1 + 0.5 * np.log(P / 2.83e5)), None, 0.01 * alpha, se, [-0.9] * 4)
+    assert rising.medium_resistance_trend is not None
+    assert rising.medium_resistance_trend["per_log_pressure"] == pytest.approx(2.5e10, rel=1e-6)
+    assert any("cloth resistance changes with pressure" in w for w in rising.warnings)
+
+
+def test_two_pressures_take_the_compressibility_error_from_the_tests():
+    # ln alpha errors of 2 % at 1 and 4 bar: se(s) = sqrt(2) 0.02 / ln 4 (propagation, derived here)
+    comb = combine_tests([1e5, 4e5], [1e11, 2e11], [5e10, 5e10], None, [2e9, 4e9], [1e9, 1e9], [-0.9, -0.9])
+    assert comb.compressibility == pytest.approx(0.5, rel=1e-12)
+    assert comb.compressibility_stderr == pytest.approx(np.sqrt(2) * 0.02 / np.log(4), rel=1e-9)
+    assert comb.resistance_medium_correlation < 0
