@@ -138,6 +138,12 @@ GROUPS = [
         FormField("cake.reference_pressure", "… measured at", "pressure",
           "the test pressure of α; needed when s > 0", optional=True),
         FormField("cake.compressibility", "Compressibility s", "ratio", "0 incompressible; 0.1–0.9 compressible", optional=True),
+        FormField("cake.compressibility_stderr", "… its standard error", "ratio",
+          "optional, from a lab fit at several pressures", optional=True),
+        Choice("cake.pressure_basis", "α at the pressure", sent=True, options=[
+            ("cake", "across the cake", []),
+            ("total", "across cake and cloth", []),
+        ]),
         Choice("cake.liquid_basis", "Cake liquid given as", [
             ("moisture", "moisture", [FormField("cake.moisture", "Cake moisture", "fraction",
                                         "liquid / wet cake mass; typically {usual}")]),
@@ -158,6 +164,8 @@ GROUPS = [
           "from your lab test; typically {usual}; 0 neglects the cloth"),
         FormField("medium_resistance_stderr", "… its standard error", "medium_resistance",
           "optional, from the lab fit; in R_m's unit", optional=True, unit_of="medium_resistance"),
+        FormField("resistance_medium_correlation", "… correlation with α", "ratio",
+          "optional, from the lab fit (−1 to 1; one t/V line gives about −0.9)", optional=True),
     ]),
     Group("press", "Press", [
         Choice("press.geometry", "Press given as", [
@@ -405,6 +413,8 @@ FULL_LABELS = {
     "cake.resistance_stderr": "Standard error of α",
     "cake.reference_pressure": "Pressure at which α was measured",
     "medium_resistance_stderr": "Standard error of R_m",
+    "cake.compressibility_stderr": "Standard error of s",
+    "resistance_medium_correlation": "Correlation of the errors of α and R_m",
     "cycle.wash_basis": "Wash ratio counted per",
     "cycle.end.flow": "End at a filtrate flow below",
     "cycle.end.flow_per_area": "End at a flow per filter area below",

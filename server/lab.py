@@ -4,16 +4,18 @@ import numpy as np
 
 from . import solver
 from .errors import InputError
-from .labdata import CsvError, parse_readings
-from .schemas.labfit import LabFitRequest, LabTestIn
+from .labdata import CsvError, parse_compression, parse_readings
+from .schemas.labfit import CompressionFitRequest, LabFitRequest, LabTestIn
 from .solve import first_non_finite, liquid_density
-from .solver import labfit, water
+from .solver import labfit, locallaws, water
 from .solver import slurry as sb
 
 LAB_UNITS = {
     "pressure": "Pa", "area": "m^2", "viscosity": "Pa*s", "c": "kg/m^3", "slope": "s/m^6",
     "intercept": "s/m^3", "resistance": "m/kg", "medium_resistance": "1/m", "resistance_ref": "m/kg",
     "reference_pressure": "Pa", "compressibility": "1", "readings": "[s, m^3]", "line.x": "m^3", "line.y": "s/m^3",
+    "time_offset": "s", "filling.volume": "m^3", "filling.time": "s", "pressures": "Pa",
+    "tested_pressure_range": "Pa", "medium_resistance_stderr": "1/m", "resistance_medium_correlation": "1",
 }
 
 
@@ -37,14 +39,18 @@ def _solids_per_filtrate(t: LabTestIn, readings, i: int) -> float:
     return bal.solids_per_filtrate
 
 
-def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:
+def _test(t: LabTestIn, i: int, model: str) -> tuple[labfit.LabTest, list, list | None]:
+    pressures = None
     if t.csv is not None:
         try:
-            readings = parse_readings(t.csv).points
+            parsed = parse_readings(t.csv)
         except CsvError as exc:
             raise InputError([(_loc(i, "csv"), str(exc))]) from None
+        readings, pressures = parsed.points, parsed.pressures
     else:
-        readings = [tuple(p) for p in t.points]
+        readings = [(p[0], p[1]) for p in t.points]
+        if len(t.points[0]) == 3:
+            pressures = [p[2] for p in t.points]
     try:
         mu = t.viscosity if t.viscosity is not None else water.water_viscosity(t.temperature)
         c = _solids_per_filtrate(t, readings, i)
@@ -56,61 +62,90 @@ def _test(t: LabTestIn, i: int) -> tuple[labfit.LabTest, list]:
         time=tuple(p[0] for p in readings), volume=tuple(p[1] for p in readings),
         start_time=start.time if start else 0.0, start_volume=start.volume if start else 0.0,
         use=tuple(t.use) if t.use is not None else None,
+        pressures=tuple(pressures) if pressures is not None else None, model=model,
     )
-    return test, readings
+    return test, readings, pressures
+
+
+def _test_out(t: LabTestIn, test: labfit.LabTest, fit: labfit.TestFit, readings, pressures) -> dict:
+    used = set(fit.points_used)
+    return {
+        "name": t.name, "pressure": test.pressure, "area": test.area, "viscosity": test.viscosity,
+        "c": test.solids_per_filtrate, "slope": fit.slope, "slope_stderr": fit.slope_stderr,
+        "intercept": fit.intercept, "intercept_stderr": fit.intercept_stderr, "r_squared": fit.r_squared,
+        "resistance": fit.resistance, "resistance_stderr": fit.resistance_stderr,
+        "medium_resistance": fit.medium_resistance, "medium_resistance_stderr": fit.medium_resistance_stderr,
+        "resistance_medium_correlation": fit.resistance_medium_correlation,
+        "model": fit.model, "model_note": fit.model_note,
+        "time_offset": fit.time_offset, "time_offset_stderr": fit.time_offset_stderr, "filling": fit.filling,
+        "points_used": fit.points_used, "residuals": [float(r) for r in fit.residuals], "region": fit.region,
+        "readings": [[float(a), float(b)] for a, b in readings],
+        "pressures": [float(p) for p in pressures] if pressures is not None else None,
+        "line": {
+            "index": fit.indices,
+            "x": np.asarray(fit.x, dtype=float).tolist(), "y": np.asarray(fit.y, dtype=float).tolist(),
+            "used": [k in used for k in fit.indices],
+            "fitted": np.asarray(fit.fitted, dtype=float).tolist(),
+        },
+        "warnings": fit.warnings,
+    }
 
 
 def fit_request(lab_request: LabFitRequest) -> dict:
     """The whole /api/v1/lab-fit answer as plain data (SI), checked finite."""
-    tests_out, fits, warnings = [], [], []
+    tests, inputs = [], []
     for i, t in enumerate(lab_request.tests):
-        test, readings = _test(t, i)
+        test, readings, pressures = _test(t, i, lab_request.model)
+        tests.append(test)
+        inputs.append((t, readings, pressures))
         try:
-            fit = labfit.evaluate_test(test)
+            labfit.evaluate_test(test)  # each test's own errors land at its fields
         except solver.SolverInputError as exc:
             field = "csv" if (exc.parameter == "points" and t.csv is not None) else exc.parameter
             raise InputError([(_loc(i, field), exc.message)]) from None
-        fits.append(fit)
-        used = set(fit.points_used)
-        tests_out.append({
-            "name": t.name, "pressure": test.pressure, "area": test.area, "viscosity": test.viscosity,
-            "c": test.solids_per_filtrate, "slope": fit.slope, "slope_stderr": fit.slope_stderr,
-            "intercept": fit.intercept, "intercept_stderr": fit.intercept_stderr, "r_squared": fit.r_squared,
-            "resistance": fit.resistance, "resistance_stderr": fit.resistance_stderr,
-            "medium_resistance": fit.medium_resistance, "medium_resistance_stderr": fit.medium_resistance_stderr,
-            "points_used": fit.points_used, "residuals": [float(r) for r in fit.residuals], "region": fit.region,
-            "readings": [[float(a), float(b)] for a, b in readings],
-            "line": {
-                "index": fit.indices,
-                "x": np.asarray(fit.x, dtype=float).tolist(), "y": np.asarray(fit.y, dtype=float).tolist(),
-                "used": [k in used for k in fit.indices],
-                "fitted": [float(fit.intercept + fit.slope * v) for v in fit.x],
-            },
-            "warnings": fit.warnings,
-        })
-        label = t.name or f"test {i + 1}"
-        warnings.extend(f"{label}: {w}" for w in fit.warnings)
     try:
-        combined = labfit.combine_tests(
-            [f["pressure"] for f in tests_out], [f.resistance for f in fits],
-            [f.medium_resistance for f in fits], lab_request.reference_pressure,
-        )
+        fits, combined = labfit.fit_for_basis(tests, lab_request.pressure_basis, lab_request.reference_pressure)
     except solver.SolverInputError as exc:
         raise InputError([(("body", "tests"), exc.message)]) from None
+    tests_out, warnings = [], []
+    for i, ((t, readings, pressures), test, fit) in enumerate(zip(inputs, tests, fits)):
+        tests_out.append(_test_out(t, test, fit, readings, pressures))
+        label = t.name or f"test {i + 1}"
+        warnings.extend(f"{label}: {w}" for w in fit.warnings)
     warnings.extend(combined.warnings)
     s = combined.compressibility
-    for_cycle = {
-        "cake": {
-            "resistance": combined.resistance_ref,
-            "reference_pressure": combined.reference_pressure,
-            "compressibility": s if s is not None and 0.0 <= s < 1.0 else 0.0,
-        },
-        "medium_resistance": max(combined.medium_resistance, 0.0),
+    basis = lab_request.pressure_basis
+    applied = any(f.compressibility > 0.0 for f in fits)
+    if basis == "cake" and not applied and s is not None and s > 0.0:
+        basis = "total"  # alpha was evaluated on the total basis: the cycle must use it the same way
+        warnings.append(
+            "No compressibility consistent with the cake pressure basis was found for these tests: the "
+            "resistances are evaluated on the total basis (and for_cycle says so).")
+    elif basis == "cake" and s is None and combined.medium_resistance > 0:
+        warnings.append(
+            "The cake pressure basis needs the compressibility from tests at two or more pressures; with one "
+            "pressure the resistance is that of the whole pressure drop (the same for an incompressible cake).")
+    usable_s = s is not None and 0.0 <= s < 1.0
+    cake = {
+        "resistance": combined.resistance_ref,
+        "reference_pressure": combined.reference_pressure,
+        "compressibility": s if usable_s else 0.0,
+        "pressure_basis": basis,
+        "tested_pressure_range": list(combined.tested_pressures),
     }
-    if s is not None and not 0.0 <= s < 1.0:
+    if combined.resistance_ref_stderr is not None:
+        cake["resistance_stderr"] = combined.resistance_ref_stderr
+    if usable_s and combined.compressibility_stderr is not None:
+        cake["compressibility_stderr"] = combined.compressibility_stderr
+    for_cycle = {"cake": cake, "medium_resistance": max(combined.medium_resistance, 0.0)}
+    if combined.medium_resistance_stderr is not None:
+        for_cycle["medium_resistance_stderr"] = combined.medium_resistance_stderr
+    if combined.resistance_medium_correlation is not None:
+        for_cycle["resistance_medium_correlation"] = combined.resistance_medium_correlation
+    if s is not None and not usable_s:
         warnings.append("for_cycle takes the compressibility as 0 because the fitted value is outside [0, 1).")
     if combined.medium_resistance < 0:
-        warnings.append("for_cycle takes the medium resistance as 0 because the fitted mean is negative.")
+        warnings.append("for_cycle takes the medium resistance as 0 because the fitted value is negative.")
     out = {
         "tests": tests_out,
         "compressibility": s, "compressibility_stderr": combined.compressibility_stderr,
@@ -118,6 +153,12 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         "reference_pressure": combined.reference_pressure,
         "medium_resistance": combined.medium_resistance,
         "medium_resistance_spread": combined.medium_resistance_spread,
+        "medium_resistance_stderr": combined.medium_resistance_stderr,
+        "medium_resistance_trend": combined.medium_resistance_trend,
+        "resistance_compressibility_correlation": combined.resistance_compressibility_correlation,
+        "resistance_medium_correlation": combined.resistance_medium_correlation,
+        "tested_pressure_range": list(combined.tested_pressures),
+        "pressure_basis": basis,
         "for_cycle": for_cycle, "warnings": warnings, "units": LAB_UNITS,
     }
     bad = first_non_finite(out)
@@ -125,3 +166,47 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         raise InputError([(("body", "tests"), f"these readings give a result out of numeric range ({bad})")])
     return out
 
+
+def compression_request(req: CompressionFitRequest) -> dict:
+    """The /api/v1/compression-fit answer: Tiller and Leu's laws fitted to a compression-
+    permeability table, their cake averages, and cake.local for a cycle (SI, checked finite)."""
+    if req.csv is not None:
+        try:
+            rows = parse_compression(req.csv)
+        except CsvError as exc:
+            raise InputError([(("body", "csv"), str(exc))]) from None
+        where = ("body", "csv")
+    else:
+        rows = [tuple(r) for r in req.points]
+        where = ("body", "points")
+    p, a, e = (np.array(col, dtype=float) for col in zip(*rows)) if rows else ([], [], [])
+    bad = [i + 1 for i, (x, y, z) in enumerate(rows) if not (x >= 0 and y > 0 and 0 < z < 1)]
+    if bad:
+        raise InputError([(where, f"row {bad[0]}: stresses must be >= 0, resistances > 0 and solidosities "
+                                  "between 0 and 1")])
+    try:
+        fit = locallaws.fit_tiller_leu(p, a, e)
+    except solver.SolverInputError as exc:
+        raise InputError([(where, exc.message)]) from None
+    law = fit.law
+    local = {"resistance_at_zero_stress": law.resistance_at_zero_stress, "resistance_exponent": law.resistance_exponent,
+             "solidosity_at_zero_stress": law.solidosity_at_zero_stress,
+             "solidosity_exponent": law.solidosity_exponent, "stress_scale": law.stress_scale}
+    warnings = []
+    spread = float(np.sqrt(np.mean(fit.residuals_resistance**2)))
+    if spread > 0.2:
+        warnings.append(f"The resistances scatter by about {spread:.0%} about the fitted law: check the readings.")
+    dp = np.geomspace(max(float(p[p > 0].min()) if np.any(p > 0) else 1e3, 1.0), max(float(p.max()), 1e3), 40)
+    out = {
+        "local": local, "stderrs": fit.stderrs, "points": [list(r) for r in rows],
+        "averages": {"cake_pressure": dp.tolist(), "resistance": np.asarray(law.average_resistance(dp)).tolist(),
+                     "solidosity": np.asarray(law.average_solidosity(dp)).tolist()},
+        "for_cycle": {"cake": {"local": local}}, "warnings": warnings,
+        "units": {"resistance_at_zero_stress": "m/kg", "resistance_exponent": "1", "solidosity_at_zero_stress": "1",
+                  "solidosity_exponent": "1", "stress_scale": "Pa", "points": "[Pa, m/kg, 1]",
+                  "averages.cake_pressure": "Pa", "averages.resistance": "m/kg", "averages.solidosity": "1"},
+    }
+    bad_path = first_non_finite(out)
+    if bad_path is not None:
+        raise InputError([(where, f"these rows give a result out of numeric range ({bad_path})")])
+    return out

@@ -26,10 +26,14 @@ def test_line(test: dict, index: int) -> dict:
                 "customdata": [line["index"][i] + 1 for i in idx],
                 "hovertemplate": "reading %{customdata}: V %{x:.4g} mL, t/V %{y:.4g} s/mL<extra></extra>",
             })
-    xs = np.linspace(0.0, max(x_mL) * 1.05, 50)
+    if test.get("model") == "three_parameter" or not _curved(line):
+        xs = np.linspace(0.0, max(x_mL) * 1.05, 50)
+        ys = [float((test["intercept"] + test["slope"] * v * 1e-6) / 1e6) for v in xs]
+    else:  # the cake pressure basis bends the picture: the fitted values at the readings
+        xs, ys = x_mL, [v / 1e6 for v in line["fitted"]]
     traces.append({
         "type": "scatter", "mode": "lines", "name": "fitted line", "x": [float(v) for v in xs],
-        "y": [float((test["intercept"] + test["slope"] * v * 1e-6) / 1e6) for v in xs],
+        "y": ys,
         "line": {"color": COLORS["best"]},
         "hovertemplate": "V %{x:.4g} mL, t/V %{y:.4g} s/mL<extra>fitted line</extra>",
     })
@@ -38,6 +42,15 @@ def test_line(test: dict, index: int) -> dict:
         "xaxis": _axis("Filtrate volume V (+ V₀) (mL)", rangemode="tozero"),
         "yaxis": _axis("(t − t₀)/(V − V₀) (s/mL)", rangemode="tozero"),
     }}
+
+
+def _curved(line: dict) -> bool:
+    """The fitted values are not on a straight line in x (the cake pressure basis)."""
+    x, f = np.asarray(line["x"], dtype=float), np.asarray(line["fitted"], dtype=float)
+    if x.size < 3:
+        return False
+    coef = np.polyfit(x, f, 1)
+    return bool(np.max(np.abs(np.polyval(coef, x) - f)) > 1e-6 * np.max(np.abs(f)))
 
 
 def compressibility(result: dict) -> dict | None:
@@ -72,3 +85,41 @@ def lab_figures(result: dict) -> dict:
     if comp is not None:
         figs["compressibility"] = comp
     return figs
+
+
+def compression_figures(result: dict) -> dict:
+    """The compression-permeability table with Tiller and Leu's laws: local resistance and
+    solidosity against the solids pressure (data, local law) and the cake averages against
+    the pressure across the cake. Pressures in bar."""
+    pts = result["points"]
+    law, avg = result["local"], result["averages"]
+    p_bar = [r[0] / 1e5 for r in pts]
+    positive = [p for p in p_bar if p > 0] or [0.01]
+    grid = np.geomspace(min(positive) / 1.5, max(p_bar + [0.01]) * 1.5, 60)
+    X = 1.0 + grid * 1e5 / law["stress_scale"]
+    local_alpha = law["resistance_at_zero_stress"] * X ** law["resistance_exponent"]
+    local_solids = law["solidosity_at_zero_stress"] * X ** law["solidosity_exponent"]
+    dp_bar = [p / 1e5 for p in avg["cake_pressure"]]
+
+    def fig(title, y_title, data_y, law_y, avg_y, y_log):
+        return {"data": [
+            {"type": "scatter", "mode": "markers", "name": "cell readings", "x": p_bar, "y": data_y,
+             "marker": {"color": COLORS["main"], "size": 9},
+             "hovertemplate": "%{x:.3g} bar: %{y:.4g}<extra>reading</extra>"},
+            {"type": "scatter", "mode": "lines", "name": "local law", "x": grid.tolist(), "y": law_y,
+             "line": {"color": OVERLAY[1]}, "hovertemplate": "%{x:.3g} bar: %{y:.4g}<extra>local law</extra>"},
+            {"type": "scatter", "mode": "lines", "name": "cake average", "x": dp_bar, "y": avg_y,
+             "line": {"color": COLORS["best"], "dash": "dash"},
+             "hovertemplate": "%{x:.3g} bar across the cake: %{y:.4g}<extra>cake average</extra>"},
+        ], "layout": {
+            **BASE_LAYOUT, "title": {"text": title},
+            "xaxis": _axis("Solids pressure p_s, or pressure across the cake (bar)", type="log"),
+            "yaxis": _axis(y_title, **({"type": "log"} if y_log else {})),
+        }}
+
+    return {
+        "local_resistance": fig("Specific resistance against solids pressure", "Specific resistance α (m/kg)",
+                                [r[1] for r in pts], local_alpha.tolist(), avg["resistance"], True),
+        "local_solidosity": fig("Solidosity against solids pressure", "Solids volume fraction ε_s (–)",
+                                [r[2] for r in pts], local_solids.tolist(), avg["solidosity"], False),
+    }

@@ -18,6 +18,8 @@ from .units import UnitError, parse_quantity
 MAX_ROWS = 20000
 TIME_NAMES = ("time", "t", "zeit", "elapsed time")
 VOLUME_NAMES = ("filtrate", "volume", "v", "filtrate volume", "filtrate_volume")
+PRESSURE_NAMES = ("pressure", "p", "druck", "pressure drop")
+PLAIN_UNITS = ("-", "–", "1")
 _HEADER = re.compile(r"^\s*([^\[\(]*?)\s*[\[\(]\s*([^\]\)]+?)\s*[\]\)]\s*$")
 
 
@@ -36,6 +38,7 @@ class Readings:
     separator: str
     decimal: str
     ignored_columns: list[str]
+    pressures: list[float] | None = None  # [Pa] per reading, when a pressure column is given
 
 
 def _separator(header: str) -> str:
@@ -45,21 +48,43 @@ def _separator(header: str) -> str:
     raise CsvError(1, "the header needs two columns, such as 'time [min], filtrate [mL]'")
 
 
-def _column(name: str) -> str | None:
+#: The columns of a lab readings table: key -> (names people give it, quantity kind, label).
+READING_COLUMNS = {
+    "time": (TIME_NAMES, "time", "time"),
+    "volume": (VOLUME_NAMES, "volume", "filtrate"),
+    "pressure": (PRESSURE_NAMES, "pressure", "pressure"),
+}
+#: The columns of a compression-permeability table.
+COMPRESSION_COLUMNS = {
+    "stress": (("stress", "solids pressure", "p_s", "ps", "effective pressure", "pressure"), "pressure", "stress"),
+    "resistance": (("resistance", "alpha", "specific resistance", "local resistance"), "specific_resistance",
+                   "resistance"),
+    "solidosity": (("solidosity", "solids fraction", "eps_s"), "fraction", "solidosity"),
+    "porosity": (("porosity", "eps"), "fraction", "porosity"),
+}
+
+
+@dataclass(frozen=True)
+class Table:
+    columns: dict  # key -> list of SI values
+    units: dict  # key -> unit as written
+    separator: str
+    decimal: str
+    ignored_columns: list[str]
+
+
+def _column(name: str, spec: dict) -> str | None:
     key = name.strip().lower()
-    if key in TIME_NAMES:
-        return "time"
-    if key in VOLUME_NAMES:
-        return "volume"
-    return None
+    return next((k for k, (names, _, _) in spec.items() if key in names), None)
 
 
-def parse_readings(text: str) -> Readings:
-    """(t, V) readings in SI from CSV text; CsvError names the line of any problem."""
+def read_table(text: str, spec: dict, required: tuple, example: str) -> Table:
+    """Columns of a CSV text in SI: a header naming each column and its unit, then rows.
+    CsvError names the line of any problem."""
     lines = text.splitlines()
     numbered = [(i + 1, ln) for i, ln in enumerate(lines) if ln.strip() and not ln.lstrip().startswith("#")]
     if not numbered:
-        raise CsvError(None, "the text is empty: give a header such as 'time [min], filtrate [mL]' and readings")
+        raise CsvError(None, f"the text is empty: give a header such as '{example}' and readings")
     header_line, header = numbered[0]
     sep = _separator(header)
     names = [h.strip() for h in header.split(sep)]
@@ -68,39 +93,41 @@ def parse_readings(text: str) -> Readings:
         if not cell:
             continue
         m = _HEADER.match(cell)
-        kind = _column(m.group(1) if m else cell)
+        kind = _column(m.group(1) if m else cell, spec)
         if kind is None:
             ignored.append(cell)
             continue
         if not m:
             raise CsvError(header_line, f"column {cell!r} has no unit: write it as, for example, '{cell} [s]'")
         if kind in columns:
-            raise CsvError(header_line, f"two columns give the {kind}")
+            raise CsvError(header_line, f"two columns give the {spec[kind][2]}")
         columns[kind] = (pos, m.group(2))
-    for kind, label in (("time", "time"), ("volume", "filtrate volume")):
+    for kind in required:
         if kind not in columns:
-            raise CsvError(
-                header_line, f"no {label} column in the header: name the columns time and filtrate with "
-                f"their units, such as 'time [s], filtrate [L]'"
-            )
-    (t_pos, t_unit), (v_pos, v_unit) = columns["time"], columns["volume"]
-    for unit, kind, label in ((t_unit, "time", "time"), (v_unit, "volume", "filtrate")):
+            label = {"volume": "filtrate volume"}.get(kind, spec[kind][2])
+            raise CsvError(header_line, f"no {label} column in the header: name the columns with their "
+                                        f"units, such as '{example}'")
+    # a plain number ("[-]", "[1]") for a fraction: the bare number is the value
+    wanted = [(pos, key, spec[key][1], "" if spec[key][1] == "fraction" and unit in PLAIN_UNITS else unit)
+              for key, (pos, unit) in columns.items()]
+    for _, key, kind, unit in wanted:
+        if not unit:
+            continue
         try:
             parse_quantity(f"1 {unit}", kind)
         except UnitError as exc:
-            raise CsvError(header_line, f"column {label}: {exc}") from None
+            raise CsvError(header_line, f"column {spec[key][2]}: {exc}") from None
 
     rows = numbered[1:]
     if len(rows) > MAX_ROWS:
         raise CsvError(None, f"at most {MAX_ROWS} readings; got {len(rows)}")
     decimal_comma = sep != "," and any("," in ln for _, ln in rows)
-    points = []
+    values = {key: [] for _, key, _, _ in wanted}
     for line_no, ln in rows:
         cells = [c.strip() for c in ln.split(sep)]
-        if len(cells) < max(t_pos, v_pos) + 1:
+        if len(cells) < max(pos for pos, _, _, _ in wanted) + 1:
             raise CsvError(line_no, f"expected {len(names)} values separated by {_sep_name(sep)}; got {len(cells)}")
-        pair = []
-        for pos, kind, unit in ((t_pos, "time", t_unit), (v_pos, "volume", v_unit)):
+        for pos, key, kind, unit in wanted:
             cell = cells[pos]
             if decimal_comma:
                 if "." in cell and "," in cell:
@@ -113,13 +140,35 @@ def parse_readings(text: str) -> Readings:
             if not math.isfinite(number):
                 raise CsvError(line_no, f"{cells[pos]!r} is not a finite number")
             try:
-                pair.append(parse_quantity(f"{number!r} {unit}", kind))
+                values[key].append(parse_quantity(f"{number!r} {unit}", kind) if unit else number)
             except UnitError as exc:
                 raise CsvError(line_no, f"{cells[pos]!r} {unit}: {exc}") from None
-        points.append((pair[0], pair[1]))
-    if not points:
+    if not rows:
         raise CsvError(None, "no readings below the header")
-    return Readings(points, t_unit, v_unit, _sep_name(sep), "comma" if decimal_comma else "point", ignored)
+    return Table(values, {key: unit for key, (_, unit) in columns.items()}, _sep_name(sep),
+                 "comma" if decimal_comma else "point", ignored)
+
+
+def parse_readings(text: str) -> Readings:
+    """(t, V) readings in SI from CSV text, with the pressure at each reading when a pressure
+    column is given ("pressure [bar]"); CsvError names the line of any problem."""
+    table = read_table(text, READING_COLUMNS, ("time", "volume"), "time [s], filtrate [L]")
+    cols = table.columns
+    return Readings(list(zip(cols["time"], cols["volume"])), table.units["time"], table.units["volume"],
+                    table.separator, table.decimal, table.ignored_columns, cols.get("pressure"))
+
+
+def parse_compression(text: str) -> list[tuple[float, float, float]]:
+    """(effective solids pressure [Pa], local specific resistance [m/kg], solidosity [-]) rows of a
+    compression-permeability test, from CSV text such as 'stress [kPa], alpha [m/kg],
+    solidosity [-]' (or porosity instead of solidosity)."""
+    spec = COMPRESSION_COLUMNS
+    table = read_table(text, spec, ("stress", "resistance"), "stress [kPa], alpha [m/kg], solidosity [-]")
+    cols = table.columns
+    if ("solidosity" in cols) == ("porosity" in cols):
+        raise CsvError(None, "give either a solidosity column or a porosity column (solids or void fraction)")
+    solids = cols["solidosity"] if "solidosity" in cols else [1.0 - e for e in cols["porosity"]]
+    return list(zip(cols["stress"], cols["resistance"], solids))
 
 
 def _sep_name(sep: str) -> str:

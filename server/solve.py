@@ -17,6 +17,7 @@ from .errors import InputError
 from .plausibility import derived_warnings, input_warnings
 from .schemas.common import DENSITY_MAX, DENSITY_MIN
 from .schemas.cycle import CycleRequest
+from .schemas.quantities import user_unit
 from .solver import planning, water
 from .solver import slurry as sb
 from .solver.errors import inputs_of
@@ -32,6 +33,7 @@ MAX_PRESSES = 100_000  # a target beyond this many presses is a slip in the inpu
 #: is appended, so a feed's or a future stage's own field names need no entry.
 API_PATHS = {
     "feed": ("feed",),
+    "cake.local": ("cake", "local"),
     "press": ("press",),
     "cycle": ("cycle",),
     "cloth": ("cloth",),
@@ -134,11 +136,29 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
     with inputs_of("water"):
         rho_l = liquid_density(s.liquid_density, s.temperature)
         mu = s.viscosity if s.viscosity is not None else water.water_viscosity(s.temperature)
+    with inputs_of("feed"):
+        feed = inputs.feed.to_solver()
+    local = None
+    porosity = k.porosity
+    if k.local is not None:
+        with inputs_of("cake.local"):
+            local = k.local.to_solver()
+            # the cake's average solidosity at the feed's highest pressure (the pressure it ends at)
+            solidosity = float(local.average_solidosity(feed.pressure_cap))
+            if not solidosity < 1.0:
+                raise solver.SolverInputError(
+                    "solidosity_exponent", f"the laws give a solids fraction of {solidosity:.4g} at the feed "
+                    "pressure: it must stay below 1")
+        porosity = 1.0 - solidosity
+        if s.solids_density is None:
+            with inputs_of("balance"):
+                raise solver.SolverInputError("solids_density", "give the solids density: with local laws the "
+                                              "cake's volume follows from its solids fraction and this density")
     with inputs_of("balance"):
         bal = sb.balance(
             liquid_density=rho_l, solids_density=s.solids_density, solids_mass_fraction=s.solids_mass_fraction,
             solids_concentration=s.solids_concentration, solids_per_liquid=s.solids_per_liquid,
-            moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio, porosity=k.porosity,
+            moisture=k.moisture, wet_to_dry_ratio=k.wet_to_dry_ratio, porosity=porosity,
             dry_bulk_density=k.dry_bulk_density,
         )
         if s.solids_density is None and bal.solids_density is not None and not (
@@ -156,15 +176,15 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
                 "wet-to-dry ratio, which fixes it): the cake's volume depends on it")
     with inputs_of("press"):
         press = inputs.press.to_solver()
-    with inputs_of("feed"):
-        feed = inputs.feed.to_solver()
     p_ref = k.reference_pressure if k.reference_pressure is not None else feed.pressure_cap
     with inputs_of("filtration"):
         filtration = solver.Filtration(
             solids_per_filtrate=bal.solids_per_filtrate, cake_volume_ratio=bal.cake_volume_ratio,
-            wet_to_dry_ratio=bal.wet_to_dry_ratio, viscosity=mu, resistance_ref=k.resistance,
+            wet_to_dry_ratio=bal.wet_to_dry_ratio, viscosity=mu,
+            resistance_ref=k.resistance if local is None else local.resistance_at_zero_stress,
             reference_pressure=p_ref, compressibility=k.compressibility,
             medium_resistance=inputs.medium_resistance, porosity=bal.porosity,
+            pressure_basis=k.pressure_basis, local=local,
         )
     parts = inputs.cycle.downtime_parts
     dp = None
@@ -183,6 +203,7 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
         "liquid_density": rho_l, "viscosity": mu, "solids_density": bal.solids_density,
         "dry_bulk_density": (1.0 - bal.porosity) * bal.solids_density,
         "resistance_at_feed": filtration.specific_resistance(feed.pressure_cap),
+        "pressure_basis": k.pressure_basis,
         "filter_area": press.filter_area, "chamber_volume": press.chamber_volume,
         "chamber_volume_each": press.chamber_volume / inputs.press.chambers if inputs.press.chambers else None,
     }
@@ -264,7 +285,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
             {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
             for L, t in rows
         ],
-        "warnings": list(sol.warnings),
+        "warnings": list(sol.warnings) + tested_range_warning(inputs, system.feed),
         "cautions": CAUTIONS,
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
@@ -307,42 +328,102 @@ def target_check(inputs: CycleRequest, sol) -> dict | None:
             "presses_needed": max(1, math.ceil(required / achieved * (1 - 1e-12))), "hours_per_day": t.hours_per_day}
 
 
+#: The lab fit's inputs with a standard error: (request field of the error, how one standard
+#: error moves the filtration). alpha is varied on a log scale, as the compressibility fit
+#: gives it (ln alpha_ref), R_m and s linearly.
+UNCERTAIN = ("resistance", "medium_resistance", "compressibility")
+
+
+def _vary(f: solver.Filtration, name: str, d: float) -> solver.Filtration:
+    if name == "resistance":
+        return replace(f, resistance_ref=f.resistance_ref * math.exp(d))
+    if name == "medium_resistance":
+        return replace(f, medium_resistance=f.medium_resistance + d)
+    return replace(f, compressibility=f.compressibility + d)
+
+
 def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
-    """The best cycle over resistance ± one standard error (each of alpha and R_m, all corners).
+    """The best cycle's range of one standard deviation from the lab fit's standard errors and
+    their correlation (delta method).
 
-    A plain corner check, not a statistical interval: it shows how far the lab fit's scatter
-    moves the answer. A lower bound at or below zero is left out (and said so).
+    Each input with a standard error is moved one standard error down and up (up only where
+    down leaves its range); the slopes found, with the covariance of ln alpha_ref, R_m and s
+    (correlation of alpha_ref and R_m as given, s uncorrelated: a reference pressure at the
+    tests' geometric mean makes it so), give the variance of each figure of the best cycle.
     """
-    se_a, se_r = inputs.cake.resistance_stderr, inputs.medium_resistance_stderr
-    if not se_a and not se_r:
-        return None
+    k = inputs.cake
     f = built.system.filtration
-    alphas = [f.resistance_ref + d * (se_a or 0.0) for d in (-1, 1)]
-    meds = [f.medium_resistance + d * (se_r or 0.0) for d in (-1, 1)]
-    notes = []
-    if alphas[0] <= 0:
-        alphas, notes = alphas[1:], notes + ["alpha minus its standard error is not positive and was left out"]
-    if meds[0] < 0:
-        meds, notes = meds[1:] + [0.0], notes + ["the cloth resistance's lower bound is taken as 0"]
-    corners = []
-    for a in alphas:
-        for r in meds:
-            variant = replace(built.system, filtration=replace(f, resistance_ref=a, medium_resistance=r))
-            # the best cycle does not depend on how the engineer ends filtration: solving the
-            # corners for it alone keeps an end threshold that a corner never reaches harmless
-            corners.append(solver.solve_cycle(variant, solver.EndCriterion(), with_curves=False).best)
-    corners.append(sol.best)
+    if k.local is not None:
+        return None
+    sd = {
+        "resistance": (k.resistance_stderr or 0.0) / f.resistance_ref,
+        "medium_resistance": inputs.medium_resistance_stderr or 0.0,
+        "compressibility": (k.compressibility_stderr or 0.0) if f.compressibility > 0.0 else 0.0,
+    }
+    names = [n for n in UNCERTAIN if sd[n] > 0.0]
+    if not names:
+        return None
+    keys = ("filtrate_throughput", "solids_throughput", "filtration_time", "cycle_time")
+    base = {key: getattr(sol.best, key) for key in keys}
 
-    def span(key):
-        values = [getattr(b, key) for b in corners]
-        return [min(values), max(values)]
+    def best(name: str, d: float):
+        variant = replace(built.system, filtration=_vary(f, name, d))
+        # the best cycle does not depend on how the engineer ends filtration
+        b = solver.solve_cycle(variant, solver.EndCriterion(), with_curves=False).best
+        return {key: getattr(b, key) for key in keys}
 
-    given = [name for name, se in (("the specific cake resistance", se_a), ("the cloth resistance", se_r)) if se]
-    basis = (f"the best cycle with {' and '.join(given)} one standard error below and above"
-             + (", in every combination" if len(given) == 2 else ""))
-    return {"filtrate_throughput": span("filtrate_throughput"), "solids_throughput": span("solids_throughput"),
-            "filtration_time": span("filtration_time"), "cycle_time": span("cycle_time"),
-            "basis": basis + ("; " + "; ".join(notes) if notes else "")}
+    slopes = {}
+    for name in names:
+        h = sd[name]
+        room_below = {"resistance": True, "medium_resistance": f.medium_resistance - h >= 0.0,
+                      "compressibility": f.compressibility - h >= 0.0}[name]
+        room_above = name != "compressibility" or f.compressibility + h < 1.0
+        up = best(name, h) if room_above else base
+        down = best(name, -h) if room_below else base
+        span = h * ((1 if room_above else 0) + (1 if room_below else 0))
+        slopes[name] = {key: (up[key] - down[key]) / span for key in keys}
+    rho = inputs.resistance_medium_correlation or 0.0
+    cov = {(a, b): (sd[a] ** 2 if a == b else 0.0) for a in names for b in names}
+    if "resistance" in names and "medium_resistance" in names:
+        cov[("resistance", "medium_resistance")] = cov[("medium_resistance", "resistance")] = (
+            rho * sd["resistance"] * sd["medium_resistance"])
+    out, notes = {}, []
+    for key in keys:
+        var = sum(slopes[a][key] * slopes[b][key] * cov[(a, b)] for a in names for b in names)
+        half = math.sqrt(max(var, 0.0))
+        low = base[key] - half
+        if low <= 0.0:
+            low = base[key] * 1e-3
+            notes.append(f"the low end of {key.replace('_', ' ')} is not positive and is shown near zero")
+        out[key] = [low, base[key] + half]
+    words = {"resistance": "cake resistance", "medium_resistance": "cloth resistance",
+             "compressibility": "compressibility"}
+    basis = ("best cycle within one standard deviation (about a 68 % range), from the standard errors of the "
+             + ", ".join(words[n] for n in names)
+             + (f" with the correlation {rho:.2f} of cake and cloth resistance" if rho and len(names) > 1 else "")
+             + " (delta method)")
+    out["basis"] = basis + ("; " + "; ".join(notes) if notes else "")
+    return out
+
+
+def tested_range_warning(inputs: CycleRequest, feed) -> list[str]:
+    """A warning when the press runs above or below the lab tests' pressures, in the unit typed."""
+    rng = inputs.cake.tested_pressure_range
+    if rng is None:
+        return []
+    lo, hi = rng
+    top = feed.pressure_cap
+    if lo * (1 - 1e-9) <= top <= hi * (1 + 1e-9):
+        return []
+    feed_raw = inputs._raw.get("feed", {}) if isinstance(inputs._raw, dict) else {}
+    typed = next((feed_raw.get(n) for n in ("pressure", "max_pressure") if isinstance(feed_raw, dict)
+                  and feed_raw.get(n) is not None), None)
+    given = user_unit(typed, "pressure")
+    unit, to_user = given if given else ("bar", lambda x: x / 1e5)
+    where = "above" if top > hi else "below"
+    return [f"The press runs at up to {to_user(top):.4g} {unit}, {where} the lab tests' pressures "
+            f"({to_user(lo):.4g} to {to_user(hi):.4g} {unit}): the cake resistance there is extrapolated "
+            f"with the compressibility; a test at the press pressure would confirm it."]
 
 
 #: parts of the results that hold no numbers computed for the request

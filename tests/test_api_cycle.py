@@ -4,6 +4,7 @@ import copy
 import json
 import math
 
+import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
@@ -249,25 +250,66 @@ def test_oversized_request_body_is_a_413(client):
     assert "larger than" in r.json()["detail"]
 
 
-def test_standard_errors_give_a_range_around_the_best_cycle(client, base_request):
+def _sampled_throughput_spread(c, rho, n=40000):
+    """Standard deviation of the best filtrate throughput by sampling (independent of the
+    solver): constant pressure 5 bar, no wash, optimum within the chambers, closed form
+    V* = sqrt(2 t_d / K_p), t_f = t_d + B V* (McCabe, Smith & Harriott, "Filtration")."""
+    rng = np.random.default_rng(2026)
+    z1, z2 = rng.standard_normal((2, n))
+    ln_alpha = np.log(1e11) + 0.1 * z1
+    R_m = 5e10 + 5e9 * (rho * z1 + np.sqrt(1 - rho**2) * z2)
+    K_p = 1e-3 * np.exp(ln_alpha) * c / (50.0**2 * 5e5)
+    B = 1e-3 * R_m / (50.0 * 5e5)
+    V = np.sqrt(2 * 1200.0 / K_p)
+    return float(np.std(V / (2 * 1200.0 + B * V)))
+
+
+@pytest.mark.parametrize("rho", [-0.9, 0.0, 0.9])
+def test_standard_errors_with_their_correlation_give_the_sampled_spread(client, base_request, rho):
     assert post(client, base_request).json()["uncertainty"] is None
-    base_request["cake"]["resistance_stderr"] = "1e10 m/kg"
+    base_request["cake"]["resistance_stderr"] = "1e10 m/kg"  # 10 % of alpha
     base_request["medium_resistance_stderr"] = "5e9 1/m"
+    base_request["resistance_medium_correlation"] = rho
     base_request["press"]["chamber_thickness"] = 0.3  # optimum-limited
     data = post(client, base_request).json()
     lo, hi = data["uncertainty"]["filtrate_throughput"]
     assert lo < data["best"]["filtrate_throughput"] < hi
-    # the high end is the cycle with both resistances one standard error lower
-    low_res = dict(base_request, cake={**base_request["cake"], "resistance": 0.9e11}, medium_resistance=4.5e10)
-    low_res["cake"].pop("resistance_stderr")
-    low_res.pop("medium_resistance_stderr")
-    assert hi == pytest.approx(post(client, low_res).json()["best"]["filtrate_throughput"], rel=1e-12)
+    assert (hi - lo) / 2 == pytest.approx(_sampled_throughput_spread(data["derived"]["c"], rho), rel=0.05)
+    assert ("correlation" in data["uncertainty"]["basis"]) == (rho != 0)
 
 
-def test_a_standard_error_larger_than_the_value_is_said_so(client, base_request):
-    base_request["cake"]["resistance_stderr"] = "2e11 m/kg"
+def test_a_standard_error_larger_than_the_value_keeps_the_range_positive(client, base_request):
+    base_request["cake"]["resistance_stderr"] = "2e11 m/kg"  # alpha varies on a log scale: stays positive
     data = post(client, base_request).json()
-    assert "left out" in data["uncertainty"]["basis"]
+    assert all(v > 0 for key in ("filtrate_throughput", "filtration_time") for v in data["uncertainty"][key])
+
+
+def test_compressibility_error_widens_the_range_away_from_the_reference_pressure(client, base_request):
+    # total basis: alpha is exactly alpha_ref at the reference pressure (on the cake basis the
+    # cake sees a little less than the feed pressure, so s moves it a little)
+    base_request["cake"].update(compressibility=0.5, reference_pressure="5 bar", resistance_stderr="5e9 m/kg",
+                                pressure_basis="total")
+    base_request["press"]["chamber_thickness"] = 0.3
+    at_ref = post(client, base_request).json()["uncertainty"]["filtration_time"]
+    base_request["cake"]["compressibility_stderr"] = 0.05
+    still = post(client, base_request).json()["uncertainty"]["filtration_time"]
+    assert still == pytest.approx(at_ref, rel=1e-6)  # at the reference pressure s does not move alpha
+    base_request["feed"]["pressure"] = "10 bar"
+    away = post(client, base_request).json()
+    del base_request["cake"]["compressibility_stderr"]
+    without = post(client, base_request).json()
+    width = lambda d: d["uncertainty"]["filtration_time"][1] - d["uncertainty"]["filtration_time"][0]  # noqa: E731
+    assert width(away) > 1.2 * width(without)
+
+
+def test_a_press_outside_the_tested_pressures_is_warned_in_the_unit_typed(client, base_request):
+    base_request["cake"].update(compressibility=0.4, reference_pressure="3 bar",
+                                tested_pressure_range=["1 bar", "5 bar"])
+    base_request["feed"]["pressure"] = "100 psi"
+    warnings = post(client, base_request).json()["warnings"]
+    assert any("100 psi" in w and "14.5 to 72.52 psi" in w for w in warnings), warnings
+    base_request["feed"]["pressure"] = "4 bar"
+    assert not any("lab tests' pressures" in w for w in post(client, base_request).json()["warnings"])
 
 
 def test_production_target_is_checked_and_presses_counted(client, base_request):

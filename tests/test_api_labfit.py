@@ -3,6 +3,7 @@
 import json
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 DATA = Path(__file__).resolve().parent / "data"
@@ -19,6 +20,11 @@ PROBLEM = {
 }
 
 
+#: printed textbook evaluations are classic t/V lines on the total pressure basis; the defaults
+#: (model auto, cake basis) are tested on synthetic data
+TEXTBOOK = {"model": "classic", "pressure_basis": "total"}
+
+
 def post(client, body):
     return client.post("/api/v1/lab-fit", json=body)
 
@@ -31,7 +37,7 @@ def errors_of(r):
 @pytest.mark.reference
 def test_one_test_gives_the_printed_resistances_and_the_fields(client):
     # Geankoplis (3rd ed.) Example 14.2-1, printed alpha = 1.863e11 m/kg, R_m = 10.63e10 1/m (from memory).
-    r = post(client, {"tests": [EXAMPLE]})
+    r = post(client, {"tests": [EXAMPLE], **TEXTBOOK})
     assert r.status_code == 200, r.text
     data = r.json()
     t = data["tests"][0]
@@ -50,7 +56,7 @@ def test_one_test_gives_the_printed_resistances_and_the_fields(client):
 @pytest.mark.reference
 def test_two_pressures_give_compressibility_and_a_cycle_ready_cake(client):
     # Example and Problem 14.2-1 of Geankoplis (3rd ed.): s about 0.26 (6.70 psi = 46.2 kN/m^2).
-    r = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "1 bar"})
+    r = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "1 bar", **TEXTBOOK})
     data = r.json()
     assert data["compressibility"] == pytest.approx(0.262, abs=0.01)
     assert data["reference_pressure"] == 1e5
@@ -83,7 +89,7 @@ def test_c_from_slurry_data_and_from_dry_cake_mass(client):
 
 
 def test_user_region_by_index(client):
-    r = post(client, {"tests": [{**EXAMPLE, "use": [0, 9]}]}).json()["tests"][0]
+    r = post(client, {"tests": [{**EXAMPLE, "use": [0, 9]}], **TEXTBOOK}).json()["tests"][0]
     assert r["points_used"] == list(range(10))
     assert r["resistance"] == pytest.approx(1.863e11 * 0.96, rel=0.01)
 
@@ -180,3 +186,126 @@ def test_random_increasing_readings_fit_or_refuse_plainly(client, dt, dv, p, ref
     r = client.post("/api/v1/lab-fit", json=body)
     assert r.status_code in (200, 422), r.text
     json.loads(r.text, parse_constant=lambda name: (_ for _ in ()).throw(AssertionError(name)))
+
+
+# ---- models, pressure readings, uncertainty carried forward (synthetic, derived here) ----
+
+def synthetic_points(P, alpha=2e11, R_m=8e10, V1=0.0, with_pressure=False):
+    """Exact readings of a 0.01 m² cell (mu 1 mPa·s, c 50 kg/m³): constant rate up to V1, then P."""
+    A, mu, c = 0.01, 1e-3, 50.0
+    K_p, B = mu * alpha * c / (A**2 * P), mu * R_m / (A * P)
+    rows = []
+    for V in [k * 0.25e-3 for k in range(1, 21)]:
+        if V <= V1:
+            q0 = 1 / (K_p * V1 + B)
+            t, p = V / q0, P * (K_p * V + B) / (K_p * V1 + B)
+        else:
+            t = V1 * (K_p * V1 + B) + K_p / 2 * (V**2 - V1**2) + B * (V - V1)
+            p = P
+        rows.append([t, V, p] if with_pressure else [t, V])
+    return {"pressure": P, "area": A, "viscosity": mu, "c": c, "points": rows}
+
+
+def test_pressure_readings_give_the_filling_period_and_exact_resistances(client):
+    data = post(client, {"tests": [synthetic_points(3e5, V1=1.1e-3, with_pressure=True)]}).json()
+    t = data["tests"][0]
+    assert t["model"] == "three_parameter" and t["filling"]["readings"] == 4
+    assert "pressure readings" in t["filling"]["how"]
+    assert t["resistance"] == pytest.approx(2e11, rel=1e-6)
+    assert t["medium_resistance"] == pytest.approx(8e10, rel=1e-6)
+    assert len(t["pressures"]) == 20
+
+
+def test_csv_with_a_pressure_column_marks_the_filling_period(client):
+    rows = synthetic_points(3e5, V1=1.1e-3, with_pressure=True)["points"]
+    csv = "time [s], filtrate [L], pressure [bar]\n" + "\n".join(f"{t!r}, {v * 1e3!r}, {p / 1e5!r}" for t, v, p in rows)
+    test = {"pressure": "3 bar", "area": 0.01, "viscosity": 1e-3, "c": 50, "csv": csv}
+    t = post(client, {"tests": [test]}).json()["tests"][0]
+    assert t["filling"]["readings"] == 4 and t["resistance"] == pytest.approx(2e11, rel=1e-6)
+
+
+def test_rows_of_two_and_three_values_cannot_be_mixed(client):
+    test = synthetic_points(3e5, with_pressure=True)
+    test["points"][3] = test["points"][3][:2]
+    assert "[time, volume, pressure]" in errors_of(post(client, {"tests": [test]}))["tests.0.points"]
+
+
+def test_an_unknown_model_or_basis_is_a_422_naming_it(client):
+    errs = errors_of(post(client, {"tests": [synthetic_points(3e5)], "model": "quadratic", "pressure_basis": "x"}))
+    assert "model" in errs and "classic" in errs["model"] and "three_parameter" in errs["model"]
+    assert "pressure_basis" in errs and "cake" in errs["pressure_basis"]
+
+
+def test_reference_pressure_defaults_to_the_geometric_mean_and_for_cycle_carries_the_errors(client):
+    # readings built with alpha at the whole pressure drop: evaluated on that (total) basis
+    data = post(client, {"tests": [synthetic_points(1e5, alpha=1e11), synthetic_points(4e5, alpha=2e11),
+                                   synthetic_points(2e5, alpha=1.4142e11)], "pressure_basis": "total"}).json()
+    assert data["reference_pressure"] == pytest.approx(2e5, rel=1e-9)
+    assert data["compressibility"] == pytest.approx(0.5, abs=1e-3)
+    assert data["tested_pressure_range"] == [1e5, 4e5]
+    fc = data["for_cycle"]
+    assert fc["cake"]["pressure_basis"] == "total"
+    for key in ("resistance", "reference_pressure", "compressibility", "resistance_stderr",
+                "compressibility_stderr", "pressure_basis", "tested_pressure_range"):
+        assert key in fc["cake"], key
+    for key in ("medium_resistance", "medium_resistance_stderr", "resistance_medium_correlation"):
+        assert key in fc, key
+    # straight into a cycle at 7 bar: outside the tested pressures, said in the unit typed
+    cycle = {"slurry": {"solids_mass_fraction": "5 %", "solids_density": 2600, "viscosity": 1e-3},
+             "cake": {**fc["cake"], "porosity": 0.5}, "press": {"filter_area": 20, "chamber_thickness": "30 mm"},
+             "feed": {"mode": "constant_pressure", "pressure": "7 bar"}, "cycle": {"downtime": "20 min"},
+             **{k: v for k, v in fc.items() if k != "cake"}}
+    res = client.post("/api/v1/cycle", json=cycle)
+    assert res.status_code == 200, res.text
+    assert any("7 bar" in w and "1 to 4 bar" in w for w in res.json()["warnings"])
+    assert res.json()["uncertainty"] is not None
+
+
+# ---- compression-permeability tables (synthetic from known laws, seeded; derived here) ----
+
+def compression_csv(rng=None, porosity=False):
+    from server.solver.locallaws import TillerLeu
+
+    law = TillerLeu(5e10, 0.7, 0.25, 0.12, 2e4)
+    p = np.geomspace(5e3, 2e6, 10)
+    noise = (lambda: np.exp(rng.normal(0, 0.02, p.size))) if rng is not None else (lambda: np.ones(p.size))
+    a, e = law.local_resistance(p) * noise(), law.local_solidosity(p) * noise()
+    head = "stress [kPa]; alpha [m/kg]; " + ("porosity [%]" if porosity else "solidosity [-]")
+    rows = [f"{float(x) / 1e3!r}; {float(y)!r}; {float(100 * (1 - z) if porosity else z)!r}" for x, y, z in zip(p, a, e)]
+    return law, head + "\n" + "\n".join(rows)
+
+
+@pytest.mark.parametrize("porosity", [False, True])
+def test_compression_table_gives_the_local_laws_and_a_cycle_ready_cake(client, porosity):
+    law, csv = compression_csv(porosity=porosity)
+    r = client.post("/api/v1/compression-fit", json={"csv": csv})
+    assert r.status_code == 200, r.text
+    data = r.json()
+    for name in ("resistance_at_zero_stress", "resistance_exponent", "solidosity_at_zero_stress",
+                 "solidosity_exponent", "stress_scale"):
+        assert data["local"][name] == pytest.approx(getattr(law, name), rel=1e-3), name
+    cycle = {"slurry": {"solids_mass_fraction": "20 %", "solids_density": 2600, "viscosity": 1e-3},
+             "cake": data["for_cycle"]["cake"], "medium_resistance": 5e10,
+             "press": {"filter_area": 20, "chamber_thickness": "30 mm"},
+             "feed": {"mode": "constant_pressure", "pressure": "6 bar"}, "cycle": {"downtime": "20 min"}}
+    res = client.post("/api/v1/cycle", json=cycle)
+    assert res.status_code == 200, res.text
+    assert res.json()["derived"]["resistance_at_feed"] == pytest.approx(law.average_resistance(6e5), rel=1e-3)
+
+
+def test_compression_table_errors_name_the_line(client):
+    _, csv = compression_csv()
+    bad = csv.replace("\n", "\nten; 1e11; 0.3\n", 1)
+    r = client.post("/api/v1/compression-fit", json={"csv": bad})
+    assert r.status_code == 422 and "line 2" in r.json()["detail"][0]["msg"]
+    r = client.post("/api/v1/compression-fit", json={"points": [[1e4, 1e11, 1.5]] * 5})
+    assert r.status_code == 422 and "points" in r.json()["detail"][0]["field"]
+
+
+def test_the_lab_page_draws_the_local_laws(client):
+    _, csv = compression_csv(np.random.default_rng(3))
+    r = client.post("/ui/compression-fit", json={"csv": csv})
+    assert r.status_code == 200, r.text
+    data = r.json()
+    assert set(data["figures"]) == {"local_resistance", "local_solidosity"}
+    assert "local-laws" in data["html"] and "bar" in data["html"]

@@ -4,10 +4,10 @@ from fastapi import APIRouter, Request, UploadFile
 
 from ..budget import within_budget
 from ..errors import InputError
-from ..lab import fit_request
+from ..lab import compression_request, fit_request
 from ..labdata import CsvError, parse_readings
 from ..schemas.common import ERROR_RESPONSES
-from ..schemas.labfit import LabFitRequest, LabFitResponse
+from ..schemas.labfit import CompressionFitRequest, CompressionFitResponse, LabFitRequest, LabFitResponse
 from ..uploads import read_upload
 
 router = APIRouter(prefix="/api/v1", tags=["lab-fit"], responses=ERROR_RESPONSES)
@@ -21,6 +21,13 @@ async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
     Quantities accept unit strings ("440 cm^2", "23.5 g/L", "6.7 psi", "250 mL").
     """
     return await within_budget(request, fit_request, lab_request)
+
+
+@router.post("/compression-fit", response_model=CompressionFitResponse)
+async def post_compression_fit(request: Request, compression: CompressionFitRequest) -> dict:
+    """Tiller and Leu's local laws from a compression-permeability table; ``for_cycle`` is the
+    ``cake`` of an /api/v1/cycle request (``cake.local``)."""
+    return await within_budget(request, compression_request, compression)
 
 
 @router.post("/lab-readings", openapi_extra={"requestBody": {"content": {

@@ -12,10 +12,10 @@ from fastapi import APIRouter, Request, Response
 
 from ..budget import within_budget
 from ..display import Units, UnitSystem
-from ..lab import fit_request
-from ..labcharts import lab_figures
+from ..lab import compression_request, fit_request
+from ..labcharts import compression_figures, lab_figures
 from ..schemas.cycle import CycleRequest
-from ..schemas.labfit import LabFitRequest
+from ..schemas.labfit import CompressionFitRequest, LabFitRequest
 from ..solve import CAUTIONS, solve
 from ..views import render_results
 
@@ -34,22 +34,25 @@ async def post_results(request: Request, inputs: CycleRequest, units: UnitSystem
 
 
 def scenario_prefill(result: dict) -> dict:
-    """The lab result as editor inputs, in units people type (m/kg, bar, 1/m), with standard errors."""
+    """The lab result as editor inputs, in units people type (m/kg, bar, 1/m), with the standard
+    errors and correlation for_cycle carries."""
     for_cycle = result["for_cycle"]
     cake = for_cycle["cake"]
     out = {
         "cake": {"resistance": f"{cake['resistance']:.4g} m/kg",
                  "reference_pressure": f"{cake['reference_pressure'] / 1e5:.4g} bar",
-                 "compressibility": round(cake["compressibility"], 4)},
+                 "compressibility": round(cake["compressibility"], 4),
+                 "pressure_basis": cake["pressure_basis"]},
         "medium_resistance": f"{for_cycle['medium_resistance']:.4g} 1/m",
     }
-    tests = result["tests"]
-    se_a = result["resistance_ref_stderr"] if len(tests) > 1 else tests[0]["resistance_stderr"]
-    se_r = result["medium_resistance_spread"] if len(tests) > 1 else tests[0]["medium_resistance_stderr"]
-    if se_a:
-        out["cake"]["resistance_stderr"] = f"{se_a:.3g} m/kg"
-    if se_r:
-        out["medium_resistance_stderr"] = f"{se_r:.3g} 1/m"
+    if cake.get("resistance_stderr"):
+        out["cake"]["resistance_stderr"] = f"{cake['resistance_stderr']:.3g} m/kg"
+    if cake.get("compressibility_stderr"):
+        out["cake"]["compressibility_stderr"] = round(cake["compressibility_stderr"], 4)
+    if for_cycle.get("medium_resistance_stderr"):
+        out["medium_resistance_stderr"] = f"{for_cycle['medium_resistance_stderr']:.3g} 1/m"
+    if for_cycle.get("resistance_medium_correlation") is not None:
+        out["resistance_medium_correlation"] = round(for_cycle["resistance_medium_correlation"], 3)
     return out
 
 
@@ -62,3 +65,12 @@ async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
         {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
     return {"html": html, "figures": figs, "results": results}
 
+
+
+@router.post("/compression-fit")
+async def post_compression_fit(request: Request, compression: CompressionFitRequest) -> dict:
+    results = await within_budget(request, compression_request, compression)
+    figs = compression_figures(results)
+    html = request.app.state.templates.get_template("_lab_compression.html").render(
+        {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs)})
+    return {"html": html, "figures": figs, "results": results}

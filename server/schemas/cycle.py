@@ -14,6 +14,7 @@ from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
 from ..solver import planning as solver_planning
 from ..solver import press as solver_press
+from ..solver.locallaws import TillerLeu
 from .common import (
     Density,
     Fraction01,
@@ -59,16 +60,31 @@ class SlurryIn(Strict):
         return self
 
 
+class LocalLawsIn(Strict):
+    """Tiller and Leu's local laws from a compression-permeability cell."""
+
+    resistance_at_zero_stress: quantity(
+        "specific_resistance", ge=1e5, le=1e17, description="alpha_0 in alpha(p_s) = alpha_0 (1 + p_s/p_a)^n"
+    ) = Field(description="[m/kg]")
+    resistance_exponent: quantity("fraction", ge=0.0, lt=2.0, description="n [-]") = Field(description="[-]")
+    solidosity_at_zero_stress: quantity(
+        "fraction", gt=0.0, lt=1.0, description="eps_s0 in eps_s(p_s) = eps_s0 (1 + p_s/p_a)^beta"
+    ) = Field(description="Solids volume fraction at no stress [-]")
+    solidosity_exponent: quantity("fraction", ge=0.0, lt=1.0, description="beta [-]") = Field(description="[-]")
+    stress_scale: LabPressure = Field(description="p_a [Pa]")
+
+    def to_solver(self) -> TillerLeu:
+        return TillerLeu(self.resistance_at_zero_stress, self.resistance_exponent, self.solidosity_at_zero_stress,
+                         self.solidosity_exponent, self.stress_scale)
+
+
 class CakeIn(Strict):
     resistance: quantity(
         "specific_resistance", ge=1e5, le=1e17,
         description="Average specific cake resistance at the reference pressure",
-    ) = Field(description="alpha_ref [m/kg]")
+    ) | None = Field(None, description="alpha_ref [m/kg]; required unless local is given")
     resistance_stderr: quantity(
         "specific_resistance", ge=0.0, le=1e17, description="Standard error of resistance, e.g. from a lab fit"
-    ) | None = None
-    compressibility_stderr: quantity(
-        "fraction", ge=0.0, le=1.0, description="Standard error of compressibility, e.g. from a lab fit"
     ) | None = None
     reference_pressure: LabPressure | None = Field(
         None, description="Pressure at which resistance applies [Pa] (from 1 Pa: alpha_0 dP^s is often "
@@ -77,6 +93,18 @@ class CakeIn(Strict):
     compressibility: quantity(
         "fraction", ge=0.0, lt=1.0, description="Cake compressibility s in alpha = alpha_ref (dP/p_ref)^s"
     ) = 0.0
+    compressibility_stderr: quantity(
+        "fraction", ge=0.0, le=1.0, description="Standard error of compressibility, e.g. from a lab fit"
+    ) | None = None
+    pressure_basis: Literal["cake", "total"] = Field(
+        "cake", description="cake: the resistance belongs to the pressure across the cake, dP - mu R_m q / A "
+                            "(Tiller); total: to the whole pressure drop (the textbook shortcut)")
+    tested_pressure_range: tuple[LabPressure, LabPressure] | None = Field(
+        None, description="Lowest and highest pressure of the lab tests [Pa]: a warning says when the press runs "
+                          "outside them")
+    local: LocalLawsIn | None = Field(
+        None, description="Local laws from a compression-permeability cell, instead of resistance, "
+                          "compressibility and porosity (the cake's averages then follow the pressure)")
     moisture: Fraction01 | None = Field(None, description="Liquid mass / wet cake mass [-]")
     wet_to_dry_ratio: quantity(
         "fraction", gt=1.0, le=100.0, description="Wet cake mass / dry cake mass"
@@ -89,6 +117,16 @@ class CakeIn(Strict):
 
     @model_validator(mode="after")
     def _alternatives(self):
+        if self.local is not None:
+            extra = [n for n in ("resistance", "resistance_stderr", "reference_pressure", "compressibility_stderr",
+                                 "moisture", "wet_to_dry_ratio", "porosity", "dry_bulk_density")
+                     if getattr(self, n) is not None] + (["compressibility"] if self.compressibility else [])
+            if extra:
+                raise ValueError(f"local gives the cake's resistance and solidosity: leave out {' and '.join(extra)}")
+            return self
+        if self.resistance is None:
+            raise ValueError("give resistance (with compressibility and reference_pressure for a compressible cake), "
+                             "or local")
         if self.dry_bulk_density is not None and self.porosity is None:
             exactly_one(self, ("moisture", "wet_to_dry_ratio"), required=False)
         else:
@@ -98,6 +136,8 @@ class CakeIn(Strict):
                 "give reference_pressure: with compressibility above 0 the resistance "
                 "is only defined at a stated pressure"
             )
+        if self.tested_pressure_range is not None and self.tested_pressure_range[0] > self.tested_pressure_range[1]:
+            raise ValueError("tested_pressure_range is [lowest, highest]: the first must not exceed the second")
         return self
 
 
@@ -325,8 +365,8 @@ class CycleRequest(Strict):
         "medium_resistance", ge=0.0, le=1e15, description="Standard error of medium_resistance"
     ) | None = None
     resistance_medium_correlation: float | None = Field(
-        None, ge=-1.0, le=1.0, description="Correlation of the lab fit's cake and cloth resistance estimates [-]"
-    )
+        None, ge=-1.0, le=1.0, description="Correlation of the errors of cake.resistance and medium_resistance "
+                                           "(a lab fit gives it; strongly negative for one t/V line) [-]")
     cloth: ClothIn | None = Field(None, description="Cloth wear between cloth washes")
     press: PressIn
     feed: FeedIn
@@ -351,6 +391,8 @@ class DerivedOut(BaseModel):
     liquid_density: float = Field(description="[kg/m³]")
     viscosity: float = Field(description="Filtrate viscosity [Pa·s]")
     resistance_at_feed: float = Field(description="Specific cake resistance at the feed pressure [m/kg]")
+    pressure_basis: str | None = Field(
+        None, description="cake: the resistance belongs to the pressure across the cake; total: to the whole drop")
     filter_area: float = Field(description="[m²]")
     chamber_volume: float = Field(description="Total chamber volume A L / 2 [m³] (A counts both faces of every chamber)")
     chamber_volume_each: float | None = Field(

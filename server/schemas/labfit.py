@@ -1,6 +1,8 @@
 """Schemas of POST /api/v1/lab-fit: constant-pressure lab tests in, alpha and R_m out."""
 
-from pydantic import BaseModel, Field, model_validator
+from typing import Literal
+
+from pydantic import BaseModel, Field, field_validator, model_validator
 
 from .common import Density, Fraction01, LabPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
 from .quantities import quantity
@@ -36,17 +38,27 @@ class LabTestIn(Strict):
     final_filtrate_volume: Volume | None = Field(
         None, description="Total filtrate of the test [m³]; default: the last reading"
     )
-    points: list[tuple[Time, Volume]] | None = Field(
-        None, min_length=3, max_length=20000, description="[time, cumulative filtrate volume] readings"
+    points: list[tuple[Time, Volume] | tuple[Time, Volume, LabPressure]] | None = Field(
+        None, min_length=3, max_length=20000,
+        description="[time, cumulative filtrate volume] readings, or [time, volume, pressure] rows: readings "
+                    "before the set pressure is reached are then the filling period",
     )
     csv: str | None = Field(
         None, max_length=1_000_000,
-        description="Readings as CSV text with a header naming columns and units, e.g. 'time [min], filtrate [mL]'",
+        description="Readings as CSV text with a header naming columns and units, e.g. 'time [min], filtrate [mL]'"
+                    " (optionally 'pressure [bar]' too)",
     )
     start: StartIn | None = Field(None, description="Start of constant pressure, for tests with a filling period")
     use: tuple[int, int] | None = Field(
         None, description="0-based [first, last] readings to fit (inclusive); default: chosen automatically"
     )
+
+    @field_validator("points")
+    @classmethod
+    def _same_row_length(cls, points):
+        if points is not None and len({len(p) for p in points}) > 1:
+            raise ValueError("give every reading as [time, volume] or every reading as [time, volume, pressure]")
+        return points
 
     @model_validator(mode="after")
     def _alternatives(self):
@@ -74,7 +86,16 @@ class LabTestIn(Strict):
 
 class LabFitRequest(Strict):
     tests: list[LabTestIn] = Field(min_length=1, max_length=50)
-    reference_pressure: LabPressure = Field(1e5, description="Pressure at which resistance_ref is given [Pa]")
+    reference_pressure: LabPressure | None = Field(
+        None, description="Pressure at which resistance_ref is given [Pa]; default: the geometric mean of the "
+                          "tested pressures")
+    model: Literal["classic", "three_parameter", "auto"] = Field(
+        "auto", description="classic: the t/V line (printed textbook evaluations); three_parameter: t = t_d + B V + "
+                            "(K_p/2) V², exact after a filling period; auto: the classic line unless a filling "
+                            "period or a start offset is significant")
+    pressure_basis: Literal["cake", "total"] = Field(
+        "cake", description="cake: alpha belongs to the pressure across the cake, dP - mu R_m q / A (Tiller); "
+                            "total: to the whole pressure drop (the textbook shortcut)")
 
 
 class TestOut(BaseModel):
@@ -96,8 +117,16 @@ class TestOut(BaseModel):
     residuals: list[float] = Field(description="Measured minus fitted t/V of the readings used [s/m³]")
     region: str = Field(description="How the readings were chosen")
     readings: list[tuple[float, float]] = Field(description="[t s, V m³] as read")
-    line: dict = Field(description="x = V + V0 [m³], y = (t - t0)/(V - V0) [s/m³], used, fitted y")
+    line: dict = Field(description="x = V + V0 [m³], y = (t - t0)/(V - V0) [s/m³] (three-parameter model: x = V, "
+                                   "y = (t - t_d)/V), used, fitted y")
     warnings: list[str]
+    model: str = Field(description="classic or three_parameter: the model used")
+    model_note: str = Field(description="Which model was used and why")
+    resistance_medium_correlation: float | None = Field(description="Correlation of alpha and R_m [-]")
+    time_offset: float | None = Field(description="t_d of the three-parameter model [s]")
+    time_offset_stderr: float | None = Field(description="[s]")
+    filling: dict | None = Field(description="The filling period found: readings, volume [m³], time [s], how")
+    pressures: list[float] | None = Field(description="Pressure at each reading, when given [Pa]")
 
 
 class LabFitResponse(BaseModel):
@@ -107,8 +136,51 @@ class LabFitResponse(BaseModel):
     resistance_ref: float = Field(description="alpha at reference_pressure [m/kg]")
     resistance_ref_stderr: float | None
     reference_pressure: float = Field(description="[Pa]")
-    medium_resistance: float = Field(description="Mean over the tests [1/m]")
+    medium_resistance: float = Field(description="Pooled over the tests (inverse-variance mean), or its trend's "
+                                                 "value at the reference pressure [1/m]")
     medium_resistance_spread: float | None = Field(description="Sample standard deviation over the tests [1/m]")
+    medium_resistance_stderr: float | None = Field(description="[1/m]")
+    medium_resistance_trend: dict | None = Field(
+        description="R_m = at_reference + per_log_pressure ln(dP/reference_pressure) [1/m], when the tests show a "
+                    "trend with pressure")
+    resistance_compressibility_correlation: float | None = Field(description="Of resistance_ref and s [-]")
+    resistance_medium_correlation: float | None = Field(description="Of resistance_ref and medium_resistance [-]")
+    tested_pressure_range: tuple[float, float] = Field(description="Lowest and highest test pressure [Pa]")
+    pressure_basis: str = Field(description="cake or total")
     for_cycle: dict = Field(description="The cake and medium_resistance fields of an /api/v1/cycle request")
+    warnings: list[str]
+    units: dict[str, str]
+
+
+# ---- compression-permeability tests ---------------------------------------------------
+
+Stress = quantity("pressure", ge=0.0, le=1e9, description="Effective solids pressure")
+LocalResistance = quantity("specific_resistance", gt=0.0, le=1e18, description="Local specific cake resistance")
+Solidosity = quantity("fraction", gt=0.0, lt=1.0, description="Solids volume fraction of the cake")
+
+
+class CompressionFitRequest(Strict):
+    points: list[tuple[Stress, LocalResistance, Solidosity]] | None = Field(
+        None, min_length=4, max_length=5000,
+        description="[effective solids pressure, local specific resistance, solidosity] rows of a "
+                    "compression-permeability cell")
+    csv: str | None = Field(
+        None, max_length=1_000_000,
+        description="The same as CSV text with units in the header, e.g. 'stress [kPa], alpha [m/kg], "
+                    "solidosity [-]' (or porosity instead of solidosity)")
+
+    @model_validator(mode="after")
+    def _one(self):
+        exactly_one(self, ("points", "csv"))
+        return self
+
+
+class CompressionFitResponse(BaseModel):
+    local: dict = Field(description="Tiller and Leu's parameters, as cake.local of /api/v1/cycle (SI)")
+    stderrs: dict = Field(description="Standard errors of the parameters (SI)")
+    points: list[tuple[float, float, float]] = Field(description="[p_s Pa, alpha m/kg, solidosity -] as read")
+    averages: dict = Field(description="Cake averages against the pressure across the cake: cake_pressure [Pa], "
+                                       "resistance [m/kg], solidosity [-]")
+    for_cycle: dict = Field(description="The cake field of an /api/v1/cycle request")
     warnings: list[str]
     units: dict[str, str]

@@ -25,7 +25,7 @@ from .feeds import ConstantPressure, ConstantRate, Filtration, PressureSteps, Pu
 from .press import Press, filter_area_from_plates
 from .sweeps import chart_series
 
-SOLVER_VERSION = "0.1.0"
+SOLVER_VERSION = "0.2.0"  # 0.2.0: the cake pressure basis by default
 
 __all__ = [
     "SOLVER_VERSION",

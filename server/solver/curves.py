@@ -28,6 +28,9 @@ def cake_flow(pressure, V, filtration, filter_area):
     Increasing in pressure for 0 <= s < 1. Infinite at V = 0 with no cloth resistance.
     """
     f = filtration
+    if f.on_cake_basis:
+        with np.errstate(divide="ignore"):
+            return 1.0 / f.resistance_per_rate(pressure, V, filter_area)
     resistance = (
         f.specific_resistance(pressure) * f.solids_per_filtrate * V / filter_area**2
         + f.medium_resistance / filter_area
@@ -55,8 +58,10 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
         [Pa], [m^3/s]. The pressure never exceeds ``pressure_cap``.
     """
     V = np.asarray(V, dtype=float)
+    if filtration.on_cake_basis:
+        return _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter_area)
     nodes = getattr(supply_flow, "nodes", None)
-    if nodes is not None:
+    if nodes is not None and filtration.local is None:
         return _operating_point_on_nodes(*nodes(pressure_cap), V, filtration, filter_area)
     cap = np.full_like(V, pressure_cap)
     at_cap = cake_flow(cap, V, filtration, filter_area) <= supply_flow(cap)
@@ -69,7 +74,7 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
     medium = f.medium_resistance / filter_area
     for _ in range(BISECTION_STEPS):
         mid = 0.5 * (lo + hi)
-        alpha = f.resistance_ref if f.compressibility == 0.0 else f.specific_resistance(mid)
+        alpha = f.resistance_ref if f.local is None and f.compressibility == 0.0 else f.specific_resistance(mid)
         cake_wins = mid > f.viscosity * (alpha * cake_per_alpha + medium) * supply_flow(mid)
         hi = np.where(cake_wins, mid, hi)
         lo = np.where(cake_wins, lo, mid)
@@ -80,6 +85,43 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
     # the supply's flow is.
     flow = np.where(np.isfinite(flow), np.minimum(flow, supply_flow(lo)), supply_flow(lo))
     return pressure, flow
+
+
+def _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter_area):
+    """``operating_point`` with alpha at the cake's own pressure dp_c (Tiller's basis).
+
+    Parametrised by dp_c: the cake passes q = dp_c A^2/(mu alpha(dp_c) c V) and the whole
+    pressure is P = dp_c + mu R_m q / A, both rising with dp_c while the supply's flow falls
+    with P; bisection on dp_c finds where the cake takes what the supply gives, or where P
+    reaches the cap. At V = 0 (no cake) the cloth alone meets the supply.
+    """
+    f = filtration
+    mu, c, A = f.viscosity, f.solids_per_filtrate, filter_area
+    cloth = mu * f.medium_resistance / A
+    Vp = np.where(V > 0.0, V, 1.0)
+    lo, hi = np.zeros_like(V), np.full_like(V, float(pressure_cap))
+    for _ in range(BISECTION_STEPS + 12):
+        mid = 0.5 * (lo + hi)
+        q = mid * A * A / (mu * f.specific_resistance(mid) * c * Vp)
+        P = mid + cloth * q
+        too_high = (P >= pressure_cap) | (q >= supply_flow(np.minimum(P, pressure_cap)))
+        hi = np.where(too_high, mid, hi)
+        lo = np.where(too_high, lo, mid)
+    q = hi * A * A / (mu * f.specific_resistance(hi) * c * Vp)
+    P = np.minimum(hi + cloth * q, pressure_cap)
+    flow = np.minimum(q, supply_flow(P))
+    start = V <= 0.0
+    if np.any(start):  # the clean cloth: P = mu R_m Q / A with Q = supply(P)
+        lo0, hi0 = 0.0, float(pressure_cap)
+        for _ in range(BISECTION_STEPS):
+            mid0 = 0.5 * (lo0 + hi0)
+            if mid0 >= cloth * float(supply_flow(np.array(mid0))):
+                hi0 = mid0
+            else:
+                lo0 = mid0
+        P = np.where(start, hi0, P)
+        flow = np.where(start, float(supply_flow(np.array(hi0))) if hi0 < pressure_cap else pressure_cap / cloth, flow)
+    return P, flow
 
 
 NEWTON_STEPS = 6  # at most; within one table segment (1e-4 of the range wide) two or three reach round-off

@@ -21,7 +21,10 @@ from scipy.interpolate import PchipInterpolator
 from . import constant_pressure as cp
 from .curves import GeneralisedInverse, TabulatedCurve, UniformTable, operating_point, volume_grid
 from .errors import SolverInputError
+from .locallaws import TillerLeu
 from .resistance import specific_resistance
+
+PRESSURE_BASES = ("cake", "total")
 
 
 @dataclass(frozen=True)
@@ -48,6 +51,13 @@ class Filtration:
         Cloth resistance R_m [1/m], >= 0.
     porosity : float or None
         Cake porosity [-], needed to wash by cake pore volumes.
+    pressure_basis : str
+        "total": alpha belongs to the whole pressure drop (the textbook shortcut); "cake":
+        to the pressure across the cake, dp_c = dP - mu R_m q / A (Tiller). They differ only
+        for a compressible cake behind a cloth with resistance.
+    local : TillerLeu or None
+        Local laws of the cake; alpha is then their cake average alpha_av(dp) and
+        resistance_ref, reference_pressure and compressibility are not used.
     """
 
     solids_per_filtrate: float
@@ -59,6 +69,8 @@ class Filtration:
     compressibility: float
     medium_resistance: float
     porosity: float | None = None
+    pressure_basis: str = "total"
+    local: TillerLeu | None = None
 
     def __post_init__(self):
         checks = {
@@ -74,12 +86,55 @@ class Filtration:
                 "medium_resistance", f"must be >= 0 1/m; got {self.medium_resistance:.6g}"
             )
         specific_resistance(1.0, 1.0, 1.0, self.compressibility)  # validates s
+        if self.pressure_basis not in PRESSURE_BASES:
+            raise SolverInputError("pressure_basis", f"must be 'cake' or 'total'; got {self.pressure_basis!r}")
 
     def specific_resistance(self, pressure):
-        """alpha at a pressure drop [m/kg]."""
+        """alpha at a pressure drop across the cake (total basis: across cake and cloth) [m/kg]."""
+        if self.local is not None:
+            return self.local.average_resistance(pressure)
         return specific_resistance(
             self.resistance_ref, pressure, self.reference_pressure, self.compressibility
         )
+
+    @property
+    def incompressible(self) -> bool:
+        """alpha does not depend on pressure."""
+        return self.local.resistance_exponent == 0.0 if self.local is not None else self.compressibility == 0.0
+
+    @property
+    def on_cake_basis(self) -> bool:
+        """The cake pressure basis changes the answer: a compressible cake behind a cloth."""
+        return self.pressure_basis == "cake" and self.medium_resistance > 0.0 and not self.incompressible
+
+    def cake_pressure(self, pressure, V, filter_area: float, steps: int = 64):
+        r"""The pressure across the cake at a total pressure drop and filtrate volume [Pa].
+
+        Solves :math:`\Delta p_c (1 + R_m A / (lpha(\Delta p_c) c V)) = \Delta P` (the cake's
+        and the cloth's Darcy laws in series) by bisection on dp_c/dP, vectorised; the left
+        side rises with dp_c because dp/alpha(p) does. On the total basis: dP itself.
+        """
+        P = np.asarray(pressure, dtype=float) * np.ones_like(np.asarray(V, dtype=float))
+        if not self.on_cake_basis:
+            return P
+        V = np.asarray(V, dtype=float) * np.ones_like(P)
+        c_V = self.solids_per_filtrate * V
+        lo, hi = np.zeros_like(P), np.ones_like(P)
+        cloth = self.medium_resistance * filter_area
+        for _ in range(steps):
+            mid = 0.5 * (lo + hi)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                over = mid * (1.0 + cloth / (self.specific_resistance(mid * P) * c_V)) >= 1.0
+            hi = np.where(over, mid, hi)
+            lo = np.where(over, lo, mid)
+        return 0.5 * (lo + hi) * P
+
+    def resistance_per_rate(self, pressure, V, filter_area: float):
+        """dt/dV = mu (alpha c V / A + R_m)/(A dP) at a pressure drop and volume [s/m^3], alpha on
+        this filtration's pressure basis."""
+        alpha = self.specific_resistance(self.cake_pressure(pressure, V, filter_area))
+        return (self.viscosity * (alpha * self.solids_per_filtrate * np.asarray(V, dtype=float) / filter_area
+                                  + self.medium_resistance) / (filter_area * np.asarray(pressure, dtype=float)))
 
 
 @dataclass(frozen=True)
@@ -147,7 +202,9 @@ class ConstantPressure:
         """Unlimited flow below the set pressure (used to test the general path)."""
         return np.full_like(np.asarray(pressure, dtype=float), np.inf)
 
-    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0) -> ConstantPressureCurve:
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0):
+        if filtration.on_cake_basis:
+            return held_pressure_curve(filtration, filter_area, self.pressure, V_max)
         alpha = filtration.specific_resistance(self.pressure)
         K_p = cp.cake_constant(
             filtration.viscosity, alpha, filtration.solids_per_filtrate, filter_area, self.pressure
@@ -156,6 +213,35 @@ class ConstantPressure:
             filtration.viscosity, filtration.medium_resistance, filter_area, self.pressure
         )
         return ConstantPressureCurve(self.pressure, K_p, B)
+
+
+class HeldPressureCurve(TabulatedCurve):
+    """Constant pressure on the cake pressure basis: 1/Q tabulated on a volume grid (no closed
+    form). The pressure is held from the start, so the throughput has one peak at most."""
+
+    knots = np.empty(0)
+    held_from = 0.0
+
+
+def held_pressure_curve(filtration: Filtration, filter_area: float, pressure: float, V_max: float,
+                        n: int = 2000) -> HeldPressureCurve:
+    """The constant-pressure curve with alpha at the cake's pressure at each volume."""
+    V = volume_grid(V_max if V_max > 0.0 else 1.0, n)
+    r = filtration.resistance_per_rate(pressure, V, filter_area)
+    return HeldPressureCurve(V, np.full_like(V, pressure), 1.0 / r)
+
+
+def kink_volume(filtration: Filtration, filter_area: float, pressure: float, flow: float) -> float:
+    """Filtrate volume at which the cake and cloth pass ``flow`` at ``pressure`` [m^3] (< 0: never),
+    on the filtration's pressure basis."""
+    f = filtration
+    if not flow > 0.0:
+        return -1.0
+    head = pressure / (f.viscosity * flow) - f.medium_resistance / filter_area  # = alpha c V / A^2
+    if head <= 0.0:
+        return -1.0
+    cake_p = pressure - f.viscosity * f.medium_resistance * flow / filter_area if f.on_cake_basis else pressure
+    return head * filter_area**2 / (f.specific_resistance(cake_p) * f.solids_per_filtrate)
 
 
 def _constants(filtration: Filtration, filter_area: float, pressure):
@@ -264,7 +350,9 @@ class ConstantRate:
         _, B = _constants(filtration, filter_area, self.max_pressure)
         return np.inf if B == 0.0 else 1.0 / B
 
-    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0) -> RateThenPressureCurve:
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0):
+        if filtration.on_cake_basis:
+            return _supply_curve(self, filtration, filter_area, V_max if V_max > 0.0 else 1.0, 2000)
         K_p, B = _constants(filtration, filter_area, self.max_pressure)
         V1 = max((1.0 / self.flow - B) / K_p, 0.0)
         return RateThenPressureCurve(self.flow, self.max_pressure, K_p, B, V1, filtration, filter_area)
@@ -289,9 +377,7 @@ def _supply_curve(feed, filtration: Filtration, filter_area: float, V_max: float
     for pressure in pressures:
         if not 0.0 < pressure <= feed.pressure_cap:
             continue
-        K_p, B = _constants(filtration, filter_area, pressure)
-        q = float(feed.supply_flow(pressure))
-        V_kink = (1.0 / q - B) / K_p if q > 0 else -1.0  # the cake passes q at this pressure
+        V_kink = kink_volume(filtration, filter_area, pressure, float(feed.supply_flow(pressure)))
         if 0.0 < V_kink < V_max:
             V = np.unique(np.append(V, V_kink))
     P, Q = operating_point(feed.supply_flow, feed.pressure_cap, V, filtration, filter_area)
@@ -403,18 +489,12 @@ def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: flo
     return pressure * filter_area / (filtration.viscosity * filtration.medium_resistance)
 
 
-@dataclass(frozen=True)
-class SteppedPressureCurve:
-    """Constant pressure in steps; the last step is held. Closed form step by step."""
-
-    pressures: np.ndarray  # Pa, per step
-    starts: np.ndarray  # s, step start times
-    V_starts: np.ndarray  # m^3 at each step start
-    K_p: np.ndarray
-    B: np.ndarray
+class _StepSchedule:
+    """What every curve of pressure steps shares: the step of a volume, the knots and where
+    the last step is held (``pressures`` and ``V_starts`` per step)."""
 
     def _step_of_volume(self, V):
-        return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, self.K_p.size - 1)
+        return np.clip(np.searchsorted(self.V_starts, V, side="right") - 1, 0, len(self.V_starts) - 1)
 
     @property
     def knots(self) -> np.ndarray:
@@ -425,6 +505,21 @@ class SteppedPressureCurve:
     def held_from(self) -> float:
         """The last stage's start: it is held, so one more throughput peak at most [m^3]."""
         return float(self.V_starts[-1])
+
+    def pressure_at(self, V):
+        out = self.pressures[self._step_of_volume(np.asarray(V, dtype=float))]
+        return out if np.ndim(out) else float(out)
+
+
+@dataclass(frozen=True)
+class SteppedPressureCurve(_StepSchedule):
+    """Constant pressure in steps; the last step is held. Closed form step by step."""
+
+    pressures: np.ndarray  # Pa, per step
+    starts: np.ndarray  # s, step start times
+    V_starts: np.ndarray  # m^3 at each step start
+    K_p: np.ndarray
+    B: np.ndarray
 
     def time(self, V):
         V = np.asarray(V, dtype=float)
@@ -445,10 +540,6 @@ class SteppedPressureCurve:
         V = np.asarray(V, dtype=float)
         i = self._step_of_volume(V)
         return cp.reciprocal(self.K_p[i] * V + self.B[i])
-
-    def pressure_at(self, V):
-        out = self.pressures[self._step_of_volume(np.asarray(V, dtype=float))]
-        return out if np.ndim(out) else float(out)
 
 
 @dataclass(frozen=True)
@@ -480,7 +571,9 @@ class PressureSteps:
     def pressure_cap(self) -> float:
         return max(p for p, _ in self.steps)
 
-    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0) -> SteppedPressureCurve:
+    def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0):
+        if filtration.on_cake_basis:
+            return _cake_basis_steps(self.steps, filtration, filter_area, V_max)
         P = np.array([p for p, _ in self.steps], dtype=float)
         K_p, B = _constants(filtration, filter_area, P)
         K_p, B = np.atleast_1d(K_p).astype(float), np.atleast_1d(B * np.ones_like(P)).astype(float)
@@ -491,3 +584,52 @@ class PressureSteps:
             V_starts.append(V0 + 2.0 * duration / (b + np.sqrt(b * b + 2.0 * K_p[i] * duration)))
             starts.append(starts[-1] + duration)
         return SteppedPressureCurve(P, np.array(starts), np.array(V_starts), K_p, B)
+
+
+class SteppedCakeBasisCurve(_StepSchedule):
+    """Pressure steps on the cake pressure basis: each step follows its own held-pressure curve
+    (the rate depends only on the pressure and the filtrate volume), shifted in time."""
+
+    def __init__(self, pressures, starts, V_starts, curves):
+        self.pressures, self.starts, self.V_starts, self.curves = pressures, starts, V_starts, curves
+        self._offsets = np.array([c.time(v) for c, v in zip(curves, V_starts)])
+
+    @property
+    def V_max(self) -> float:
+        return min(c.V_max for c in self.curves)
+
+    def _each(self, index, x, fn):
+        x = np.asarray(x, dtype=float)
+        if x.ndim == 0:
+            return float(fn(int(index), x))
+        out = np.empty_like(x, dtype=float)
+        for i in np.unique(index):
+            mask = index == i
+            out[mask] = fn(i, x[mask])
+        return out if out.ndim else float(out)
+
+    def time(self, V):
+        V = np.asarray(V, dtype=float)
+        return self._each(self._step_of_volume(V), V,
+                          lambda i, v: self.starts[i] + self.curves[i].time(v) - self._offsets[i])
+
+    def volume(self, t):
+        t = np.asarray(t, dtype=float)
+        i = np.clip(np.searchsorted(self.starts, t, side="right") - 1, 0, len(self.curves) - 1)
+        return self._each(i, t, lambda k, x: self.curves[k].volume(x - self.starts[k] + self._offsets[k]))
+
+    def rate(self, V):
+        V = np.asarray(V, dtype=float)
+        return self._each(self._step_of_volume(V), V, lambda i, v: self.curves[i].rate(v))
+
+
+def _cake_basis_steps(steps, filtration: Filtration, filter_area: float, V_max: float) -> SteppedCakeBasisCurve:
+    V_max = V_max if V_max > 0.0 else 1.0
+    P = np.array([p for p, _ in steps], dtype=float)
+    curves = [held_pressure_curve(filtration, filter_area, float(p), V_max) for p in P]
+    starts, V_starts = [0.0], [0.0]
+    for i, (_, duration) in enumerate(steps[:-1]):
+        c = curves[i]
+        V_starts.append(float(c.volume(c.time(V_starts[-1]) + duration)))
+        starts.append(starts[-1] + duration)
+    return SteppedCakeBasisCurve(P, np.array(starts), np.array(V_starts), curves)

@@ -40,7 +40,8 @@
   }
 
   function collect() {
-    const body = { tests: [] };
+    const body = { tests: [], model: document.getElementById("model").value,
+                   pressure_basis: document.getElementById("pressure-basis").value };
     const ref = document.getElementById("ref-p").value.trim();
     if (ref) body.reference_pressure = window.presscycleEntry.withUnit(ref, document.getElementById("ref-p-unit").value);
     Array.from(tests.children).forEach((block) => {
@@ -98,6 +99,32 @@
     window.presscycleCharts.plot(results, data.figures || {});
     status.textContent = "Done.";
   }
+
+  // the compression-permeability table: its own form and results pane
+  const cForm = document.getElementById("compression");
+  const cResults = document.getElementById("compression-results");
+  const cStatus = document.getElementById("compression-status");
+  async function fitCompression() {
+    const box = cForm.querySelector(".error");
+    box.hidden = true; box.textContent = "";
+    cStatus.textContent = "Fitting…";
+    const response = await fetch("/ui/compression-fit", {
+      method: "POST", headers: { "content-type": "application/json" },
+      body: JSON.stringify({ csv: document.getElementById("compression-csv").value }),
+    }).catch(() => null);
+    if (!response) { cStatus.textContent = "The server did not answer."; return; }
+    const data = await response.json().catch(() => ({}));
+    if (response.status === 422) {
+      cStatus.textContent = "Please correct the table.";
+      box.textContent = (data.detail || []).map((d) => d.msg).join(" "); box.hidden = false;
+      return;
+    }
+    if (!response.ok) { cStatus.textContent = data.detail || `The server answered ${response.status}.`; return; }
+    cResults.innerHTML = data.html;
+    window.presscycleCharts.plot(cResults, data.figures || {});
+    cStatus.textContent = "Done.";
+  }
+  cForm.addEventListener("submit", (e) => { e.preventDefault(); fitCompression(); });
 
   const staleness = window.presscycleStale(results);
   const edited = () => staleness.mark("You changed the readings: press Fit to see their results. These are for the earlier readings.");

@@ -28,6 +28,11 @@ def test_fit_two_pressures_and_open_a_scenario_with_the_result(page):
     fill_test(blocks.nth(0), "Example 14.2-1", "338", (DATA / "geankoplis_14_2_1.csv").read_text())
     page.click("#add-test")
     fill_test(blocks.nth(1), "Problem 14.2-1", "46.2", (DATA / "geankoplis_p14_2_1.csv").read_text())
+    # the book's evaluation: the classic t/V line on the total basis, alpha reported at 1 bar
+    page.select_option("#model", "classic")
+    page.select_option("#pressure-basis", "total")
+    page.fill("#ref-p", "1")
+    page.select_option("#ref-p-unit", "bar")
     page.click("#fit")
     page.wait_for_selector("[data-testid=lab-results]")
     table = page.locator("[data-testid=lab-tests]").inner_text()
@@ -39,7 +44,7 @@ def test_fit_two_pressures_and_open_a_scenario_with_the_result(page):
     assert page.input_value("#f-cake-resistance").startswith("1.3")  # alpha_ref at 1 bar, about 1.35e11
     assert page.locator("select[name='cake.reference_pressure@unit']").input_value() == "bar"
     assert page.input_value("#f-cake-compressibility").startswith("0.2")
-    assert page.input_value("#f-medium_resistance_stderr") != ""  # the spread of the two tests' R_m
+    assert page.input_value("#f-medium_resistance_stderr") != ""  # the pooled R_m's standard error
     clean(page)
 
 
@@ -51,3 +56,16 @@ def test_a_bad_csv_row_is_shown_at_the_readings(page):
     err = block.locator(".field[data-path='csv'] .error")
     err.wait_for(state="visible")
     assert "line 3" in err.inner_text()
+
+
+def test_a_compression_permeability_table_draws_both_laws(page):
+    # synthetic table from alpha = 5e10 (1 + p/20 kPa)^0.7, eps_s = 0.25 (1 + p/20 kPa)^0.12 (derived here)
+    rows = "\n".join(f"{p}, {5e10 * (1 + p / 20) ** 0.7:.6g}, {0.25 * (1 + p / 20) ** 0.12:.6g}"
+                     for p in (5, 10, 25, 50, 100, 250, 500, 1000))
+    page.goto(page.base + "/lab")
+    page.fill("#compression-csv", "stress [kPa], alpha [m/kg], solidosity [-]\n" + rows)
+    page.click("#fit-compression")
+    page.wait_for_selector("[data-testid=local-laws]")
+    assert "0.7" in page.locator("[data-testid=local-laws]").inner_text()
+    page.wait_for_function("document.querySelectorAll('#compression-results .chart .plot .main-svg').length >= 2")
+    clean(page)

@@ -20,7 +20,8 @@ def readings(name):
 
 def geankoplis_example():
     t, V = readings("geankoplis_14_2_1.csv")
-    return LabTest(338e3, 0.0439, 8.937e-4, 23.47, t, V)
+    # printed evaluations are classic t/V lines on the total pressure basis: asked for explicitly
+    return LabTest(338e3, 0.0439, 8.937e-4, 23.47, t, V, model="classic")
 
 
 @pytest.mark.reference
@@ -43,7 +44,7 @@ def test_all_ten_readings_give_lower_alpha_and_higher_rm():
     # and R_m about 6 % higher than printed (our own least-squares run on the book's ten
     # readings; the book itself prints only the nine-reading line).
     t, V = readings("geankoplis_14_2_1.csv")
-    fit = evaluate_test(LabTest(338e3, 0.0439, 8.937e-4, 23.47, t, V, use=(0, 9)))
+    fit = evaluate_test(LabTest(338e3, 0.0439, 8.937e-4, 23.47, t, V, use=(0, 9), model="classic"))
     assert fit.resistance / 1.863e11 - 1 == pytest.approx(-0.04, abs=0.01)
     assert fit.medium_resistance / 10.63e10 - 1 == pytest.approx(0.06, abs=0.01)
     assert "chosen by the user" in fit.region
@@ -54,7 +55,7 @@ def test_geankoplis_problem_14_2_1_printed_answer():
     # Geankoplis (3rd ed.) Problem 14.2-1: 46.2 kN/m^2, 298.2 K (mu = 8.937e-4 Pa*s as in the
     # example at the same temperature); printed answer alpha = 1.106e11 m/kg, R_m = 6.40e10 1/m.
     t, V = readings("geankoplis_p14_2_1.csv")
-    fit = evaluate_test(LabTest(46.2e3, 0.0439, 8.937e-4, 23.47, t, V))
+    fit = evaluate_test(LabTest(46.2e3, 0.0439, 8.937e-4, 23.47, t, V, model="classic"))
     assert fit.points_used == list(range(6))
     assert fit.resistance == pytest.approx(1.106e11, rel=0.005)
     assert fit.medium_resistance == pytest.approx(6.40e10, rel=0.005)
@@ -70,7 +71,7 @@ def test_holdich_spreadsheet_example():
     c = solids_per_filtrate_from_mass_fraction(0.1, 1280 / 635, 1000.0)
     assert c == pytest.approx(125.24655, rel=1e-6)
     t, V = readings("holdich_constant_pressure.csv")
-    fit = evaluate_test(LabTest(3e5, 2.72, 1e-3, c, t, V))
+    fit = evaluate_test(LabTest(3e5, 2.72, 1e-3, c, t, V, model="classic"))
     assert fit.points_used == list(range(7))
     assert fit.intercept == pytest.approx(3506.6392, rel=1e-6)
     assert fit.slope == pytest.approx(14714.417, rel=1e-6)
@@ -85,7 +86,7 @@ def test_two_geankoplis_pressures_give_the_compressibility():
     # s = ln(1.863/1.106)/ln(338/46.2) = 0.262 from the printed alphas.
     a = evaluate_test(geankoplis_example())
     t, V = readings("geankoplis_p14_2_1.csv")
-    b = evaluate_test(LabTest(46.2e3, 0.0439, 8.937e-4, 23.47, t, V))
+    b = evaluate_test(LabTest(46.2e3, 0.0439, 8.937e-4, 23.47, t, V, model="classic"))
     comb = combine_tests([338e3, 46.2e3], [a.resistance, b.resistance], [a.medium_resistance, b.medium_resistance], 1e5)
     assert comb.compressibility == pytest.approx(0.262, abs=0.01)
     assert comb.compressibility_stderr is None  # two pressures: no standard error
@@ -192,3 +193,28 @@ def test_compressibility_outside_range_is_a_warning():
 def test_bad_readings_are_refused(t, V, fragment):
     with pytest.raises(SolverInputError, match=fragment):
         evaluate_test(LabTest(1e5, 0.01, 1e-3, 20.0, t, V))
+
+
+def test_cloth_resistance_is_pooled_by_its_errors_or_given_by_its_trend():
+    # synthetic (derived here): four pressures, per-test R_m with 2 % standard errors
+    P = np.array([1e5, 2e5, 4e5, 8e5])
+    alpha = 1e11 * (P / 2.83e5) ** 0.3
+    se = 0.02 * 5e10 * np.ones(4)
+    flat = combine_tests(P, alpha, [5.0e10, 5.1e10, 4.9e10, 5.0e10], None, 0.01 * alpha, se, [-0.9] * 4)
+    assert flat.medium_resistance_trend is None
+    assert flat.medium_resistance == pytest.approx(5.0e10, rel=1e-12)  # equal errors: the plain mean
+    assert flat.medium_resistance_stderr == pytest.approx(se[0] / 2, rel=1e-9)  # sqrt(1/sum w), no excess scatter
+    assert flat.reference_pressure == pytest.approx(np.exp(np.log(P).mean()))
+    assert abs(flat.resistance_compressibility_correlation) < 1e-9  # uncorrelated at the geometric mean
+    rising = combine_tests(P, alpha, 5e10 * (1 + 0.5 * np.log(P / 2.83e5)), None, 0.01 * alpha, se, [-0.9] * 4)
+    assert rising.medium_resistance_trend is not None
+    assert rising.medium_resistance_trend["per_log_pressure"] == pytest.approx(2.5e10, rel=1e-6)
+    assert any("cloth resistance changes with pressure" in w for w in rising.warnings)
+
+
+def test_two_pressures_take_the_compressibility_error_from_the_tests():
+    # ln alpha errors of 2 % at 1 and 4 bar: se(s) = sqrt(2) 0.02 / ln 4 (propagation, derived here)
+    comb = combine_tests([1e5, 4e5], [1e11, 2e11], [5e10, 5e10], None, [2e9, 4e9], [1e9, 1e9], [-0.9, -0.9])
+    assert comb.compressibility == pytest.approx(0.5, rel=1e-12)
+    assert comb.compressibility_stderr == pytest.approx(np.sqrt(2) * 0.02 / np.log(4), rel=1e-9)
+    assert comb.resistance_medium_correlation < 0
