@@ -16,7 +16,7 @@ async def post_cycle(request: Request, inputs: CycleRequest) -> dict:
 
     Quantities may be SI numbers or strings with units; results are SI (see ``units``).
     """
-    solved = await within_budget(request, solve, inputs, quick=inputs.feed.closed_form)
+    solved = await within_budget(request, solve, inputs, quick=inputs.solves_in_closed_form)
     # serialised once by the solve (and checked finite there); the schema above still
     # describes it, and the schema-driven tests check every answer against it
     return Response(solved.results_json, media_type="application/json")

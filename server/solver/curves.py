@@ -58,11 +58,11 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
         [Pa], [m^3/s]. The pressure never exceeds ``pressure_cap``.
     """
     V = np.asarray(V, dtype=float)
-    if filtration.on_cake_basis:
-        return _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter_area)
     nodes = getattr(supply_flow, "nodes", None)
     if nodes is not None and filtration.local is None:
         return _operating_point_on_nodes(*nodes(pressure_cap), V, filtration, filter_area)
+    if filtration.on_cake_basis:
+        return _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter_area)
     cap = np.full_like(V, pressure_cap)
     at_cap = cake_flow(cap, V, filtration, filter_area) <= supply_flow(cap)
     lo = np.zeros_like(V)
@@ -142,21 +142,31 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
     f = filtration
     A2 = filter_area**2
     medium = f.medium_resistance / filter_area
-    if f.compressibility and p.size > 2:
+    cake_basis = f.on_cake_basis
+    # the cloth's share of the pressure, mu R_m Q / A, per unit flow: alpha belongs to the rest
+    # on the cake pressure basis (Tiller), to the whole pressure on the total basis
+    cloth = f.viscosity * medium if cake_basis else 0.0
+    if f.compressibility and p.size >= 2:
         # below the table the supply is flat and a compressible cake's pressure may span
         # decades: nodes in geometric steps there keep Newton's start close. With a cloth the
         # pressure never falls below the cloth's share mu q R_m / A; without, the first
-        # segment is solved in closed form below.
+        # segment is solved in closed form below. On the cake basis the steps are in the
+        # cake's own pressure, which starts from zero there.
         floor = f.viscosity * q[0] * medium if medium > 0.0 else 1e-9 * p[1]
         if floor < p[1]:
             n = int(min(200, np.ceil(np.log(p[1] / floor) / np.log(1.15)))) + 1
-            extra = np.geomspace(floor, p[1], n)[:-1]
+            if cake_basis:
+                extra = floor + np.geomspace(1e-9 * (p[1] - floor), p[1] - floor, n + 60)[:-1]
+                extra = np.concatenate(([floor], extra))
+            else:
+                extra = np.geomspace(floor, p[1], n)[:-1]
             p = np.concatenate(([0.0], extra, p[1:]))
-            q = np.concatenate((np.full(n, q[0]), q[1:]))
-    alpha_nodes = f.specific_resistance(p) if f.compressibility else np.full_like(p, f.resistance_ref)
+            q = np.concatenate((np.full(extra.size + 1, q[0]), q[1:]))
+    cake_p = np.maximum(p - cloth * q, 0.0)
+    alpha_nodes = f.specific_resistance(cake_p) if f.compressibility else np.full_like(p, f.resistance_ref)
     with np.errstate(divide="ignore", invalid="ignore"):
         V_nodes = (p / (f.viscosity * q) - medium) * A2 / (alpha_nodes * f.solids_per_filtrate)
-    V_nodes = np.where(q > 0.0, np.maximum(V_nodes, 0.0), np.inf)
+    V_nodes = np.where(q > 0.0, np.fmax(V_nodes, 0.0), np.inf)  # 0/0 where the cake has no pressure yet: 0
     V_nodes[0] = 0.0  # zero pressure: no filtrate yet (0/0 for a compressible cake without cloth)
     V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
     last = p.size - 1
@@ -175,11 +185,12 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
         s_, a_ref, p_ref, mu = f.compressibility, f.resistance_ref, f.reference_pressure, f.viscosity
         for _ in range(NEWTON_STEPS):
             with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-                alpha = a_ref * (np.maximum(P, 1e-300) / p_ref) ** s_
-                R = alpha * cake_per_alpha + medium
                 Q = q0 + m * (P - p0)
+                pc = np.maximum(P - cloth * Q, 1e-300)  # the pressure alpha belongs to
+                alpha = a_ref * (pc / p_ref) ** s_
+                R = alpha * cake_per_alpha + medium
                 g = P - mu * Q * R
-                dg = 1.0 - mu * (m * R + Q * s_ * alpha * cake_per_alpha / np.maximum(P, 1e-300))
+                dg = 1.0 - mu * (m * R + Q * s_ * alpha * cake_per_alpha / pc * (1.0 - cloth * m))
                 step = g / dg
             # out of floating-point range (a pressure next to zero): go to the segment's middle
             step = np.where(np.isfinite(step), step, P - 0.5 * (p0 + p1))

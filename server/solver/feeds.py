@@ -105,7 +105,7 @@ class Filtration:
     @property
     def on_cake_basis(self) -> bool:
         """The cake pressure basis changes the answer: a compressible cake behind a cloth."""
-        return self.pressure_basis == "cake" and self.medium_resistance > 0.0 and not self.incompressible
+        return cake_basis_applies(self.pressure_basis, self.medium_resistance, self.incompressible)
 
     def cake_pressure(self, pressure, V, filter_area: float, steps: int = 64):
         r"""The pressure across the cake at a total pressure drop and filtrate volume [Pa].
@@ -118,6 +118,8 @@ class Filtration:
         if not self.on_cake_basis:
             return P
         V = np.asarray(V, dtype=float) * np.ones_like(P)
+        if self.local is None:
+            return self._cake_share_power_law(P, V, filter_area) * P
         c_V = self.solids_per_filtrate * V
         lo, hi = np.zeros_like(P), np.ones_like(P)
         cloth = self.medium_resistance * filter_area
@@ -129,12 +131,45 @@ class Filtration:
             lo = np.where(over, lo, mid)
         return 0.5 * (lo + hi) * P
 
+    def _cake_share_power_law(self, P, V, filter_area: float):
+        r"""dp_c/dP for alpha = alpha_ref (p/p_ref)^s, by Newton's method (vectorised).
+
+        With a = alpha(dP) and k = R_m A / (a c V), the share phi = dp_c/dP solves
+        :math:`\phi + k \phi^{1-s} = 1`. In x = phi^(1-s) this is x^p + k x = 1 with
+        p = 1/(1-s) >= 1: convex and rising, so Newton's method from x = min(1, 1/k), where the
+        left side is at least 1, falls to the root without overshooting.
+        """
+        s_ = self.compressibility
+        a = self.specific_resistance(P)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            k = self.medium_resistance * filter_area / (a * self.solids_per_filtrate * V)
+            power = 1.0 / (1.0 - s_)
+            x = np.minimum(1.0, 1.0 / k)
+            for _ in range(CAKE_SHARE_STEPS):
+                xp = x**power
+                step = (xp + k * x - 1.0) / (power * xp / np.where(x > 0.0, x, 1.0) + k)
+                step = np.where(np.isfinite(step), step, 0.0)
+                x = np.maximum(x - step, 0.0)
+                if np.all(np.abs(step) <= 1e-15 * np.maximum(x, 1e-300)):
+                    break
+            phi = np.where(V > 0.0, x**power, 0.0)
+        return phi
+
     def resistance_per_rate(self, pressure, V, filter_area: float):
         """dt/dV = mu (alpha c V / A + R_m)/(A dP) at a pressure drop and volume [s/m^3], alpha on
         this filtration's pressure basis."""
         alpha = self.specific_resistance(self.cake_pressure(pressure, V, filter_area))
         return (self.viscosity * (alpha * self.solids_per_filtrate * np.asarray(V, dtype=float) / filter_area
                                   + self.medium_resistance) / (filter_area * np.asarray(pressure, dtype=float)))
+
+
+def cake_basis_applies(pressure_basis: str, medium_resistance: float, incompressible: bool) -> bool:
+    """Whether the cake pressure basis changes the answer: a compressible cake behind a cloth
+    (otherwise both bases give the same resistance and the closed forms hold)."""
+    return pressure_basis == "cake" and medium_resistance > 0.0 and not incompressible
+
+
+CAKE_SHARE_STEPS = 60  # at most; Newton's method on a convex function, usually under ten
 
 
 @dataclass(frozen=True)
@@ -315,6 +350,20 @@ class RateThenPressureCurve:
 
 
 @dataclass(frozen=True)
+class FlatSupply:
+    """A supply that gives one flow at every pressure [m^3/s] (a positive-displacement pump)."""
+
+    flow: float
+
+    def __call__(self, pressure):
+        return np.full_like(np.asarray(pressure, dtype=float), self.flow)
+
+    def nodes(self, cap: float) -> tuple[np.ndarray, np.ndarray]:
+        """(pressure, flow) nodes from 0 to ``cap`` [Pa]: one flat segment."""
+        return np.array([0.0, float(cap)]), np.array([self.flow, self.flow])
+
+
+@dataclass(frozen=True)
 class ConstantRate:
     """A positive-displacement pump: a set flow up to a maximum pressure, then that pressure.
 
@@ -342,8 +391,11 @@ class ConstantRate:
     def pressure_cap(self) -> float:
         return self.max_pressure
 
-    def supply_flow(self, pressure):
-        return np.full_like(np.asarray(pressure, dtype=float), self.flow)
+    @property
+    def supply_flow(self):
+        """Q_supply(dP): the set flow at any pressure up to the cap (with nodes, so the operating
+        point is solved exactly)."""
+        return FlatSupply(self.flow)
 
     def clean_cloth_flow(self, filtration: Filtration, filter_area: float) -> float:
         """Flow the clean cloth alone passes at the maximum pressure [m^3/s] (inf: no cloth)."""
