@@ -91,7 +91,8 @@ def _shown(raw, kind: str) -> str:
     if kind == "length_list":
         return ", ".join(_value(x, "length") for x in raw) if isinstance(raw, list) else _value(raw, "length")
     if kind == "washing":
-        return {"through": "through-washing (wash plates)", "simple": "simple washing (filtrate path)"}.get(raw, str(raw))
+        words = {"through": "through-washing (wash plates)", "simple": "simple washing (filtrate path)"}
+        return words.get(raw, str(raw))
     if kind == "wash_basis":
         return {"filtrate": "filtrate volume", "cake_pores": "cake pore volume"}.get(raw, str(raw))
     if kind in ("fraction", "ratio", "count") and isinstance(raw, int | float) and not isinstance(raw, bool):

@@ -8,7 +8,6 @@ from collections import OrderedDict
 import orjson
 from markupsafe import Markup
 
-
 _SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
 
 

@@ -39,7 +39,8 @@ class SlurryIn(Strict):
         "density", ge=1e-3, le=5000.0, description="Dry solids per volume of slurry"
     ) | None = None
     solids_per_liquid: quantity(
-        "density", ge=1e-3, le=25000.0, description="Dry solids per volume of slurry liquid (e.g. g of solids per L of water)"
+        "density", ge=1e-3, le=25000.0,
+        description="Dry solids per volume of slurry liquid (e.g. g of solids per L of water)"
     ) | None = None
     solids_density: Density | None = Field(
         None, description="Density of the dry solids [kg/m³]; may be left out when the cake is given by its dry "
@@ -403,7 +404,8 @@ class DerivedOut(BaseModel):
     pressure_basis: str | None = Field(
         None, description="cake: the resistance belongs to the pressure across the cake; total: to the whole drop")
     filter_area: float = Field(description="[m²]")
-    chamber_volume: float = Field(description="Total chamber volume A L / 2 [m³] (A counts both faces of every chamber)")
+    chamber_volume: float = Field(
+        description="Total chamber volume A L / 2 [m³] (A counts both faces of every chamber)")
     chamber_volume_each: float | None = Field(
         None, description="Volume of one chamber [m³]; null when the press is given by its total filter area")
     solids_density: float = Field(description="Solids density, as given or fixed by the cake [kg/m³]")

@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import minimize_scalar
 
-from .errors import SolverInputError
+from .errors import SolverInputError, in_bar
 from .feeds import Filtration
 from .press import Press, chambers_full_volume
 from .washing import wash_rate_divisor, wash_time
@@ -348,12 +348,12 @@ class CycleFamily:
         start = float(self.curve.pressure_at(0.0))
         if end.pressure > top:
             raise SolverInputError(
-                "end.pressure", f"the feed never reaches {_bar(end.pressure)}: its highest pressure is {_bar(top)}"
+                "end.pressure", f"the feed never reaches {in_bar(end.pressure)}: its highest pressure is {in_bar(top)}"
             )
         if start >= end.pressure:
             raise SolverInputError(
-                "end.pressure", f"the feed is at {_bar(start)} from the start, not below the terminal "
-                f"pressure {_bar(end.pressure)}: filtration would end at once",
+                "end.pressure", f"the feed is at {in_bar(start)} from the start, not below the terminal "
+                f"pressure {in_bar(end.pressure)}: filtration would end at once",
             )
         return self._first_crossing(lambda V: self.curve.pressure_at(V) - end.pressure, V_full, "pressure")
 
@@ -545,11 +545,6 @@ def solve_cycle(
         B=_scalar_or_none(getattr(family.curve, "B", None)),
         warnings=warnings,
     )
-
-
-def _bar(pressure: float) -> str:
-    """A pressure for a message: bar, as presses are rated, with Pa beside."""
-    return f"{pressure / 1e5:.4g} bar ({pressure:.6g} Pa)"
 
 
 def _fill_warnings(best: CycleResult, fill_fraction: float, matched: float) -> list[str]:

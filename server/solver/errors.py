@@ -46,3 +46,13 @@ def inputs_of(prefix: str):
         yield
     except SolverInputError as exc:
         raise exc.within(prefix) from None
+
+
+def in_bar(pressure: float) -> str:
+    """A pressure for a message: in bar, as pumps and presses are rated, with Pa beside."""
+    return f"{pressure / 1e5:.4g} bar ({pressure:.6g} Pa)"
+
+
+def in_m3h(flow: float) -> str:
+    """A flow for a message: in m³/h, as pumps are rated, with m³/s beside."""
+    return f"{flow * 3600:.4g} m³/h ({flow:.6g} m³/s)"

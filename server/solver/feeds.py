@@ -20,7 +20,7 @@ from scipy.interpolate import PchipInterpolator
 
 from . import constant_pressure as cp
 from .curves import GeneralisedInverse, TabulatedCurve, UniformTable, operating_point, volume_grid
-from .errors import SolverInputError
+from .errors import SolverInputError, in_bar, in_m3h
 from .locallaws import TillerLeu
 from .resistance import specific_resistance
 
@@ -467,16 +467,16 @@ class PumpCurve:
         for i, (q, p) in enumerate(pts):
             if q < 0.0 or not p > 0.0:
                 raise SolverInputError(
-                    "points", f"flows must be >= 0 and pressures > 0; point {i + 1} is ({q:.6g} m^3/s, {p:.6g} Pa)"
+                    "points", f"flows must be >= 0 and pressures > 0; point {i + 1} is ({in_m3h(q)}, {in_bar(p)})"
                 )
         for (q0, p0), (q1, p1) in zip(pts, pts[1:]):
             if q1 == q0:
-                raise SolverInputError("points", f"two points have the same flow {q0:.6g} m^3/s")
+                raise SolverInputError("points", f"two points have the same flow {in_m3h(q0)}")
             if p1 > p0:
                 raise SolverInputError(
                     "points",
-                    f"the pump curve rises from {p0:.6g} Pa at {q0:.6g} m^3/s to {p1:.6g} Pa at "
-                    f"{q1:.6g} m^3/s: a centrifugal pump's pressure must fall (or stay) as flow rises",
+                    f"the pump curve rises from {in_bar(p0)} at {in_m3h(q0)} to {in_bar(p1)} at "
+                    f"{in_m3h(q1)}: a centrifugal pump's pressure must fall (or stay) as flow rises",
                 )
         if pts[-1][0] <= 0.0:
             raise SolverInputError("points", "the pump curve needs a point with flow > 0")
