@@ -47,7 +47,8 @@ def main() -> None:
     request = CycleRequest.model_validate(demo)
     med, best = timed(lambda: solve_results(request))
     n = len(request.compare_thicknesses)
-    print(f"constant-pressure cycle + {n}-thickness comparison (closed form): "
+    basis = "closed form" if request.solves_in_closed_form else "cake pressure basis: tabulated"
+    print(f"pigment demo, constant pressure + {n}-thickness comparison ({basis}): "
           f"median {med * 1e3:.3f} ms, best {best * 1e3:.3f} ms")
     med_v, _ = timed(lambda: solve_results(CycleRequest.model_validate(demo)))
     print(f"  with request parsing and unit conversion: median {med_v * 1e3:.3f} ms")
