@@ -432,3 +432,57 @@ for _group in GROUPS:
     for _item in _group.items:
         for _field in ([f for _, _, fields in _item.options for f in fields] if isinstance(_item, Choice) else [_item]):
             LABELS.setdefault(_field.path, _field.full_label)
+
+
+#: Inputs the form does not show, as people read them (a copy keeps them unchanged).
+CARRIED_WORDS = {
+    "cake.local": "the cake's local laws (from a compression–permeability test)",
+    "cake.tested_pressure_range": "the lab tests' pressure range",
+}
+
+
+def _form_paths() -> set[str]:
+    paths = set()
+    for group in GROUPS:
+        for item in group.items:
+            if isinstance(item, Choice):
+                if item.sent:
+                    paths.add(item.name)
+                paths.update(f.path for _, _, fields in item.options for f in fields)
+            else:
+                paths.add(item.path)
+    return paths
+
+
+FORM_PATHS = _form_paths()
+
+
+def carried(inputs: dict, prefix: str = "") -> dict:
+    """The part of ``inputs`` the form has no field for (newer or API-only inputs such as the
+    cake's local laws): the editor sends it back unchanged, so a copy loses nothing."""
+    out = {}
+    for key, value in inputs.items():
+        path = f"{prefix}{key}"
+        if path in FORM_PATHS:
+            continue
+        if isinstance(value, dict) and any(p.startswith(path + ".") for p in FORM_PATHS):
+            inner = carried(value, path + ".")
+            if inner:
+                out[key] = inner
+        else:
+            out[key] = value
+    return out
+
+
+def carried_words(kept: dict, prefix: str = "") -> list[str]:
+    """What ``carried`` keeps, in words for the note beside the form."""
+    words = []
+    for key, value in kept.items():
+        path = f"{prefix}{key}"
+        if path in CARRIED_WORDS:
+            words.append(CARRIED_WORDS[path])
+        elif isinstance(value, dict):
+            words += carried_words(value, path + ".")
+        else:
+            words.append(path)
+    return words

@@ -152,3 +152,17 @@ def test_a_choice_picks_the_option_whose_fields_the_inputs_hold():
     assert state["choices"]["slurry.basis"] == "concentration"
     assert state["choices"]["feed.mode"] == "pump_curve"
     assert state["choices"]["cycle.end.criterion"] == "best"  # nothing given: the first option
+
+
+def test_inputs_the_form_does_not_show_are_carried_whole():
+    from server.forms import carried, carried_words
+
+    inputs = {"slurry": {"solids_mass_fraction": "20 %", "solids_density": "2600 kg/m^3", "temperature": 20},
+              "cake": {"local": {"resistance_at_zero_stress": 1e11, "stress_scale": "0.1 bar"},
+                       "tested_pressure_range": ["3 bar", "6 bar"], "moisture": "30 %"},
+              "feed": {"mode": "constant_pressure", "pressure": "5 bar"}, "someday": {"x": 1}}
+    kept = carried(inputs)
+    assert kept == {"cake": {"local": inputs["cake"]["local"], "tested_pressure_range": ["3 bar", "6 bar"]},
+                    "someday": {"x": 1}}
+    assert carried_words(kept) == ["the cake's local laws (from a compression–permeability test)",
+                                   "the lab tests' pressure range", "someday.x"]

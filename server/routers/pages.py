@@ -12,7 +12,7 @@ from fastapi.responses import FileResponse, HTMLResponse
 from ..demo import load_demo_scenarios
 from ..display import Units
 from ..errors import InputError
-from ..forms import GROUPS, UNIT_CHOICES, PrefillError, prefill
+from ..forms import GROUPS, UNIT_CHOICES, PrefillError, carried, carried_words, prefill
 from ..scenarios import solve_inputs
 from ..solve import CAUTIONS
 from ..solver import SOLVER_VERSION
@@ -56,7 +56,9 @@ def editor_page(request: Request, title: str, description: str, inputs: dict, so
         "title": title, "description": description, "groups": GROUPS, "unit_choices": UNIT_CHOICES,
         "state": state,
         "initial_html": None, "initial_figures": None, "initial_error": None, "flags": {},
+        "carried": carried(inputs) if isinstance(inputs, dict) else {},
     }
+    context["carried_words"] = carried_words(context["carried"])
     if solve:
         def first_results():
             try:

@@ -92,7 +92,21 @@
       else value = quantity(raw, unitOf(el.dataset.unitOf || path));
       setPath(body, path, value);
     });
+    // inputs this form has no field for (the cake's local laws, ...) go back unchanged
+    const carriedEl = document.getElementById("carried-inputs");
+    if (carriedEl) mergeMissing(body, JSON.parse(carriedEl.textContent));
     return body;
+  }
+
+  function mergeMissing(target, extra) {
+    Object.entries(extra).forEach(([key, value]) => {
+      if (value && typeof value === "object" && !Array.isArray(value)) {
+        target[key] = target[key] && typeof target[key] === "object" ? target[key] : {};
+        mergeMissing(target[key], value);
+      } else if (!(key in target)) {
+        target[key] = value;
+      }
+    });
   }
 
   // values outside the trade's usual range: calculated, and flagged beside their field

@@ -153,3 +153,25 @@ def test_printing_the_editor_prints_its_inputs_in_words(page):
     assert table.is_visible()
     assert "centrifugal pump curve" in table.inner_text() and "Chamber thickness" in table.inner_text()
     page.emulate_media(media="screen")
+
+
+def test_a_copy_keeps_the_inputs_the_form_does_not_show(page):
+    # a scenario with the cake's local laws (API-only): "Edit a copy" must send them back
+    import json
+
+    from tests.browser.test_layout import DEMOS
+    inputs = json.loads((DEMOS / "copper_concentrate.json").read_text())["inputs"]
+    inputs["cake"] = {"local": {"resistance_at_zero_stress": 1e11, "resistance_exponent": 0.5,
+                                "solidosity_at_zero_stress": 0.35, "solidosity_exponent": 0.08,
+                                "stress_scale": "0.1 bar"}, "tested_pressure_range": ["3 bar", "8 bar"]}
+    saved = page.request.post(page.base + "/api/v1/scenarios", data={"name": "local laws", "inputs": inputs})
+    assert saved.status == 201, saved.text()
+    page.goto(page.base + saved.json()["link"] + "/copy")
+    assert "local laws" in page.inner_text("[data-testid=carried]")
+    body = page.evaluate("window.presscycle.collect()")
+    assert body["cake"]["local"] == inputs["cake"]["local"]
+    assert body["cake"]["tested_pressure_range"] == ["3 bar", "8 bar"]
+    r = calculate(page)
+    wait_results(page)
+    assert r.status == 200
+    clean(page)
