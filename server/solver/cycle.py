@@ -204,11 +204,14 @@ class CycleFamily:
         c = self.cycle
         if self.wash_per_filtrate == 0.0:
             return 0.0 if isinstance(V, float) else np.zeros_like(np.asarray(V, dtype=float))
-        final_pressure = self.curve.pressure_at(V)
         mu = self.filtration.viscosity
+        if c.wash_pressure is None:  # washed at the pressure filtration ended at: the ratio is 1
+            final_pressure = wash_pressure = 1.0
+        else:
+            final_pressure, wash_pressure = self.curve.pressure_at(V), c.wash_pressure
         return wash_time(
             self.wash_per_filtrate * V, self.curve.rate(V), c.washing, mu, c.wash_viscosity or mu,
-            final_pressure, c.wash_pressure if c.wash_pressure is not None else final_pressure,
+            final_pressure, wash_pressure,
         )
 
     def stage_times(self, V) -> tuple:
