@@ -1,5 +1,8 @@
 """From a validated /api/v1/lab-fit request to the solver's lab evaluation, and back."""
 
+import math
+from dataclasses import replace
+
 import numpy as np
 
 from . import solver
@@ -91,6 +94,34 @@ def _test_out(t: LabTestIn, test: labfit.LabTest, fit: labfit.TestFit, readings,
     }
 
 
+def _with_c_uncertainty(fits, combined, c_errors):
+    """The fits with the uncertainty of c added to alpha's standard error.
+
+    alpha is inversely proportional to c, so c's relative error adds to alpha's in quadrature;
+    R_m does not depend on c, so the covariance of alpha and R_m stays and their correlation
+    shrinks accordingly. For alpha_ref over several pressures the relative error of c is taken
+    as common to the tests (one slurry): the cautious choice, it does not average out.
+    """
+    rel = [(se / c) if se else 0.0 for se, c in c_errors]
+    if not any(rel):
+        return fits, combined
+
+    def widen(stderr, value, corr, r):
+        if stderr is None or value is None:
+            return stderr, corr
+        new = math.hypot(stderr, r * abs(value))
+        return new, (corr * stderr / new if corr is not None and new > 0 else corr)
+
+    out = []
+    for fit, r in zip(fits, rel, strict=True):
+        se, corr = widen(fit.resistance_stderr, fit.resistance, fit.resistance_medium_correlation, r)
+        out.append(replace(fit, resistance_stderr=se, resistance_medium_correlation=corr))
+    common = max(rel)
+    se, corr = widen(combined.resistance_ref_stderr, combined.resistance_ref, combined.resistance_medium_correlation,
+                     common)
+    return out, replace(combined, resistance_ref_stderr=se, resistance_medium_correlation=corr)
+
+
 def fit_request(lab_request: LabFitRequest) -> dict:
     """The whole /api/v1/lab-fit answer as plain data (SI), checked finite."""
     tests, inputs = [], []
@@ -107,6 +138,8 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         fits, combined = labfit.fit_for_basis(tests, lab_request.pressure_basis, lab_request.reference_pressure)
     except solver.SolverInputError as exc:
         raise InputError([(("body", "tests"), exc.message)]) from None
+    fits, combined = _with_c_uncertainty(fits, combined, [(t.c_stderr, test.solids_per_filtrate)
+                                                          for (t, _, _), test in zip(inputs, tests)])
     tests_out, warnings = [], []
     for i, ((t, readings, pressures), test, fit) in enumerate(zip(inputs, tests, fits)):
         tests_out.append(_test_out(t, test, fit, readings, pressures))

@@ -1,6 +1,7 @@
 """POST /api/v1/lab-fit and /api/v1/lab-readings."""
 
 import json
+import math
 from pathlib import Path
 
 import numpy as np
@@ -309,3 +310,24 @@ def test_the_lab_page_draws_the_local_laws(client):
     data = r.json()
     assert set(data["figures"]) == {"local_resistance", "local_solidosity"}
     assert "local-laws" in data["html"] and "bar" in data["html"]
+
+
+def test_the_uncertainty_of_c_widens_alpha_only(client):
+    # alpha = 2 A^2 dP slope / (mu c): a 5 % standard error of c adds 5 % of alpha in quadrature to
+    # alpha's standard error (the delta method, worked by hand here); R_m does not depend on c, so
+    # its error stays and the correlation shrinks by the ratio of alpha's errors
+    plain = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "1 bar", **TEXTBOOK}).json()
+    with_c = post(client, {"tests": [{**EXAMPLE, "c_stderr": f"{0.05 * 23.47} kg/m^3"},
+                                     {**PROBLEM, "c_stderr": "1.1735 g/L"}],
+                           "reference_pressure": "1 bar", **TEXTBOOK}).json()
+    for a, b in zip(plain["tests"], with_c["tests"], strict=True):
+        assert b["resistance"] == a["resistance"]
+        assert b["resistance_stderr"] == pytest.approx(math.hypot(a["resistance_stderr"], 0.05 * a["resistance"]),
+                                                       rel=1e-9)
+        assert b["medium_resistance_stderr"] == a["medium_resistance_stderr"]
+        assert b["resistance_medium_correlation"] == pytest.approx(
+            a["resistance_medium_correlation"] * a["resistance_stderr"] / b["resistance_stderr"], rel=1e-9)
+    # one slurry for both tests: its error does not average out over them
+    a, b = plain["for_cycle"]["cake"], with_c["for_cycle"]["cake"]
+    assert b["resistance_stderr"] == pytest.approx(math.hypot(a["resistance_stderr"], 0.05 * a["resistance"]),
+                                                   rel=1e-9)

@@ -25,6 +25,10 @@ class LabTestIn(Strict):
     viscosity: Viscosity | None = Field(None, description="Filtrate viscosity [Pa·s]")
     temperature: Temperature | None = Field(None, description="For a water-like filtrate [K]; bare numbers in °C")
     c: quantity("density", ge=1e-3, le=1e5, description="Dry solids per filtrate volume") | None = None
+    c_stderr: quantity(
+        "density", ge=0.0, le=1e5, description="Standard error of c, however c is given (alpha is inversely "
+        "proportional to it); counted in alpha's standard error"
+    ) | None = None
     # c from slurry and cake data, as in /api/v1/cycle
     solids_mass_fraction: SolidsFraction | None = None
     solids_concentration: quantity("density", ge=1e-3, le=5000.0, description="Solids per slurry volume") | None = None
