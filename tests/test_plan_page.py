@@ -119,3 +119,11 @@ def test_the_variance_shares_are_shown_with_units(client, saved):
     page = client.get(f"/s/{saved}/plan").text
     assert 'data-testid="plan-shares"' in page
     assert "cake resistance</th><td>" in page and " m/kg</td>" in page
+
+
+def test_the_plan_form_starts_from_the_scenarios_own_target(client):
+    # the copper demo asks for 500 t/day of dry solids running 22 h a day: the form starts there,
+    # and nothing is worked out until the form is sent
+    html = client.get("/demo/copper_concentrate/plan").text
+    assert 'value="500 t/day"' in html and 'value="22"' in html
+    assert "presses_needed" not in html and "Presses needed" not in html

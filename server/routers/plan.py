@@ -35,7 +35,7 @@ pages = APIRouter(tags=["pages"], include_in_schema=False)
 
 #: The plan form's fields: (query name, label, hint). Every value is read as the API reads it.
 FORM_FIELDS = [
-    ("amount", "Target per calendar day", 'with its unit: "120 t/day" dry solids, or m^3/day of slurry or filtrate'),
+    ("amount", "Target per calendar day", 'with its unit: "120 t/day" dry solids, or m³/day of slurry or filtrate'),
     ("hours_per_day", "Hours a working day", "h, up to 24"),
     ("days_per_week", "Working days a week", "1 to 7"),
     ("availability", "Availability", "share of running hours the press cycles, e.g. 85 %"),
@@ -72,6 +72,21 @@ def form_from_plan(plan: dict) -> dict:
     form["shift"] = str(shift.get("length", ""))
     form["whole_cycles"] = "on" if shift.get("whole_cycles", True) else ""
     form["temperatures"] = "; ".join(str(t) for t in plan.get("temperatures", []))
+    return form
+
+
+def form_from_scenario_target(inputs: dict) -> dict:
+    """The form filled from the scenario's own production target, where it has one (dry solids
+    or filtrate, averaged over the calendar day, and the running hours)."""
+    form = dict(DEFAULT_FORM)
+    target = inputs.get("target") if isinstance(inputs, dict) else None
+    if not isinstance(target, dict):
+        return form
+    for key, basis in (("solids_throughput", "dry_solids_per_day"), ("filtrate_throughput", "filtrate_per_day")):
+        if isinstance(target.get(key), str):
+            form["basis"], form["amount"] = basis, target[key]
+    if isinstance(target.get("hours_per_day"), int | float | str):
+        form["hours_per_day"] = str(target["hours_per_day"])
     return form
 
 
@@ -113,11 +128,13 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
     elif saved_plan:
         form = form_from_plan(saved_plan)
     else:
-        form = dict(DEFAULT_FORM)
+        form = form_from_scenario_target(inputs)
     context = {"title": title, "form": form, "fields": FORM_FIELDS, "bases": BASES, "back": back,
                "plan": None, "errors": [], "figures": "{}", "u": Units(units), "inputs_json": json.dumps(inputs),
                "plan_json": "", "parent_id": parent_id or "", "saved_plan": saved_plan, "cautions": CAUTIONS}
-    if form["amount"].strip():
+    # a plan is worked out when asked for (the form sent) or saved; a scenario's own target
+    # only fills the form
+    if form["amount"].strip() and (given or saved_plan):
         plan_inputs = plan_from_form(form)
         context["plan_json"] = json.dumps(plan_inputs)
         try:
