@@ -289,7 +289,8 @@ def _si_to_choice(si: float, kind: str, choices) -> tuple[str, str]:
     return f"{(si - zero) / (one - zero):.6g}", unit
 
 
-def _get(inputs: dict, path: str):
+def value_at(inputs: dict, path: str):
+    """The value at a dotted path of a request ("cake.moisture"), or None."""
     node = inputs
     for part in path.split("."):
         if not isinstance(node, dict) or part not in node:
@@ -318,12 +319,12 @@ def prefill(inputs: dict) -> dict:
                 picked, most = item.options[0][0], 0
                 for value, _, fields in item.options:
                     if item.sent:
-                        if _get(inputs, item.name) == value:
+                        if value_at(inputs, item.name) == value:
                             picked = value
                         continue
                     # the option that holds most of the given fields ("dry bulk density and
                     # moisture" over "moisture" when both are given; the first on a tie)
-                    present = sum(_get(inputs, f.path) is not None for f in fields)
+                    present = sum(value_at(inputs, f.path) is not None for f in fields)
                     if present > most:
                         picked, most = value, present
                 choices[item.name] = picked
@@ -348,7 +349,7 @@ def _pairs(raw, path: str, what: str) -> list:
 
 
 def _fill(values: dict, f: FormField, inputs: dict, chosen: bool) -> None:
-    raw = _get(inputs, f.path) if chosen else None
+    raw = value_at(inputs, f.path) if chosen else None
     try:
         _fill_value(values, f, raw)
     except PrefillError:

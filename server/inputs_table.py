@@ -5,7 +5,7 @@ Used where saved inputs are shown to people: the saved page (and its print), the
 The field table is the editor's (forms.GROUPS), so labels never drift apart.
 """
 
-from .forms import GROUPS, Choice
+from .forms import GROUPS, Choice, value_at
 from .units import KINDS
 from .views import power_of_ten
 
@@ -47,15 +47,6 @@ def _pairs(raw, kinds: tuple[str, str], joiner: str) -> str:
     return "; ".join(out)
 
 
-def _get(inputs: dict, path: str):
-    node = inputs
-    for part in path.split("."):
-        if not isinstance(node, dict) or part not in node:
-            return None
-        node = node[part]
-    return node
-
-
 def input_rows(inputs: dict) -> list[tuple[str, str]]:
     """(label, value as entered) for every input given, in the editor's order."""
     rows: list[tuple[str, str]] = []
@@ -65,7 +56,7 @@ def input_rows(inputs: dict) -> list[tuple[str, str]]:
             fields = []
             if isinstance(item, Choice):
                 if item.sent:
-                    chosen = _get(inputs, item.name)
+                    chosen = value_at(inputs, item.name)
                     options = {value: label for value, label, _ in item.options}
                     if chosen is not None:
                         rows.append((item.label, options.get(chosen, str(chosen))))
@@ -75,7 +66,7 @@ def input_rows(inputs: dict) -> list[tuple[str, str]]:
             else:
                 fields = [item]
             for f in fields:
-                raw = _get(inputs, f.path)
+                raw = value_at(inputs, f.path)
                 if raw is None or f.path in seen:
                     continue
                 seen.add(f.path)

@@ -100,14 +100,6 @@ class InputWarning:
     message: str
 
 
-def _get(data, path: str):
-    for part in path.split("."):
-        if not isinstance(data, dict) or part not in data:
-            return None
-        data = data[part]
-    return data
-
-
 def input_warnings(si: dict, raw: dict) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
     validated request as a dict), ``raw`` the request as sent (for the units typed)."""
