@@ -65,18 +65,62 @@ def terzaghi_average(T):
     return out if out.ndim else float(out)
 
 
+def terzaghi_rate(T):
+    """dU_T/dT [-], vectorised (T > 0): the Fourier series' derivative, or for small T
+    (1 + 2 sum_k (-1)^k exp(-k^2/T)) / sqrt(pi T)."""
+    T = np.asarray(T, dtype=float)
+    out = np.empty_like(T)
+    small = T < _SWITCH_T
+    if np.any(small):
+        Ts = T[small]
+        s = np.ones_like(Ts)
+        for k in range(1, 8):
+            s += 2.0 * (-1) ** k * np.exp(-k * k / Ts)
+        out[small] = s / np.sqrt(np.pi * Ts)
+    big = ~small
+    if np.any(big):
+        Tb = T[big]
+        s = np.zeros_like(Tb)
+        for m in range(12):
+            M = 0.5 * np.pi * (2 * m + 1)
+            s += 2.0 * np.exp(-M * M * Tb)
+        out[big] = s
+    return out
+
+
+def _invert_increasing(g, dg, target, lo, hi, x0, iterations=60):
+    """x in [lo, hi] (log scale, arrays) with g(exp(x)) = target for an increasing g:
+    Newton's steps in log x from x0, a bisection step whenever Newton would leave the bracket."""
+    x = np.clip(x0, lo, hi)
+    for _ in range(iterations):
+        t = np.exp(x)
+        r = g(t) - target
+        lo, hi = np.where(r < 0, x, lo), np.where(r < 0, hi, x)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            step = x - r / (dg(t) * t)
+        inside = np.isfinite(step) & (step >= lo) & (step <= hi)
+        new = np.where(inside, step, 0.5 * (lo + hi))
+        if np.all(np.abs(new - x) <= 1e-13 * np.maximum(1.0, np.abs(x))):
+            x = new
+            break
+        x = new
+    return np.exp(x)
+
+
 def terzaghi_time_factor(U):
-    """The time factor T at which U_T(T) = U, for 0 <= U < 1 (vectorised bisection on log T)."""
+    """The time factor T at which U_T(T) = U, for 0 <= U < 1 (vectorised; safeguarded
+    Newton steps on log T from the standard approximations, to double precision)."""
     U = np.asarray(U, dtype=float)
     if np.any((U < 0.0) | (U >= 1.0)):
         raise SolverInputError("consolidation", "must be at least 0 and below 1")
-    lo = np.full(U.shape, -30.0)  # log10 T
-    hi = np.full(U.shape, 3.0)  # U_T(1000) = 1 to double precision
-    for _ in range(70):
-        mid = 0.5 * (lo + hi)
-        below = terzaghi_average(10.0 ** mid) < U
-        lo, hi = np.where(below, mid, lo), np.where(below, hi, mid)
-    out = np.where(U == 0.0, 0.0, 10.0 ** (0.5 * (lo + hi)))
+    Up = np.where(U > 0.0, U, 0.5)
+    # start: U = sqrt(4T/pi) below U = 0.6, the series' first term above (both near exact)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x0 = np.where(Up < 0.6, np.log(np.pi * Up * Up / 4.0),
+                      np.log(-4.0 / np.pi ** 2 * np.log(np.maximum((1.0 - Up) * np.pi ** 2 / 8.0, 1e-300))))
+    T = _invert_increasing(terzaghi_average, terzaghi_rate, Up, np.full(U.shape, np.log(1e-300)),
+                           np.full(U.shape, np.log(1e3)), x0)
+    out = np.where(U == 0.0, 0.0, T)
     return out if out.ndim else float(out)
 
 
@@ -155,20 +199,21 @@ class Squeeze:
         if np.any((U < 0.0) | (U >= 1.0)):
             raise SolverInputError("consolidation", "must be at least 0 and below 1")
         U, scale = np.broadcast_arrays(U, scale)
-        lo = np.log10(np.maximum(scale, 1e-300)) - 30.0
-        hi = np.log10(np.maximum(scale * 1e3, 1e-300))
-        hi = np.maximum(hi, np.log10(50.0 / self.creep_rate))  # creep done too: exp(-50)
-        for _ in range(200):  # grow the bracket where creep is slower than the primary part
-            short = self.ratio(10.0 ** hi, np.sqrt(scale * self.consolidation_coefficient)) < U
-            if not np.any(short):
-                break
-            hi = np.where(short, hi + 1.0, hi)
-        om = np.sqrt(scale * self.consolidation_coefficient)
-        for _ in range(80):
-            mid = 0.5 * (lo + hi)
-            below = self.ratio(10.0 ** mid, om) < U
-            lo, hi = np.where(below, mid, lo), np.where(below, hi, mid)
-        out = np.where(U == 0.0, 0.0, 10.0 ** (0.5 * (lo + hi)))
+        B, eta, C = self.creep_fraction, self.creep_rate, self.consolidation_coefficient
+
+        def g(t):
+            return (1.0 - B) * terzaghi_average(t / scale) + B * (1.0 - np.exp(-eta * t))
+
+        def dg(t):
+            return (1.0 - B) * terzaghi_rate(t / scale) / scale + B * eta * np.exp(-eta * t)
+
+        # the bracket: from far below either part's time scale to past both
+        lo = np.log(np.minimum(scale, 1.0 / eta) * 1e-30)
+        hi = np.log(np.maximum(scale * 1e3, 50.0 / eta))
+        Up = np.where(U > 0.0, U, 0.5)
+        x0 = np.log(terzaghi_time_factor(np.minimum(Up, 0.999)) * scale)
+        t = _invert_increasing(g, dg, Up, lo, hi, x0, iterations=100)
+        out = np.where(U == 0.0, 0.0, t)
         return out if out.ndim else float(out)
 
 
