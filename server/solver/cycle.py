@@ -17,10 +17,14 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import minimize_scalar
 
+from .blowing import Blow
 from .errors import SolverInputError, in_bar
+from .expression import Squeeze
 from .feeds import Filtration
 from .press import Press, chambers_full_volume
+from .stages import STAGES, Specs, Treatment
 from .washing import wash_rate_divisor, wash_time
+from .washquality import WashModel
 
 LIMITED_BY_OPTIMUM = "optimum"
 LIMITED_BY_CHAMBERS = "chambers_full"
@@ -47,6 +51,26 @@ class CycleSettings:
         [Pa]; None: the pressure at the end of filtration.
     wash_viscosity : float or None
         [Pa*s]; None: the filtrate viscosity.
+    wash_basis : str
+        "filtrate" or "cake_pores": what wash_ratio counts.
+    wash_model : WashModel or None
+        How the wash removes solute (stages.py); needed for a target or a specification.
+    wash_removal_target : float or None
+        Wash until this fraction of the solute is removed [-] (instead of wash_ratio).
+    squeeze : Squeeze or None
+        A membrane squeeze (expression.py).
+    blow : Blow or None
+        An air blow (blowing.py).
+    order : tuple of str
+        The order of the stages after filtration (names from stages.STAGES).
+    specs : Specs or None
+        Moisture and solute removal the discharged cake must meet.
+    fill_time : float
+        Filling the chambers before filtration [s], or with ``fill_flow`` worked out per press.
+    fill_flow : float or None
+        Fill the chamber volume plus ``manifold_volume`` at this flow [m^3/s] (a pump's maximum).
+    manifold_volume : float
+        [m^3] filled with the chambers.
     """
 
     downtime: float
@@ -55,6 +79,27 @@ class CycleSettings:
     wash_pressure: float | None = None
     wash_viscosity: float | None = None
     wash_basis: str = "filtrate"
+    wash_model: WashModel | None = None
+    wash_removal_target: float | None = None
+    squeeze: Squeeze | None = None
+    blow: Blow | None = None
+    order: tuple = STAGES
+    specs: Specs | None = None
+    fill_time: float = 0.0
+    fill_flow: float | None = None
+    manifold_volume: float = 0.0
+
+    @property
+    def has_stages(self) -> bool:
+        """Anything after filtration beyond a plain wash: the stages module runs the cycle."""
+        return (self.squeeze is not None or self.blow is not None or self.wash_model is not None
+                or self.wash_removal_target is not None or self.specs is not None)
+
+    def fill_time_for(self, press) -> float:
+        """Filling time [s] for a press: as given, or its chambers and manifold at fill_flow."""
+        if self.fill_flow is None:
+            return self.fill_time
+        return (press.chamber_volume + self.manifold_volume) / self.fill_flow
 
     def __post_init__(self):
         if not self.downtime > 0.0:
@@ -70,6 +115,10 @@ class CycleSettings:
             value = getattr(self, name)
             if value is not None and not value > 0.0:
                 raise SolverInputError(name, f"must be > 0; got {value:.6g}")
+        if not self.fill_time >= 0.0:
+            raise SolverInputError("fill_time", f"must be >= 0 s; got {self.fill_time:.6g}")
+        if self.fill_flow is not None and not self.fill_flow > 0.0:
+            raise SolverInputError("fill_time", "filling at the pump's flow needs a pump flow above 0")
 
 
 @dataclass(frozen=True)
@@ -92,6 +141,18 @@ class CycleResult:
     final_pressure: float  # Pa at the end of filtration
     limited_by: str
     feasible: bool  # the cake fits the chambers (within the fill fraction)
+    # the whole cycle's other stages (zero or None when the cycle has none)
+    fill_time: float = 0.0  # s
+    squeeze_time: float = 0.0  # s
+    blow_time: float = 0.0  # s
+    squeeze_filtrate_volume: float = 0.0  # m^3 per cycle
+    consolidation: float | None = None  # U_c reached by the squeeze
+    wash_pore_volumes: float | None = None  # wash ratio in cake pore volumes
+    wash_filtrate_volumes: float | None = None  # wash volume / filtrate volume
+    solute_removal: float | None = None  # fraction of the cake liquor's solute removed
+    moisture: float | None = None  # of the discharged cake
+    cake_thickness_final: float | None = None  # m per face, at discharge
+    meets_specs: bool | None = None  # every specification met (None: none given)
 
 
 @dataclass(frozen=True)
@@ -163,6 +224,10 @@ class CycleSolution:
     K_p: float | None = None
     B: float | None = None
     warnings: list[str] = field(default_factory=list)
+    #: per specification: required, achieved at the best cycle, met, binds (None: no specs)
+    specs: dict | None = None
+    #: the stages after filtration, in their order
+    stage_order: tuple = ()
 
 
 def wash_per_filtrate(c: CycleSettings, f: Filtration) -> float:
@@ -182,12 +247,16 @@ class CycleFamily:
     and every chart series (solver/sweeps.py).
     """
 
-    def __init__(self, filtration: Filtration, filter_area: float, feed, cycle: CycleSettings, V_needed: float):
+    def __init__(self, filtration: Filtration, filter_area: float, feed, cycle: CycleSettings, V_needed: float,
+                 fill_time: float | None = None, curve=None):
         self.filtration, self.filter_area, self.feed, self.cycle = filtration, filter_area, feed, cycle
         self.V_needed = V_needed
+        #: filling before filtration [s]: as given (fill_flow: worked out per press by the caller)
+        self.fill_time = cycle.fill_time if fill_time is None else float(fill_time)
         self._crossings = {}  # end criterion -> (volume span searched, crossing volume or None)
+        self.curve = curve if curve is not None else feed.curve(filtration, filter_area, 4.0 * V_needed)
+        self.treatment = Treatment(filtration, filter_area, cycle, self.curve) if cycle.has_stages else None
         self.wash_per_filtrate = self._wash_per_filtrate()
-        self.curve = feed.curve(filtration, filter_area, 4.0 * V_needed)
         self.V_star = self._optimum_volume(V_needed)
         # A tabulated curve must reach well past the optimum; extend it when it does not.
         for _ in range(8):
@@ -195,9 +264,18 @@ class CycleFamily:
             if limit is None or self.V_star <= 0.5 * limit:
                 break
             self.curve = feed.curve(filtration, filter_area, 4.0 * self.V_star)
+            if self.treatment is not None:
+                self.treatment.curve = self.curve
             self.V_star = self._optimum_volume(V_needed)
 
+    def at_fill(self, fill_time: float) -> "CycleFamily":
+        """The same feed's cycles with another filling time [s] (the curve is shared)."""
+        return CycleFamily(self.filtration, self.filter_area, self.feed, self.cycle, self.V_needed, fill_time,
+                           self.curve)
+
     def _wash_per_filtrate(self) -> float:
+        if self.treatment is not None:
+            return self.treatment.wash_per_filtrate()
         return wash_per_filtrate(self.cycle, self.filtration)
 
     def wash_time(self, V):
@@ -214,18 +292,32 @@ class CycleFamily:
             final_pressure, wash_pressure,
         )
 
-    def stage_times(self, V) -> tuple:
-        """(filtration, wash, downtime) [s] of the cycle ending at V [m^3], vectorised."""
-        return self.curve.time(V), self.wash_time(V), self.cycle.downtime
+    def stages(self, V) -> dict | None:
+        """What the stages after filtration do for cycles ending at V (stages.Treatment.run),
+        or None when the cycle has only a plain wash."""
+        return None if self.treatment is None else self.treatment.run(V)
+
+    def stage_times(self, V, stages: dict | None = None) -> dict:
+        """Each stage's time [s] for the cycle ending at V [m^3], vectorised, in cycle order:
+        fill, filtration, the stages after it in their order, downtime."""
+        if self.treatment is None:
+            out = {"fill": self.fill_time, "filtration": self.curve.time(V), "wash": self.wash_time(V)}
+        else:
+            st = self.treatment.run(V) if stages is None else stages
+            out = {"fill": self.fill_time, "filtration": self.curve.time(V)}
+            for name in self.treatment.order:
+                out[name] = st[f"{name}_time"]
+        out["downtime"] = self.cycle.downtime
+        return out
 
     @staticmethod
-    def total(stage_times: tuple):
+    def total(stage_times: dict):
         """The whole cycle time from its stages' times [s]."""
-        t_f, t_w, t_d = stage_times
-        return t_f + t_w + t_d
+        return sum(stage_times.values())
 
     def cycle_time(self, V):
-        """Whole cycle time T = t_f + t_w + t_d [s] for an end volume V [m^3], vectorised.
+        """Whole cycle time [s] for an end volume V [m^3], vectorised: fill, filtration, the
+        stages after it and downtime.
 
         The stages are listed in one place (stage_times) and added up in one (total): the
         results, the optimum and every chart series use them.
@@ -236,17 +328,29 @@ class CycleFamily:
         """Filtrate throughput V / T [m^3/s], vectorised."""
         return V / self.cycle_time(V)
 
+    def objective(self, V):
+        """What the best cycle maximises: the throughput, with cycles that miss a
+        specification ranked below every cycle that meets them (when none does, the closest
+        cycles keep their order: the best of them is shown as the closest)."""
+        if self.treatment is None or self.cycle.specs is None:
+            return self.throughput(V)
+        st = self.treatment.run(V)
+        Q = V / self.total(self.stage_times(V, st))
+        return np.where(st["meets_moisture"] & st["meets_removal"], Q, Q * 1e-6)
+
     def _optimum_volume(self, V_scale: float) -> float:
         closed_form = getattr(self.curve, "optimum_volume", None)
+        if self.treatment is not None and not (self.treatment.adds_only_wash and self.cycle.specs is None):
+            closed_form = None  # a squeeze or a blow: their times are not linear in V
         if closed_form is not None:  # one peak, in closed form
             self.scan = None
             c, mu = self.cycle, self.filtration.viscosity
             p = self.curve.pressure
             p_w = c.wash_pressure if c.wash_pressure is not None else p
             a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu) * (p / p_w)
-            return closed_form(c.downtime, a)
+            return closed_form(c.downtime + self.fill_time, a)
         curve = self.curve
-        self.scan = peak_scan(self.throughput, V_scale, getattr(curve, "knots", ()), getattr(curve, "held_from", 0.0))
+        self.scan = peak_scan(self.objective, V_scale, getattr(curve, "knots", ()), getattr(curve, "held_from", 0.0))
         return self.scan.V_best
 
     def best_volume(self, V_full):
@@ -257,29 +361,34 @@ class CycleFamily:
                 return min(self.V_star, V_full)
             out = np.minimum(self.V_star, V_full)
             return out if np.ndim(out) else float(out)
-        return self.scan.best_within(V_full, self.throughput)
+        return self.scan.best_within(V_full, self.objective)
 
     def result(self, press: Press, V: float, limited_by: str) -> CycleResult:
-        v = self.filtration.cake_volume_ratio
+        if self.treatment is not None:
+            return self.results(press, np.array([float(V)]), press.chamber_thickness, limited_by)[0]
+        # plain floats: a closed-form scenario's few cycles cost microseconds (issue 12)
+        f, v = self.filtration, self.filtration.cake_volume_ratio
         V = float(V)
         times = self.stage_times(V)
-        t_f, t_w, t_d = (float(t) for t in times)
         T = float(self.total(times))
-        c = self.filtration.solids_per_filtrate
+        c = f.solids_per_filtrate
         fill = float(press.chamber_fill(V, v))
+        w = self.wash_per_filtrate
         return CycleResult(
-            filtrate_volume=V, filtration_time=t_f, wash_volume=self.wash_per_filtrate * V, wash_time=t_w,
-            downtime=t_d, cycle_time=T, filtrate_throughput=V / T, solids_throughput=c * V / T,
-            cake_thickness=float(press.cake_thickness(V, v)), chamber_fill=fill, dry_cake_mass=c * V,
-            wet_cake_mass=self.filtration.wet_to_dry_ratio * c * V, final_rate=float(self.curve.rate(V)),
-            final_pressure=float(self.curve.pressure_at(V)), limited_by=limited_by,
-            feasible=fill <= press.fill_fraction * (1.0 + 1e-12),
+            filtrate_volume=V, filtration_time=float(times["filtration"]), wash_volume=w * V,
+            wash_time=float(times["wash"]), downtime=float(times["downtime"]), cycle_time=T,
+            filtrate_throughput=V / T, solids_throughput=c * V / T, cake_thickness=float(press.cake_thickness(V, v)),
+            chamber_fill=fill, dry_cake_mass=c * V, wet_cake_mass=f.wet_to_dry_ratio * c * V,
+            final_rate=float(self.curve.rate(V)), final_pressure=float(self.curve.pressure_at(V)),
+            limited_by=limited_by, feasible=fill <= press.fill_fraction * (1.0 + 1e-12),
+            fill_time=float(self.fill_time), wash_filtrate_volumes=w or None,
+            moisture=1.0 - 1.0 / f.wet_to_dry_ratio, cake_thickness_final=float(press.cake_thickness(V, v)),
         )
 
     def results(self, press: Press, V, chamber_thickness, limited_by) -> list[CycleResult]:
-        """:meth:`result` for many cycles at once: end volumes ``V`` [m^3] in chambers of
-        ``chamber_thickness`` [m] (arrays of one length; ``limited_by`` one reason or one per
-        cycle). A thickness comparison asks for all its cycles in one go."""
+        """The cycles ending at ``V`` [m^3] in chambers of ``chamber_thickness`` [m] (arrays
+        of one length, or one thickness; ``limited_by`` one reason or one per cycle), worked
+        out together: a thickness comparison asks for all its cycles in one go."""
         f, v = self.filtration, self.filtration.cake_volume_ratio
         V = np.asarray(V, dtype=float)
         n = V.size
@@ -288,18 +397,43 @@ class CycleFamily:
             x = np.asarray(x, dtype=float)
             return x.tolist() if x.shape == V.shape else [float(x)] * n
 
-        t_f, t_w, t_d = self.stage_times(V)
-        T = np.asarray(self.total((t_f, t_w, t_d)), dtype=float)
+        st = self.stages(V)
+        times = self.stage_times(V, st)
+        T = np.asarray(self.total(times), dtype=float)
         c = f.solids_per_filtrate
         fill = np.asarray(press.chamber_fill(V, v, chamber_thickness), dtype=float)
         feasible = (fill <= press.fill_fraction * (1.0 + 1e-12)).tolist()
         reasons = [limited_by] * n if isinstance(limited_by, str) else list(limited_by)
+        if st is None:
+            wash_volume = self.wash_per_filtrate * V
+            moisture = 1.0 - 1.0 / f.wet_to_dry_ratio
+            extra = [[0.0] * n, [0.0] * n, [0.0] * n, [None] * n, [None] * n,
+                     column(self.wash_per_filtrate) if self.wash_per_filtrate else [None] * n,
+                     [None] * n, [moisture] * n, column(press.cake_thickness(V, v)), [None] * n]
+            wet = f.wet_to_dry_ratio * c * V
+        else:
+            wash_volume = st["wash_volume"]
+            has = self.treatment.order
+            moisture = st["moisture"]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                per_filtrate = np.where(V > 0, wash_volume / np.where(V > 0, V, 1.0), 0.0)
+            extra = [column(times.get("squeeze", 0.0)), column(times.get("blow", 0.0)),
+                     column(st["squeeze_filtrate_volume"]),
+                     column(st["consolidation"]) if "squeeze" in has else [None] * n,
+                     column(st["wash_pore_volumes"]) if "wash" in has else [None] * n,
+                     column(per_filtrate) if "wash" in has else [None] * n,
+                     column(st["solute_removal"]) if st["solute_removal"] is not None else [None] * n,
+                     column(moisture), column(st["cake_thickness_final"]),
+                     (st["meets_moisture"] & st["meets_removal"]).tolist() if self.cycle.specs is not None
+                     else [None] * n]
+            wet = c * V / (1.0 - moisture)
         # columns in CycleResult's field order
         rows = zip(
-            V.tolist(), column(t_f), column(self.wash_per_filtrate * V), column(t_w), [float(t_d)] * n,
-            T.tolist(), (V / T).tolist(), (c * V / T).tolist(), column(press.cake_thickness(V, v)),
-            fill.tolist(), (c * V).tolist(), (f.wet_to_dry_ratio * c * V).tolist(), column(self.curve.rate(V)),
-            column(self.curve.pressure_at(V)), reasons, feasible, strict=True,
+            V.tolist(), column(times["filtration"]), column(wash_volume), column(times.get("wash", 0.0)),
+            [float(self.cycle.downtime)] * n, T.tolist(), (V / T).tolist(), (c * V / T).tolist(),
+            column(press.cake_thickness(V, v)), fill.tolist(), (c * V).tolist(), column(wet),
+            column(self.curve.rate(V)), column(self.curve.pressure_at(V)), reasons, feasible,
+            [float(self.fill_time)] * n, *extra, strict=True,
         )
         return [CycleResult(*row) for row in rows]
 
@@ -511,7 +645,10 @@ def solve_cycle(
     v = system.filtration.cake_volume_ratio
     V_full = press.chambers_full_volume(v)
     if family is None:
-        family = CycleFamily(system.filtration, press.filter_area, system.feed, system.cycle, V_full)
+        family = CycleFamily(system.filtration, press.filter_area, system.feed, system.cycle, V_full,
+                             system.cycle.fill_time_for(press))
+    elif system.cycle.fill_flow is not None and family.fill_time != system.cycle.fill_time_for(press):
+        family = family.at_fill(system.cycle.fill_time_for(press))  # filling depends on the chambers
     V_star = family.V_star
 
     unconstrained = family.result(press, V_star, LIMITED_BY_OPTIMUM)
@@ -535,6 +672,8 @@ def solve_cycle(
     feed_warnings = getattr(system.feed, "warnings", None)
     warnings = list(feed_warnings(system.filtration, press.filter_area)) if feed_warnings else []
     warnings += _fill_warnings(best, press.fill_fraction, matched)
+    specs, spec_warnings = spec_report(family, best)
+    warnings += spec_warnings + _through_wash_warning(family, best, press)
     return CycleSolution(
         best=best,
         unconstrained_optimum=unconstrained,
@@ -547,7 +686,59 @@ def solve_cycle(
         K_p=_scalar_or_none(getattr(family.curve, "K_p", None)),
         B=_scalar_or_none(getattr(family.curve, "B", None)),
         warnings=warnings,
+        specs=specs,
+        stage_order=family.treatment.order if family.treatment is not None else (
+            ("wash",) if family.wash_per_filtrate else ()),
     )
+
+
+#: A through-washed cake must fill its chamber for the wash to reach it evenly: below this
+#: share of the allowed fill a warning says so (common practice, no source).
+THROUGH_WASH_FILL = 0.95
+
+
+def _through_wash_warning(family: CycleFamily, best: CycleResult, press: Press) -> list[str]:
+    if not best.wash_volume or family.cycle.washing != "through":
+        return []
+    if best.chamber_fill >= THROUGH_WASH_FILL * press.fill_fraction:
+        return []
+    return [f"Through-washing with chambers {100 * best.chamber_fill:.0f} % full: the wash plates wash a partly "
+            "filled chamber unevenly (the wash short-cuts through the gap), so the wash time and solute "
+            "removal shown are optimistic. Fill the chambers before washing, or wash the simple way."]
+
+
+def spec_report(family: CycleFamily, best: CycleResult) -> tuple[dict | None, list[str]]:
+    """Each specification at the best cycle: required, achieved, met, binds; and warnings for
+    any the press cannot meet (the best cycle shown is then the closest)."""
+    specs = family.cycle.specs
+    if specs is None:
+        return None, []
+    t = family.treatment
+    out, warnings = {}, []
+    if specs.max_moisture is not None:
+        need, got = specs.max_moisture, best.moisture
+        met = got <= need * (1 + 1e-9)
+        free = (t.squeeze_free and best.squeeze_time > 0.0) or (t.blow_free and best.blow_time > 0.0)
+        binds = met and (free or got >= need * (1 - 1e-6))
+        out["max_moisture"] = {"required": need, "achieved": got, "met": met, "binds": binds}
+        if not met:
+            how = [w for w, on in (("the squeeze to " + f"{100 * best.consolidation:.1f} % consolidation"
+                                    if best.consolidation is not None else "", t.squeeze_free),
+                                   ("the blow to the lab curve's end", t.blow_free)) if on and w]
+            warnings.append(
+                f"No cycle meets the moisture specification of {100 * need:.3g} %: the closest the stages reach is "
+                f"{100 * got:.3g} %" + (f" ({' and '.join(how)})" if how else "") + ". The cycle shown is that "
+                "closest one; a longer squeeze, a higher squeeze pressure or a blow would be needed.")
+    if specs.min_solute_removal is not None:
+        need, got = specs.min_solute_removal, best.solute_removal
+        met = got is not None and got >= need * (1 - 1e-9)
+        binds = met and (t.wash_free or got <= need * (1 + 1e-6))
+        out["min_solute_removal"] = {"required": need, "achieved": got, "met": met, "binds": binds}
+        if not met:
+            warnings.append(
+                f"The wash removes {100 * (got or 0.0):.4g} % of the solute, short of the specification of "
+                f"{100 * need:.4g} %: wash with more liquid (or give no wash ratio and the specification sets it).")
+    return out, warnings
 
 
 def _fill_warnings(best: CycleResult, fill_fraction: float, matched: float) -> list[str]:
@@ -564,7 +755,8 @@ def cycle_family_for(system: PressSystem, thicknesses=()) -> CycleFamily:
     """One CycleFamily that serves the system at its own and all the given thicknesses [m]."""
     L = max([system.press.chamber_thickness, *[float(x) for x in thicknesses]])
     V_needed = system.press.with_thickness(L).chambers_full_volume(system.filtration.cake_volume_ratio)
-    return CycleFamily(system.filtration, system.press.filter_area, system.feed, system.cycle, V_needed)
+    return CycleFamily(system.filtration, system.press.filter_area, system.feed, system.cycle, V_needed,
+                       system.cycle.fill_time_for(system.press))
 
 
 def compare_thicknesses(
@@ -581,7 +773,7 @@ def compare_thicknesses(
         return []
     end = end or EndCriterion()
     family = family or cycle_family_for(system, thicknesses)
-    if family.scan is None:
+    if family.scan is None or system.cycle.fill_flow is not None:
         # a closed-form curve: one plain-float solve per thickness is quicker than arrays
         return [(L, solve_cycle(PressSystem(system.filtration, system.press.with_thickness(L), system.feed,
                                             system.cycle), end, family, with_curves=False)) for L in thicknesses]
@@ -617,6 +809,10 @@ def compare_thicknesses(
             at_end=EndResult(end_cycle, ends[i][1], end_cycle.filtrate_throughput / best[i].filtrate_throughput),
             chambers_full_volume=float(V_full[i]), matched_chamber_thickness=matched,
             throughput_gain_unconstrained=unconstrained[i].filtrate_throughput / best[i].filtrate_throughput - 1.0,
-            curves={}, K_p=K_p, B=B, warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched),
+            curves={}, K_p=K_p, B=B, specs=spec_report(family, best[i])[0],
+            warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched) + spec_report(family, best[i])[1]
+            + _through_wash_warning(family, best[i], press),
+            stage_order=family.treatment.order if family.treatment is not None else (
+                ("wash",) if family.wash_per_filtrate else ()),
         )))
     return out

@@ -199,7 +199,7 @@ class Squeeze:
         if np.any((U < 0.0) | (U >= 1.0)):
             raise SolverInputError("consolidation", "must be at least 0 and below 1")
         U, scale = np.broadcast_arrays(U, scale)
-        B, eta, C = self.creep_fraction, self.creep_rate, self.consolidation_coefficient
+        B, eta = self.creep_fraction, self.creep_rate
 
         def g(t):
             return (1.0 - B) * terzaghi_average(t / scale) + B * (1.0 - np.exp(-eta * t))

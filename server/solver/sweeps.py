@@ -53,7 +53,14 @@ def throughput_against_time(family: CycleFamily, solution: CycleSolution) -> dic
 def throughput_against_thickness(family: CycleFamily, system: PressSystem, L: np.ndarray) -> dict:
     """Best throughput [m^3/s] and the chamber fill at it [-] for each chamber thickness L [m]."""
     press, v = system.press, system.filtration.cake_volume_ratio
-    V_best = family.best_volume(chambers_full_volume(press.filter_area, L, v, press.fill_fraction))
+    V_full = chambers_full_volume(press.filter_area, L, v, press.fill_fraction)
+    if system.cycle.fill_flow is not None:  # filling grows with the chambers: each its own optimum
+        fams = [family.at_fill(system.cycle.fill_time_for(press.with_thickness(float(x)))) for x in L]
+        V_best = np.array([fm.best_volume(float(Vf)) for fm, Vf in zip(fams, V_full, strict=True)])
+        Q = np.array([float(fm.throughput(np.array([Vb]))[0]) for fm, Vb in zip(fams, V_best, strict=True)])
+        return {"chamber_thickness": _list(L), "filtrate_throughput": _list(Q),
+                "chamber_fill": _list(press.chamber_fill(V_best, v, L))}
+    V_best = family.best_volume(V_full)
     return {"chamber_thickness": _list(L), "filtrate_throughput": _list(family.throughput(V_best)),
             "chamber_fill": _list(press.chamber_fill(V_best, v, L))}
 
@@ -66,7 +73,12 @@ def throughput_map(family: CycleFamily, system: PressSystem, solution: CycleSolu
     t_top = 2.0 * max(solution.unconstrained_optimum.filtration_time, solution.chambers_full.filtration_time)
     t = np.linspace(t_top / n_times, t_top, n_times)
     V_full = chambers_full_volume(press.filter_area, L, v, press.fill_fraction)
-    Q = family.throughput(np.minimum(family.curve.volume(t)[None, :], V_full[:, None]))
+    V = np.minimum(family.curve.volume(t)[None, :], V_full[:, None])
+    if system.cycle.fill_flow is not None:  # each thickness fills its own chambers
+        extra = np.array([system.cycle.fill_time_for(press.with_thickness(float(x))) for x in L]) - family.fill_time
+        Q = V / (family.cycle_time(V) + extra[:, None])
+    else:
+        Q = family.throughput(V)
     return {"filtration_time": _list(t), "chamber_thickness": _list(L),
             "filtrate_throughput": _list(Q), "chambers_full_time": _list(family.curve.time(V_full))}
 
@@ -85,7 +97,7 @@ def chart_series(family: CycleFamily, system: PressSystem, solution: CycleSoluti
     else:
         L_map, n_times = thickness_grid(system.press.chamber_thickness, solution.matched_chamber_thickness,
                                         map_shape[0] - 2), map_shape[1]
-    return {
+    out = {
         "throughput_time": throughput_against_time(family, solution),
         "throughput_thickness": throughput_against_thickness(family, system, L),
         "throughput_map": throughput_map(family, system, solution, L_map, n_times),
@@ -95,3 +107,22 @@ def chart_series(family: CycleFamily, system: PressSystem, solution: CycleSoluti
         "pump_fed": bool(system.feed.pressure_varies),
         "chamber_thickness": system.press.chamber_thickness,
     }
+    washing = wash_profile(family, solution)
+    if washing is not None:
+        out["washing"] = washing
+    return out
+
+
+def wash_profile(family: CycleFamily, solution: CycleSolution) -> dict | None:
+    """Washate concentration and solute removed against the wash ratio (pore volumes), to
+    past the best cycle's wash ratio, with that ratio marked; None without a wash model."""
+    model = family.cycle.wash_model
+    if model is None:
+        return None
+    W_best = solution.best.wash_pore_volumes or 0.0
+    prof = model.profile(max(3.0, 1.5 * W_best))
+    return {"wash_ratio": _list(prof["wash_ratio"]), "concentration": _list(prof["concentration"]),
+            "removal": _list(prof["removal"]), "best_wash_ratio": W_best,
+            "best_removal": solution.best.solute_removal,
+            "pore_volumes_per_filtrate": (solution.best.wash_pore_volumes / solution.best.wash_filtrate_volumes
+                                          if solution.best.wash_filtrate_volumes else None)}
