@@ -193,7 +193,8 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
             dp = parts.to_solver()
             downtime = dp.per_cycle(inputs.press.chambers)  # an interval of "best": found below
     with inputs_of("cycle"):
-        settings = inputs.cycle.to_solver(downtime if dp is not None else None)
+        settings = inputs.cycle.to_solver(downtime if dp is not None else None, bal.porosity, bal.wet_to_dry_ratio,
+                                          pump_fill_flow(inputs))
     with inputs_of("end"):
         end = inputs.cycle.end.to_solver()
     derived = {
@@ -214,6 +215,23 @@ def _build(inputs: CycleRequest) -> BuiltSystem:
         derived["cloth_wash_every_cycles"] = dp.cloth_wash_every
     derived["downtime"] = system.cycle.downtime
     return BuiltSystem(system, end, derived)
+
+
+def pump_fill_flow(inputs: CycleRequest) -> float | None:
+    """The pump's highest flow [m³/s] for filling the chambers (fill_time "pump"), else None."""
+    if inputs.cycle.fill_time != "pump":
+        return None
+    feed = inputs.feed
+    if feed.mode == "constant_rate":
+        return feed.flow
+    if feed.mode == "pump_curve":
+        top = max(q for q, _ in feed.points)
+        if top > 0.0:
+            return top
+    raise solver.SolverInputError(
+        "fill_time", f'"pump" fills the chambers at the pump\'s highest flow: it needs a pump-fed feed '
+        f"(constant_rate, or pump_curve with a flow above 0); the feed is {feed.mode.replace('_', ' ')}: "
+        "give the filling time in seconds instead")
 
 
 def _best_wash_interval(inputs: CycleRequest, system, dp):

@@ -42,6 +42,8 @@ KINDS = {
         Kind("mass", "kg", "kg"),
         Kind("mass_rate", "kg/s", "kg/s"),
         Kind("hours", "hour", "h", bare_unit="hour"),  # running hours: a bare number is in hours
+        Kind("diffusivity", "m**2/s", "m²/s"),  # the squeeze's consolidation coefficient
+        Kind("rate", "1/s", "1/s"),  # the squeeze's creep rate
     ]
 }
 
@@ -254,6 +256,8 @@ _EXAMPLES = {
     "mass": '"12 kg" or "25 lb"',
     "mass_rate": '"120 t/day" or "5 t/h"',
     "hours": '"22 h" or 22 (h)',
+    "diffusivity": '"2e-7 m^2/s" or "0.72 cm^2/h"',
+    "rate": '"1e-3 1/s" or "3.6 1/h"',
 }
 
 

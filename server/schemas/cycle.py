@@ -14,7 +14,12 @@ from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
 from ..solver import planning as solver_planning
 from ..solver import press as solver_press
+from ..solver import stages as solver_stages
+from ..solver.blowing import Blow
+from ..solver.errors import inputs_of
+from ..solver.expression import Squeeze
 from ..solver.locallaws import TillerLeu
+from ..solver.washquality import WashModel
 from .common import (
     Density,
     Fraction01,
@@ -289,6 +294,121 @@ class DowntimePartsIn(Strict):
                                              every if w else 1)
 
 
+class SqueezeIn(Strict):
+    """A membrane squeeze after filtration (Terzaghi–Voigt expression model)."""
+
+    pressure: PressPressure = Field(description="Membrane (squeeze) pressure [Pa]")
+    time: quantity("time", gt=0.0, le=1e6, description="Squeeze duration") | None = Field(
+        None, description="[s]; or consolidation; neither: the optimum chooses it under specs.max_moisture")
+    consolidation: quantity("fraction", gt=0.0, lt=1.0, description="Average consolidation ratio U_c to squeeze to") \
+        | None = Field(None, description="[-]")
+    consolidation_coefficient: quantity(
+        "diffusivity", gt=1e-14, le=1e-2, description="Modified consolidation coefficient C_e, from a lab squeeze test"
+    ) = Field(description="[m²/s]")
+    creep_fraction: quantity("fraction", ge=0.0, lt=1.0, description="Creep (secondary consolidation) share B") = 0.0
+    creep_rate: quantity("rate", gt=0.0, le=10.0, description="Creep rate eta") | None = Field(
+        None, description="[1/s]; needed when creep_fraction > 0")
+    final_porosity: Fraction01 | None = Field(
+        None, description="The cake's equilibrium porosity under the squeeze pressure [-]")
+    final_moisture: Fraction01 | None = Field(
+        None, description="The cake's equilibrium moisture under the squeeze pressure (liquid / wet cake mass) [-]")
+
+    @model_validator(mode="after")
+    def _choices(self):
+        exactly_one(self, ("time", "consolidation"), required=False)
+        exactly_one(self, ("final_porosity", "final_moisture"))
+        if self.creep_fraction > 0.0 and self.creep_rate is None:
+            raise ValueError("creep_fraction above 0 needs creep_rate")
+        return self
+
+    def to_solver(self, porosity: float, wet_to_dry_ratio: float) -> Squeeze:
+        """The squeeze, its equilibrium as a void ratio from the cake after filtration."""
+        if self.final_porosity is not None:
+            e_inf = self.final_porosity / (1.0 - self.final_porosity)
+        else:  # liquid per solids is proportional to the void ratio in a saturated cake
+            e0 = porosity / (1.0 - porosity)
+            X = self.final_moisture / (1.0 - self.final_moisture)
+            e_inf = X * e0 / (wet_to_dry_ratio - 1.0)
+        return Squeeze(self.pressure, self.consolidation_coefficient, e_inf, self.time, self.consolidation,
+                       self.creep_fraction, self.creep_rate or 0.0)
+
+
+class DispersionWashIn(Strict):
+    model: Literal["dispersion"]
+    dispersion_number: quantity("fraction", gt=0.0, le=1e4, description="D_n = u L / D_L of the cake") = Field(
+        description="[-]; from a lab wash test (washate concentration against wash ratio)")
+
+    def to_solver(self) -> WashModel:
+        return WashModel("dispersion", dispersion_number=self.dispersion_number)
+
+
+class EfficiencyWashIn(Strict):
+    model: Literal["efficiency"]
+    efficiency: Fraction01 = Field(description="Wash efficiency E: (1 - E)^N of the solute remains after N pore "
+                                               "volumes [-]")
+
+    def to_solver(self) -> WashModel:
+        return WashModel("efficiency", efficiency=self.efficiency)
+
+
+WashModelIn = Annotated[DispersionWashIn | EfficiencyWashIn, Field(discriminator="model")]
+
+
+class WashTargetIn(Strict):
+    solute_removal: Fraction01 | None = Field(None, description="Wash until this share of the solute is removed [-]")
+    solute_remaining: Fraction01 | None = Field(
+        None, description="Wash until this share of the solute remains in the cake [-]")
+
+    @model_validator(mode="after")
+    def _one(self):
+        exactly_one(self, ("solute_removal", "solute_remaining"))
+        return self
+
+    @property
+    def removal(self) -> float:
+        return self.solute_removal if self.solute_removal is not None else 1.0 - self.solute_remaining
+
+
+BlowTime = quantity("time", ge=0.0, le=1e6, description="Lab blow time")
+
+
+class BlowIn(Strict):
+    """An air blow, from a lab blow curve at the press's blow pressure."""
+
+    curve: list[tuple[BlowTime, Fraction01]] = Field(
+        min_length=2, max_length=500, description="Lab blow curve as [time, cake moisture] pairs; time rising, "
+                                                  "moisture not rising")
+    lab_thickness: quantity("length", ge=1e-4, le=0.5, description="Thickness of the lab cake") = Field(
+        description="[m]")
+    pressure: PressPressure | None = Field(None, description="Blow pressure (the lab curve's) [Pa], for the record")
+    time: quantity("time", gt=0.0, le=1e6, description="Blow duration") | None = Field(
+        None, description="[s]; or target_moisture; neither: the optimum chooses it under specs.max_moisture")
+    target_moisture: Fraction01 | None = Field(None, description="Blow until the cake has this moisture [-]")
+
+    @model_validator(mode="after")
+    def _one(self):
+        exactly_one(self, ("time", "target_moisture"), required=False)
+        return self
+
+    def to_solver(self) -> Blow:
+        return Blow(tuple(t for t, _ in self.curve), tuple(m for _, m in self.curve), self.lab_thickness,
+                    self.time, self.target_moisture, self.pressure)
+
+
+class SpecsIn(Strict):
+    max_moisture: Fraction01 | None = Field(None, description="Discharged cake moisture at most [-]")
+    min_solute_removal: Fraction01 | None = Field(
+        None, description="Share of the cake liquor's solute the wash must remove, at least [-]")
+
+    def to_solver(self) -> solver_stages.Specs:
+        return solver_stages.Specs(self.max_moisture, self.min_solute_removal)
+
+
+#: the request keys that put each stage in the order given
+_STAGE_KEYS = {"wash_ratio": "wash", "wash_target": "wash", "wash_model": "wash", "squeeze": "squeeze",
+               "blow": "blow"}
+
+
 class CycleIn(Strict):
     downtime: quantity(
         "time", ge=1.0, le=1e6, description="Open, discharge, clean, close per cycle"
@@ -308,17 +428,77 @@ class CycleIn(Strict):
     wash_pressure: PressPressure | None = Field(None, description="[Pa]; default: the filtration pressure")
     wash_viscosity: Viscosity | None = Field(None, description="[Pa·s]; default: the filtrate's")
     end: EndIn = Field(default_factory=lambda: EndIn(), description="How filtration ends; default: best")
+    wash_model: WashModelIn | None = Field(
+        None, description="How the wash removes solute: dispersion (dispersion_number) or efficiency; gives the "
+                          "solute removal, and is needed for wash_target and specs.min_solute_removal")
+    wash_target: WashTargetIn | None = Field(
+        None, description="Wash until a share of the solute is removed (instead of wash_ratio)")
+    squeeze: SqueezeIn | None = Field(None, description="Membrane squeeze after filtration")
+    blow: BlowIn | None = Field(None, description="Air blow, the last stage")
+    stages: list[Literal[solver_stages.STAGES]] | None = Field(
+        None, max_length=3, description="Order of the stages after filtration, e.g. [\"squeeze\", \"wash\", "
+                                        "\"blow\"]; default: the order they are given in the request")
+    specs: SpecsIn | None = Field(None, description="What the discharged cake must meet; the best cycle meets them "
+                                                    "at the highest throughput")
+    fill_time: quantity("time", ge=0.0, le=1e5, description="Filling the chambers before filtration") \
+        | Literal["pump"] | None = Field(
+            None, description="[s]; \"pump\": the chambers and manifold filled at the pump's highest flow "
+                              "(pump-fed presses); default: no separate filling time")
+    manifold_volume: quantity("volume", ge=0.0, le=100.0, description="Feed pipes and manifold filled with "
+                                                                      "the chambers") = 0.0
+
+    #: the stage order as the request gave it (key order), when ``stages`` is not given
+    _given_order: tuple = PrivateAttr(default=())
+
+    @model_validator(mode="wrap")
+    @classmethod
+    def _key_order(cls, data, handler):
+        model = handler(data)
+        if isinstance(data, dict):
+            seen = []
+            for key in data:
+                stage = _STAGE_KEYS.get(key)
+                if stage and stage not in seen:
+                    seen.append(stage)
+            model._given_order = tuple(seen)
+        return model
 
     @model_validator(mode="after")
     def _one_downtime(self):
         exactly_one(self, ("downtime", "downtime_parts"))
+        if self.wash_target is not None and self.wash_ratio:
+            raise ValueError("give the wash as wash_ratio or as wash_target, not both")
         return self
 
-    def to_solver(self, downtime: float | None = None) -> solver_cycle.CycleSettings:
-        """The cycle settings; ``downtime`` [s] as worked out from downtime_parts, if given."""
+    @property
+    def order(self) -> tuple:
+        """The stages after filtration in their order: as listed, else as given in the request."""
+        if self.stages is not None:
+            return tuple(self.stages)
+        rest = tuple(s for s in solver_stages.STAGES if s not in self._given_order)
+        return self._given_order + rest
+
+    def to_solver(self, downtime: float | None = None, porosity: float = 0.5, wet_to_dry_ratio: float = 2.0,
+                  fill_flow: float | None = None) -> solver_cycle.CycleSettings:
+        """The cycle settings; ``downtime`` [s] as worked out from downtime_parts, if given; the
+        cake after filtration (porosity, wet-to-dry ratio) for a squeeze's equilibrium given
+        as a moisture; ``fill_flow`` [m^3/s] the pump's highest flow for fill_time "pump"."""
+        def part(name, build):
+            if getattr(self, name) is None:
+                return None
+            with inputs_of(name):
+                return build()
+
         return solver_cycle.CycleSettings(
             downtime=self.downtime if downtime is None else downtime, wash_ratio=self.wash_ratio, washing=self.washing,
             wash_pressure=self.wash_pressure, wash_viscosity=self.wash_viscosity, wash_basis=self.wash_basis,
+            wash_model=part("wash_model", lambda: self.wash_model.to_solver()),
+            wash_removal_target=self.wash_target.removal if self.wash_target is not None else None,
+            squeeze=part("squeeze", lambda: self.squeeze.to_solver(porosity, wet_to_dry_ratio)),
+            blow=part("blow", lambda: self.blow.to_solver()),
+            order=self.order, specs=part("specs", lambda: self.specs.to_solver()),
+            fill_time=self.fill_time if isinstance(self.fill_time, float) else 0.0,
+            fill_flow=fill_flow if self.fill_time == "pump" else None, manifold_volume=self.manifold_volume,
         )
 
 

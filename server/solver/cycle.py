@@ -18,7 +18,7 @@ import numpy as np
 from scipy.optimize import minimize_scalar
 
 from .blowing import Blow
-from .errors import SolverInputError, in_bar
+from .errors import SolverInputError, in_bar, inputs_of
 from .expression import Squeeze
 from .feeds import Filtration
 from .press import Press, chambers_full_volume
@@ -255,7 +255,10 @@ class CycleFamily:
         self.fill_time = cycle.fill_time if fill_time is None else float(fill_time)
         self._crossings = {}  # end criterion -> (volume span searched, crossing volume or None)
         self.curve = curve if curve is not None else feed.curve(filtration, filter_area, 4.0 * V_needed)
-        self.treatment = Treatment(filtration, filter_area, cycle, self.curve) if cycle.has_stages else None
+        self.treatment = None
+        if cycle.has_stages:
+            with inputs_of("cycle"):
+                self.treatment = Treatment(filtration, filter_area, cycle, self.curve)
         self.wash_per_filtrate = self._wash_per_filtrate()
         self.V_star = self._optimum_volume(V_needed)
         # A tabulated curve must reach well past the optimum; extend it when it does not.

@@ -195,6 +195,8 @@ class Squeeze:
         omega = np.asarray(omega, dtype=float)
         scale = omega * omega / self.consolidation_coefficient  # s per unit time factor
         if self.creep_fraction == 0.0:
+            if U.size > 1 and np.all(U == U.flat[0]):  # one ratio for every cake: invert once
+                return terzaghi_time_factor(float(U.flat[0])) * scale * np.ones_like(U)
             return terzaghi_time_factor(U) * scale
         if np.any((U < 0.0) | (U >= 1.0)):
             raise SolverInputError("consolidation", "must be at least 0 and below 1")

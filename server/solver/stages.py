@@ -44,7 +44,9 @@ STAGES = ("wash", "squeeze", "blow")
 #: the highest consolidation ratio a squeeze is run to when the optimum chooses its time
 SQUEEZE_CAP = 0.999
 #: points of the search over the squeeze's consolidation ratio when the blow is free too
-_U_GRID = 161
+_U_GRID = 33
+#: golden-section steps after the grid: the bracket of two grid steps shrinks to ~1e-8
+_GOLDEN_STEPS = 32
 
 
 @dataclass(frozen=True)
@@ -146,6 +148,7 @@ class Treatment:
                                    "specification (specs.max_moisture) for the optimum to choose it",
                                    also=("blow.target_moisture",))
         self._F_table = None  # (W grid, removal) for a vectorised dispersion removal
+        self._W_exact = None  # the removal of a wash ratio fixed in pore volumes, exact
 
     # ---- the closed-form optimum still holds when the stages add nothing V-nonlinear ----
     @property
@@ -211,7 +214,12 @@ class Treatment:
                 out["wash_volume"], out["wash_pore_volumes"] = Vw, W
                 out["wash_time"] = self._wash_time(V, Vw, e)
                 if self.model is not None:
-                    out["solute_removal"] = np.asarray(self._removal(W), dtype=float) * np.ones_like(V)
+                    if self.W_fixed is not None or c.wash_basis == "cake_pores":  # one ratio: exact
+                        if self._W_exact is None:
+                            self._W_exact = float(self.model.removal(float(W.flat[0]) if W.size else 0.0))
+                        out["solute_removal"] = np.full_like(V, self._W_exact)
+                    else:
+                        out["solute_removal"] = np.asarray(self._removal(W), dtype=float) * np.ones_like(V)
             elif stage == "squeeze":
                 sq = c.squeeze
                 if U_squeeze is not None:
@@ -280,7 +288,8 @@ class Treatment:
         """The stages for cycles ending at V, with free durations the shortest that meet the
         moisture specification (or the closest the stages can come); adds ``meets`` and
         ``binds`` (per specification)."""
-        V = np.asarray(V, dtype=float)
+        shape = np.shape(V)
+        V = np.atleast_1d(np.asarray(V, dtype=float)).ravel()
         spec = self.specs.max_moisture
         if not (self.squeeze_free or self.blow_free):
             out = self.evaluate(V)
@@ -296,12 +305,14 @@ class Treatment:
         meets_removal = (removal >= need * (1 - 1e-9)) if (need is not None and removal is not None) else (
             np.zeros(V.shape, bool) if need is not None else np.ones(V.shape, bool))
         out["meets_moisture"], out["meets_removal"] = meets_moisture, meets_removal
-        return out
+        return {k: (v.reshape(shape) if isinstance(v, np.ndarray) else v) for k, v in out.items()}
 
-    def _blow_needed(self, V, spec, U):
-        """Blow time that brings the cake to the moisture spec (or the lab curve's end)."""
+    def _blow_needed(self, V, spec, U, state=None):
+        """Blow time that brings the cake to the moisture spec (or the lab curve's end), from
+        the cake's state before the blow (worked out here unless given)."""
         b = self.cycle.blow
-        state = self.evaluate(V, U_squeeze=U, blow_time=0.0)
+        if state is None:
+            state = self.evaluate(V, U_squeeze=U, blow_time=0.0)
         thickness = np.where(state["cake_thickness_final"] > 0, state["cake_thickness_final"], 1.0)
         goal = np.maximum(spec, b.lowest_moisture)
         t = np.asarray(b.time_to(goal, thickness), dtype=float) * np.ones_like(V)
@@ -331,36 +342,35 @@ class Treatment:
         return np.where(ok0, 0.0, hi)
 
     def _free_squeeze_and_blow(self, V, spec):
-        """Squeeze and blow both free: the split of least total time (grid over U, refined)."""
+        """Squeeze and blow both free: the split of least total time (a grid over the squeeze's
+        consolidation ratio, then golden-section steps around the best grid point)."""
         V = np.asarray(V, dtype=float)
+        b = self.cycle.blow
         Us = SQUEEZE_CAP * (1.0 - (1.0 - np.linspace(0.0, 1.0, _U_GRID)) ** 2)  # denser near the cap
 
         def total(U):
-            bt = self._blow_needed(V, spec, U)
-            o = self.evaluate(V, U_squeeze=U, blow_time=bt)
-            bad = o["moisture"] > spec * (1 + 1e-12)
-            return o["squeeze_time"] + o["wash_time"] + o["blow_time"] + np.where(bad, 1e30, 0.0), bad
+            st = self.evaluate(V, U_squeeze=U, blow_time=0.0)
+            t_b = self._blow_needed(V, spec, U, st)
+            X = st["void_ratio"] * self.liquid_per_void
+            bad = (X / (1.0 + X) > spec) & (b.lowest_moisture > spec)  # not even the whole blow will do
+            return st["squeeze_time"] + st["wash_time"] + t_b + np.where(bad, 1e30, 0.0)
 
-        T = np.empty((_U_GRID, V.size))
-        for i, u in enumerate(Us):
-            T[i] = total(np.full(V.size, u))[0].ravel()
+        T = np.stack([total(np.full(V.shape, u)) for u in Us])
         k = np.argmin(T, axis=0)
-        lo = Us[np.maximum(k - 1, 0)]
-        hi = Us[np.minimum(k + 1, _U_GRID - 1)]
-        # golden-section search on each V's bracket (vectorised)
+        a, c = Us[np.maximum(k - 1, 0)], Us[np.minimum(k + 1, _U_GRID - 1)]
         g = (np.sqrt(5.0) - 1.0) / 2.0
-        a, b = lo.copy(), hi.copy()
-        c1, c2 = b - g * (b - a), a + g * (b - a)
-        f1, f2 = total(c1.reshape(V.shape))[0].ravel(), total(c2.reshape(V.shape))[0].ravel()
-        for _ in range(60):
+        x1, x2 = c - g * (c - a), a + g * (c - a)
+        f1, f2 = total(x1), total(x2)
+        for _ in range(_GOLDEN_STEPS):
             left = f1 <= f2
-            b = np.where(left, c2, b)
-            a = np.where(left, a, c1)
-            c1n, c2n = b - g * (b - a), a + g * (b - a)
-            c1, c2 = c1n, c2n
-            f1, f2 = total(c1.reshape(V.shape))[0].ravel(), total(c2.reshape(V.shape))[0].ravel()
-        U = np.where(f1 <= f2, c1, c2)
-        best_grid = T[k, np.arange(V.size)]
-        f_ref = np.minimum(f1, f2)
-        U = np.where(f_ref <= best_grid, U, Us[k]).reshape(V.shape)
+            c = np.where(left, x2, c)
+            a = np.where(left, a, x1)
+            x1n = np.where(left, c - g * (c - a), x2)
+            x2n = np.where(left, x1, a + g * (c - a))
+            f1n = np.where(left, total(x1n), f2)
+            f2n = np.where(left, f1, total(x2n))
+            x1, x2, f1, f2 = x1n, x2n, f1n, f2n
+        U = np.where(f1 <= f2, x1, x2)
+        U = np.where(np.minimum(f1, f2) <= T[k, np.arange(V.size)], U, Us[k])
+        U = np.where(T.min(axis=0) >= 1e30, SQUEEZE_CAP, U)  # nothing meets the spec: the closest
         return self.evaluate(V, U_squeeze=U, blow_time=self._blow_needed(V, spec, U))
