@@ -29,6 +29,11 @@ UNIT_CHOICES = {
     "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
     "hours": [("h", "h")],
     "mass_rate": [("t/day", "t/day"), ("t/h", "t/h"), ("kg/h", "kg/h"), ("short ton/day", "ton/day")],
+    "diffusivity": [("m²/s", "m^2/s"), ("cm²/min", "cm^2/min"), ("ft²/h", "ft^2/h")],
+    "rate": [("1/min", "1/min"), ("1/s", "1/s"), ("1/h", "1/h")],
+    "blowcurve": [("–", "")],
+    "stage_order": [("–", "")],
+    "time_or_pump": [("min", "min"), ("s", "s"), ("h", "h")],
 }
 
 
@@ -229,6 +234,56 @@ GROUPS = [
                                                    "for pump feeds whose pressure rises")]),
         ]),
     ]),
+    Group("stages", "Squeeze, wash quality and blow", [
+        FormField("cycle.squeeze.pressure", "Membrane squeeze pressure", "pressure",
+                  "blank: no squeeze; membrane plates usually {usual}", optional=True),
+        FormField("cycle.squeeze.time", "Squeeze time", "time",
+                  "or a consolidation ratio below; both blank with a moisture specification: the best cycle "
+                  "chooses it", optional=True),
+        FormField("cycle.squeeze.consolidation", "… or squeeze to consolidation", "fraction",
+                  "average consolidation ratio U_c, e.g. 90 %", optional=True),
+        FormField("cycle.squeeze.consolidation_coefficient", "Consolidation coefficient C_e", "diffusivity",
+                  "from a lab squeeze test (Lab page); typically {usual}", optional=True),
+        FormField("cycle.squeeze.creep_fraction", "Creep share B", "fraction", "0 without creep (secondary "
+                  "consolidation)", optional=True),
+        FormField("cycle.squeeze.creep_rate", "Creep rate η", "rate", "needed when the creep share is above 0",
+                  optional=True),
+        Choice("cycle.squeeze.equilibrium", "Squeezed cake at equilibrium", [
+            ("moisture", "moisture", [FormField("cycle.squeeze.final_moisture", "Equilibrium moisture", "fraction",
+                                                "the cake squeezed to the end at this pressure", optional=True)]),
+            ("porosity", "porosity", [FormField("cycle.squeeze.final_porosity", "Equilibrium porosity", "fraction",
+                                                "the cake squeezed to the end at this pressure", optional=True)]),
+        ]),
+        Choice("cycle.wash_model.kind", "Wash quality model", [
+            ("none", "none (wash time only)", []),
+            ("dispersion", "axial dispersion", [FormField(
+                "cycle.wash_model.dispersion_number", "Dispersion number D_n", "ratio",
+                "from a lab wash test; typically {usual} (higher: closer to plug flow)")]),
+            ("efficiency", "wash efficiency", [FormField(
+                "cycle.wash_model.efficiency", "Wash efficiency E", "fraction",
+                "(1 − E)^N of the solute stays after N pore volumes")]),
+        ]),
+        FormField("cycle.wash_target.solute_removal", "Wash until solute removed", "fraction",
+                  "instead of a wash ratio; needs a wash model", optional=True),
+        FormField("cycle.blow.curve", "Lab blow curve (time, moisture per line)", "blowcurve",
+                  "blank: no blow; measured at the press's blow pressure on the same cake", optional=True),
+        FormField("cycle.blow.lab_thickness", "Lab cake thickness", "length", "scaled to the press cake by the "
+                  "square of the thickness ratio (same cake, same pressure only)", optional=True),
+        FormField("cycle.blow.time", "Blow time", "time", "or a target moisture below; both blank with a moisture "
+                  "specification: the best cycle chooses it", optional=True),
+        FormField("cycle.blow.target_moisture", "… or blow to moisture", "fraction", "within the lab curve",
+                  optional=True),
+        FormField("cycle.stages", "Order after filtration", "stage_order", "the blow always comes last"),
+        FormField("cycle.specs.max_moisture", "Specification: cake moisture at most", "fraction",
+                  "the best cycle squeezes and blows as long as this needs", optional=True),
+        FormField("cycle.specs.min_solute_removal", "Specification: solute removed at least", "fraction",
+                  "needs a wash model; without a wash ratio it sets the wash", optional=True),
+        FormField("cycle.fill_time", "Filling time", "time_or_pump",
+                  "before filtration; blank: counted in filtration; pump: chambers and manifold at the pump's "
+                  "highest flow", optional=True),
+        FormField("cycle.manifold_volume", "… manifold volume", "volume", "filled with the chambers (pump filling)",
+                  optional=True),
+    ]),
     Group("target", "Production target", [
         Choice("target.basis", "Check against", [
             ("none", "no target", []),
@@ -276,7 +331,8 @@ def _parse_si(text: str, kind: str) -> float:
     return parse_quantity(text, _UNIT_KIND.get(kind, kind))
 
 
-_UNIT_KIND = {"concentration": "density", "ratio": "fraction", "count": "fraction", "curve": "fraction"}
+_UNIT_KIND = {"concentration": "density", "ratio": "fraction", "count": "fraction", "curve": "fraction",
+              "time_or_pump": "time"}
 
 
 def _si_to_choice(si: float, kind: str, choices) -> tuple[str, str]:
@@ -364,6 +420,11 @@ def _fill_value(values: dict, f: FormField, raw) -> None:
     elif raw is not None and f.kind == "length_list":
         if not isinstance(raw, list) or not all(isinstance(x, _SCALAR) for x in raw):
             raise PrefillError(f.path, "must be a list of thicknesses")
+    elif raw is not None and f.kind == "stage_order":
+        if not isinstance(raw, list) or not all(isinstance(x, str) for x in raw):
+            raise PrefillError(f.path, "must be a list of stage names")
+    elif raw is not None and f.kind == "blowcurve":
+        pass  # checked as pairs below
     elif raw is not None and (isinstance(raw, bool) or not isinstance(raw, _SCALAR)):
         raise PrefillError(f.path, "must be a number or a quantity such as \"5 bar\"")
     if f.kind == "curve":
@@ -377,6 +438,14 @@ def _fill_value(values: dict, f: FormField, raw) -> None:
         values[f.path] = (", ".join(_num(L, "length") for L in Ls), "mm")
     elif f.kind == "count" and raw == "best":
         values[f.path] = ("best", "")
+    elif f.kind == "blowcurve":
+        pts = _pairs(raw, f.path, "time, moisture") if raw is not None else []
+        values[f.path] = ("\n".join(f"{_num(t, 'time')}, {_percent(m)}" for t, m in pts), "min|%")
+    elif f.kind == "stage_order":
+        order = raw if isinstance(raw, list) else []
+        values[f.path] = (",".join(order) if order else "", "")
+    elif f.kind == "time_or_pump" and isinstance(raw, str) and raw.strip().lower() == "pump":
+        values[f.path] = ("pump", "min")
     elif f.kind == "washing":
         values[f.path] = (raw or "through", "")
     elif f.kind == "wash_basis":
@@ -386,6 +455,11 @@ def _fill_value(values: dict, f: FormField, raw) -> None:
         values[f.path] = (_in_unit(raw, f.kind, unit) if raw is not None else "", unit)
     else:
         values[f.path] = split_quantity(raw, f.kind) if raw is not None else ("", f.units[0][1])
+
+
+def _percent(value) -> str:
+    """A stored fraction (0.24 or "24 %") as a number of per cent."""
+    return f"{100.0 * _parse_si(value if isinstance(value, str) else f'{value}', 'fraction'):.6g}"
 
 
 def _in_unit(raw, kind: str, unit: str) -> str:
@@ -425,6 +499,9 @@ FULL_LABELS = {
     "cycle.downtime_parts.per_chamber": "Downtime per chamber",
     "cycle.downtime_parts.cloth_wash.time": "Cloth wash time",
     "cycle.downtime_parts.cloth_wash.every_cycles": "Cycles between cloth washes",
+    "cycle.squeeze.consolidation": "Squeeze to an average consolidation ratio",
+    "cycle.blow.target_moisture": "Blow to a cake moisture",
+    "cycle.manifold_volume": "Manifold volume filled with the chambers",
 }
 
 #: The label people see for each input path (for messages about a field, such as input_warnings).

@@ -42,6 +42,12 @@ USUAL = {
     "feed.pressure": (3e5, 20e5),
     "feed.max_pressure": (3e5, 20e5),
     "cycle.downtime": (600.0, 3600.0),
+    # the whole cycle's stages (issue 15): membrane plates are rated for about 7-16 bar; C_e of
+    # mineral and sludge cakes spans about 1e-9 to 1e-5 m^2/s; dispersion numbers of real cakes
+    # 2 to 100 (all from memory, broad on purpose)
+    "cycle.squeeze.pressure": (5e5, 16e5),
+    "cycle.squeeze.consolidation_coefficient": (1e-9, 1e-5),
+    "cycle.wash_model.dispersion_number": (2.0, 100.0),
 }
 #: fields where 0 has its own meaning (0 neglects the cloth): never flagged
 ZERO_ALLOWED = {"medium_resistance"}
@@ -54,13 +60,15 @@ KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration
          "press.filter_area": "area", "press.chambers": "fraction", "cake.compressibility": "fraction",
          "cycle.wash_pressure": "pressure", "slurry.liquid_density": "density", "slurry.temperature": "temperature",
          "cycle.wash_ratio": "fraction", "cycle.end.flow_per_area": "flux", "compare_thicknesses.*": "length",
-         "feed.steps.*.0": "pressure", "feed.points.*.1": "pressure"}
+         "feed.steps.*.0": "pressure", "feed.points.*.1": "pressure", "cycle.squeeze.pressure": "pressure",
+         "cycle.squeeze.consolidation_coefficient": "diffusivity", "cycle.wash_model.dispersion_number": "fraction"}
 #: the unit a range is written in when none was typed (the editor's first choice)
 DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
                  "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2",
-                 "temperature": "degC", "flux": "L/(m^2*h)"}
+                 "temperature": "degC", "flux": "L/(m^2*h)", "diffusivity": "m^2/s"}
 #: plain numbers, never percent
-PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility", "cycle.wash_ratio"}
+PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility", "cycle.wash_ratio",
+         "cycle.wash_model.dispersion_number"}
 #: how far outside the usual range a value must be before a unit slip is suspected
 SLIP_MARGIN = 3.0
 

@@ -105,7 +105,9 @@ RESULT_UNITS = {
     "cake_constant": "s/m^6", "medium_constant": "s/m^3", "matched_chamber_thickness": "m",
     "throughput_gain_unconstrained": "1", "throughput_ratio_to_best": "1", "time": "s",
     "pressure": "Pa", "flow": "m^3/s", "required": "kg/s or m^3/s", "achieved": "kg/s or m^3/s",
-    "hours_per_day": "h",
+    "hours_per_day": "h", "fill_time": "s", "squeeze_time": "s", "blow_time": "s",
+    "squeeze_filtrate_volume": "m^3", "consolidation": "1", "wash_pore_volumes": "1", "wash_filtrate_volumes": "1",
+    "solute_removal": "1", "cake_thickness_final": "m", "max_moisture": "1", "min_solute_removal": "1",
 }
 
 
@@ -303,6 +305,8 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
             {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
             for L, t in rows
         ],
+        "stage_order": ["fill", "filtration", *sol.stage_order, "downtime"],
+        "specs": sol.specs,
         "warnings": list(sol.warnings) + tested_range_warning(inputs, system.feed),
         "cautions": CAUTIONS,
         "units": RESULT_UNITS,
@@ -445,7 +449,7 @@ def tested_range_warning(inputs: CycleRequest, feed) -> list[str]:
 
 
 #: parts of the results that hold no numbers computed for the request
-_TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings")
+_TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings", "stage_order")
 
 
 def _any_non_finite(data) -> bool:

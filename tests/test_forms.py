@@ -1,9 +1,12 @@
+
 """The editor's field table (server/forms.py): every field is a request field, every feed mode
 and end criterion is offered, and a demo put into the form comes back as the same inputs.
 
 ``collect`` below does in Python what static/js/editor.js does in the browser (the browser
 tests drive the real script); it reads the form state that ``prefill`` gives the template.
 """
+
+from typing import Annotated, get_args, get_origin
 
 import pytest
 from pydantic import BaseModel
@@ -25,8 +28,11 @@ def fields_and_choices():
 
 def _submodels(annotation) -> list:
     """The pydantic models a field's annotation may hold (through unions and Optional)."""
-    options = getattr(annotation, "__args__", ()) or (annotation,)
-    return [a for a in options if isinstance(a, type) and issubclass(a, BaseModel)]
+    if isinstance(annotation, type) and issubclass(annotation, BaseModel):
+        return [annotation]
+    if get_origin(annotation) is Annotated:  # a discriminated union inside Optional
+        return _submodels(get_args(annotation)[0])
+    return [m for a in get_args(annotation) for m in _submodels(a)]
 
 
 def request_has(path: str) -> bool:

@@ -463,6 +463,18 @@ class CycleIn(Strict):
             model._given_order = tuple(seen)
         return model
 
+    @model_validator(mode="before")
+    @classmethod
+    def _wash_model_kind(cls, data):
+        """A wash model given by its parameter alone ({"dispersion_number": 8}, as the editor
+        sends it) names its model by that parameter."""
+        if isinstance(data, dict) and isinstance(data.get("wash_model"), dict) and "model" not in data["wash_model"]:
+            given = [m for m, key in (("dispersion", "dispersion_number"), ("efficiency", "efficiency"))
+                     if key in data["wash_model"]]
+            if len(given) == 1:
+                data = {**data, "wash_model": {"model": given[0], **data["wash_model"]}}
+        return data
+
     @model_validator(mode="after")
     def _one_downtime(self):
         exactly_one(self, ("downtime", "downtime_parts"))
@@ -621,6 +633,18 @@ class CycleOut(BaseModel):
     final_pressure: float = Field(description="Pressure at the end of filtration [Pa]")
     limited_by: Literal["optimum", "chambers_full"]
     feasible: bool = Field(description="The cake fits in the chambers (within fill_fraction)")
+    fill_time: float = Field(0.0, description="Filling before filtration [s]")
+    squeeze_time: float = Field(0.0, description="Membrane squeeze [s]")
+    blow_time: float = Field(0.0, description="Air blow [s]")
+    squeeze_filtrate_volume: float = Field(0.0, description="Liquid expressed by the squeeze per cycle [m³]")
+    consolidation: float | None = Field(None, description="Average consolidation ratio U_c the squeeze reaches [-]")
+    wash_pore_volumes: float | None = Field(None, description="Wash ratio in cake pore volumes (at wash time) [-]")
+    wash_filtrate_volumes: float | None = Field(None, description="Wash volume / filtrate volume [-]")
+    solute_removal: float | None = Field(
+        None, description="Share of the cake liquor's solute the wash removes (with a wash model) [-]")
+    moisture: float | None = Field(None, description="Moisture of the discharged cake, liquid / wet cake mass [-]")
+    cake_thickness_final: float | None = Field(None, description="Cake thickness per face at discharge [m]")
+    meets_specs: bool | None = Field(None, description="Every specification met (null: none given)")
 
 
 class AtEndOut(CycleOut):
@@ -649,6 +673,19 @@ class UncertaintyOut(BaseModel):
     filtration_time: tuple[float, float] = Field(description="Shortest and longest best filtration time [s]")
     cycle_time: tuple[float, float] = Field(description="[s]")
     basis: str
+
+
+class SpecOut(BaseModel):
+    required: float = Field(description="[-]")
+    achieved: float | None = Field(description="At the best cycle [-]")
+    met: bool
+    binds: bool = Field(description="The specification sets the best cycle (a stage lengthened or the end volume "
+                                    "limited for it)")
+
+
+class SpecsOut(BaseModel):
+    max_moisture: SpecOut | None = None
+    min_solute_removal: SpecOut | None = None
 
 
 class TargetOut(BaseModel):
@@ -681,6 +718,9 @@ class CycleResponse(BaseModel):
     at_end: AtEndOut
     curves: CurvesOut
     thickness_comparison: list[ThicknessOut]
+    stage_order: list[str] = Field(description="The cycle's stages in order: fill, filtration, the stages after "
+                                               "it, downtime")
+    specs: SpecsOut | None = Field(None, description="Each specification at the best cycle (when given)")
     warnings: list[str]
     cautions: list[str]
     units: dict[str, str]

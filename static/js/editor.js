@@ -85,7 +85,9 @@
       if (raw === "") return;
       const kind = el.dataset.kind || "";
       let value;
-      if (kind === "curve" || kind === "steps") value = pairs(el, path);
+      if (kind === "curve" || kind === "steps" || kind === "blowcurve") value = pairs(el, path);
+      else if (kind === "order") value = raw.split(",");
+      else if (kind === "time_or_pump" && /^pump$/i.test(raw)) value = "pump";
       else if (kind === "list") value = listItems(raw).map((x) => quantity(x, unitOf(path)));
       else if (kind === "count") value = /^\d+$/.test(raw.replace(/[ \u00a0\u2009\u202f]/g, "")) ? Number(raw.replace(/\D/g, "")) : raw;
       else if (el.tagName === "SELECT") value = raw;
