@@ -287,17 +287,57 @@ def filtration_curves(c: dict, results: dict, pressure_varies: bool, u: Units) -
     return {"data": traces, "layout": layout}
 
 
+def washing(w: dict, results: dict) -> dict:
+    """Chart 5 (with a wash model): washate concentration and solute removed against the wash
+    ratio in cake pore volumes, the best cycle's wash marked."""
+    W = w["wash_ratio"]
+    removal = [100.0 * x for x in w["removal"]]
+    conc = [100.0 * x for x in w["concentration"]]
+    traces = [
+        {"type": "scatter", "mode": "lines", "name": "solute removed", "x": W, "y": removal,
+         "line": {"color": COLORS["main"], "width": 2.5},
+         "hovertemplate": "%{x:.3g} pore volumes: %{y:.4g} % removed<extra>removed</extra>"},
+        {"type": "scatter", "mode": "lines", "name": "washate concentration (of the cake liquor's)", "x": W,
+         "y": conc, "yaxis": "y2", "line": {"color": COLORS["end"], "dash": "dash"},
+         "hovertemplate": "%{x:.3g} pore volumes: %{y:.3g} % of the initial concentration<extra>washate</extra>"},
+    ]
+    if w.get("best_wash_ratio"):
+        traces.append(_marker("best cycle's wash", w["best_wash_ratio"], 100.0 * (w.get("best_removal") or 0.0),
+                              COLORS["best"], "x", "%{x:.3g} pore volumes: %{y:.4g} % removed"))
+    shapes = []
+    spec = (results.get("specs") or {}).get("min_solute_removal")
+    if spec:
+        shapes.append({"type": "line", "xref": "paper", "yref": "y", "x0": 0, "x1": 1, "y0": 100 * spec["required"],
+                       "y1": 100 * spec["required"], "line": {"color": COLORS["full"], "dash": "dot", "width": 1.5}})
+    per = w.get("pore_volumes_per_filtrate")
+    title = "Washing: solute removed and washate" + (
+        f" (1 filtrate volume = {1.0 / per:.3g} pore volumes)" if per else "")
+    y1, y2 = aligned_ranges(100.0, max(conc))
+    layout = {
+        **BASE_LAYOUT,
+        "title": {"text": title},
+        "xaxis": _axis("Wash ratio (cake pore volumes)", rangemode="tozero"),
+        "yaxis": _axis("Solute removed (%)", **y1),
+        "yaxis2": _axis("Washate concentration (% of initial)", overlaying="y", side="right", showgrid=False, **y2),
+        "shapes": shapes,
+    }
+    return {"data": traces, "layout": layout}
+
+
 def figures(series: dict, results: dict, u: Units) -> dict:
-    """All four charts from saved or fresh chart series and the results."""
+    """All charts from saved or fresh chart series and the results."""
     L = series["chamber_thickness"]
     # scenarios saved before the feed said so itself stored the same flag as "pump_fed"
     pressure_varies = series.get("pressure_varies", series.get("pump_fed", False))
-    return {
+    out = {
         "throughput_time": throughput_vs_time(series["throughput_time"], results, u),
         "throughput_thickness": throughput_vs_thickness(series["throughput_thickness"], results, L, u),
         "throughput_map": throughput_map(series["throughput_map"], results, L, u),
         "filtration": filtration_curves(series["filtration"], results, pressure_varies, u),
     }
+    if series.get("washing"):
+        out["washing"] = washing(series["washing"], results)
+    return out
 
 
 #: Characters of a scenario's name kept in a legend entry (fits a 360 px wide chart).

@@ -17,6 +17,8 @@ from server.scenarios import solve_inputs
 from tests.test_pages import DEMOS
 
 UNIT_LABELS = {shown.label for per_system in DISPLAY.values() for shown in per_system.values()}
+#: dimensionless axes of the washing chart: per cent, and the wash ratio counted in pore volumes
+UNIT_LABELS |= {"%", "% of initial", "cake pore volumes"}
 
 
 @pytest.fixture(scope="module")
@@ -54,7 +56,9 @@ def assert_readable(fig: dict, name: str):
 def test_every_figure_has_axis_titles_with_units_and_finite_data(solved_demos, slug, system):
     results = solved_demos[slug]
     figs = figures(results["chart_series"], results, Units(system))
-    assert set(figs) == {"throughput_time", "throughput_thickness", "throughput_map", "filtration"}
+    washes = results["best"]["solute_removal"] is not None  # a wash model: the washing chart too
+    assert set(figs) == {"throughput_time", "throughput_thickness", "throughput_map", "filtration"} | (
+        {"washing"} if washes else set())
     for name, fig in figs.items():
         assert_readable(fig, name)
 

@@ -99,7 +99,7 @@ def collect(state: dict) -> dict:
                 text, unit = values[f.path]
                 if not str(text).strip():
                     continue
-                if f.kind in ("curve", "steps"):
+                if f.kind in ("curve", "steps", "blowcurve"):
                     u0, u1 = unit.split("|")
                     rows = [line.split(",") for line in text.splitlines() if line.strip()]
                     value = [[_quantity(a.strip(), u0), _quantity(b.strip(), u1)] for a, b in rows]
@@ -109,6 +109,10 @@ def collect(state: dict) -> dict:
                     value = int(text)
                 elif f.kind in ("washing", "wash_basis"):
                     value = text
+                elif f.kind == "stage_order":
+                    value = text.split(",")
+                elif f.kind == "time_or_pump" and text.lower() == "pump":
+                    value = "pump"
                 else:
                     value = _quantity(text, unit)
                 _set(body, f.path, value)
