@@ -189,13 +189,21 @@ class Samples:
             self.ends[path] = (low, high)
 
 
+def _closed_form(system) -> bool:
+    """The samples' best cycles have the closed form: a constant-pressure feed, a cycle of
+    filtration, a plain wash and downtime (no squeeze, blow, wash model, specs or filling)."""
+    c = system.cycle
+    return (system.feed.mode == "constant_pressure" and not c.has_stages and c.fill_time == 0.0
+            and c.fill_flow is None)
+
+
 def _evaluate(req: PlanRequest, built: BuiltSystem, family, basis: Basis, values: dict, n: int) -> np.ndarray:
     """Best throughput [target basis] of n samples of the inputs in ``values`` (others nominal)."""
     system = built.system
-    if system.feed.mode == "constant_pressure" and set(values) <= DIRECT:
+    if _closed_form(system) and set(values) <= DIRECT:
         arrays = _arrays_direct(req, system, family, values)
         c_s = _slurry_solids(built.derived)
-    elif system.feed.mode == "constant_pressure":
+    elif _closed_form(system):
         arrays, c_s = _arrays_rebuilt(_fixed_wash_interval(req.inputs, built), values, n)
     else:
         out = np.empty(n)
@@ -429,9 +437,9 @@ def _uncertainty(req, built, family, basis, required, nominal, shift_factor, pre
     """The Monte Carlo (percentiles, probability of meeting the target) and the sensitivity."""
     n = req.samples
     notes = []
-    if n and built.system.feed.mode != "constant_pressure" and n > MAX_SLOW_SAMPLES:
-        notes.append(f"{n:,} samples asked for; {MAX_SLOW_SAMPLES:,} were run: this feed has no closed-form "
-                     "optimum, so each sample is solved on its own")
+    if n and not _closed_form(built.system) and n > MAX_SLOW_SAMPLES:
+        notes.append(f"{n:,} samples asked for; {MAX_SLOW_SAMPLES:,} were run: this scenario's best cycle has no "
+                     "closed form (its feed or its squeeze, wash or blow stages), so each sample is solved on its own")
         n = MAX_SLOW_SAMPLES
     drawn = Samples(req, built, max(n, 1))
     notes += drawn.notes
