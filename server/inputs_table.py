@@ -13,7 +13,7 @@ from .views import power_of_ten
 _BARE = {"pressure": "Pa", "length": "m", "area": "m²", "volume": "m³", "time": "s", "viscosity": "Pa·s",
          "density": "kg/m³", "concentration": "kg/m³", "specific_resistance": "m/kg",
          "medium_resistance": "1/m", "temperature": "°C", "flow": "m³/s", "flux": "m³/(m²·s)", "mass_rate": "kg/s",
-         "hours": "h"}
+         "hours": "h", "diffusivity": "m²/s", "rate": "1/s"}
 _PRETTY = [("**", "^"), ("^2", "²"), ("^3", "³"), ("*", "·"), ("degC", "°C"), ("degF", "°F"), ("gpm", "US gpm")]
 
 
@@ -79,6 +79,15 @@ def _shown(raw, kind: str) -> str:
         return _pairs(raw, ("flow", "pressure"), "at")
     if kind == "steps":
         return _pairs(raw, ("pressure", "time"), "for")
+    if kind == "blowcurve":
+        if isinstance(raw, list):
+            raw = [[t, _shown(m, "fraction")] if isinstance(m, int | float) and not isinstance(m, bool) else [t, m]
+                   for t, m in (p if isinstance(p, list | tuple) and len(p) == 2 else (p, None) for p in raw)]
+        return _pairs(raw, ("time", "fraction"), "→")
+    if kind == "time_or_pump":
+        return "at the pump's highest flow" if raw == "pump" else _value(raw, "time")
+    if kind == "stage_order":
+        return ", then ".join(str(x) for x in raw) if isinstance(raw, list) else str(raw)
     if kind == "length_list":
         return ", ".join(_value(x, "length") for x in raw) if isinstance(raw, list) else _value(raw, "length")
     if kind == "washing":

@@ -197,3 +197,19 @@ def test_save_after_an_edit_calculates_first_and_stores_what_is_shown(page):
     assert saved != before  # the edited inputs' results, calculated before saving
     assert "80" in page.inner_text("body")
     clean(page)
+
+
+def test_the_membrane_demo_squeezes_to_its_moisture_spec_and_says_when_none_can(page):
+    page.goto(page.base + "/demo/hydroxide_membrane_wash")
+    page.wait_for_selector("[data-testid=whole-cycle]")
+    page.wait_for_function("document.querySelectorAll('#chart-washing .main-svg').length >= 1")
+    figs = headline(page)
+    assert figs["moisture"].startswith("34") and "min" in figs["squeeze_time"]
+    assert "sets the best cycle" in page.inner_text("[data-testid=specs]")
+    # a moisture below the squeezed cake's equilibrium: no cycle can meet it
+    page.fill("#f-cycle-specs-max_moisture", "25")
+    page.click("#calculate")
+    wait_results(page)
+    assert "not met" in page.inner_text("[data-testid=specs]")
+    assert page.get_by_text("No cycle meets the moisture specification").is_visible()
+    clean(page)
