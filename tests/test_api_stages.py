@@ -119,3 +119,10 @@ def test_the_membrane_demo_page_and_plan(client):
     r = client.post("/api/v1/plan", json={"inputs": DEMO, "target": {"dry_solids_per_day": "60 t/day"},
                                           "samples": 20})
     assert r.status_code == 200, r.text
+
+
+def test_a_squeeze_no_harder_than_the_feed_is_warned(client):
+    soft = post(client, body(squeeze={**SQUEEZE, "pressure": "6 bar", "time": "5 min"}))
+    firm = post(client, body(squeeze={**SQUEEZE, "time": "5 min"}))
+    assert any("not above the feed pressure" in w for w in soft["warnings"])
+    assert not any("not above the feed pressure" in w for w in firm["warnings"])

@@ -676,7 +676,7 @@ def solve_cycle(
     warnings = list(feed_warnings(system.filtration, press.filter_area)) if feed_warnings else []
     warnings += _fill_warnings(best, press.fill_fraction, matched)
     specs, spec_warnings = spec_report(family, best)
-    warnings += spec_warnings + _through_wash_warning(family, best, press)
+    warnings += spec_warnings + _through_wash_warning(family, best, press) + _squeeze_warning(system)
     return CycleSolution(
         best=best,
         unconstrained_optimum=unconstrained,
@@ -708,6 +708,17 @@ def _through_wash_warning(family: CycleFamily, best: CycleResult, press: Press) 
     return [f"Through-washing with chambers {100 * best.chamber_fill:.0f} % full: the wash plates wash a partly "
             "filled chamber unevenly (the wash short-cuts through the gap), so the wash time and solute "
             "removal shown are optimistic. Fill the chambers before washing, or wash the simple way."]
+
+
+def _squeeze_warning(system: PressSystem) -> list[str]:
+    """A squeeze no harder than the feed: the membranes would add little (and the equilibrium
+    given for it is then doubtful)."""
+    sq = system.cycle.squeeze
+    if sq is None or sq.pressure > system.feed.pressure_cap:
+        return []
+    return [f"The squeeze pressure {in_bar(sq.pressure)} is not above the feed pressure "
+            f"{in_bar(system.feed.pressure_cap)}: membranes pressing no harder than the feed expel little; check "
+            "the squeeze pressure and the equilibrium moisture or porosity given for it."]
 
 
 def spec_report(family: CycleFamily, best: CycleResult) -> tuple[dict | None, list[str]]:
