@@ -483,6 +483,13 @@ class CycleIn(Strict):
         return self
 
     @property
+    def adds_stages(self) -> bool:
+        """Stages beyond a plain wash (squeeze, blow, wash quality, specifications, filling):
+        their free durations are searched, so the request is not bounded like a closed form."""
+        return any(getattr(self, n) is not None for n in ("squeeze", "blow", "wash_model", "wash_target", "specs",
+                                                           "fill_time"))
+
+    @property
     def order(self) -> tuple:
         """The stages after filtration in their order: as listed, else as given in the request."""
         if self.stages is not None:
@@ -544,7 +551,7 @@ class CycleRequest(Strict):
         form holds): a request solves in well under a millisecond."""
         k = self.cake
         incompressible = k.local.resistance_exponent == 0.0 if k.local is not None else k.compressibility == 0.0
-        return self.feed.closed_form and not solver_feeds.cake_basis_applies(
+        return self.feed.closed_form and not self.cycle.adds_stages and not solver_feeds.cake_basis_applies(
             k.pressure_basis, self.medium_resistance, incompressible)
 
     #: the request as sent (for the units a person typed); not a field
