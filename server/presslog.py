@@ -240,21 +240,21 @@ def _csv_error(exc: CsvError) -> InputError:
     return InputError([(("body", "csv"), str(exc))])
 
 
-def _check_gaps(log: Log, cycles: logfit.Cycles, gap: float | None) -> None:
+def _check_gaps(log: Log, cycles: logfit.Cycles, gap: float | None, use) -> None:
     """A pause in the log while the press is under pressure cannot be integrated over."""
     dt = np.diff(log.time)
     step = float(np.median(dt)) if dt.size else 0.0
     limit = gap if gap is not None else max(60.0, 20.0 * step)
     inside = np.zeros(log.time.size, dtype=bool)
-    for a, b in zip(cycles.first, cycles.last):  # a few hundred cycles: slices, not rows
+    for a, b in zip(cycles.first[use], cycles.last[use]):  # a few hundred cycles: slices, not rows
         inside[a + 1:b + 1] = True
     bad = np.flatnonzero(inside[1:] & (dt > limit)) + 1
     if bad.size:
         i = int(bad[0])
         raise CsvError(None, f"{log.where(i)}, column '{log.units.get('time') or log.units.get('timestamp')}': a gap "
                              f"of {dt[i - 1]:.6g} s in the log while the press is under pressure (more than "
-                             f"{limit:.6g} s): the filtration cannot be integrated over it; exclude the cycle or "
-                             "fill the gap")
+                             f"{limit:.6g} s): the filtration cannot be integrated over it; exclude the cycle, or "
+                             "give a longer gap if the logger writes only when a value changes")
 
 
 def _trend(tr: logfit.Trend) -> dict:
@@ -312,7 +312,6 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         if cycles.count == 0:
             raise CsvError(None, "no cycle found: the feed pressure never rises for long (check the pressure column "
                                  "and its unit)")
-        _check_gaps(log, cycles, req.gap)
     except CsvError as exc:
         raise _csv_error(exc) from None
     numbers = np.arange(1, cycles.count + 1)
@@ -326,6 +325,10 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     use = np.array([n not in excluded for n in numbers.tolist()])
     if use.sum() < 1:
         raise InputError([(("body", "exclude_cycles"), "every cycle is excluded: keep at least one")])
+    try:
+        _check_gaps(log, cycles, req.gap, use)
+    except CsvError as exc:
+        raise _csv_error(exc) from None
     try:
         fits = logfit.fit_cycles(
             log.time, log.pressure, log.volume, cycles, A, mu, c, use=use, compressibility=f.compressibility,

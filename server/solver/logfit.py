@@ -85,8 +85,8 @@ def find_cycles(time, pressure, volume=None, cycle_numbers=None, gap: float | No
         previous reading (a reset) starts a cycle.
     cycle_numbers : array or None, a cycle column: a change of value starts a cycle, and
         nothing else does.
-    gap : float [s] or None, a pause in the log longer than this starts a cycle
-        (default: 20 times the median step, at least 60 s).
+    gap : float [s] or None, a pause in the log longer than this starts a cycle unless the
+        pressure is on at both sides (default: 20 times the median step, at least 60 s).
     on_share : the pressure is "on" above this share of the cycle's highest pressure.
 
     Pressure back to near zero (below ``on_share`` of the log's 99th percentile) then rising
@@ -104,9 +104,10 @@ def find_cycles(time, pressure, volume=None, cycle_numbers=None, gap: float | No
         dt = np.diff(t)
         step = float(np.median(dt)) if dt.size else 0.0
         limit = gap if gap is not None else max(60.0, 20.0 * step)
-        gaps = np.flatnonzero(dt > limit) + 1
         level = on_share * float(np.percentile(p, 99)) if n else 0.0
         on = p > level
+        # a pause with the press under pressure on both sides is missing data, not a new cycle
+        gaps = np.flatnonzero((dt > limit) & ~(on[1:] & on[:-1])) + 1
         rises = np.flatnonzero(on[1:] & ~on[:-1])  # the last low row before each rise
         resets = np.empty(0, dtype=np.int64)
         if volume is not None:

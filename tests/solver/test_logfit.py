@@ -156,12 +156,13 @@ def test_a_cycle_column_resets_and_gaps_each_split_the_log_the_same():
     assert by_pressure.count == by_column.count == by_reset.count == 5
     np.testing.assert_array_equal(by_pressure.first, by_column.first)
     np.testing.assert_array_equal(by_pressure.last, by_reset.last)
-    # a gap in time with the pressure left on (a logger restart between two cycles) splits too
-    t = log.time.copy()
-    p = log.pressure.copy()
-    p[p == 0] = 5e5  # never back to zero
-    t[log.cycle >= 3] += 3600.0
-    assert logfit.find_cycles(t, p).count == 2
+    # a pause with the pressure on at both sides is missing data inside a cycle, not a new cycle
+    # (server/presslog.py refuses it, naming the row)
+    p_on = log.pressure.copy()
+    p_on[p_on == 0] = 5e5  # never back to zero
+    t2 = log.time.copy()
+    t2[log.cycle >= 3] += 3600.0
+    assert logfit.find_cycles(t2, p_on).count == 1
 
 
 def test_a_step_in_alpha_is_flagged_as_drift_and_a_steady_alpha_is_not():
