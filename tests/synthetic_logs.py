@@ -80,7 +80,7 @@ class SyntheticLog:
 
 def synthetic_log(cycles=45, feed: Feed | None = None, growth=0.02, wash_every=15, noise=0.005, seed=17,
                   filtration_time=1800.0, downtime=600.0, step=2.0, alpha=ALPHA, R0=R0, idle_rows=3,
-                  alpha_of_cycle=None, area=AREA):
+                  alpha_of_cycle=None, area=AREA, grid=200_001):
     """A log of ``cycles`` cycles: R_m = R0 (1 + growth j), j cycles since the last wash (every
     ``wash_every`` cycles); multiplicative noise of relative size ``noise`` on pressure and flow."""
     feed = feed or Feed()
@@ -93,7 +93,7 @@ def synthetic_log(cycles=45, feed: Feed | None = None, growth=0.02, wash_every=1
             washes.append(k + 1)
         R = R0 * (1.0 + growth * j)
         a = alpha_of_cycle(k) if alpha_of_cycle else alpha
-        t, p, q, V = exact_cycle(feed, a, R, filtration_time, step, area=area)
+        t, p, q, V = exact_cycle(feed, a, R, filtration_time, step, area=area, grid=grid)
         idle_before = t0 + step * np.arange(idle_rows)
         t_f = t0 + step * idle_rows + t
         t_after = t_f[-1] + step * np.arange(1, int(downtime / step) + 1)
