@@ -12,6 +12,7 @@ does not read is found afterwards and named by its line, row and column.
 
 import math
 from dataclasses import dataclass
+from warnings import catch_warnings, simplefilter
 
 import numpy as np
 
@@ -144,16 +145,21 @@ def _numbers(cells: list, cell_name: str, col: int, row_at, decimal_comma: bool 
 
 
 def _dates(cells: list, cell_name: str, col: int, row_at) -> np.ndarray:
-    texts = [c.strip().removesuffix("Z") for c in cells]
+    """ISO 8601 dates -> datetime64[ms]; a time zone offset ("+01:00", "Z") is taken to UTC."""
+    texts = [c.strip() for c in cells]
     try:
-        return np.array(texts, dtype="datetime64[ms]")
+        with catch_warnings():  # numpy warns that it converts an offset to UTC: wanted here
+            simplefilter("ignore")
+            return np.array(texts, dtype="datetime64[ms]")
     except ValueError:
         for i, cell in enumerate(texts):
             try:
-                np.datetime64(cell, "ms")
+                with catch_warnings():
+                    simplefilter("ignore")
+                    np.datetime64(cell, "ms")
             except ValueError:
                 raise CsvError(None, f"{row_at(i)}, column {col + 1} '{cell_name}': '{cell[:40]}' is not an ISO 8601 "
-                                     "date and time such as 2026-03-01 08:00:05 (no time zone offset)") from None
+                                     "date and time such as 2026-03-01 08:00:05") from None
         raise
 
 
@@ -346,6 +352,13 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         _check_gaps(log, cycles, req.gap, use)
     except CsvError as exc:
         raise _csv_error(exc) from None
+    V_phase = log.volume[cycles.last] - log.volume[cycles.first]
+    empty = np.flatnonzero(use & ~(V_phase > 0))
+    if empty.size:
+        k = int(empty[0])
+        raise InputError([(("body", "csv"), f"cycle {int(numbers[k])} ({log.where(int(cycles.first[k]))} to "
+                                            f"{log.where(int(cycles.last[k]))}) collects no filtrate under pressure: "
+                                            "check the flow or volume column, or exclude the cycle")])
     try:
         fits = logfit.fit_cycles(
             log.time, log.pressure, log.volume, cycles, A, mu, c, use=use, compressibility=f.compressibility,
@@ -432,9 +445,20 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         "current_resistance": blinding.current, "cycles_since_wash": blinding.cycles_since_wash,
         "wash_interval": None,
     }
-    calibrated = None
-    if blinding.clean > 0:
+    calibrated = calibrated_system = None
+    bad_cycles = used_numbers[(fits.resistance <= 0) | (fits.medium_resistance < 0)]
+    if bad_cycles.size:
+        warnings.append(f"Cycles {', '.join(map(str, bad_cycles[:10].tolist()))}"
+                        f"{' …' if bad_cycles.size > 10 else ''} give a cake or cloth resistance below zero: the "
+                        "logged pressure and flow do not follow the rate equation there (check or exclude them).")
+    if blinding.clean > 0 and alpha_plant > 0:
         calibrated = _calibrated_inputs(raw, plant, growth if growth > 0 else None)
+        try:
+            calibrated_system = build_system(validate_inputs(calibrated, prefix)).system
+        except InputError as exc:
+            warnings.append("The scenario with the plant's values is refused ("
+                            f"{exc.errors[0][1]}): no calibrated copy from this log.")
+            calibrated = None
     V_typical = float(np.median(fits.filtrate_volume))
     if wash_time is None:
         warnings.append("No cloth wash time (cloth_wash_time, or the scenario's downtime_parts.cloth_wash): no "
@@ -442,9 +466,8 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     elif not growth > 0 or growth <= 2.0 * blinding.growth_stderr:
         warnings.append("The cloth resistance does not grow measurably from cycle to cycle in this log: no wash "
                         "interval recommended.")
-    elif calibrated is not None:
-        system = build_system(validate_inputs(calibrated, prefix)).system
-        wear = planning.cloth_wear(system, V_typical, growth, wash_time)
+    elif calibrated_system is not None:
+        wear = planning.cloth_wear(calibrated_system, V_typical, growth, wash_time)
         cloth["wash_interval"] = {"best": wear.best_interval, "classic": wear.classic_interval,
                                   "wash_time": wash_time, "filtrate_volume": V_typical,
                                   "first_increase": wear.first_increase}
@@ -456,9 +479,9 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         try:
             model["calibrated_filtrate_throughput"] = solve(validate_inputs(calibrated, prefix)).results["best"][
                 "filtrate_throughput"]
-        except InputError:
+        except InputError as exc:
             model["calibrated_filtrate_throughput"] = None
-            warnings.append("The scenario with the plant's values cannot be solved: see its inputs.")
+            warnings.append(f"The scenario with the plant's values cannot be solved ({exc.errors[0][1]}).")
 
     # the cycle drawn
     chart_number = req.chart_cycle if req.chart_cycle is not None else int(used_numbers[-1])
@@ -515,7 +538,8 @@ def analyse(req: PressLogRequest, store=None) -> dict:
                                             "units of the columns")])
     if req.save is not None:
         if calibrated is None:
-            raise InputError([(("body", "save"), "nothing to save: the log gives no cloth resistance above 0")])
+            raise InputError([(("body", "save"), "nothing to save: this log gives no usable cake and cloth "
+                                                 "resistances (see the warnings)")])
         note = req.save.note or _summary(out)
         s = save(store, req.save.name, note, calibrated, parent)
         out["saved"] = {"id": s.id, "link": f"/s/{s.id}", "parent": parent}

@@ -320,3 +320,30 @@ def test_the_other_routes_keep_their_own_limit(client):
     r = client.post("/api/v1/cycle", content=b"{}", headers={"content-type": "application/json",
                                                               "content-length": str(3_000_000)})
     assert r.status_code == 413
+
+
+def test_a_cycle_without_filtrate_names_its_lines(client):
+    lines = [GOOD_HEAD] + [f"{i}, {6 if 5 < i < 100 else 0}, 0" for i in range(200)]
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    assert field == "csv" and "cycle 1 (line 8 (row 7) to line 101 (row 100))" in msg and "no filtrate" in msg
+
+
+def test_a_log_that_does_not_follow_the_rate_equation_is_said_so_and_cannot_be_saved(client):
+    # flow constant while the pressure holds: nothing builds a cake; the fit gives a resistance below zero
+    lines = [GOOD_HEAD] + [f"{i // 2}, {6 if 5 < i < 100 else 0}, 10" for i in range(200)]
+    r = post(client, csv="\n".join(lines))
+    assert r.status_code == 200
+    assert any("below zero" in w for w in r.json()["warnings"])
+    field, msg = error_of(post(client, csv="\n".join(lines), save={"name": "x"}))
+    assert field == "save" and "nothing to save" in msg
+
+
+def test_timestamps_with_an_offset_are_read_in_utc(client):
+    log = synthetic_log(cycles=2, noise=0.0)
+    base = np.datetime64("2026-03-01T06:00:00", "ms")
+    stamps = base + (log.time * 1000).astype("timedelta64[ms]")
+    lines = ["timestamp; feed pressure [bar]; filtrate flow [L/min]"] + [
+        f"{s}+01:00; {p / 1e5:.9g}; {q * 60000:.9g}".replace(".", ",") for s, p, q in zip(stamps, log.pressure, log.flow)]
+    r = post(client, csv="\n".join(lines))
+    assert r.status_code == 200, r.text[:300]
+    assert r.json()["cycles"][0]["start_date"].startswith("2026-03-01T05:00:06")
