@@ -474,7 +474,10 @@ def analyse(req: PressLogRequest, store=None) -> dict:
 
     # throughput per cycle against the model's best
     throughput = fits.filtrate_volume / cycle_time[k_used]
-    model = {"filtrate_throughput": solve(inputs).results["best"]["filtrate_throughput"]}
+    try:
+        model = {"filtrate_throughput": solve(inputs).results["best"]["filtrate_throughput"]}
+    except InputError as exc:
+        raise exc.within(prefix) from None
     if calibrated is not None:
         try:
             model["calibrated_filtrate_throughput"] = solve(validate_inputs(calibrated, prefix)).results["best"][

@@ -5,7 +5,7 @@ Nothing here fits or computes a cycle: the numbers come from server/presslog.py.
 
 import numpy as np
 
-from .charts import BASE_LAYOUT, COLORS, OVERLAY, _axis
+from .charts import BASE_LAYOUT, COLORS, OVERLAY, _axis, _top, aligned_ranges
 
 
 def _fits(result: dict) -> list[dict]:
@@ -17,9 +17,11 @@ def cycle_figure(result: dict) -> dict:
     ch = result["chart_cycle"]
     t_min = [t / 60.0 for t in ch["time"]]
     to_h = 3600.0
+    p_bar = [p / 1e5 for p in ch["pressure"]]
+    left, right = aligned_ranges(_top(p_bar), _top([q * to_h for q in ch["flow"] + ch["flow_model"]]))
     return {"data": [
         {"type": "scatter", "mode": "lines", "name": "feed pressure (log)", "x": t_min,
-         "y": [p / 1e5 for p in ch["pressure"]], "line": {"color": COLORS["grey"]},
+         "y": p_bar, "line": {"color": COLORS["grey"]},
          "hovertemplate": "%{x:.3g} min: %{y:.4g} bar<extra>pressure</extra>"},
         {"type": "scatter", "mode": "lines", "name": "filtrate flow (log)", "x": t_min, "yaxis": "y2",
          "y": [q * to_h for q in ch["flow"]], "line": {"color": COLORS["main"], "width": 1},
@@ -30,8 +32,9 @@ def cycle_figure(result: dict) -> dict:
     ], "layout": {
         **BASE_LAYOUT, "title": {"text": f"Cycle {ch['number']}: pressure and flow"},
         "xaxis": _axis("Time since the start of filtration (min)", rangemode="tozero"),
-        "yaxis": _axis("Feed pressure (bar)", rangemode="tozero"),
-        "yaxis2": _axis("Filtrate flow (m³/h)", overlaying="y", side="right", rangemode="tozero", showgrid=False),
+        "yaxis": _axis("Feed pressure (bar)", rangemode="tozero", **left),
+        "yaxis2": _axis("Filtrate flow (m³/h)", overlaying="y", side="right", rangemode="tozero", showgrid=False,
+                        **right),
     }}
 
 

@@ -347,3 +347,26 @@ def test_timestamps_with_an_offset_are_read_in_utc(client):
     r = post(client, csv="\n".join(lines))
     assert r.status_code == 200, r.text[:300]
     assert r.json()["cycles"][0]["start_date"].startswith("2026-03-01T05:00:06")
+
+
+def test_the_figures_have_units_on_every_axis_and_finite_data(answer):
+    # the house rule of tests/test_charts.py; the cycle number is a count and has no unit
+    from server.presslogcharts import presslog_figures
+    from tests.test_charts import UNIT_LABELS, axes_of, numbers_in
+
+    figs = presslog_figures(answer)
+    assert set(figs) == {"cycle", "volume", "alpha", "cloth", "throughput"}
+    for name, fig in figs.items():
+        for key, axis in axes_of(fig["layout"]).items():
+            title = axis["title"]["text"]
+            if title == "Cycle number":
+                continue
+            unit = re.search(r"\(([^()]+)\)[^()]*$", title)
+            assert unit and unit.group(1) in UNIT_LABELS, f"{name}.{key}: {title!r}"
+        for trace in fig["data"]:
+            values = [v for v in numbers_in(trace) if v is not None]
+            assert values and all(np.isfinite(values)), (name, trace.get("name"))
+    # the model drawn over the cycle follows the logged flow (0.5 % noise) within a few per cent
+    ch = answer["chart_cycle"]
+    q, m = np.array(ch["flow"]), np.array(ch["flow_model"])
+    assert np.median(np.abs(m / q - 1)) < 0.01

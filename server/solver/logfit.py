@@ -192,6 +192,26 @@ def _segment_sum(values, offsets):
     return np.add.reduceat(values, offsets)
 
 
+def cake_weight(V, pressure, alpha, R_m, area: float, solids_per_filtrate: float, compressibility: float,
+                reference_pressure: float, pressure_basis: str):
+    r"""(dp/p_ref)^s at each row: the factor of v dv in the cake term of the integrated equation.
+
+    Total basis: dp = dP, the logged pressure. Cake basis: dp = phi dP, phi the cake's share of
+    the pressure (:func:`labfit.cake_share`: phi + r phi^(1-s) = 1, r = R_m A / (alpha(dP) c V))
+    at the given alpha [m/kg] and R_m [1/m] (arrays per row, or None: phi = 1, a first guess).
+    """
+    s = compressibility
+    shape = np.clip(np.asarray(pressure, dtype=float) / reference_pressure, 0.0, None)
+    if s == 0.0:
+        return np.ones_like(shape)
+    phi = 1.0
+    if pressure_basis == "cake" and alpha is not None:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = np.where(V > 0.0, R_m * area / (alpha * shape**s * solids_per_filtrate * V), np.inf)
+        phi = cake_share(np.where(np.isfinite(ratio) & (ratio >= 0), ratio, np.inf), s)
+    return (shape * phi) ** s
+
+
 def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: float, solids_per_filtrate: float,
                use=None, compressibility: float = 0.0, reference_pressure: float = 1e5,
                pressure_basis: str = "total", volume_scatter: str = "integrated") -> CycleFits:
@@ -242,13 +262,11 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
     yn = y / y_end[seg]
     mu, A, c = viscosity, area, solids_per_filtrate
     s = compressibility
-    shape = (pp / reference_pressure) if s > 0.0 else None
-    phi = np.ones_like(pp)
     alpha = R_m = None
     for _round in range(CAKE_BASIS_ROUNDS if (s > 0.0 and pressure_basis == "cake") else 1):
         if s > 0.0:
-            with np.errstate(invalid="ignore"):
-                weight = np.clip(shape * phi, 0.0, None) ** s
+            weight = cake_weight(V, pp, None if alpha is None else alpha[seg], None if R_m is None else R_m[seg],
+                                 A, c, s, reference_pressure, pressure_basis)
             Z = _segment_cumtrapz(V, weight * V, offsets, lengths)
         else:
             Z = 0.5 * V * V
@@ -263,11 +281,6 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
         a, b = beta[:, 2], beta[:, 1]
         alpha = a * y_end * A * A / (mu * c * Z_end)
         R_m = b * y_end * A / (mu * V_end)
-        if s > 0.0 and pressure_basis == "cake":
-            with np.errstate(divide="ignore", invalid="ignore"):
-                alpha_at_p = alpha[seg] * np.clip(shape, 0.0, None) ** s
-                ratio = np.where(V > 0.0, R_m[seg] * A / (alpha_at_p * c * V), np.inf)
-            phi = cake_share(np.where(np.isfinite(ratio) & (ratio >= 0), ratio, np.inf), s)
     se_a, se_b = np.sqrt(cov[:, 2, 2]), np.sqrt(cov[:, 1, 1])
     alpha_se = se_a * y_end * A * A / (mu * c * Z_end)
     R_se = se_b * y_end * A / (mu * V_end)
@@ -327,10 +340,10 @@ def cycle_curves(time, pressure, volume, cycles: Cycles, k: int, fits: CycleFits
                  viscosity: float, solids_per_filtrate: float) -> dict:
     """One cycle's filtration phase with the fitted model over it (SI arrays).
 
-    The model's filtrate volume at the logged pressure is the integrated equation solved
-    for V at each row's int dP dt (incompressible form, the cycle's alpha and R_m); its flow
-    is the rate equation at that volume and the logged pressure. ``index`` is the cycle's
-    position among the fitted cycles; ``k`` its position among all cycles.
+    The fitted integral d + (mu alpha c / A^2) Z(V) + (mu R_m / A) V along the logged volume
+    (the same Z as the fit: compressibility and pressure basis included); the model's volume
+    at each row is where that integral reaches the logged one, and its flow the rate equation
+    there. ``index`` is the cycle's position among the fitted cycles; ``k`` among all cycles.
     """
     i0, i1 = int(cycles.first[k]), int(cycles.last[k]) + 1
     t = np.asarray(time[i0:i1], dtype=float)
@@ -338,16 +351,17 @@ def cycle_curves(time, pressure, volume, cycles: Cycles, k: int, fits: CycleFits
     V = np.asarray(volume[i0:i1], dtype=float) - float(volume[i0])
     y = np.concatenate(([0.0], np.cumsum(0.5 * (p[1:] + p[:-1]) * np.diff(t))))
     mu, A, c = viscosity, area, solids_per_filtrate
-    alpha, R_m = float(fits.resistance[index]), float(fits.medium_resistance[index])
-    if fits.compressibility > 0.0:
-        # the model curve of a compressible cake at the mean pressure's alpha
-        alpha = alpha * (max(float(fits.mean_pressure[index]), 1.0) / fits.reference_pressure) ** fits.compressibility
-    qa, qb = mu * alpha * c / (2.0 * A * A), mu * R_m / A
-    d = float(fits.offset[index])
-    y_cake = np.clip(y - d, 0.0, None)
-    V_model = (np.sqrt(qb * qb + 4.0 * qa * y_cake) - qb) / (2.0 * qa) if qa > 0 else y_cake / max(qb, 1e-300)
-    flow_model = A * p / (mu * (alpha * c * V_model / A + R_m))
-    fitted = d + qa * V * V + qb * V
+    alpha, R_m, d = (float(x[index]) for x in (fits.resistance, fits.medium_resistance, fits.offset))
+    w = cake_weight(V, p, alpha, R_m, A, c, fits.compressibility, fits.reference_pressure, fits.pressure_basis)
+    Z = np.concatenate(([0.0], np.cumsum(0.5 * (w[1:] * V[1:] + w[:-1] * V[:-1]) * np.diff(V))))
+    ka, kb = mu * alpha * c / (A * A), mu * R_m / A
+    fitted = d + ka * Z + kb * V
+    # the model's volume: where the fitted integral reaches the logged one (monotone while
+    # the resistances are positive); its flow from the rate equation at that volume
+    order = np.argsort(fitted, kind="stable")
+    V_model = np.interp(y, fitted[order], V[order])
+    w_model = np.interp(V_model, V[order], w[order])
+    flow_model = p / np.maximum(ka * w_model * V_model + kb, 1e-300)
     return {"time": t - t[0], "pressure": p, "volume": V, "volume_model": V_model, "flow_model": flow_model,
             "integral": y, "integral_fitted": fitted, "residuals": y - fitted}
 

@@ -216,3 +216,6 @@ def test_a_compressible_cake_on_the_cake_pressure_basis_matches_the_cycle_solver
     assert cake.resistance[0] == pytest.approx(alpha_ref, rel=1e-3)
     assert cake.medium_resistance[0] == pytest.approx(R0, rel=2e-3)
     assert abs(total.medium_resistance[0] / R0 - 1) > 0.05
+    # the model drawn over the log is the fitted one, compressibility and basis included
+    curve_fit = logfit.cycle_curves(tt, pp, VV, cycles, 0, cake, 0, AREA, MU, C)
+    np.testing.assert_allclose(curve_fit["volume_model"][5:], curve_fit["volume"][5:], rtol=1e-3)
