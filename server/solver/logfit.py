@@ -272,7 +272,8 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
             Z = 0.5 * V * V
         Z_end = Z[offsets + lengths - 1]
         z = Z / Z_end[seg]
-        beta, cov, resid = _stacked_fit((np.ones_like(u), u, z), yn, offsets, lengths)
+        errors = "random_walk" if volume_scatter == "integrated" else "serial"
+        beta, cov, resid = _stacked_fit((np.ones_like(u), u, z), yn, offsets, lengths, errors=errors)
         if volume_scatter == "reading":
             # a volume read with a scatter in proportion to it: y scatters by dy/dV times that
             slope = np.clip(beta[seg, 1] + 2.0 * beta[seg, 2] * u, 1e-3, None)
@@ -299,20 +300,27 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
                      t_first, mean_p, max_p, reference_pressure, s, pressure_basis, beta[:, 0] * y_end)
 
 
-def _stacked_fit(columns, y, offsets, lengths, weights=None):
+def _stacked_fit(columns, y, offsets, lengths, weights=None, errors: str = "serial"):
     """y = sum_j beta_j X_j per segment, by the normal equations of all segments at once
     (stacked small matrices). Returns beta (segments x columns), their covariances
     (segments x columns x columns) and the residuals per row.
 
-    The covariances use the residual scatter with the number of rows shrunk by their lag-one
-    autocorrelation r to n (1 - r)/(1 + r): residuals of an integrated form follow each other,
-    and counting every row as independent would give errors far too small (common practice
-    for serially correlated residuals, no source).
+    Residuals of an integrated form follow each other, so counting every row as independent
+    would give errors far too small. ``errors``:
+
+    - "random_walk" (a volume integrated from a noisy flow, a pressure integral): the error of
+      row i is a sum of independent steps, covariance s^2 min(i, j); the sandwich
+      (X'X)^-1 X' S X (X'X)^-1 with X' S X = s^2 sum_k G_k G_k', G_k the sum of the rows from k
+      on, and s^2 the long-run variance of the residuals' steps (generalised least squares
+      theory; derived here);
+    - "serial": the residual scatter with the number of rows shrunk by their lag-one
+      autocorrelation r to n (1 - r)/(1 + r) (common practice for serially correlated
+      residuals, no source).
     """
     m = len(columns)
     if weights is not None:
         root = np.sqrt(weights)
-        beta, cov, resid = _stacked_fit([x * root for x in columns], y * root, offsets, lengths)
+        beta, cov, resid = _stacked_fit([x * root for x in columns], y * root, offsets, lengths, errors=errors)
         return beta, cov, resid / root
     XtX = np.empty((lengths.size, m, m))
     Xty = np.empty((lengths.size, m))
@@ -325,9 +333,31 @@ def _stacked_fit(columns, y, offsets, lengths, weights=None):
     seg = np.repeat(np.arange(lengths.size), lengths)
     resid = y - sum(beta[seg, i] * columns[i] for i in range(m))
     n = lengths.astype(float)
+    last = offsets + lengths - 1
+    if errors == "random_walk":
+        steps = np.concatenate(([0.0], np.diff(resid)))
+        steps[offsets] = 0.0  # no step across two cycles
+        # the steps' long-run variance (lag one, Newey and West): a trapezoid shares each
+        # reading between two steps, which halves their variance but not their sum's
+        lag = np.concatenate(([0.0], steps[1:] * steps[:-1]))
+        lag[offsets] = 0.0
+        gamma0 = _segment_sum(steps * steps, offsets)
+        s2 = np.maximum(gamma0 + 2.0 * _segment_sum(lag, offsets), 0.0) / np.maximum(n - 1.0 - m, 1.0)
+        G = []
+        for x in columns:  # the sum of the rows from k to the segment's end, k >= 1 in a segment
+            total = np.cumsum(x)
+            g = total[last][seg] - total + x
+            g[offsets] = 0.0
+            G.append(g)
+        meat = np.empty((lengths.size, m, m))
+        for i in range(m):
+            for j in range(i, m):
+                meat[:, i, j] = meat[:, j, i] = _segment_sum(G[i] * G[j], offsets)
+        cov = s2[:, None, None] * np.einsum("kij,kjl,klm->kim", inv, meat, inv)
+        return beta, cov, resid
     ss = _segment_sum(resid * resid, offsets)
     lagged = np.concatenate((resid[1:] * resid[:-1], [0.0]))
-    lagged[offsets + lengths - 1] = 0.0  # no product across two cycles
+    lagged[last] = 0.0  # no product across two cycles
     with np.errstate(divide="ignore", invalid="ignore"):
         r1 = np.where(ss > 0, _segment_sum(lagged, offsets) / np.where(ss > 0, ss, 1.0), 0.0)
     r1 = np.clip(r1, 0.0, 0.99)
