@@ -38,7 +38,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         title="presscycle",
         version=SOLVER_VERSION,
         description=(f"Batch filter press cycles from lab filtration data. Quantities accept units. Limits: "
-                     f"request bodies up to {settings.max_body_bytes:,} bytes (413 above); a calculation "
+                     f"request bodies up to {settings.max_body_bytes:,} bytes (413 above; a press log up to "
+                     f"{settings.max_log_bytes:,}); a calculation "
                      f"up to {settings.solve_seconds:g} s (503 above)."),
         # FastAPI's own /docs and /redoc load their scripts from a CDN; the plant intranet has
         # none, so /api renders the OpenAPI schema itself.

@@ -61,10 +61,11 @@ def _trend_figure(result, key, title, y_title, unit, washes=()):
     y = [c[key] for c in fits]
     err = [c[key + "_stderr"] for c in fits]
     tr = result["trend"][key]
-    data = [{"type": "scatter", "mode": "markers", "name": "per cycle", "x": n, "y": y,
+    when = [c["start_date"] or f"{c['start_time'] / 3600:.4g} h into the log" for c in fits]
+    data = [{"type": "scatter", "mode": "markers", "name": "per cycle", "x": n, "y": y, "customdata": when,
              "error_y": {"type": "data", "array": err, "visible": True, "color": "#9ca3af"},
              "marker": {"color": COLORS["main"], "size": 6},
-             "hovertemplate": "cycle %{x}: %{y:.4g} " + unit + "<extra></extra>"}]
+             "hovertemplate": "cycle %{x} (%{customdata}): %{y:.4g} " + unit + "<extra></extra>"}]
     if key == "resistance" and n:
         xs = [min(n), max(n)]
         data.append({"type": "scatter", "mode": "lines", "name": "robust trend", "x": xs,

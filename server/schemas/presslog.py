@@ -102,6 +102,27 @@ class ClothOut(BaseModel):
     wash_interval: WashIntervalOut | None
 
 
+class PlantOut(BaseModel):
+    resistance: float = Field(description="alpha, the mean over the cycles fitted (at reference_pressure) [m/kg]")
+    resistance_stderr: float = Field(description="Its standard error from the cycles' scatter [m/kg]")
+    medium_resistance: float = Field(description="R_m of a freshly washed cloth [1/m]")
+    medium_resistance_stderr: float = Field(description="[1/m]")
+    reference_pressure: float = Field(description="[Pa]")
+    compressibility: float = Field(description="s, the scenario's [-]")
+    pressure_basis: str
+    cycles_used: int
+
+
+class CalibrationOut(BaseModel):
+    from_lab_fit: bool = Field(description="The scenario carries standard errors, as a lab fit gives them")
+    lab_resistance: float = Field(description="The scenario's alpha [m/kg]")
+    lab_medium_resistance: float = Field(description="The scenario's R_m [1/m]")
+    resistance_ratio: float = Field(description="Plant / scenario alpha [-]")
+    resistance_ratio_stderr: float = Field(description="[-]")
+    medium_resistance_ratio: float | None = Field(description="Plant (clean cloth) / scenario R_m [-]")
+    medium_resistance_ratio_stderr: float | None = Field(description="[-]")
+
+
 class PressLogResponse(BaseModel):
     cycles_found: int
     how_found: str
@@ -115,8 +136,8 @@ class PressLogResponse(BaseModel):
     trend: dict[str, TrendOut]
     alpha_drift: dict
     cloth: ClothOut
-    plant: dict
-    calibration: dict
+    plant: PlantOut
+    calibration: CalibrationOut
     model: dict
     chart_cycle: dict
     calibrated_inputs: dict | None
