@@ -10,6 +10,7 @@ volume (``volume [L]``) or filtrate mass (``mass [kg]``, with the filtrate densi
 does not read is found afterwards and named by its line, row and column.
 """
 
+import io
 import math
 from dataclasses import dataclass
 from warnings import catch_warnings, simplefilter
@@ -144,6 +145,26 @@ def _numbers(cells: list, cell_name: str, col: int, row_at, decimal_comma: bool 
     return values
 
 
+def _fast_columns(data: bytes, sep: str, numeric: list) -> dict | None:
+    """The numeric columns by numpy's C reader (fast, and lean on memory for tens of MB), or
+    None when a cell does not read as a finite number (the slow path then names it)."""
+    try:
+        with catch_warnings():
+            simplefilter("ignore")
+            table = np.loadtxt(io.BytesIO(data), delimiter=sep, usecols=[pos for _, pos in numeric], dtype=float,
+                               comments=None, ndmin=2, encoding="utf-8")
+    except ValueError:
+        return None
+    if not np.isfinite(table).all():
+        return None
+    return {key: table[:, j] for j, (key, _) in enumerate(numeric)}
+
+
+def _text_column(data: bytes, sep: str, pos: int) -> list:
+    return np.loadtxt(io.BytesIO(data), delimiter=sep, usecols=[pos], dtype=str, comments=None, ndmin=1,
+                      encoding="utf-8").tolist()
+
+
 def _dates(cells: list, cell_name: str, col: int, row_at) -> np.ndarray:
     """ISO 8601 dates -> datetime64[ms]; a time zone offset ("+01:00", "Z") is taken to UTC."""
     texts = [c.strip() for c in cells]
@@ -167,8 +188,9 @@ def read_log(text: str, ignore_columns=(), filtrate_density: float | None = None
     """A press log in SI from CSV text; CsvError names the line, row and column of a problem.
 
     The rows are handled as one text, not line by line: cells per row counted with numpy on
-    the bytes, the whole text split once, each column read by numpy (a 2-million-row log in
-    about a second). Blank and comment lines take a slower path that remembers line numbers.
+    the bytes, the numbers read by numpy's C reader (a 2-million-row log in about a second).
+    Only a file with a cell that does not read is split cell by cell, to name that cell; blank
+    and comment lines take a slower path that remembers line numbers.
     """
     if "\r" in text:
         text = text.replace("\r\n", "\n").replace("\r", "\n")
@@ -204,7 +226,8 @@ def read_log(text: str, ignore_columns=(), filtrate_density: float | None = None
         return f"line {line} (row {i + 1})"
 
     ncols = len(names)
-    raw = np.frombuffer(body.encode("utf-8"), dtype=np.uint8)
+    data = body.encode("utf-8")
+    raw = np.frombuffer(data, dtype=np.uint8)
     breaks = np.flatnonzero(raw == 10)
     seps = np.flatnonzero(raw == ord(sep))
     counts = np.bincount(np.searchsorted(breaks, seps), minlength=nrows)
@@ -212,17 +235,25 @@ def read_log(text: str, ignore_columns=(), filtrate_density: float | None = None
     if wrong.size:
         i = int(wrong[0])
         raise CsvError(None, f"{row_at(i)}: expected {ncols} values separated by {_sep_name(sep)}; got {counts[i] + 1}")
-    decimal_comma = sep != "," and "," in body
+    del raw, breaks, seps, counts
+    decimal_comma = sep != "," and b"," in data
     if decimal_comma:  # one pass over the text; a cell that mixes both no longer reads as a number
-        body = body.replace(",", ".")
-    flat = body.replace("\n", sep).split(sep)
+        data = data.replace(b",", b".")
+    numeric = [(key, pos) for key, (pos, _, _) in columns.items() if key != "timestamp"]
+    parsed = _fast_columns(data, sep, numeric)
+    flat = None
+    if parsed is None:  # some cell does not read: find it, cell by cell, to name it
+        flat = (body.replace(",", ".") if decimal_comma else body).replace("\n", sep).split(sep)
     values, dates = {}, None
     for key, (pos, cell_name, factor) in columns.items():
-        cells = flat[pos::ncols]
         if key == "timestamp":
+            cells = flat[pos::ncols] if flat is not None else _text_column(data, sep, pos)
             dates = _dates(cells, cell_name, pos, row_at)
             continue
-        v = _numbers(cells, cell_name, pos, row_at, decimal_comma) * factor
+        if parsed is not None:
+            v = parsed[key] * factor
+        else:
+            v = _numbers(flat[pos::ncols], cell_name, pos, row_at, decimal_comma) * factor
         low, high, unit = RANGES[key]
         out = np.flatnonzero((v < low) | (v > high))
         if out.size:
