@@ -48,6 +48,7 @@ lint: $(VENV)/.installed-test
 bench: $(VENV)/.installed-test
 	$(BIN)/python bench/run.py
 	$(BIN)/python bench/server_cpu.py
+	$(BIN)/python bench/presslog.py
 
 # 100,000 saved scenarios on SQLite and on a throwaway PostgreSQL: size, list, search, save
 bench-store: $(VENV)/.installed-test postgresql

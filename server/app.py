@@ -13,7 +13,7 @@ from fastapi.templating import Jinja2Templates
 
 from . import errors
 from .guards import EdgeGuard, one_shot_receive
-from .routers import cycle, health, labfit, pages, plan, scenarios, ui
+from .routers import cycle, health, labfit, pages, plan, presslog, scenarios, ui
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
 from .store import StorageError, open_store
@@ -38,7 +38,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
         title="presscycle",
         version=SOLVER_VERSION,
         description=(f"Batch filter press cycles from lab filtration data. Quantities accept units. Limits: "
-                     f"request bodies up to {settings.max_body_bytes:,} bytes (413 above); a calculation "
+                     f"request bodies up to {settings.max_body_bytes:,} bytes (413 above; a press log up to "
+                     f"{settings.max_log_bytes:,}); a calculation "
                      f"up to {settings.solve_seconds:g} s (503 above)."),
         # FastAPI's own /docs and /redoc load their scripts from a CDN; the plant intranet has
         # none, so /api renders the OpenAPI schema itself.
@@ -68,6 +69,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(labfit.router)
     app.include_router(plan.router)
     app.include_router(plan.pages)
+    app.include_router(presslog.router)
+    app.include_router(presslog.pages)
     app.include_router(ui.router)
     app.include_router(scenarios.router)
     app.include_router(scenarios.pages)
@@ -75,7 +78,8 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     errors.install(app, templates)
     app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout,
                        on_error=lambda path, accept: errors.unexpected_answer(templates, path, accept),
-                       allowed_hosts=settings.allowed_hosts)
+                       allowed_hosts=settings.allowed_hosts,
+                       path_limits={path: settings.max_log_bytes for path in presslog.LOG_PATHS})
     _warm(app, templates)
     return app
 

@@ -53,8 +53,11 @@ class _TooLarge(Exception):
 class EdgeGuard:
     """Pure ASGI middleware applying the guards above to every HTTP request."""
 
-    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0, on_error=None, allowed_hosts=()):
+    def __init__(self, app, max_bytes: int, body_timeout: float = 30.0, on_error=None, allowed_hosts=(),
+                 path_limits=None):
         self.app = app
+        #: paths that take larger bodies than max_bytes (a plant log): path -> bytes
+        self.path_limits = dict(path_limits or {})
         #: host names this server answers to (empty: any); refuses DNS-rebinding pages
         self.allowed_hosts = {h.lower() for h in allowed_hosts}
         self.max_bytes = max_bytes
@@ -113,17 +116,18 @@ class EdgeGuard:
         if refusal:
             return await _answer(send_with_headers, 403, refusal)
         length = headers.get("content-length", "")
-        if length.isdigit() and int(length) > self.max_bytes:
-            return await _answer(send_with_headers, 413, self._too_large())
+        limit = self.path_limits.get(path, self.max_bytes)
+        if length.isdigit() and int(length) > limit:
+            return await _answer(send_with_headers, 413, self._too_large(limit))
         body_types = BODY_TYPES.get(path, JSON_ONLY)
         media_type = headers.get("content-type", "").split(";")[0].strip().lower()
         if (length not in ("", "0") or "transfer-encoding" in headers) and media_type not in body_types:
             return await _answer(send_with_headers, 415,
                                  f"send the body as {' or '.join(body_types)} (got {media_type or 'no content type'})")
         try:
-            body = await asyncio.wait_for(self._read(receive), timeout=self.body_timeout)
+            body = await asyncio.wait_for(self._read(receive, limit), timeout=self.body_timeout)
         except _TooLarge:
-            return await _answer(send_with_headers, 413, self._too_large())
+            return await _answer(send_with_headers, 413, self._too_large(limit))
         except TimeoutError:
             return await _answer(send_with_headers, 408,
                                  f"the request body did not arrive within {self.body_timeout:g} s")
@@ -131,7 +135,7 @@ class EdgeGuard:
             return None
         return await self.app(scope, one_shot_receive(body, receive), send_with_headers)
 
-    async def _read(self, receive) -> bytes | None:
+    async def _read(self, receive, limit: int) -> bytes | None:
         chunks, size = [], 0
         while True:
             message = await receive()
@@ -139,14 +143,14 @@ class EdgeGuard:
                 return None
             chunk = message.get("body", b"")
             size += len(chunk)
-            if size > self.max_bytes:
+            if size > limit:
                 raise _TooLarge
             chunks.append(chunk)
             if not message.get("more_body", False):
                 return b"".join(chunks)
 
-    def _too_large(self) -> str:
-        return f"the request body is larger than {self.max_bytes // 1000} kB"
+    def _too_large(self, limit: int) -> str:
+        return f"the request body is larger than {limit // 1000:,} kB"
 
 
 #: A path the slash redirect may point at: RFC 3986 path characters, percent-encoded as sent

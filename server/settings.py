@@ -18,6 +18,9 @@ class Settings(BaseSettings):
     demo_dir: Path = PROJECT_ROOT / "demo_cases"
     #: Largest request body [bytes]; larger is a 413 (environment: PRESSCYCLE_MAX_BODY_BYTES).
     max_body_bytes: int = 2_000_000
+    #: Largest plant log sent to /api/v1/press-log and /ui/press-log [bytes]
+    #: (PRESSCYCLE_MAX_LOG_BYTES): 1,000 cycles of 2,000 rows are about 60 MB.
+    max_log_bytes: int = 150_000_000
     #: A request body must arrive within this many seconds, else 408.
     body_timeout: float = 30.0
     #: A calculation must end within this many seconds, else 503 (server/budget.py).

@@ -66,3 +66,21 @@ def test_an_inline_script_would_be_refused_and_seen(strict_page):
         pg.add_script_tag(content="document.body.dataset.ran = 'yes';")
     assert pg.get_attribute("body", "data-ran") is None
     assert any("Content Security Policy" in e for e in pg.errors)
+
+
+def test_press_log_page_fits_and_draws_under_the_csp(strict_page):
+    import httpx
+
+    from tests.synthetic_logs import synthetic_log, to_csv
+    from tests.test_api_presslog import SCENARIO
+
+    pg = strict_page
+    sid = httpx.post(pg.base + "/api/v1/scenarios", json={"name": "csp log", "inputs": SCENARIO}).json()["id"]
+    pg.goto(pg.base + f"/press-log?scenario={sid}")
+    pg.set_input_files("#f-file", files=[{"name": "log.csv", "mimeType": "text/csv",
+                                          "buffer": to_csv(synthetic_log(cycles=8)).encode()}])
+    pg.locator("#file-info", has_text="read").wait_for()
+    pg.click("#analyse")
+    pg.locator("#status", has_text="Done").wait_for()
+    pg.locator(".js-plotly-plot").nth(4).wait_for()
+    assert pg.errors == []

@@ -106,6 +106,16 @@ def open_page(page, kind: str, saved_ids) -> int:
     elif kind == "compare":
         page.goto(page.base + f"/compare?ids={','.join(saved_ids)}")
         n = 2
+    elif kind == "presslog":
+        from tests.synthetic_logs import synthetic_log, to_csv
+
+        page.goto(page.base + f"/press-log?scenario={saved_ids[0]}")
+        page.set_input_files("#f-file", files=[{"name": "log.csv", "mimeType": "text/csv",
+                                                "buffer": to_csv(synthetic_log(cycles=20, seed=3)).encode()}])
+        page.wait_for_function("document.getElementById('file-info').textContent.includes('read')")
+        page.click("#analyse")
+        page.wait_for_selector("[data-testid=presslog-results]")
+        n = 5
     else:
         page.goto(page.base + "/lab")
         for i, (name, kPa, readings) in enumerate(LAB_TESTS):
@@ -119,7 +129,7 @@ def open_page(page, kind: str, saved_ids) -> int:
     return n
 
 
-PAGES = ["editor", "saved", "compare", "lab", "list"]
+PAGES = ["editor", "saved", "compare", "lab", "list", "presslog"]
 
 
 @pytest.fixture(scope="module")

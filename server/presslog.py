@@ -1,0 +1,605 @@
+"""Plant logs at the edge: CSV text -> SI arrays, and a /api/v1/press-log request -> the
+solver's log fit (server/solver/logfit.py) -> plain SI data.
+
+A press log is a CSV export, units in the headers as the lab readings take them
+(server/labdata.py): comma, semicolon or tab separated; a decimal comma when the separator is
+not a comma. Columns: a time (``time [s]``, or ``timestamp`` with ISO 8601 dates), the feed
+pressure (``pressure [bar]``), and one of filtrate flow (``flow [L/min]``), cumulative filtrate
+volume (``volume [L]``) or filtrate mass (``mass [kg]``, with the filtrate density); optionally
+``cycle``. Hundreds of thousands of rows are read column by column with numpy; a cell that
+does not read is found afterwards and named by its line, row and column.
+"""
+
+import io
+import math
+from dataclasses import dataclass
+from warnings import catch_warnings, simplefilter
+
+import numpy as np
+
+from . import solver
+from .errors import InputError
+from .labdata import _HEADER, CsvError, _sep_name, _separator
+from .scenarios import save, validate_inputs
+from .schemas.presslog import PressLogRequest
+from .solve import CAUTIONS, build_system, first_non_finite, solve
+from .solver import logfit, planning
+from .units import UnitError, parse_quantity
+
+#: Most rows a log may have (1,000 cycles of 5,000 rows).
+MAX_ROWS = 5_000_000
+
+#: Column key -> (names people give it, quantity kind, label). Names are matched without case.
+LOG_COLUMNS = {
+    "time": (("time", "t", "zeit", "elapsed time", "seconds"), "time", "time"),
+    "timestamp": (("timestamp", "date", "datetime", "date time", "zeitstempel"), None, "timestamp"),
+    "pressure": (("pressure", "feed pressure", "p", "druck", "pressure drop", "feed pressure drop"), "pressure",
+                 "feed pressure"),
+    "flow": (("flow", "filtrate flow", "flow rate", "filtrate rate", "q", "filtrate flow rate"), "flow",
+             "filtrate flow"),
+    "volume": (("volume", "filtrate", "filtrate volume", "cumulative filtrate", "cumulative volume", "v",
+                "tank volume"), "volume", "filtrate volume"),
+    "mass": (("mass", "filtrate mass", "load cell", "weight", "filtrate weight"), "mass", "filtrate mass"),
+    "cycle": (("cycle", "cycle number", "batch", "cycle no"), None, "cycle"),
+}
+#: Allowed ranges of the readings, SI (a reading outside is refused, never clamped).
+RANGES = {
+    "time": (0.0, 1e10, "s"), "pressure": (-1e5, 1e8, "Pa"), "flow": (-10.0, 10.0, "m³/s"),
+    "volume": (-1e3, 1e6, "m³"), "mass": (-1e6, 1e9, "kg"), "cycle": (0.0, 1e9, ""),
+}
+EXAMPLE = "time [s], feed pressure [bar], filtrate flow [L/min]"
+SAMPLE_UNITS = {"time": "s", "pressure": "bar", "flow": "L/min", "volume": "L", "mass": "kg"}
+
+UNITS = {
+    "time": "s", "pressure": "Pa", "flow": "m^3/s", "volume": "m^3", "resistance": "m/kg",
+    "medium_resistance": "1/m", "growth_per_cycle": "1/m", "throughput": "m^3/s", "integral": "Pa*s",
+    "residual_rms": "Pa*s", "ratio": "1", "cycle_time": "s", "filtration_time": "s", "filtrate_volume": "m^3",
+    "wash_time": "s", "wash_interval": "cycles", "reference_pressure": "Pa", "filter_area": "m^2",
+    "viscosity": "Pa*s", "c": "kg/m^3",
+}
+
+
+@dataclass(frozen=True)
+class Log:
+    time: np.ndarray  # s from the first row
+    pressure: np.ndarray  # Pa
+    volume: np.ndarray  # m^3, cumulative (from flow: integrated over the log)
+    signal: str  # "flow", "volume" or "mass"
+    cycle: np.ndarray | None
+    dates: np.ndarray | None  # datetime64[ms] when the log gave timestamps
+    flow: np.ndarray | None  # m^3/s when logged
+    units: dict  # column key -> header as written
+    separator: str
+    decimal: str
+    line_of_row: np.ndarray | None  # file line of each data row when blank or comment lines were skipped
+
+    def where(self, row: int) -> str:
+        line = int(self.line_of_row[row]) if self.line_of_row is not None else row + 2
+        return f"line {line} (row {row + 1})"
+
+
+def _columns(names: list[str], header_line: int, ignore: set) -> dict:
+    columns = {}
+    for pos, cell in enumerate(names):
+        if not cell:
+            continue
+        m = _HEADER.match(cell)
+        name = (m.group(1) if m else cell).strip().lower()
+        key = next((k for k, (alias, _, _) in LOG_COLUMNS.items() if name in alias), None)
+        if key is None:
+            if cell in ignore or name in ignore:
+                continue
+            known = ", ".join(f"'{spec[0][0]}'" for spec in LOG_COLUMNS.values())
+            raise CsvError(header_line, f"column {pos + 1} '{cell}' is not a press-log column (known: {known}); "
+                                        "leave it out of the file or list it in ignore_columns")
+        kind = LOG_COLUMNS[key][1]
+        if kind is not None and not m:
+            raise CsvError(header_line, f"column {pos + 1} '{cell}' has no unit: write it as, for example, "
+                                        f"'{cell} [{SAMPLE_UNITS[key]}]'")
+        if key in columns:
+            raise CsvError(header_line, f"column {pos + 1} '{cell}': two columns give the {LOG_COLUMNS[key][2]}")
+        factor = 1.0
+        if kind is not None:
+            unit = m.group(2)
+            try:
+                factor = parse_quantity(f"1 {unit}", kind)
+                if kind != "time" and parse_quantity(f"0 {unit}", kind) != 0.0:
+                    raise UnitError("a unit with an offset cannot be read here")
+            except UnitError as exc:
+                raise CsvError(header_line, f"column {pos + 1} '{cell}': [{unit}] is not a {LOG_COLUMNS[key][2]} "
+                                            f"unit ({exc})") from None
+        columns[key] = (pos, cell, factor)
+    if "time" in columns and "timestamp" in columns:
+        raise CsvError(header_line, "give either a time column or a timestamp column, not both")
+    if "time" not in columns and "timestamp" not in columns:
+        raise CsvError(header_line, f"no time column in the header: name the columns with their units, such as "
+                                    f"'{EXAMPLE}' (or a 'timestamp' column of ISO 8601 dates)")
+    if "pressure" not in columns:
+        raise CsvError(header_line, f"no feed pressure column in the header, such as '{EXAMPLE}'")
+    signals = [k for k in ("flow", "volume", "mass") if k in columns]
+    if len(signals) != 1:
+        raise CsvError(header_line, "give exactly one of a filtrate flow, a cumulative filtrate volume or a filtrate "
+                                    f"mass column; got {len(signals) or 'none'}")
+    return columns
+
+
+def _numbers(cells: list, cell_name: str, col: int, row_at, decimal_comma: bool = False) -> np.ndarray:
+    """A column of text cells -> floats; the first cell that does not read is named."""
+    try:
+        values = np.array(cells, dtype=float)
+    except ValueError:
+        for i, cell in enumerate(cells):
+            try:
+                float(cell)
+            except ValueError:
+                what = "is empty" if not cell.strip() else f"'{cell.strip()[:40]}' is not a number"
+                if decimal_comma and cell.count(".") > 1:
+                    what += " (the file uses decimal commas: a cell mixes a decimal comma and a point)"
+                raise CsvError(None, f"{row_at(i)}, column {col + 1} '{cell_name}': {what}") from None
+        raise
+    bad = np.flatnonzero(~np.isfinite(values))
+    if bad.size:
+        i = int(bad[0])
+        raise CsvError(None, f"{row_at(i)}, column {col + 1} '{cell_name}': '{cells[i].strip()}' is not a finite "
+                             "number")
+    return values
+
+
+def _fast_columns(data: bytes, sep: str, numeric: list) -> dict | None:
+    """The numeric columns by numpy's C reader (fast, and lean on memory for tens of MB), or
+    None when a cell does not read as a finite number (the slow path then names it)."""
+    try:
+        with catch_warnings():
+            simplefilter("ignore")
+            table = np.loadtxt(io.BytesIO(data), delimiter=sep, usecols=[pos for _, pos in numeric], dtype=float,
+                               comments=None, ndmin=2, encoding="utf-8")
+    except ValueError:
+        return None
+    if not np.isfinite(table).all():
+        return None
+    return {key: table[:, j] for j, (key, _) in enumerate(numeric)}
+
+
+def _text_column(data: bytes, sep: str, pos: int) -> list:
+    return np.loadtxt(io.BytesIO(data), delimiter=sep, usecols=[pos], dtype=str, comments=None, ndmin=1,
+                      encoding="utf-8").tolist()
+
+
+def _dates(cells: list, cell_name: str, col: int, row_at) -> np.ndarray:
+    """ISO 8601 dates -> datetime64[ms]; a time zone offset ("+01:00", "Z") is taken to UTC."""
+    texts = [c.strip() for c in cells]
+    try:
+        with catch_warnings():  # numpy warns that it converts an offset to UTC: wanted here
+            simplefilter("ignore")
+            return np.array(texts, dtype="datetime64[ms]")
+    except ValueError:
+        for i, cell in enumerate(texts):
+            try:
+                with catch_warnings():
+                    simplefilter("ignore")
+                    np.datetime64(cell, "ms")
+            except ValueError:
+                raise CsvError(None, f"{row_at(i)}, column {col + 1} '{cell_name}': '{cell[:40]}' is not an ISO 8601 "
+                                     "date and time such as 2026-03-01 08:00:05") from None
+        raise
+
+
+def read_log(text: str, ignore_columns=(), filtrate_density: float | None = None) -> Log:
+    """A press log in SI from CSV text; CsvError names the line, row and column of a problem.
+
+    The rows are handled as one text, not line by line: cells per row counted with numpy on
+    the bytes, the numbers read by numpy's C reader (a 2-million-row log in about a second).
+    Only a file with a cell that does not read is split cell by cell, to name that cell; blank
+    and comment lines take a slower path that remembers line numbers.
+    """
+    if "\r" in text:
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+    pos, first = 0, 0
+    while True:  # the header: the first line that is neither blank nor a comment
+        end = text.find("\n", pos)
+        line = text[pos:] if end < 0 else text[pos:end]
+        if line.strip() and not line.lstrip().startswith("#"):
+            break
+        if end < 0:
+            raise CsvError(None, f"the text is empty: give a header such as '{EXAMPLE}' and rows below it")
+        pos, first = end + 1, first + 1
+    header = line
+    sep = _separator(header)
+    names = [h.strip() for h in header.split(sep)]
+    columns = _columns(names, first + 1, set(ignore_columns))
+    body = "" if end < 0 else text[end + 1:].rstrip("\n")
+    line_of_row = None
+    if any(mark in body for mark in ("\n\n", "#", "\n ", "\n\t")) or body[:1] in (" ", "\t"):
+        # perhaps blank or comment lines: left out, line numbers kept
+        lines = body.split("\n")
+        keep = [i for i, ln in enumerate(lines) if ln.strip() and not ln.lstrip().startswith("#")]
+        line_of_row = np.asarray(keep, dtype=np.int64) + first + 2
+        body = "\n".join(lines[i] for i in keep)
+    if not body:
+        raise CsvError(None, "no rows below the header")
+    nrows = body.count("\n") + 1
+    if nrows > MAX_ROWS:
+        raise CsvError(None, f"at most {MAX_ROWS:,} rows; got {nrows:,}")
+
+    def row_at(i):
+        line = int(line_of_row[i]) if line_of_row is not None else i + first + 2
+        return f"line {line} (row {i + 1})"
+
+    ncols = len(names)
+    data = body.encode("utf-8")
+    raw = np.frombuffer(data, dtype=np.uint8)
+    breaks = np.flatnonzero(raw == 10)
+    seps = np.flatnonzero(raw == ord(sep))
+    counts = np.bincount(np.searchsorted(breaks, seps), minlength=nrows)
+    wrong = np.flatnonzero(counts != ncols - 1)
+    if wrong.size:
+        i = int(wrong[0])
+        raise CsvError(None, f"{row_at(i)}: expected {ncols} values separated by {_sep_name(sep)}; got {counts[i] + 1}")
+    del raw, breaks, seps, counts
+    decimal_comma = sep != "," and b"," in data
+    if decimal_comma:  # one pass over the text; a cell that mixes both no longer reads as a number
+        data = data.replace(b",", b".")
+    numeric = [(key, pos) for key, (pos, _, _) in columns.items() if key != "timestamp"]
+    parsed = _fast_columns(data, sep, numeric)
+    flat = None
+    if parsed is None:  # some cell does not read: find it, cell by cell, to name it
+        flat = (body.replace(",", ".") if decimal_comma else body).replace("\n", sep).split(sep)
+    values, dates = {}, None
+    for key, (pos, cell_name, factor) in columns.items():
+        if key == "timestamp":
+            cells = flat[pos::ncols] if flat is not None else _text_column(data, sep, pos)
+            dates = _dates(cells, cell_name, pos, row_at)
+            continue
+        if parsed is not None:
+            v = parsed[key] * factor
+        else:
+            v = _numbers(flat[pos::ncols], cell_name, pos, row_at, decimal_comma) * factor
+        low, high, unit = RANGES[key]
+        out = np.flatnonzero((v < low) | (v > high))
+        if out.size:
+            i = int(out[0])
+            raise CsvError(None, f"{row_at(i)}, column {pos + 1} '{cell_name}': {v[i]:.6g} {unit} is outside the "
+                                 f"allowed range {low:g} to {high:g} {unit}".replace("  ", " "))
+        values[key] = v
+    if dates is not None:
+        t = (dates - dates[0]).astype("timedelta64[ms]").astype(np.int64) / 1000.0
+        time_pos, time_name = columns["timestamp"][:2]
+    else:
+        t = values["time"] - values["time"][0]
+        time_pos, time_name = columns["time"][:2]
+    back = np.flatnonzero(np.diff(t) < 0)
+    if back.size:
+        i = int(back[0]) + 1
+        raise CsvError(None, f"{row_at(i)}, column {time_pos + 1} '{time_name}': time goes backwards "
+                             f"({t[i - 1] + (0 if dates is not None else values['time'][0]):.6g} s, then "
+                             f"{t[i] + (0 if dates is not None else values['time'][0]):.6g} s); sort the rows by time")
+    signal = next(k for k in ("flow", "volume", "mass") if k in values)
+    flow = None
+    if signal == "flow":
+        flow = values["flow"]
+        volume = np.concatenate(([0.0], np.cumsum(0.5 * (flow[1:] + flow[:-1]) * np.diff(t))))
+    elif signal == "volume":
+        volume = values["volume"]
+    else:
+        if filtrate_density is None:
+            raise CsvError(None, "a filtrate mass column needs filtrate_density (kg/m³) to give the volume")
+        volume = values["mass"] / filtrate_density
+    units = {k: cell for k, (_, cell, _) in columns.items()}
+    cycle = values.get("cycle")
+    return Log(t, values["pressure"], volume, signal, cycle, dates, flow, units, _sep_name(sep),
+               "comma" if decimal_comma else "point", line_of_row)
+
+
+def _csv_error(exc: CsvError) -> InputError:
+    return InputError([(("body", "csv"), str(exc))])
+
+
+def _check_gaps(log: Log, cycles: logfit.Cycles, gap: float | None, use) -> None:
+    """A pause in the log while the press is under pressure cannot be integrated over."""
+    dt = np.diff(log.time)
+    step = float(np.median(dt)) if dt.size else 0.0
+    limit = gap if gap is not None else max(60.0, 20.0 * step)
+    inside = np.zeros(log.time.size, dtype=bool)
+    for a, b in zip(cycles.first[use], cycles.last[use]):  # a few hundred cycles: slices, not rows
+        inside[a + 1:b + 1] = True
+    bad = np.flatnonzero(inside[1:] & (dt > limit)) + 1
+    if bad.size:
+        i = int(bad[0])
+        raise CsvError(None, f"{log.where(i)}, column '{log.units.get('time') or log.units.get('timestamp')}': a gap "
+                             f"of {dt[i - 1]:.6g} s in the log while the press is under pressure (more than "
+                             f"{limit:.6g} s): the filtration cannot be integrated over it; exclude the cycle, or "
+                             "give a longer gap if the logger writes only when a value changes")
+
+
+def _trend(tr: logfit.Trend) -> dict:
+    return {"slope": tr.slope, "slope_low": tr.slope_low, "slope_high": tr.slope_high, "intercept": tr.intercept,
+            "scatter": tr.scatter}
+
+
+def _calibrated_inputs(raw: dict, plant: dict, growth: float | None) -> dict:
+    out = {**raw}
+    cake = {**raw["cake"], "resistance": plant["resistance"]}
+    cake.pop("resistance_stderr", None)
+    if plant.get("resistance_stderr"):
+        cake["resistance_stderr"] = plant["resistance_stderr"]
+    out["cake"] = cake
+    out["medium_resistance"] = plant["medium_resistance"]
+    out.pop("medium_resistance_stderr", None)
+    out.pop("resistance_medium_correlation", None)
+    if plant.get("medium_resistance_stderr"):
+        out["medium_resistance_stderr"] = plant["medium_resistance_stderr"]
+    if growth is not None and growth > 0:
+        out["cloth"] = {**(raw.get("cloth") or {}), "resistance_growth_per_cycle": growth}
+    return out
+
+
+def analyse(req: PressLogRequest, store=None) -> dict:
+    """The whole /api/v1/press-log answer as plain SI data (checked finite), and the saved
+    calibrated copy when asked for. Nothing is saved unless every step succeeded."""
+    # the scenario: c, mu and the filter area
+    parent = None
+    if req.scenario_id is not None:
+        if store is None:
+            raise InputError([(("body", "scenario_id"), "no store to read saved scenarios from")])
+        saved = store.get(req.scenario_id)
+        if saved is None:
+            raise InputError([(("body", "scenario_id"), f"no saved scenario {req.scenario_id!r}")])
+        raw, prefix, parent = saved.inputs, ("body", "scenario_id"), saved.id
+    else:
+        raw, prefix = req.inputs, ("body", "inputs")
+    inputs = validate_inputs(raw, prefix)
+    if inputs.cake.local is not None:
+        raise InputError([((*prefix, "cake", "local"), "the press log fits the cake's average resistance: give the "
+                                                        "scenario's cake as resistance (with compressibility), not "
+                                                        "local laws")])
+    try:
+        built = build_system(inputs)
+    except InputError as exc:
+        raise exc.within(prefix) from None
+    f = built.system.filtration
+    A, mu, c = built.system.press.filter_area, f.viscosity, f.solids_per_filtrate
+
+    try:
+        log = read_log(req.csv, req.ignore_columns or (), req.filtrate_density)
+        cycles = logfit.find_cycles(log.time, log.pressure, log.volume if log.signal != "flow" else None,
+                                    log.cycle, req.gap, req.pressure_on_share)
+        if cycles.count == 0:
+            raise CsvError(None, "no cycle found: the feed pressure never rises for long (check the pressure column "
+                                 "and its unit)")
+    except CsvError as exc:
+        raise _csv_error(exc) from None
+    numbers = np.arange(1, cycles.count + 1)
+    if log.cycle is not None:
+        numbers = log.cycle[cycles.start].astype(np.int64)
+    excluded = set(req.exclude_cycles or ())
+    unknown = sorted(excluded - set(numbers.tolist()))
+    if unknown:
+        raise InputError([(("body", "exclude_cycles"), f"no cycle {unknown[0]} in the log: cycles are numbered "
+                                                        f"{numbers[0]} to {numbers[-1]}")])
+    use = np.array([n not in excluded for n in numbers.tolist()])
+    if use.sum() < 1:
+        raise InputError([(("body", "exclude_cycles"), "every cycle is excluded: keep at least one")])
+    try:
+        _check_gaps(log, cycles, req.gap, use)
+    except CsvError as exc:
+        raise _csv_error(exc) from None
+    V_phase = log.volume[cycles.last] - log.volume[cycles.first]
+    empty = np.flatnonzero(use & ~(V_phase > 0))
+    if empty.size:
+        k = int(empty[0])
+        raise InputError([(("body", "csv"), f"cycle {int(numbers[k])} ({log.where(int(cycles.first[k]))} to "
+                                            f"{log.where(int(cycles.last[k]))}) collects no filtrate under pressure: "
+                                            "check the flow or volume column, or exclude the cycle")])
+    try:
+        fits = logfit.fit_cycles(
+            log.time, log.pressure, log.volume, cycles, A, mu, c, use=use, compressibility=f.compressibility,
+            reference_pressure=f.reference_pressure, pressure_basis=f.pressure_basis,
+            volume_scatter="integrated" if log.signal == "flow" else "reading")
+    except solver.SolverInputError as exc:
+        where = ("body", "exclude_cycles") if exc.parameter == "cycles" else ("body", "csv")
+        msg = exc.message
+        if exc.parameter == "cycles":  # the solver counts the fitted cycles from 1: name the log's number
+            k = int(msg.split()[1]) - 1
+            msg = msg.replace(f"cycle {k + 1} ", f"cycle {int(numbers[k])} ", 1)
+        raise InputError([(where, msg)]) from None
+    used_numbers = numbers[use]
+    k_used = np.flatnonzero(use)
+    warnings = []
+
+    # cycle times: from one filtration start to the next
+    starts = log.time[cycles.first]
+    cycle_time = np.append(np.diff(starts), np.nan)
+
+    # cloth washes and blinding
+    if req.cloth_washes is not None:
+        wash_numbers = sorted(set(req.cloth_washes))
+        missing = [w for w in wash_numbers if w not in set(numbers.tolist())]
+        if missing:
+            raise InputError([(("body", "cloth_washes"), f"no cycle {missing[0]} in the log: cycles are numbered "
+                                                         f"{numbers[0]} to {numbers[-1]}")])
+        wash_pos = np.searchsorted(used_numbers, wash_numbers)
+        washes_from = "user"
+    else:
+        wash_pos = logfit.detect_washes(fits.medium_resistance)
+        washes_from = "detected"
+    blinding = logfit.cloth_blinding(used_numbers, fits.medium_resistance, wash_pos)
+    wash_cycles = [int(used_numbers[p]) for p in blinding.washes] if washes_from == "detected" else wash_numbers
+
+    # trends
+    drift = logfit.alpha_drift(used_numbers, fits.resistance)
+    if drift.flagged:
+        warnings.append(drift.note)
+    rm_trend = logfit.robust_trend(used_numbers, fits.medium_resistance)
+
+    # the plant's values: alpha as the mean over cycles, the clean cloth from the blinding fit
+    n_used = fits.resistance.size
+    alpha_plant = float(np.mean(fits.resistance))
+    alpha_se = float(np.std(fits.resistance, ddof=1) / math.sqrt(n_used)) if n_used > 1 else float(
+        fits.resistance_stderr[0])
+    plant = {"resistance": alpha_plant, "resistance_stderr": alpha_se, "medium_resistance": blinding.clean,
+             "medium_resistance_stderr": blinding.clean_stderr, "reference_pressure": f.reference_pressure,
+             "compressibility": f.compressibility, "pressure_basis": f.pressure_basis,
+             "cycles_used": int(n_used)}
+    if not blinding.clean > 0:
+        warnings.append("The cloth resistance from the log is not above zero: the calibrated copy needs a cloth "
+                        "resistance above 0, so it cannot be saved from this log.")
+    if n_used > 1 and np.min(fits.r_squared) < 0.99:
+        worst = int(used_numbers[int(np.argmin(fits.r_squared))])
+        warnings.append(f"Cycle {worst} fits the rate equation poorly (R² {np.min(fits.r_squared):.3f}): check it "
+                        "or exclude it.")
+    lab = inputs.cake
+    calibration = {
+        "from_lab_fit": lab.resistance_stderr is not None or inputs.medium_resistance_stderr is not None,
+        "lab_resistance": lab.resistance, "lab_medium_resistance": inputs.medium_resistance,
+    }
+    r, r_se = logfit.ratio_with_error(alpha_plant, alpha_se, lab.resistance, lab.resistance_stderr)
+    calibration.update(resistance_ratio=r, resistance_ratio_stderr=r_se)
+    if inputs.medium_resistance > 0:
+        r, r_se = logfit.ratio_with_error(blinding.clean, blinding.clean_stderr, inputs.medium_resistance,
+                                          inputs.medium_resistance_stderr)
+        calibration.update(medium_resistance_ratio=r, medium_resistance_ratio_stderr=r_se)
+    else:
+        calibration.update(medium_resistance_ratio=None, medium_resistance_ratio_stderr=None)
+        warnings.append("The scenario neglects the cloth resistance (0 1/m): no ratio for it.")
+
+    # the wash interval from the planning model at the plant's values and typical cycle
+    parts = inputs.cycle.downtime_parts
+    wash_time = req.cloth_wash_time
+    if wash_time is None and parts is not None and parts.cloth_wash is not None:
+        wash_time = parts.cloth_wash.time
+    growth = blinding.growth
+    cloth = {
+        "washes": wash_cycles, "washes_from": washes_from, "growth_per_cycle": growth,
+        "growth_per_cycle_stderr": blinding.growth_stderr,
+        "relative_growth_per_cycle": growth / blinding.clean if blinding.clean > 0 else None,
+        "clean_resistance": blinding.clean, "clean_resistance_stderr": blinding.clean_stderr,
+        "current_resistance": blinding.current, "cycles_since_wash": blinding.cycles_since_wash,
+        "wash_interval": None,
+    }
+    calibrated = calibrated_system = None
+    bad_cycles = used_numbers[(fits.resistance <= 0) | (fits.medium_resistance < 0)]
+    if bad_cycles.size:
+        warnings.append(f"Cycles {', '.join(map(str, bad_cycles[:10].tolist()))}"
+                        f"{' …' if bad_cycles.size > 10 else ''} give a cake or cloth resistance below zero: the "
+                        "logged pressure and flow do not follow the rate equation there (check or exclude them).")
+    if blinding.clean > 0 and alpha_plant > 0:
+        calibrated = _calibrated_inputs(raw, plant, growth if growth > 0 else None)
+        try:
+            calibrated_system = build_system(validate_inputs(calibrated, prefix)).system
+        except InputError as exc:
+            warnings.append("The scenario with the plant's values is refused ("
+                            f"{exc.errors[0][1]}): no calibrated copy from this log.")
+            calibrated = None
+    V_typical = float(np.median(fits.filtrate_volume))
+    if wash_time is None:
+        warnings.append("No cloth wash time (cloth_wash_time, or the scenario's downtime_parts.cloth_wash): no "
+                        "wash interval recommended.")
+    elif not growth > 0 or growth <= 2.0 * blinding.growth_stderr:
+        warnings.append("The cloth resistance does not grow measurably from cycle to cycle in this log: no wash "
+                        "interval recommended.")
+    elif calibrated_system is not None:
+        wear = planning.cloth_wear(calibrated_system, V_typical, growth, wash_time)
+        cloth["wash_interval"] = {"best": wear.best_interval, "classic": wear.classic_interval,
+                                  "wash_time": wash_time, "filtrate_volume": V_typical,
+                                  "first_increase": wear.first_increase}
+
+    # throughput per cycle against the model's best
+    throughput = fits.filtrate_volume / cycle_time[k_used]
+    try:
+        model = {"filtrate_throughput": solve(inputs).results["best"]["filtrate_throughput"]}
+    except InputError as exc:
+        raise exc.within(prefix) from None
+    if calibrated is not None:
+        try:
+            model["calibrated_filtrate_throughput"] = solve(validate_inputs(calibrated, prefix)).results["best"][
+                "filtrate_throughput"]
+        except InputError as exc:
+            model["calibrated_filtrate_throughput"] = None
+            warnings.append(f"The scenario with the plant's values cannot be solved ({exc.errors[0][1]}).")
+
+    # the cycle drawn
+    chart_number = req.chart_cycle if req.chart_cycle is not None else int(used_numbers[-1])
+    if chart_number not in set(used_numbers.tolist()):
+        raise InputError([(("body", "chart_cycle"), f"cycle {chart_number} is not among the cycles fitted ("
+                                                     f"{used_numbers[0]} to {used_numbers[-1]}, less those excluded)")])
+    index = int(np.flatnonzero(used_numbers == chart_number)[0])
+    k = int(k_used[index])
+    curves = logfit.cycle_curves(log.time, log.pressure, log.volume, cycles, k, fits, index, A, mu, c)
+    if log.flow is not None:
+        curves["flow"] = log.flow[cycles.first[k]:cycles.last[k] + 1]
+    else:  # a flow from the volume readings, for the picture only (the fit never differentiates)
+        curves["flow"] = np.gradient(curves["volume"], curves["time"]) if curves["time"].size > 1 else curves["volume"]
+    chart = {"number": chart_number, **{key: np.asarray(v, dtype=float).tolist() for key, v in _thin(curves).items()}}
+
+    rows_out = []
+    fit_at = {int(kk): i for i, kk in enumerate(k_used)}
+    dates = log.dates
+    for kk in range(cycles.count):
+        row = {"number": int(numbers[kk]), "excluded": not bool(use[kk]),
+               "start_time": float(log.time[cycles.first[kk]]),
+               "start_date": str(dates[cycles.first[kk]]) if dates is not None else None,
+               "cycle_time": None if math.isnan(cycle_time[kk]) else float(cycle_time[kk])}
+        i = fit_at.get(kk)
+        if i is not None:
+            row.update(
+                filtration_time=float(fits.filtration_time[i]), filtrate_volume=float(fits.filtrate_volume[i]),
+                mean_pressure=float(fits.mean_pressure[i]), max_pressure=float(fits.max_pressure[i]),
+                resistance=float(fits.resistance[i]), resistance_stderr=float(fits.resistance_stderr[i]),
+                medium_resistance=float(fits.medium_resistance[i]),
+                medium_resistance_stderr=float(fits.medium_resistance_stderr[i]),
+                resistance_medium_correlation=float(fits.correlation[i]), r_squared=float(fits.r_squared[i]),
+                residual_rms=float(fits.residual_rms[i]), rows=int(fits.rows[i]),
+                throughput=None if math.isnan(throughput[i]) else float(throughput[i]),
+                after_wash=int(numbers[kk]) in set(wash_cycles))
+        rows_out.append(row)
+
+    out = {
+        "cycles_found": cycles.count, "how_found": cycles.how, "rows": int(log.time.size),
+        "columns": log.units, "separator": log.separator, "decimal": log.decimal, "signal": log.signal,
+        "scenario": {"filter_area": A, "viscosity": mu, "c": c, "id": parent},
+        "cycles": rows_out,
+        "trend": {"resistance": _trend(drift.trend), "medium_resistance": _trend(rm_trend)},
+        "alpha_drift": {"flagged": drift.flagged, "change": drift.change, "note": drift.note},
+        "cloth": cloth, "plant": plant, "calibration": calibration, "model": model,
+        "chart_cycle": chart, "calibrated_inputs": calibrated, "saved": None,
+        "warnings": warnings, "cautions": CAUTIONS, "units": UNITS,
+    }
+    bad = first_non_finite({k2: v for k2, v in out.items() if k2 not in ("cycles", "calibrated_inputs")})
+    if bad is None:
+        bad = next((f"cycles.{i}" for i, r in enumerate(rows_out) if first_non_finite(r) is not None), None)
+    if bad is not None:
+        raise InputError([(("body", "csv"), f"this log gives a result out of numeric range ({bad}): check the "
+                                            "units of the columns")])
+    if req.save is not None:
+        if calibrated is None:
+            raise InputError([(("body", "save"), "nothing to save: this log gives no usable cake and cloth "
+                                                 "resistances (see the warnings)")])
+        note = req.save.note or _summary(out)
+        s = save(store, req.save.name, note, calibrated, parent)
+        out["saved"] = {"id": s.id, "link": f"/s/{s.id}", "parent": parent}
+    return out
+
+
+def _summary(out: dict) -> str:
+    """The source log in a sentence, for the calibrated copy's note."""
+    used = [r for r in out["cycles"] if not r["excluded"]]
+    first, last = used[0], used[-1]
+    span = f"{first['start_date']} to {last['start_date']}" if first.get("start_date") else \
+        f"{(last['start_time'] - first['start_time']) / 3600:.4g} h of log"
+    return (f"Calibrated from a press log: {len(used)} of {out['cycles_found']} cycles "
+            f"({first['number']}–{last['number']}, {span}; {out['rows']:,} rows; columns "
+            f"{', '.join(out['columns'].values())}). Plant α {out['plant']['resistance']:.4g} m/kg "
+            f"± {out['plant']['resistance_stderr']:.2g}, clean cloth R_m {out['plant']['medium_resistance']:.4g} 1/m, "
+            f"cloth growth {out['cloth']['growth_per_cycle']:.3g} 1/m per cycle.")
+
+
+MAX_CHART_POINTS = 1500
+
+
+def _thin(curves: dict) -> dict:
+    """At most MAX_CHART_POINTS rows of a cycle for the chart (every n-th row, the last kept)."""
+    n = len(curves["time"])
+    if n <= MAX_CHART_POINTS:
+        return curves
+    idx = np.unique(np.append(np.linspace(0, n - 1, MAX_CHART_POINTS).astype(np.int64), n - 1))
+    return {k: np.asarray(v)[idx] for k, v in curves.items()}

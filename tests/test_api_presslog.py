@@ -1,0 +1,372 @@
+"""POST /api/v1/press-log: synthetic plant logs from the exact model (tests/synthetic_logs.py),
+bad files named by row and column, the calibrated copy, and the size limit."""
+
+import re
+import time
+
+import numpy as np
+import pytest
+
+from server.solver import planning
+from tests.synthetic_logs import ALPHA, AREA, MU, PRESSURE, R0, Feed, synthetic_log, to_csv
+
+#: The scenario the synthetic logs belong to: c = 1000 x / (1 - 1.6 x) = 200 kg/m³ exactly at
+#: x = 0.2/1.32 (the primer's mass balance), mu 1 mPa·s, 100 m²; lab values 10 % under the plant's.
+SCENARIO = {
+    "slurry": {"solids_mass_fraction": 0.2 / 1.32, "solids_density": 2600.0, "viscosity": "1 mPa*s",
+               "liquid_density": 1000.0},
+    "cake": {"resistance": 1.8e11, "resistance_stderr": 9e9, "wet_to_dry_ratio": 1.6},
+    "medium_resistance": 7.2e11, "medium_resistance_stderr": 3.6e10,
+    "press": {"filter_area": "100 m^2", "chamber_thickness": "40 mm"},
+    "feed": {"mode": "constant_pressure", "pressure": "6 bar"},
+    "cycle": {"downtime_parts": {"fixed": "10 min", "cloth_wash": {"time": "2 h", "every_cycles": 15}}},
+}
+ROW = re.compile(r"line (\d+) \(row (\d+)\), column (\d+) '([^']+)'")
+
+
+def post(client, **body):
+    return client.post("/api/v1/press-log", json={"inputs": SCENARIO, **body})
+
+
+def error_of(r):
+    assert r.status_code == 422, r.text[:500]
+    detail = r.json()["detail"]
+    assert len(detail) == 1
+    return detail[0]["field"], detail[0]["msg"]
+
+
+@pytest.fixture(scope="module")
+def log():
+    return synthetic_log(cycles=45, growth=0.02, wash_every=15, noise=0.005, seed=17)
+
+
+@pytest.fixture(scope="module")
+def answer(client, log):
+    r = post(client, csv=to_csv(log))
+    assert r.status_code == 200, r.text
+    return r.json()
+
+
+def test_each_cycle_gives_alpha_and_cloth_within_2_percent(answer, log):
+    assert answer["cycles_found"] == 45 and answer["signal"] == "flow"
+    alpha = np.array([c["resistance"] for c in answer["cycles"]])
+    rm = np.array([c["medium_resistance"] for c in answer["cycles"]])
+    print(f"API: alpha max error {np.max(np.abs(alpha / log.alpha - 1)):.2%}, "
+          f"R_m max error {np.max(np.abs(rm / log.medium_resistance - 1)):.2%}")
+    assert np.max(np.abs(alpha / log.alpha - 1)) < 0.02
+    assert np.max(np.abs(rm / log.medium_resistance - 1)) < 0.02
+    assert answer["scenario"]["c"] == pytest.approx(200.0, rel=1e-12)
+    for c in answer["cycles"]:
+        assert c["r_squared"] > 0.999 and c["resistance_stderr"] > 0 and -1 <= c["resistance_medium_correlation"] <= 1
+
+
+def test_washes_growth_and_the_wash_interval_against_brute_force(answer, log):
+    cloth = answer["cloth"]
+    assert cloth["washes"] == log.washes == [16, 31] and cloth["washes_from"] == "detected"
+    assert cloth["growth_per_cycle"] == pytest.approx(0.02 * R0, rel=0.10)
+    assert cloth["relative_growth_per_cycle"] == pytest.approx(0.02, rel=0.10)
+    assert cloth["cycles_since_wash"] == 15
+    # brute force over N with the true cloth at the interval's volume, constant pressure:
+    # T_k = t_d + K_p V^2/2 + mu (R0 + g k) V / (A dP), downtime 10 min (derived here)
+    wi = cloth["wash_interval"]
+    V = wi["filtrate_volume"]
+    K_p = MU * ALPHA * 200.0 / (AREA**2 * PRESSURE)
+    k = np.arange(500)
+    T = 600.0 + K_p * V**2 / 2 + MU * R0 * (1 + 0.02 * k) * V / (AREA * PRESSURE)
+    brute, _ = planning.best_interval(T, 7200.0)
+    print(f"API: wash interval {wi['best']} (classic {wi['classic']:.2f}), brute force {brute}")
+    assert abs(wi["best"] / brute - 1) < 0.10
+    assert wi["wash_time"] == 7200.0
+
+
+def test_calibration_ratios_and_calibrated_inputs(answer):
+    cal, plant = answer["calibration"], answer["plant"]
+    assert cal["from_lab_fit"]
+    assert plant["resistance"] == pytest.approx(ALPHA, rel=0.01)
+    assert plant["medium_resistance"] == pytest.approx(R0, rel=0.02)
+    assert cal["resistance_ratio"] == pytest.approx(ALPHA / 1.8e11, rel=0.01)
+    # the lab's 5 % error dominates the ratio's error: first-order propagation (no source)
+    assert cal["resistance_ratio_stderr"] == pytest.approx(cal["resistance_ratio"] * 0.05, rel=0.05)
+    assert cal["medium_resistance_ratio"] == pytest.approx(R0 / 7.2e11, rel=0.02)
+    ci = answer["calibrated_inputs"]
+    assert ci["cake"]["resistance"] == plant["resistance"]
+    assert ci["medium_resistance"] == plant["medium_resistance"]
+    assert ci["cloth"]["resistance_growth_per_cycle"] == answer["cloth"]["growth_per_cycle"]
+    assert ci["press"] == SCENARIO["press"]  # the rest as entered
+    assert answer["model"]["calibrated_filtrate_throughput"] > 0
+    assert not answer["alpha_drift"]["flagged"]
+    assert answer["chart_cycle"]["number"] == 45 and len(answer["chart_cycle"]["time"]) > 100
+    assert answer["cautions"]
+
+
+@pytest.mark.parametrize("signal,sep,decimal", [("volume", ";", ","), ("mass", "\t", ".")])
+def test_volume_and_mass_logs_with_other_separators(client, signal, sep, decimal):
+    log = synthetic_log(cycles=6, feed=Feed("pump_curve", flow=0.12), noise=0.005, seed=4)
+    body = {"csv": to_csv(log, signal=signal, sep=sep, decimal=decimal)}
+    if signal == "mass":
+        body["filtrate_density"] = "1000 kg/m^3"
+    r = post(client, **body)
+    assert r.status_code == 200, r.text
+    out = r.json()
+    assert out["decimal"] == ("comma" if decimal == "," else "point")
+    rm = np.array([c["medium_resistance"] for c in out["cycles"]])
+    assert np.max(np.abs(rm / log.medium_resistance - 1)) < 0.02
+
+
+def test_a_cycle_column_excluded_cycles_and_washes_given_by_the_user(client):
+    log = synthetic_log(cycles=20, growth=0.02, wash_every=10, noise=0.005, seed=8)
+    r = post(client, csv=to_csv(log, with_cycle=True), exclude_cycles=[3, 4], cloth_washes=[11], chart_cycle=12)
+    assert r.status_code == 200, r.text
+    out = r.json()
+    assert out["how_found"] == "cycle column"
+    excluded = [c["number"] for c in out["cycles"] if c["excluded"]]
+    assert excluded == [3, 4] and out["cycles"][2]["resistance"] is None
+    assert out["cloth"]["washes"] == [11] and out["cloth"]["washes_from"] == "user"
+    assert out["plant"]["cycles_used"] == 18 and out["chart_cycle"]["number"] == 12
+
+
+def test_timestamps_give_dates_for_the_trend(client):
+    log = synthetic_log(cycles=3, noise=0.0)
+    base = np.datetime64("2026-03-01T06:00:00", "ms")
+    stamps = base + (log.time * 1000).astype("timedelta64[ms]")
+    lines = ["timestamp, feed pressure [kPa], filtrate flow [m^3/h]"] + [
+        f"{str(s).replace('T', ' ')}, {p / 1e3:.9g}, {q * 3600:.9g}" for s, p, q in zip(stamps, log.pressure, log.flow)]
+    r = post(client, csv="\n".join(lines))
+    assert r.status_code == 200, r.text
+    assert r.json()["cycles"][0]["start_date"].startswith("2026-03-01T06:00:06")
+
+
+# ---- bad files: each error names its row and column ----------------------------------------------
+
+GOOD_HEAD = "time [s], feed pressure [bar], filtrate flow [L/min]"
+
+
+def small_csv(log=None):
+    log = log or synthetic_log(cycles=2, noise=0.0)
+    return to_csv(log).splitlines()
+
+
+@pytest.mark.parametrize("header,words", [
+    ("time [s], feed pressure [bar], filtrate flow [L/min], temperature [degC]", "column 4 'temperature [degC]'"),
+    ("time [s], feed pressure [L], filtrate flow [L/min]", "column 2 'feed pressure [L]'"),
+    ("time [s], feed pressure [bar], filtrate flow [bar]", "column 3 'filtrate flow [bar]'"),
+    ("time [s], feed pressure, filtrate flow [L/min]", "column 2 'feed pressure' has no unit"),
+    ("time [s], filtrate flow [L/min]", "no feed pressure column"),
+    ("time [s], feed pressure [bar], filtrate flow [L/min], filtrate volume [L]", "exactly one of"),
+])
+def test_bad_headers_name_the_column(client, header, words):
+    lines = small_csv()
+    lines[0] = header
+    if header.count(",") == 3:
+        lines[1:] = [ln + ", 1" for ln in lines[1:]]
+    if header.count(",") == 1:
+        lines[1:] = [ln.rsplit(",", 1)[0] for ln in lines[1:]]
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    assert field == "csv" and words in msg and "line 1" in msg
+
+
+def test_an_unknown_column_listed_in_ignore_columns_is_left_out(client):
+    lines = small_csv()
+    lines[0] += ", temperature [degC]"
+    lines[1:] = [ln + ", 21.5" for ln in lines[1:]]
+    r = post(client, csv="\n".join(lines), ignore_columns=["temperature [degC]"])
+    assert r.status_code == 200, r.text
+
+
+@pytest.mark.parametrize("row,col,cell,words", [
+    (500, 2, "abc", "'abc' is not a number"),
+    (700, 3, "", "is empty"),
+    (40, 1, "nan", "not a finite number"),
+    (900, 2, "-5", "outside the allowed range"),
+])
+def test_bad_cells_name_their_line_row_and_column(client, row, col, cell, words):
+    lines = small_csv()
+    cells = lines[row].split(",")
+    cells[col - 1] = cell
+    lines[row] = ",".join(cells)
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    m = ROW.search(msg)
+    assert field == "csv" and m, msg
+    assert (int(m.group(1)), int(m.group(2)), int(m.group(3))) == (row + 1, row, col)
+    assert words in msg
+
+
+def test_time_going_backwards_names_row_and_column(client):
+    lines = small_csv()
+    cells = lines[300].split(",")
+    cells[0] = "1"
+    lines[300] = ",".join(cells)
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    m = ROW.search(msg)
+    assert m and int(m.group(2)) == 300 and int(m.group(3)) == 1 and "backwards" in msg
+
+
+def test_a_gap_inside_a_filtration_names_its_row(client):
+    log = synthetic_log(cycles=2, noise=0.0)
+    t = log.time.copy()
+    t[200:] += 900.0  # 15 min missing while under pressure (rows 4..903 filter)
+    log.time = t
+    field, msg = error_of(post(client, csv=to_csv(log)))
+    assert "gap" in msg and "line 202 (row 201)" in msg and "time [s]" in msg
+    # excluding the cycle lets the rest through
+    assert post(client, csv=to_csv(log), exclude_cycles=[1]).status_code == 200
+
+
+def test_a_row_with_too_few_cells_and_a_mass_without_density(client):
+    lines = small_csv()
+    lines[10] = "18, 6"
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    assert "line 11 (row 10)" in msg and "expected 3 values" in msg
+    log = synthetic_log(cycles=2, noise=0.0)
+    field, msg = error_of(post(client, csv=to_csv(log, signal="mass")))
+    assert "filtrate_density" in msg
+
+
+def test_bad_requests_name_their_field(client, log):
+    csv = "\n".join(small_csv())
+    assert error_of(post(client, csv=csv, exclude_cycles=[9]))[0] == "exclude_cycles"
+    assert error_of(post(client, csv=csv, exclude_cycles=[1, 2]))[0] == "exclude_cycles"
+    assert error_of(post(client, csv=csv, chart_cycle=7))[0] == "chart_cycle"
+    assert error_of(post(client, csv=csv, pressure_on_share=0.9))[0] == "pressure_on_share"
+    r = client.post("/api/v1/press-log", json={"csv": csv})
+    assert r.status_code == 422
+    r = client.post("/api/v1/press-log", json={"csv": csv, "scenario_id": "nope"})
+    assert error_of(r)[0] == "scenario_id"
+    bad = {**SCENARIO, "medium_resistance": -1}
+    r = client.post("/api/v1/press-log", json={"csv": csv, "inputs": bad})
+    assert error_of(r)[0] == "inputs.medium_resistance"
+
+
+def test_a_log_with_no_pressure_has_no_cycle(client):
+    lines = small_csv()
+    lines[1:] = [f"{i}, 0, 0" for i in range(1, 50)]
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    assert "no cycle found" in msg
+
+
+# ---- the calibrated copy ------------------------------------------------------------------------
+
+
+def test_save_a_calibrated_copy_of_a_saved_scenario(client):
+    parent = client.post("/api/v1/scenarios", json={"name": "lab scenario", "inputs": SCENARIO})
+    assert parent.status_code in (200, 201), parent.text
+    pid = parent.json()["id"]
+    log = synthetic_log(cycles=10, growth=0.02, wash_every=15, noise=0.005, seed=2)
+    r = client.post("/api/v1/press-log", json={"scenario_id": pid, "csv": to_csv(log),
+                                               "save": {"name": "calibrated from the press"}})
+    assert r.status_code == 200, r.text
+    out = r.json()
+    assert out["saved"]["parent"] == pid and out["scenario"]["id"] == pid
+    saved = client.get(f"/api/v1/scenarios/{out['saved']['id']}").json()
+    assert saved["parent"] == pid and saved["name"] == "calibrated from the press"
+    assert saved["inputs"]["cake"]["resistance"] == pytest.approx(ALPHA, rel=0.01)
+    assert "press log" in saved["note"] and "10 of 10 cycles" in saved["note"]
+
+
+def test_nothing_is_saved_when_the_log_is_refused(client):
+    before = client.get("/api/v1/scenarios").json()
+    lines = small_csv()
+    lines[100] = "x, 1, 1"
+    r = client.post("/api/v1/press-log", json={"inputs": SCENARIO, "csv": "\n".join(lines),
+                                               "save": {"name": "must not appear"}})
+    assert r.status_code == 422
+    after = client.get("/api/v1/scenarios").json()
+    assert after == before
+
+
+# ---- size -------------------------------------------------------------------------------------------
+
+
+def test_a_1_gb_upload_is_refused_promptly(client):
+    started = time.perf_counter()
+    r = client.post("/api/v1/press-log", content=b"{}", headers={"content-type": "application/json",
+                                                                   "content-length": str(10**9)})
+    elapsed = time.perf_counter() - started
+    assert r.status_code == 413 and "larger than" in r.json()["detail"]
+    print(f"1 GB declared: refused in {elapsed * 1000:.1f} ms")
+
+
+@pytest.mark.slow
+def test_a_1_gb_upload_to_a_real_server_is_refused_before_its_body_is_sent(tmp_path):
+    # a real uvicorn: headers declaring 1 GB, then the first 1 MB of a body that never ends; the
+    # answer must come at once, without waiting for the rest (the guard reads the header)
+    import socket
+
+    from tests.liveserver import LiveServer
+
+    server = LiveServer(tmp_path / "size.sqlite3").start()
+    try:
+        with socket.create_connection(("127.0.0.1", server.port), timeout=10) as sock:
+            started = time.perf_counter()
+            sock.sendall(b"POST /api/v1/press-log HTTP/1.1\r\nHost: 127.0.0.1\r\n"
+                         b"Content-Type: application/json\r\nContent-Length: 1000000000\r\n\r\n")
+            sock.sendall(b" " * 1_000_000)
+            answer = sock.recv(65536)
+            elapsed = time.perf_counter() - started
+            while b"larger than" not in answer:  # the body may follow the headers in its own packet
+                more = sock.recv(65536)
+                if not more:
+                    break
+                answer += more
+    finally:
+        server.stop()
+    assert answer.startswith(b"HTTP/1.1 413"), answer[:200]
+    assert b"larger than" in answer
+    print(f"1 GB upload to a real server: 413 after {elapsed * 1000:.0f} ms")
+    assert elapsed < 10  # the socket's own timeout: an answer at all, not a speed target
+
+
+def test_the_other_routes_keep_their_own_limit(client):
+    r = client.post("/api/v1/cycle", content=b"{}", headers={"content-type": "application/json",
+                                                              "content-length": str(3_000_000)})
+    assert r.status_code == 413
+
+
+def test_a_cycle_without_filtrate_names_its_lines(client):
+    lines = [GOOD_HEAD] + [f"{i}, {6 if 5 < i < 100 else 0}, 0" for i in range(200)]
+    field, msg = error_of(post(client, csv="\n".join(lines)))
+    assert field == "csv" and "cycle 1 (line 8 (row 7) to line 101 (row 100))" in msg and "no filtrate" in msg
+
+
+def test_a_log_that_does_not_follow_the_rate_equation_is_said_so_and_cannot_be_saved(client):
+    # flow constant while the pressure holds: nothing builds a cake; the fit gives a resistance below zero
+    lines = [GOOD_HEAD] + [f"{i // 2}, {6 if 5 < i < 100 else 0}, 10" for i in range(200)]
+    r = post(client, csv="\n".join(lines))
+    assert r.status_code == 200
+    assert any("below zero" in w for w in r.json()["warnings"])
+    field, msg = error_of(post(client, csv="\n".join(lines), save={"name": "x"}))
+    assert field == "save" and "nothing to save" in msg
+
+
+def test_timestamps_with_an_offset_are_read_in_utc(client):
+    log = synthetic_log(cycles=2, noise=0.0)
+    base = np.datetime64("2026-03-01T06:00:00", "ms")
+    stamps = base + (log.time * 1000).astype("timedelta64[ms]")
+    lines = ["timestamp; feed pressure [bar]; filtrate flow [L/min]"] + [
+        f"{s}+01:00; {p / 1e5:.9g}; {q * 60000:.9g}".replace(".", ",") for s, p, q in zip(stamps, log.pressure, log.flow)]
+    r = post(client, csv="\n".join(lines))
+    assert r.status_code == 200, r.text[:300]
+    assert r.json()["cycles"][0]["start_date"].startswith("2026-03-01T05:00:06")
+
+
+def test_the_figures_have_units_on_every_axis_and_finite_data(answer):
+    # the house rule of tests/test_charts.py; the cycle number is a count and has no unit
+    from server.presslogcharts import presslog_figures
+    from tests.test_charts import UNIT_LABELS, axes_of, numbers_in
+
+    figs = presslog_figures(answer)
+    assert set(figs) == {"cycle", "volume", "alpha", "cloth", "throughput"}
+    for name, fig in figs.items():
+        for key, axis in axes_of(fig["layout"]).items():
+            title = axis["title"]["text"]
+            if title == "Cycle number":
+                continue
+            unit = re.search(r"\(([^()]+)\)[^()]*$", title)
+            assert unit and unit.group(1) in UNIT_LABELS, f"{name}.{key}: {title!r}"
+        for trace in fig["data"]:
+            values = [v for v in numbers_in(trace) if v is not None]
+            assert values and all(np.isfinite(values)), (name, trace.get("name"))
+    # the model drawn over the cycle follows the logged flow (0.5 % noise) within a few per cent
+    ch = answer["chart_cycle"]
+    q, m = np.array(ch["flow"]), np.array(ch["flow_model"])
+    assert np.median(np.abs(m / q - 1)) < 0.01
