@@ -68,7 +68,7 @@ def terzaghi_average(T):
 def terzaghi_time_factor(U):
     """The time factor T at which U_T(T) = U, for 0 <= U < 1 (vectorised bisection on log T)."""
     U = np.asarray(U, dtype=float)
-    if np.any((U < 0.0) | (U >= 1.0)):
+    if not np.all((U >= 0.0) & (U < 1.0)):  # NaN fails too
         raise SolverInputError("consolidation", "must be at least 0 and below 1")
     lo = np.full(U.shape, -30.0)  # log10 T
     hi = np.full(U.shape, 3.0)  # U_T(1000) = 1 to double precision
@@ -152,7 +152,7 @@ class Squeeze:
         scale = omega * omega / self.consolidation_coefficient  # s per unit time factor
         if self.creep_fraction == 0.0:
             return terzaghi_time_factor(U) * scale
-        if np.any((U < 0.0) | (U >= 1.0)):
+        if not np.all((U >= 0.0) & (U < 1.0)):  # NaN fails too
             raise SolverInputError("consolidation", "must be at least 0 and below 1")
         U, scale = np.broadcast_arrays(U, scale)
         lo = np.log10(np.maximum(scale, 1e-300)) - 30.0
