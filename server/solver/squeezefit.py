@@ -315,6 +315,12 @@ def fit_squeeze(test: SqueezeTest) -> SqueezeFit:
                         "or run the test longer.")
     if test.creep and eta * t_end < 1.0 and B > 1e-6:
         warnings.append("The creep is far from done at the last reading (eta t < 1): B and eta are uncertain.")
+    if not -15.99 < best.x[0] < -0.01:
+        warnings.append(f"The consolidation coefficient came out at the edge of the range searched (C_e = {Ce:.3g} "
+                        "m²/s): the readings do not show a squeeze the model can follow.")
+    if porosity_of(e0) > 0.95:
+        warnings.append(f"The cake would be {porosity_of(e0):.1%} voids at the start of the squeeze: check the "
+                        "readings' unit, the dry solids mass, the solids density and the area.")
     if np.isfinite(r2) and r2 < 0.98:
         warnings.append(f"The model fits the readings only to R² = {r2:.3f}: check the readings.")
     return SqueezeFit(
