@@ -147,7 +147,7 @@ def squeeze_figures(result: dict) -> dict:
          "hovertemplate": f"%{{x:.4g}} {t_unit}: %{{y:.4g}} {unit}<extra>fit</extra>"},
     ], "layout": {
         **BASE_LAYOUT, "title": {"text": f"{name}: {quantity.lower()} against time"},
-        "xaxis": _axis(f"Time since the squeeze began ({t_unit})", rangemode="tozero"),
+        "xaxis": _axis(f"Squeeze time ({t_unit})", rangemode="tozero"),
         "yaxis": _axis(f"{quantity} ({unit})"),
     }}
     residuals = {"data": [
@@ -156,7 +156,7 @@ def squeeze_figures(result: dict) -> dict:
          "hovertemplate": f"%{{x:.4g}} {t_unit}: %{{y:.3g}} {unit}<extra>residual</extra>"},
     ], "layout": {
         **BASE_LAYOUT, "title": {"text": f"{name}: residuals"},
-        "xaxis": _axis(f"Time since the squeeze began ({t_unit})", rangemode="tozero"),
+        "xaxis": _axis(f"Squeeze time ({t_unit})", rangemode="tozero"),
         "yaxis": _axis(f"Measured − fitted ({unit})", zeroline=True, zerolinecolor="#9ca3af"),
     }}
     return {"squeeze": main, "squeeze_residuals": residuals}
