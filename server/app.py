@@ -13,7 +13,7 @@ from fastapi.templating import Jinja2Templates
 
 from . import errors
 from .guards import EdgeGuard, one_shot_receive
-from .routers import cycle, health, labfit, pages, plan, presslog, scenarios, ui
+from .routers import cycle, health, labfit, pages, plan, presslog, scenarios, squeezefit, ui
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
 from .store import StorageError, open_store
@@ -67,6 +67,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(health.router)
     app.include_router(cycle.router)
     app.include_router(labfit.router)
+    app.include_router(squeezefit.router)
     app.include_router(plan.router)
     app.include_router(plan.pages)
     app.include_router(presslog.router)

@@ -123,3 +123,40 @@ def compression_figures(result: dict) -> dict:
         "local_solidosity": fig("Solidosity against solids pressure", "Solids volume fraction ε_s (–)",
                                 [r[2] for r in pts], local_solids.tolist(), avg["solidosity"], False),
     }
+
+
+def squeeze_figures(result: dict) -> dict:
+    """A lab squeeze test: the readings and the fitted Terzaghi–Voigt curve against time, and
+    the residuals. Thickness in mm, expressed liquid in mL, time in min past 10 min."""
+    thickness = result["measured"] == "thickness"
+    factor, unit = (1e3, "mm") if thickness else (1e6, "mL")
+    quantity = "Cake thickness" if thickness else "Expressed liquid"
+    t_end = result["readings"][-1][0]
+    t_factor, t_unit = (1 / 60, "min") if t_end > 600 else (1.0, "s")
+    name = html.escape(result.get("name") or "Squeeze test")
+    t_read = [r[0] * t_factor for r in result["readings"]]
+    y_read = [r[1] * factor for r in result["readings"]]
+    curve = result["curve"]
+    fit_name = "Terzaghi–Voigt fit" if result["creep_fraction"] > 0 else "Terzaghi fit (no creep)"
+    main = {"data": [
+        {"type": "scatter", "mode": "markers", "name": "readings", "x": t_read, "y": y_read,
+         "marker": {"color": COLORS["main"], "size": 8},
+         "hovertemplate": f"%{{x:.4g}} {t_unit}: %{{y:.4g}} {unit}<extra>reading</extra>"},
+        {"type": "scatter", "mode": "lines", "name": fit_name, "x": [v * t_factor for v in curve["time"]],
+         "y": [v * factor for v in curve["value"]], "line": {"color": COLORS["best"]},
+         "hovertemplate": f"%{{x:.4g}} {t_unit}: %{{y:.4g}} {unit}<extra>fit</extra>"},
+    ], "layout": {
+        **BASE_LAYOUT, "title": {"text": f"{name}: {quantity.lower()} against time"},
+        "xaxis": _axis(f"Squeeze time ({t_unit})", rangemode="tozero"),
+        "yaxis": _axis(f"{quantity} ({unit})"),
+    }}
+    residuals = {"data": [
+        {"type": "scatter", "mode": "markers", "name": "measured − fitted", "x": t_read,
+         "y": [r * factor for r in result["residuals"]], "marker": {"color": COLORS["main"], "size": 7},
+         "hovertemplate": f"%{{x:.4g}} {t_unit}: %{{y:.3g}} {unit}<extra>residual</extra>"},
+    ], "layout": {
+        **BASE_LAYOUT, "title": {"text": f"{name}: residuals"},
+        "xaxis": _axis(f"Squeeze time ({t_unit})", rangemode="tozero"),
+        "yaxis": _axis(f"Measured − fitted ({unit})", zeroline=True, zerolinecolor="#9ca3af"),
+    }}
+    return {"squeeze": main, "squeeze_residuals": residuals}

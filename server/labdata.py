@@ -171,5 +171,38 @@ def parse_compression(text: str) -> list[tuple[float, float, float]]:
     return list(zip(cols["stress"], cols["resistance"], solids))
 
 
+#: The columns of a squeeze (expression) test: time and either the cake thickness or the
+#: liquid expressed.
+SQUEEZE_COLUMNS = {
+    "time": (TIME_NAMES, "time", "time"),
+    "thickness": (("thickness", "cake thickness", "height", "cake height", "l", "h"), "length", "thickness"),
+    "filtrate": (VOLUME_NAMES + ("expressed", "expressed liquid", "expressed filtrate", "liquid"), "volume",
+                 "expressed liquid"),
+}
+
+
+@dataclass(frozen=True)
+class SqueezeReadings:
+    points: list[tuple[float, float]]  # (t [s], thickness [m] or expressed liquid [m^3])
+    measured: str  # "thickness" or "filtrate"
+    units: dict
+    ignored_columns: list[str]
+
+
+def parse_squeeze_readings(text: str) -> SqueezeReadings:
+    """(t, thickness) or (t, expressed liquid) readings of a squeeze test in SI, from CSV text
+    such as 'time [min], thickness [mm]' or 'time [s], filtrate [mL]'; CsvError names the line
+    of any problem."""
+    example = "time [s], thickness [mm]"
+    table = read_table(text, SQUEEZE_COLUMNS, ("time",), example)
+    cols = table.columns
+    given = [k for k in ("thickness", "filtrate") if k in cols]
+    if len(given) != 1:
+        raise CsvError(None, "give either a thickness column or an expressed liquid (filtrate) column, such as "
+                             f"'{example}' or 'time [s], filtrate [mL]'")
+    measured = given[0]
+    return SqueezeReadings(list(zip(cols["time"], cols[measured])), measured, table.units, table.ignored_columns)
+
+
 def _sep_name(sep: str) -> str:
     return {",": "commas", ";": "semicolons", "\t": "tabs"}[sep]

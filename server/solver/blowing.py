@@ -46,6 +46,9 @@ class Blow:
         m = np.asarray(self.moistures, dtype=float)
         if t.size < 2 or t.size != m.size:
             raise SolverInputError("curve", "give at least two (time, moisture) pairs")
+        for j, column in ((0, t), (1, m)):  # NaN and infinity pass every comparison below
+            if not np.all(np.isfinite(column)):
+                raise SolverInputError(f"curve.{int(np.argmin(np.isfinite(column)))}.{j}", "must be a finite number")
         if t[0] < 0.0 or np.any(np.diff(t) <= 0.0):
             k = int(np.argmax(np.diff(t) <= 0.0)) + 1 if t[0] >= 0.0 else 0
             raise SolverInputError(f"curve.{k}.0", "blow times must start at 0 s or later and rise from point to point")
@@ -87,7 +90,8 @@ class Blow:
 
     def time_to(self, moisture, thickness):
         """Blow time [s] that brings a cake of ``thickness`` [m] down to ``moisture`` [-]
-        (within the lab curve's range), vectorised; 0 where the curve starts at or below it."""
+        (within the lab curve's range), vectorised; the curve's first time, scaled (0 for a
+        curve that starts at 0 s), where the curve starts at or below it."""
         m = np.asarray(self.moistures, dtype=float)
         t = np.asarray(self.times, dtype=float)
         moisture = np.asarray(moisture, dtype=float)

@@ -111,7 +111,7 @@ def terzaghi_time_factor(U):
     """The time factor T at which U_T(T) = U, for 0 <= U < 1 (vectorised; safeguarded
     Newton steps on log T from the standard approximations, to double precision)."""
     U = np.asarray(U, dtype=float)
-    if np.any((U < 0.0) | (U >= 1.0)):
+    if not np.all((U >= 0.0) & (U < 1.0)):  # NaN fails too
         raise SolverInputError("consolidation", "must be at least 0 and below 1")
     Up = np.where(U > 0.0, U, 0.5)
     # start: U = sqrt(4T/pi) below U = 0.6, the series' first term above (both near exact)
@@ -198,7 +198,7 @@ class Squeeze:
             if U.size > 1 and np.all(U == U.flat[0]):  # one ratio for every cake: invert once
                 return terzaghi_time_factor(float(U.flat[0])) * scale * np.ones_like(U)
             return terzaghi_time_factor(U) * scale
-        if np.any((U < 0.0) | (U >= 1.0)):
+        if not np.all((U >= 0.0) & (U < 1.0)):  # NaN fails too
             raise SolverInputError("consolidation", "must be at least 0 and below 1")
         U, scale = np.broadcast_arrays(U, scale)
         B, eta = self.creep_fraction, self.creep_rate

@@ -80,8 +80,10 @@ class WashModel:
         if W <= 0.0:
             return 0.0
         Dn = self.dispersion_number
-        # c_R changes fastest near W = 1 over a width ~ 1/sqrt(D_n): tell the integrator
-        points = [p for p in (1.0 - 4.0 / np.sqrt(Dn), 1.0, 1.0 + 4.0 / np.sqrt(Dn)) if 0.0 < p < W]
+        # c_R changes fastest near W = 1 over a width ~ 1/sqrt(D_n): tell the integrator; and
+        # break at every doubling of W, or a long last interval steps over the tail of c_R
+        edges = {1.0 - 4.0 / np.sqrt(Dn), 1.0, 1.0 + 4.0 / np.sqrt(Dn), *(2.0 ** np.arange(1, 15))}
+        points = sorted(float(p) for p in edges if 0.0 < p < W)
         value, _ = quad(exit_concentration, 0.0, W, args=(Dn,), points=points or None, limit=200,
                         epsabs=1e-13, epsrel=1e-12)
         return min(value, 1.0)

@@ -124,7 +124,16 @@ def open_page(page, kind: str, saved_ids) -> int:
             fill_test(page.locator("#tests > fieldset").nth(i), name, kPa, (DATA / readings).read_text())
         page.click("#fit")
         page.wait_for_selector("[data-testid=lab-results]")
-        n = 3
+        # and the squeeze test below it (tests/data/squeeze_demo.csv, invented): two charts more
+        squeeze = page.locator("#squeeze")
+        for name, value in (("pressure", "6"), ("dry_solids_mass", "58"), ("solids_density", "2650"),
+                            ("area", "50")):
+            squeeze.locator(f'input[data-name="{name}"]').fill(value)
+        squeeze.locator('[data-unit="area"]').select_option("cm^2")
+        squeeze.locator('[data-name="csv"]').fill((DATA / "squeeze_demo.csv").read_text())
+        page.click("#fit-squeeze")
+        page.wait_for_selector("[data-testid=squeeze-results]")
+        n = 5
     wait_charts(page, n)
     return n
 
