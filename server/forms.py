@@ -234,7 +234,18 @@ GROUPS = [
                                                    "for pump feeds whose pressure rises")]),
         ]),
     ]),
-    Group("stages", "Squeeze, wash quality and blow", [
+    Group("stages", "Wash quality, squeeze and blow", [
+        Choice("cycle.wash_model.kind", "Wash quality model", [
+            ("none", "none (wash time only)", []),
+            ("dispersion", "axial dispersion", [FormField(
+                "cycle.wash_model.dispersion_number", "Dispersion number D_n", "ratio",
+                "from a lab wash test; typically {usual} (higher: closer to plug flow)")]),
+            ("efficiency", "wash efficiency", [FormField(
+                "cycle.wash_model.efficiency", "Wash efficiency E", "fraction",
+                "(1 − E)^N of the solute stays after N pore volumes")]),
+        ]),
+        FormField("cycle.wash_target.solute_removal", "Wash until solute removed", "fraction",
+                  "instead of a wash ratio; needs a wash model", optional=True),
         FormField("cycle.squeeze.pressure", "Membrane squeeze pressure", "pressure",
                   "blank: no squeeze; membrane plates usually {usual}", optional=True),
         FormField("cycle.squeeze.time", "Squeeze time", "time",
@@ -254,17 +265,6 @@ GROUPS = [
             ("porosity", "porosity", [FormField("cycle.squeeze.final_porosity", "Equilibrium porosity", "fraction",
                                                 "the cake squeezed to the end at this pressure", optional=True)]),
         ]),
-        Choice("cycle.wash_model.kind", "Wash quality model", [
-            ("none", "none (wash time only)", []),
-            ("dispersion", "axial dispersion", [FormField(
-                "cycle.wash_model.dispersion_number", "Dispersion number D_n", "ratio",
-                "from a lab wash test; typically {usual} (higher: closer to plug flow)")]),
-            ("efficiency", "wash efficiency", [FormField(
-                "cycle.wash_model.efficiency", "Wash efficiency E", "fraction",
-                "(1 − E)^N of the solute stays after N pore volumes")]),
-        ]),
-        FormField("cycle.wash_target.solute_removal", "Wash until solute removed", "fraction",
-                  "instead of a wash ratio; needs a wash model", optional=True),
         FormField("cycle.blow.curve", "Lab blow curve (time, moisture per line)", "blowcurve",
                   "blank: no blow; measured at the press's blow pressure on the same cake", optional=True),
         FormField("cycle.blow.lab_thickness", "Lab cake thickness", "length", "scaled to the press cake by the "

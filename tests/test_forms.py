@@ -176,3 +176,14 @@ def test_inputs_the_form_does_not_show_are_carried_whole():
                     "someday": {"x": 1}}
     assert carried_words(kept) == ["the cake's local laws (from a compression–permeability test)",
                                    "the lab tests' pressure range", "someday.x"]
+
+
+def test_without_a_stage_order_the_form_sends_the_wash_before_the_squeeze():
+    """The request's key order sets the stages' order when none is listed: the form lists the
+    wash's fields before the squeeze's, as its order menu's default says."""
+    inputs = next(d for d in DEMOS if d.slug == "hydroxide_membrane_wash").inputs
+    inputs = {**inputs, "cycle": {k: v for k, v in inputs["cycle"].items() if k != "stages"}}
+    inputs["cycle"] = {"squeeze": inputs["cycle"]["squeeze"], **inputs["cycle"]}  # squeeze first here
+    assert CycleRequest.model_validate(inputs).cycle.order[:2] == ("squeeze", "wash")
+    again = CycleRequest.model_validate(collect(prefill(inputs)))
+    assert again.cycle.order[:2] == ("wash", "squeeze")
