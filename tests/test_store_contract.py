@@ -231,12 +231,16 @@ def test_the_count_follows_saves_from_every_connection(backend):
 
 @pytest.mark.parametrize("many", [False, True], ids=["few matches", "many matches"])
 def test_search_pages_by_keyset_too(store, many):
-    if many and isinstance(store, SqliteStore):
-        store.walk_above = 3  # the plan for many matches: walk the newest-first index
+    if many:  # the plans for many matches: walk the newest-first index, checking each row
+        store.walk_above, store.count_limit = 3, 5
     ids = [make(store, f"thickness study {i}" if i % 3 == 0 else f"other {i}").id for i in range(40)]
-    seen, pages = walk(store, "study", 4)
-    assert seen == [i for k, i in enumerate(ids) if k % 3 == 0][::-1]
-    assert pages[0].total == 14
+    wanted = [i for k, i in enumerate(ids) if k % 3 == 0][::-1]
+    for q in ("study", "th", "t"):  # a substring; words that begin with one or two characters
+        seen, pages = walk(store, q, 4)
+        assert seen == wanted, q
+        assert (pages[0].total, pages[0].exact) == ((5, False) if many else (14, True)), q
+    seen, _ = walk(store, "o", 4)  # "other" and the summary's "optimum": every scenario
+    assert seen == ids[::-1]
 
 
 def test_a_bad_cursor_is_refused_in_words():

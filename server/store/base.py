@@ -309,10 +309,15 @@ class ListQueries:
     #: searches count their matches up to this many (more: "more than count_limit")
     count_limit = COUNT_LIMIT
 
+    #: searches with more matches than this walk the newest-first index (see _filter)
+    walk_above = 1000
+
     def _count(self, search: Search) -> tuple[int, bool]:
         raise NotImplementedError
 
-    def _filter(self, search: Search) -> tuple[str, tuple]:
+    def _filter(self, search: Search, walk: bool) -> tuple[str, tuple]:
+        """The condition on the scenarios table and its arguments; ``walk``: many matches, so the
+        query walks the newest-first index and the condition is checked row by row."""
         raise NotImplementedError
 
     def _read(self, sql: str, args=(), one=False):
@@ -325,9 +330,16 @@ class ListQueries:
         """A count made with LIMIT count_limit + 1: (the count, exact) or (count_limit, False)."""
         return (n, True) if n <= self.count_limit else (self.count_limit, False)
 
-    def _source(self, where: str, total: int, exact: bool) -> tuple[str, str]:
-        """The table (with any plan hint) and the condition of a list query that finds ``total`` rows."""
-        return "scenarios", where
+    def _source(self, walk: bool) -> str:
+        """The table of a list query, with any plan hint."""
+        return "scenarios"
+
+    def _plan(self, search: Search) -> tuple[int, bool, str, str, tuple]:
+        """(total, exact, table, WHERE clause, arguments) of a list query."""
+        total, exact = self._count(search)
+        walk = search.kind != "all" and (total > self.walk_above or not exact)
+        where, args = self._filter(search, walk)
+        return total, exact, self._source(walk), f"WHERE {where}" if where else "", args
 
     def _one_listed(self, row) -> Listed:
         try:
@@ -337,10 +349,7 @@ class ListQueries:
 
     def page(self, q: str, cursor: str | None, per_page: int) -> Page:
         at = Cursor.decode(cursor) if cursor else None
-        search = Search.of(q)
-        total, exact = self._count(search)
-        where, args = self._filter(search)
-        source, where = self._source(f"WHERE {where}" if where else "", total, exact)
+        total, exact, source, where, args = self._plan(Search.of(q))
         order, p, seq = "DESC", self._P, self._SEQ
         if at is not None:
             op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
@@ -353,10 +362,7 @@ class ListQueries:
     def search(self, q: str, page: int, per_page: int) -> Page:
         """Page number ``page`` (1-based) by offset: deep pages cost more; kept for the API's
         ``page`` parameter. No cursors."""
-        search = Search.of(q)
-        total, exact = self._count(search)
-        where, args = self._filter(search)
-        source, where = self._source(f"WHERE {where}" if where else "", total, exact)
+        total, exact, source, where, args = self._plan(Search.of(q))
         rows = self._read(f"SELECT {self._SHOWN} FROM {source} {where} ORDER BY created DESC, {self._SEQ} DESC "
                           f"LIMIT {self._P} OFFSET {self._P}", (*args, per_page, (page - 1) * per_page))
         start = (page - 1) * per_page + 1

@@ -306,7 +306,7 @@ class PostgresStore(ListQueries):
                        f"LIMIT {self.count_limit + 1}) m", (arg,), one=True)[0]
         return self._capped(n)
 
-    def _filter(self, search: Search) -> tuple[str, tuple]:
+    def _filter(self, search: Search, walk: bool) -> tuple[str, tuple]:  # the offset pages (page=N)
         if search.kind == "all":
             return "", ()
         cond, arg = self._match(search)

@@ -115,8 +115,6 @@ class SqliteStore(ListQueries):
                                f"point PRESSCYCLE_DB at a writable place") from None
         self._migrate()
 
-    #: searches with more matches than this walk the newest-first index (see _source)
-    walk_above = 1000
     _SEQ = "rowid"  # insertion order: orders scenarios saved in the same millisecond
     _P = "?"
 
@@ -332,17 +330,25 @@ class SqliteStore(ListQueries):
         sql = f"SELECT count(*) FROM ({self._MATCHES[search.kind]} LIMIT {self.count_limit + 1})"
         return self._capped(self._read(sql, (self._argument(search),), one=True)[0])
 
-    def _filter(self, search: Search) -> tuple[str, tuple]:
+    #: the same, checked for one row of scenarios (a walk of the newest-first index)
+    _HAS = {
+        "substring": "instr((SELECT text FROM scenarios_search WHERE rowid = scenarios.rowid), ?) > 0",
+        "prefix": "EXISTS (SELECT 1 FROM scenario_prefixes WHERE prefix = ? AND scenario = scenarios.rowid)",
+        "scan": "instr((SELECT text FROM scenarios_search WHERE rowid = scenarios.rowid), ?) > 0",
+    }
+
+    def _filter(self, search: Search, walk: bool) -> tuple[str, tuple]:
+        # Many matches: walk the newest-first index, check each row, stop after a page (matches
+        # come every few rows). Few: look the matches up and sort them. The crossing is near
+        # 1,000 at 100,000 (walk_above).
         if search.kind == "all":
             return "", ()
+        if walk:
+            return self._HAS[search.kind], (search.term,)
         return f"rowid IN ({self._MATCHES[search.kind]})", (self._argument(search),)
 
-    def _source(self, where: str, total: int, exact: bool) -> tuple[str, str]:
-        # Many matches: walk the newest-first index and stop after a page (matches come every
-        # few rows). Few: look the matches up and sort them. The crossing is near 1,000 at 100,000.
-        if where and (total > self.walk_above or not exact):
-            return "scenarios INDEXED BY scenarios_created", where.replace("WHERE rowid IN", "WHERE +rowid IN")
-        return "scenarios", where
+    def _source(self, walk: bool) -> str:
+        return "scenarios INDEXED BY scenarios_created" if walk else "scenarios"
 
 
 def _kind(exc: sqlite3.DatabaseError) -> str:
