@@ -233,6 +233,8 @@ def test_the_count_follows_saves_from_every_connection(backend):
 def test_search_pages_by_keyset_too(store, many):
     if many:  # the plans for many matches: walk the newest-first index, checking each row
         store.walk_above, store.count_limit = 3, 5
+    elif isinstance(store, SqliteStore):  # the matches found, checked during a walk of the index
+        store.look_up_below = 3
     ids = [make(store, f"thickness study {i}" if i % 3 == 0 else f"other {i}").id for i in range(40)]
     wanted = [i for k, i in enumerate(ids) if k % 3 == 0][::-1]
     for q in ("study", "th", "t"):  # a substring; words that begin with one or two characters

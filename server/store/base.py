@@ -309,8 +309,10 @@ class ListQueries:
     #: searches count their matches up to this many (more: "more than count_limit")
     count_limit = COUNT_LIMIT
 
-    #: searches with more matches than this walk the newest-first index (see _filter)
-    walk_above = 1000
+    #: searches with more matches than this walk the newest-first index (see _filter); up to
+    #: there the matches are looked up and sorted, a cost in proportion to their number (a walk
+    #: can read far when the matches cluster among old scenarios, as a trial series does)
+    walk_above = COUNT_LIMIT
 
     def _count(self, search: Search) -> tuple[int, bool]:
         raise NotImplementedError

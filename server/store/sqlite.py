@@ -24,7 +24,9 @@ from pathlib import Path
 
 from .base import (
     SCHEMA_VERSION,
+    Cursor,
     ListQueries,
+    Page,
     Scenario,
     Search,
     StorageError,
@@ -34,6 +36,7 @@ from .base import (
     new_id,
     now_iso,
     pack,
+    page_from_rows,
     record,
     search_text,
     unpack,
@@ -339,8 +342,7 @@ class SqliteStore(ListQueries):
 
     def _filter(self, search: Search, walk: bool) -> tuple[str, tuple]:
         # Many matches: walk the newest-first index, check each row, stop after a page (matches
-        # come every few rows). Few: look the matches up and sort them. The crossing is near
-        # 1,000 at 100,000 (walk_above).
+        # come every few rows). Fewer: look the matches up and sort them (walk_above).
         if search.kind == "all":
             return "", ()
         if walk:
@@ -349,6 +351,40 @@ class SqliteStore(ListQueries):
 
     def _source(self, walk: bool) -> str:
         return "scenarios INDEXED BY scenarios_created" if walk else "scenarios"
+
+    #: searches with up to this many matches look them up and sort them; more (up to
+    #: count_limit) walk the newest-first index, checking each row against the matches found
+    look_up_below = 2000
+
+    def page(self, q: str, cursor: str | None, per_page: int) -> Page:
+        """A search reads its matches once (up to count_limit + 1 rowids): their number is the
+        count, and the page is found among them, by looking them up and sorting (few) or by
+        walking the newest-first index and checking each row against them (many; the index
+        holds the rowid, so no scenario row is read until it matches). Past count_limit, the
+        walk checks each row's own search text or prefixes."""
+        search = Search.of(q)
+        if search.kind == "all":
+            return super().page(q, cursor, per_page)
+        at = Cursor.decode(cursor) if cursor else None
+        found = [r[0] for r in self._read(f"{self._MATCHES[search.kind]} LIMIT {self.count_limit + 1}",
+                                          (self._argument(search),))]
+        total, exact = self._capped(len(found))
+        if not exact:
+            where, args = self._HAS[search.kind], (search.term,)
+            source = self._source(walk=True)
+        else:
+            where, args = "rowid IN (SELECT value FROM json_each(?))", (json.dumps(found),)
+            source = "scenarios"
+            if total >= self.look_up_below:
+                source, where = self._source(walk=True), "+" + where
+        order = "DESC"
+        if at is not None:
+            op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
+            where = f"{where} AND (created, rowid) {op} (?, ?)"
+            args = (*args, at.created, at.seq)
+        rows = self._read(f"SELECT created, rowid, id, name, note, summary FROM {source} WHERE {where} "
+                          f"ORDER BY created {order}, rowid {order} LIMIT ?", (*args, per_page + 1))
+        return page_from_rows(rows, at, per_page, total, self._one_listed, exact)
 
 
 def _kind(exc: sqlite3.DatabaseError) -> str:
