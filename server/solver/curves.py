@@ -16,6 +16,7 @@ filtration (the supply/cake-resistance construction; from memory).
 """
 
 from bisect import bisect_right
+from functools import lru_cache
 
 import numpy as np
 
@@ -204,16 +205,29 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
     at_cap = V >= V_nodes[last]
     P = np.where(at_cap, p[last], P)
     supply = q0 + m * (P - p0)
-    flow = np.where(at_cap, cake_flow(p[last], V, filtration, filter_area), supply)
+    flow = supply.copy()
+    if np.any(at_cap):  # the cake's flow at the held pressure, only where it is held
+        flow[at_cap] = cake_flow(p[last], V[at_cap], filtration, filter_area)
     flow = np.where(np.isfinite(flow), np.minimum(flow, supply), supply)
     return P, flow
 
 
 def volume_grid(V_max: float, n: int = 2000) -> np.ndarray:
-    """Filtrate volumes from 0 to V_max: dense near the start where the cake is thin."""
-    geometric = np.geomspace(V_max * 1e-6, V_max, n // 2)
-    linear = np.linspace(0.0, V_max, n - n // 2)
-    return np.unique(np.concatenate(([0.0], geometric, linear)))
+    """Filtrate volumes from 0 to V_max: dense near the start where the cake is thin.
+
+    The grid of V_max = 1 scaled (made once per n): the same nodes to round-off as building
+    it for each V_max, without a geomspace and a sort per curve.
+    """
+    return V_max * _unit_volume_grid(n)
+
+
+@lru_cache(maxsize=8)
+def _unit_volume_grid(n: int) -> np.ndarray:
+    geometric = np.geomspace(1e-6, 1.0, n // 2)
+    linear = np.linspace(0.0, 1.0, n - n // 2)
+    grid = np.unique(np.concatenate(([0.0], geometric, linear)))
+    grid.flags.writeable = False  # shared: scaled copies only
+    return grid
 
 
 class TabulatedCurve:
