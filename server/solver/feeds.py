@@ -262,7 +262,16 @@ class HeldPressureCurve(TabulatedCurve):
         """The held pressure drop [Pa]."""
         return self._Pl[0]
 
-    def optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
+    @property
+    def optimum_volume(self):
+        """``_optimum_volume`` when the table's throughput has a peak for certain: its 1/Q still
+        rising at the end (the table continues its last segment, so the throughput falls
+        beyond some volume) and finite. Otherwise None, and the cycle scans for the peak."""
+        if self._kl[-1] > 0.0 and np.isfinite(self._tl[-1]) and np.isfinite(self._rl[-1]):
+            return self._optimum_volume
+        return None
+
+    def _optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
         r"""The filtrate volume of the highest throughput of this tabulated curve, exactly.
 
         With a wash time t_w = a V r(V) (r = 1/Q) the throughput V / T, T = t + t_w + t_d,
@@ -293,9 +302,7 @@ class HeldPressureCurve(TabulatedCurve):
             at_node[1:] = (C0[1:] <= 0.0) & (g_end[:-1] > 0.0)
             h = 2.0 * C0 / (-C1 + np.sqrt(np.maximum(C1 * C1 - 4.0 * C2 * C0, 0.0)))
         candidates = np.concatenate((V[inside] + np.minimum(h[inside], width[inside]), V[at_node]))
-        if candidates.size == 0:  # no peak on the table or past it (no cake resistance growth)
-            return float("inf")
-        candidates.sort()
+        candidates = np.sort(candidates[np.isfinite(candidates)])  # the last segment gives one at least
         T = self.time(candidates) + a * candidates / self.rate(candidates) + t_d
         return float(candidates[int(np.argmax(candidates / T))])
 
