@@ -141,18 +141,21 @@ class Filtration:
         """
         s_ = self.compressibility
         a = self.specific_resistance(P)
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            k = self.medium_resistance * filter_area / (a * self.solids_per_filtrate * V)
+        started = V > 0.0
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+            # no cake yet (V = 0): solved at V = 1 and set to 0 below, so every k is finite and > 0
+            k = self.medium_resistance * filter_area / (a * self.solids_per_filtrate * np.where(started, V, 1.0))
             power = 1.0 / (1.0 - s_)
-            x = np.minimum(1.0, 1.0 / k)
+            x = np.minimum(1.0, 1.0 / k)  # > 0 and at or above the root: the steps fall to it
             for _ in range(CAKE_SHARE_STEPS):
                 xp = x**power
-                step = (xp + k * x - 1.0) / (power * xp / np.where(x > 0.0, x, 1.0) + k)
-                step = np.where(np.isfinite(step), step, 0.0)
+                step = (xp + k * x - 1.0) / (power * xp / x + k)
+                if not np.all(np.isfinite(step)):  # rare: k out of floating-point range, x = 0: held there
+                    step = np.where(np.isfinite(step), step, 0.0)
                 x = np.maximum(x - step, 0.0)
                 if np.all(np.abs(step) <= 1e-15 * np.maximum(x, 1e-300)):
                     break
-            phi = np.where(V > 0.0, x**power, 0.0)
+            phi = np.where(started, np.maximum(x, 0.0) ** power, 0.0)
         return phi
 
     def resistance_per_rate(self, pressure, V, filter_area: float):
