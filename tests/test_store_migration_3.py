@@ -110,3 +110,47 @@ def test_schema_2_migrates_to_3_keeping_every_scenario(migrating):
     store = reopen()  # a second start changes nothing
     assert store.page("", None, 5).total == 31 and all(vars(store.get(s.id)) == vars(s) for s in saved)
     store.close()
+
+
+def test_processes_starting_together_migrate_a_file_once(tmp_path):
+    """Several workers opening a schema-2 file at once (uvicorn --workers): one takes each step,
+    the others wait and find it taken; every one starts and sees every scenario once."""
+    import multiprocessing
+    import sqlite3
+
+    path = tmp_path / "workers.sqlite3"
+    old = schema2().SqliteStore(path, solver_version="0.1.0")
+    saved = fill(old)
+    # many more rows (copies, as schema 2 wrote them), so the step takes long enough for every
+    # worker to have read the old version before the first one has finished it
+    conn = sqlite3.connect(path)
+    with conn:
+        for i in range(20000):
+            cur = conn.execute("INSERT INTO scenarios (id, name, note, created, inputs, results, solver_version, "
+                               "parent, summary) SELECT ?, name, note, created, inputs, results, solver_version, "
+                               "parent, summary FROM scenarios WHERE id = ?", (f"copy-{i:07d}", saved[1].id))
+            conn.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)",
+                         (cur.lastrowid, f"copy {i} line a1"))
+    conn.close()
+    context = multiprocessing.get_context("spawn")
+    start = context.Barrier(4)
+    with context.Pool(4, initializer=_wait_for_all, initargs=(start,)) as pool:
+        totals = pool.map(_open_and_count, [str(path)] * 4)
+    assert totals == [(20030, True)] * 4
+    assert _sqlite_version(path) == SCHEMA_VERSION
+    conn = sqlite3.connect(path)
+    try:  # counted and indexed once: the copies' "a1" and the first ones' A1, A10 to A19
+        assert conn.execute("SELECT n FROM scenario_count").fetchone()[0] == 20030
+        assert conn.execute("SELECT count(*) FROM scenario_prefixes WHERE prefix = 'a1'").fetchone()[0] == 20011
+    finally:
+        conn.close()
+
+
+def _wait_for_all(barrier):
+    barrier.wait()
+
+
+def _open_and_count(path):
+    store = SqliteStore(path)
+    page = store.page("", None, 5)
+    return page.total, page.exact

@@ -190,6 +190,9 @@ class SqliteStore(ListQueries):
                 steps = {1: _schema_1, 2: lambda c: _schema_2(c, self.solver_version), 3: _schema_3}
                 for v in range(version + 1, SCHEMA_VERSION + 1):
                     conn.execute("BEGIN IMMEDIATE")
+                    if conn.execute("PRAGMA user_version").fetchone()[0] >= v:
+                        conn.execute("COMMIT")  # another process (a uvicorn worker) took this step meanwhile
+                        continue
                     steps[v](conn)
                     conn.execute(f"PRAGMA user_version = {v}")
                     conn.execute("COMMIT")
