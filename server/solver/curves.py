@@ -189,20 +189,23 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
         # and a step out of the last segment would never settle)
         live = np.flatnonzero(~at_cap)
         Pl, p0l, p1l, q0l, ml, cpa = P[live], p0[live], p1[live], q0[live], m[live], cake_per_alpha[live]
-        for _ in range(NEWTON_STEPS if live.size else 0):
-            with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+        # what does not change between steps, worked out once
+        a_cpa = a_ref * p_ref**-s_ * cpa  # alpha c V / A^2 = a_cpa pc^s
+        s_turn = s_ * (1.0 - cloth * ml)
+        tolerance = 1e-14 * p1l
+        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+            for _ in range(NEWTON_STEPS if live.size else 0):
                 Q = q0l + ml * (Pl - p0l)
                 pc = np.maximum(Pl - cloth * Q, 1e-300)  # the pressure alpha belongs to
-                alpha = a_ref * (pc / p_ref) ** s_
-                R = alpha * cpa + medium
-                g = Pl - mu * Q * R
-                dg = 1.0 - mu * (ml * R + Q * s_ * alpha * cpa / pc * (1.0 - cloth * ml))
-                step = g / dg
-            # out of floating-point range (a pressure next to zero): go to the segment's middle
-            step = np.where(np.isfinite(step), step, Pl - 0.5 * (p0l + p1l))
-            Pl = np.clip(Pl - step, p0l, p1l)
-            if np.all(np.abs(step) <= 1e-14 * p1l):  # converged (quadratically) to round-off
-                break
+                cake = a_cpa * pc**s_  # alpha c V / A^2
+                R = cake + medium
+                step = (Pl - mu * Q * R) / (1.0 - mu * (ml * R + Q * cake / pc * s_turn))
+                if not np.all(np.isfinite(step)):
+                    # out of floating-point range (a pressure next to zero): go to the segment's middle
+                    step = np.where(np.isfinite(step), step, Pl - 0.5 * (p0l + p1l))
+                Pl = np.clip(Pl - step, p0l, p1l)
+                if np.all(np.abs(step) <= tolerance):  # converged (quadratically) to round-off
+                    break
         P[live] = Pl
         if medium == 0.0:
             # the first segment without a cloth: P = mu q0 alpha_ref (P/p_ref)^s c V / A^2
