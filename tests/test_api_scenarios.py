@@ -262,12 +262,12 @@ def test_the_list_says_which_scenarios_of_how_many_a_page_shows(client):
     assert second["first"] == 21 and len(second["items"]) == 3
     html = client.get("/scenarios", params={"q": "placedwalk", "cursor": first["next"]}).text
     place = " ".join(html.split('data-testid="list-place">')[1].split("</p>")[0].split())
-    assert place.startswith("Matches 21–23 of 23 matching “placedwalk”")
+    assert place.startswith("Matches 21–23 of 23 for “placedwalk”")
     oldest = client.get("/api/v1/scenarios", params={"q": "placedwalk", "cursor": "oldest"}).json()
     assert [i["id"] for i in oldest["items"]] == ids[:20][::-1] and oldest["first"] == 4 and oldest["next"] is None
     html = client.get("/scenarios", params={"q": "placedwalk"}).text
     place = " ".join(html.split('data-testid="list-place">')[1].split("</p>")[0].split())
-    assert place.startswith("Matches 1–20 of 23 matching “placedwalk” (page 1 of 2)")
+    assert place.startswith("Matches 1–20 of 23 for “placedwalk” (page 1 of 2)")
     assert 'cursor=oldest">oldest</a>' in html and "one or two find words that begin with them" in html
 
 
