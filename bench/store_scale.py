@@ -5,8 +5,8 @@
 The demo cases are solved once and saved over and over (names and notes varied) straight into
 each store in batches, with the store's own statements; then, in process (fastapi TestClient,
 so each figure includes about 1 ms of test-client overhead): the list page, the API list, a
-search, the first and the last page, one save through the store and through the API. Prints
-figures (medians); asserts nothing about time.
+search (many, few and no matches; one and two characters), the first and the last page, one
+save through the store and through the API. Prints figures (medians); asserts nothing about time.
 """
 
 import json
@@ -27,7 +27,7 @@ from server.scenarios import solve_inputs, summary_of  # noqa: E402
 from server.settings import Settings  # noqa: E402
 from server.solver import SOLVER_VERSION  # noqa: E402
 from server.store import compact, open_store  # noqa: E402
-from server.store.base import Cursor, dumps, pack, search_text  # noqa: E402
+from server.store.base import OLDEST, Cursor, dumps, pack, search_text, word_prefixes  # noqa: E402
 
 N = int(os.environ.get("N", "100000"))
 BATCH = 2000
@@ -74,6 +74,8 @@ def fill_sqlite(store, demos):
             for r in batch:
                 cur = conn.execute(f"INSERT INTO scenarios ({store._COLUMNS}) VALUES ({store._MARKS})", r[:9])
                 conn.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)", (cur.lastrowid, r[9]))
+                conn.executemany("INSERT INTO scenario_prefixes VALUES (?, ?)",
+                                 [(prefix, cur.lastrowid) for prefix in word_prefixes(r[9])])
             conn.execute("COMMIT")
         conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
         conn.execute("ANALYZE")
@@ -82,11 +84,21 @@ def fill_sqlite(store, demos):
 
 
 def fill_postgres(store, demos):
+    """COPY into the scenarios (the count trigger fires per statement), then their search rows."""
+    search = {}
     with store.pool.connection() as conn:
-        with conn.cursor() as cur, cur.copy(f"COPY scenarios ({store._COLUMNS}, search) FROM STDIN") as copy:
+        with conn.cursor() as cur, cur.copy(f"COPY scenarios ({store._COLUMNS}) FROM STDIN") as copy:
             for r in rows(demos, N):
-                copy.write_row(r)
+                copy.write_row(r[:9])
+                search[r[0]] = (r[3], r[9])
+        seqs = conn.execute("SELECT id, seq FROM scenarios").fetchall()
+        with conn.cursor() as cur, cur.copy("COPY scenario_search (seq, created, search, prefixes) FROM STDIN") as copy:
+            copy.set_types(["int8", "text", "text", "text[]"])
+            for sid, seq in seqs:
+                created, text = search[sid]
+                copy.write_row((seq, created, text, word_prefixes(text)))
         conn.execute("VACUUM ANALYZE scenarios")
+        conn.execute("VACUUM ANALYZE scenario_search")
 
 
 def median_ms(fn, repeat=30):
@@ -114,7 +126,9 @@ def measure(label, db, size_of, demos):
                              f"LIMIT 1 OFFSET 20", ())[0]
         last = Cursor("older", oldest[0], oldest[1]).encode()
         first_page = c.get("/api/v1/scenarios").json()
-        assert first_page["total"] == N
+        assert first_page["total"] == N and first_page["total_exact"] and first_page["first"] == 1
+        oldest = c.get("/api/v1/scenarios", params={"cursor": "oldest"}).json()
+        assert oldest["first"] == N - 19 and oldest["next"] is None
         tail = c.get("/api/v1/scenarios", params={"cursor": last}).json()
         assert len(tail["items"]) == 20 and tail["next"] is None
         figures = {
@@ -122,13 +136,23 @@ def measure(label, db, size_of, demos):
             "list page /scenarios": median_ms(get_ok(c, "/scenarios")),
             "API list, first page": median_ms(get_ok(c, "/api/v1/scenarios")),
             "API list, last page (cursor)": median_ms(get_ok(c, "/api/v1/scenarios", cursor=last)),
+            "API list, oldest page (cursor=oldest)": median_ms(get_ok(c, "/api/v1/scenarios", cursor="oldest")),
+            "list page /scenarios, oldest page": median_ms(get_ok(c, "/scenarios", cursor=OLDEST.encode())),
             "API list, page 2,500 by number (offset)": median_ms(get_ok(c, "/api/v1/scenarios", page=2500), 5),
             "store.page, first": median_ms(lambda: store.page("", None, 20)),
             "store.page, last": median_ms(lambda: store.page("", last, 20)),
         }
-        for q in ("copper", "kemi press 1,", "trial 150", "zz no such", "ü"):
-            hits = c.get("/api/v1/scenarios", params={"q": q}).json()["total"]
-            figures[f"search {q!r} ({hits:,} hits)"] = median_ms(get_ok(c, "/api/v1/scenarios", q=q))
+        for q in ("copper", "kemi press 1,", "trial 150", "zz no such", "press", "ü", "k", "17", "%"):
+            found = c.get("/api/v1/scenarios", params={"q": q}).json()
+            hits = f"{found['total']:,}" if found["total_exact"] else f"more than {found['total']:,}"
+            figures[f"search {q!r} ({hits} hits)"] = median_ms(get_ok(c, "/api/v1/scenarios", q=q))
+        deep = c.get("/api/v1/scenarios", params={"q": "copper"}).json()
+        for _ in range(20):
+            deep = c.get("/api/v1/scenarios", params={"q": "copper", "cursor": deep["next"]}).json()
+        figures["search 'copper', page 22 (cursor)"] = median_ms(
+            get_ok(c, "/api/v1/scenarios", q="copper", cursor=deep["next"]))
+        figures["search 'copper', page 22 of the list page"] = median_ms(
+            get_ok(c, "/scenarios", q="copper", cursor=deep["next"]))
         name, inputs, results, summary = demos[0]
         figures["save, store.create"] = median_ms(
             lambda: store.create("bench", "", inputs, results, SOLVER_VERSION, None, summary), 50)

@@ -17,9 +17,9 @@ from fastapi import HTTPException, Request
 async def within_budget(request: Request, fn, *args, quick: bool = False, **kwargs):
     """``fn(*args, **kwargs)`` in a worker thread, answered with 503 past the time budget.
 
-    ``quick``: a calculation in closed form whose cost the request limits bound to well under
-    a millisecond runs at once, on the event loop: the hop to a worker thread would cost more
-    than the calculation, and there is nothing to stop.
+    ``quick``: a calculation whose cost the request limits bound to a few milliseconds (a
+    closed form, or a table of fixed size) runs at once, on the event loop: the hop to a worker
+    thread would cost a good part of it, and there is nothing to stop.
     """
     if quick:
         return fn(*args, **kwargs)

@@ -252,3 +252,31 @@ def test_listing_can_be_turned_off_leaving_links_working(tmp_path):
         assert r.status_code == 403 and "open a scenario by its link" in r.text
         assert "hidden from lists" not in c.get("/").text
         assert c.get(f"/s/{sid}").status_code == 200
+
+
+def test_the_list_says_which_scenarios_of_how_many_a_page_shows(client):
+    ids = [save(client, name=f"placed {i}", note="placedwalk")["id"] for i in range(23)]
+    first = client.get("/api/v1/scenarios", params={"q": "placedwalk"}).json()
+    assert (first["first"], first["total"], first["total_exact"]) == (1, 23, True)
+    second = client.get("/api/v1/scenarios", params={"q": "placedwalk", "cursor": first["next"]}).json()
+    assert second["first"] == 21 and len(second["items"]) == 3
+    html = client.get("/scenarios", params={"q": "placedwalk", "cursor": first["next"]}).text
+    place = " ".join(html.split('data-testid="list-place">')[1].split("</p>")[0].split())
+    assert place.startswith("Matches 21–23 of 23 for “placedwalk”")
+    oldest = client.get("/api/v1/scenarios", params={"q": "placedwalk", "cursor": "oldest"}).json()
+    assert [i["id"] for i in oldest["items"]] == ids[:20][::-1] and oldest["first"] == 4 and oldest["next"] is None
+    html = client.get("/scenarios", params={"q": "placedwalk"}).text
+    place = " ".join(html.split('data-testid="list-place">')[1].split("</p>")[0].split())
+    assert place.startswith("Matches 1–20 of 23 for “placedwalk” (page 1 of 2)")
+    assert 'cursor=oldest">oldest</a>' in html and "one or two find words that begin with them" in html
+
+
+def test_a_search_past_its_count_limit_says_more_than(client):
+    client.app.state.store.count_limit = 4
+    for i in range(6):
+        save(client, name=f"limit {i}", note="overlimit")
+    found = client.get("/api/v1/scenarios", params={"q": "overlimit"}).json()
+    assert (found["total"], found["total_exact"], found["first"]) == (4, False, None) and len(found["items"]) == 6
+    html = client.get("/scenarios", params={"q": "overlimit"}).text
+    place = " ".join(html.split('data-testid="list-place">')[1].split("</p>")[0].split())
+    assert place.startswith("6 shown of more than 4 scenarios matching “overlimit”")

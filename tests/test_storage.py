@@ -27,14 +27,14 @@ def test_unknown_id_is_none(tmp_path):
 def test_search_and_paging_newest_first(tmp_path):
     store = SqliteStore(tmp_path / "s.sqlite3")
     ids = [make(store, f"case {i}", "filter aid" if i % 2 else "").id for i in range(25)]
-    page1, total = store.search("", 1, 10)
-    assert total == 25 and [s.id for s in page1] == ids[::-1][:10]
-    page3, _ = store.search("", 3, 10)
-    assert [s.id for s in page3] == ids[::-1][20:]
-    hits, n = store.search("filter aid", 1, 50)
-    assert n == 12 and all(s.note == "filter aid" for s in hits)
-    assert store.search("case 7", 1, 10)[1] == 1
-    assert store.search("100%", 1, 10)[1] == 0  # % is a literal, not a wildcard
+    page1 = store.search("", 1, 10)
+    assert page1.total == 25 and [s.id for s in page1.items] == ids[::-1][:10]
+    page3 = store.search("", 3, 10)
+    assert [s.id for s in page3.items] == ids[::-1][20:]
+    hits = store.search("filter aid", 1, 50)
+    assert hits.total == 12 and all(s.note == "filter aid" for s in hits.items)
+    assert store.search("case 7", 1, 10).total == 1
+    assert store.search("100%", 1, 10).total == 0  # % is a literal, not a wildcard
 
 
 def test_schema_version_and_wal_are_recorded(tmp_path):

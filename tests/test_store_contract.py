@@ -9,6 +9,7 @@ import psycopg
 import pytest
 
 from server.store import SCHEMA_VERSION, Cursor, SqliteStore, StorageError, open_store
+from server.store.base import OLDEST
 
 
 class Sqlite:
@@ -117,12 +118,13 @@ def test_keyset_pages_visit_every_scenario_once_newest_first(store):
 
 def test_offset_pages_and_recent_agree_with_keyset_pages(store):
     ids = [make(store, f"case {i}", "filter aid" if i % 2 else "").id for i in range(25)]
-    page1, total = store.search("", 1, 10)
-    assert total == 25 and [s.id for s in page1] == ids[::-1][:10]
-    page3, _ = store.search("", 3, 10)
-    assert [s.id for s in page3] == ids[::-1][20:]
+    page1 = store.search("", 1, 10)
+    assert page1.total == 25 and [s.id for s in page1.items] == ids[::-1][:10] and page1.start == 1
+    page3 = store.search("", 3, 10)
+    assert [s.id for s in page3.items] == ids[::-1][20:] and page3.start == 21
     assert [s.id for s in store.recent(4)] == ids[::-1][:4]
-    assert store.search("", 9, 10) == ([], 25)
+    beyond = store.search("", 9, 10)
+    assert beyond.items == [] and beyond.total == 25
 
 
 def test_search_finds_substrings_of_name_note_and_summary_words(store):
@@ -144,19 +146,103 @@ def test_search_finds_substrings_of_name_note_and_summary_words(store):
     assert found("pump curve") == {c.id}  # the feed mode, in words
     assert found("case 7") == {e.id}  # the text as typed, not any of its words
     assert found("100%") == {d.id} and found("0%f") == set() and found("r_s") == {d.id}  # % and _ are literal
-    assert found("er") >= {a.id, d.id}  # two letters: shorter than the index's trigrams, still found
     assert found("no such words") == set()
-    assert store.search("copper", 1, 10) == ([store.page("copper", None, 10).items[0]], 1)
+    assert store.search("copper", 1, 10).items == [store.page("copper", None, 10).items[0]]
+
+
+def test_one_or_two_characters_find_words_that_begin_with_them(store):
+    a1 = make(store, "Line A1, press 3", "")
+    a12 = make(store, "filter A12b", "")
+    xa1 = make(store, "XA1 trial", "")
+    k = make(store, "Kemi", "ß-Öl 7")
+    pct = make(store, "100% filter aid", "")
+
+    def found(q):
+        page = store.page(q, None, 50)
+        assert page.total == len(page.items) and page.exact
+        return {s.id for s in page.items}
+
+    assert found("A1") == {a1.id, a12.id}  # a word that begins with it, case aside; not inside XA1
+    assert found("a") == {a1.id, a12.id, pct.id}  # "A1", "A12b", "aid"
+    assert found("x") == {xa1.id}
+    assert found("3") == {a1.id} and found("7") == {k.id}
+    assert found("öl") == {k.id} and found("ß") == {k.id}  # letters beyond ASCII are letters
+    assert found("er") == set()  # inside "filter": not the start of a word
+    assert found("xa1") == {xa1.id}  # three characters: anywhere, as before
+    assert found("%") == {pct.id} and found("0%") == {pct.id}  # not only letters or digits: found anywhere (read)
+    assert store.search("A1", 1, 10).total == 2
+
+
+def test_counts_are_exact_up_to_the_limit_and_said_as_more_beyond(store):
+    store.count_limit = 5
+    ids = [make(store, f"study {i}").id for i in range(8)]
+    make(store, "other")
+    everything = store.page("", None, 3)
+    assert (everything.total, everything.exact, everything.start) == (9, True, 1)  # the whole list: always exact
+    page = store.page("study", None, 3)
+    assert (page.total, page.exact, page.start) == (5, False, None)  # more than 5 match
+    seen, pages = walk(store, "study", 3)
+    assert seen == ids[::-1]  # every match still visited once, newest first
+    assert all(not p.exact for p in pages)
+    few = store.page("other", None, 3)
+    assert (few.total, few.exact, few.start) == (1, True, 1)
+    short = store.page("s", None, 3)
+    assert (short.total, short.exact) == (5, False)
+
+
+def test_every_page_knows_its_place_and_keeps_it_while_saves_come_in(store):
+    ids = [make(store, f"case {i}").id for i in range(23)]
+    newest = ids[::-1]
+    first = store.page("", None, 5)
+    assert first.start == 1 and first.total == 23
+    second = store.page("", first.next, 5)
+    assert second.start == 6 and [s.id for s in second.items] == newest[5:10]
+    later = [make(store, f"new {i}").id for i in range(3)]  # three saves while the reader pages
+    third = store.page("", second.next, 5)
+    assert third.total == 26 and third.start == 14  # its rows are now 14th to 18th newest
+    assert [s.id for s in third.items] == newest[10:15]
+    back = store.page("", third.previous, 5)
+    assert back.start == 9 and [s.id for s in back.items] == newest[5:10]
+    oldest = store.page("", OLDEST.encode(), 5)
+    assert [s.id for s in oldest.items] == newest[-5:] and oldest.start == 22 and oldest.next is None
+    before = store.page("", oldest.previous, 5)
+    assert before.start == 17 and [s.id for s in before.items] == newest[-10:-5]
+    assert [s.id for s in store.page("", None, 3).items] == later[::-1]
+    searched = store.page("case 1", None, 4)  # case 1 and case 10 to 19: eleven matches
+    assert searched.total == 11 and searched.start == 1
+    assert store.page("case 1", searched.next, 4).start == 5
+    stale = Cursor.decode(second.next)  # a cursor that claims a place the list cannot have
+    assert store.page("", Cursor(stale.direction, stale.created, stale.seq, 10**6).encode(), 5).start is None
+    assert store.page("", Cursor(stale.direction, stale.created, stale.seq).encode(), 5).start is None  # schema 2
+
+
+def test_the_count_follows_saves_from_every_connection(backend):
+    a, b = backend.open(), backend.open()
+    for i in range(7):
+        make(a if i % 2 else b, f"n{i}")
+    backend.execute("INSERT INTO scenarios (id, name, note, created, inputs, results, solver_version, summary) "
+                    "SELECT 'by-hand-0001', name, note, created, inputs, results, solver_version, summary "
+                    "FROM scenarios LIMIT 1")  # a row put in by hand is counted too
+    assert a.page("", None, 5).total == b.page("", None, 5).total == 8
+    assert backend.execute("SELECT count(*) FROM scenarios") == [(8,)]
+    a.close()
+    b.close()
 
 
 @pytest.mark.parametrize("many", [False, True], ids=["few matches", "many matches"])
 def test_search_pages_by_keyset_too(store, many):
-    if many and isinstance(store, SqliteStore):
-        store.walk_above = 3  # the plan for many matches: walk the newest-first index
+    if many:  # the plans for many matches: walk the newest-first index, checking each row
+        store.walk_above, store.count_limit = 3, 5
+    elif isinstance(store, SqliteStore):  # the matches found, checked during a walk of the index
+        store.look_up_below = 3
     ids = [make(store, f"thickness study {i}" if i % 3 == 0 else f"other {i}").id for i in range(40)]
-    seen, pages = walk(store, "study", 4)
-    assert seen == [i for k, i in enumerate(ids) if k % 3 == 0][::-1]
-    assert pages[0].total == 14
+    wanted = [i for k, i in enumerate(ids) if k % 3 == 0][::-1]
+    for q in ("study", "th", "t"):  # a substring; words that begin with one or two characters
+        seen, pages = walk(store, q, 4)
+        assert seen == wanted, q
+        assert (pages[0].total, pages[0].exact) == ((5, False) if many else (14, True)), q
+    seen, _ = walk(store, "o", 4)  # "other" and the summary's "optimum": every scenario
+    assert seen == ids[::-1]
 
 
 def test_a_bad_cursor_is_refused_in_words():

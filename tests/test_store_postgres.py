@@ -10,7 +10,7 @@ from fastapi.testclient import TestClient
 
 from server.app import create_app
 from server.settings import PROJECT_ROOT
-from server.store import StorageError, open_store
+from server.store import SCHEMA_VERSION, StorageError, open_store
 from tests.conftest import app_settings
 from tests.pgserver import PASSWORD, PASSWORD_ROLE
 
@@ -79,7 +79,7 @@ def test_instances_starting_together_migrate_once(pg_url):
         t.join()
     assert not errors and len(stores) == 4
     with psycopg.connect(pg_url) as conn:
-        assert conn.execute("SELECT value FROM presscycle_meta WHERE key = 'schema_version'").fetchone() == ("2",)
+        assert conn.execute("SELECT value FROM presscycle_meta WHERE key = 'schema_version'").fetchone() == (str(SCHEMA_VERSION),)
     ids = {s.create(f"from {i}", "", {}, {"best": {}}, "t", None, {"k": 1.0}).id for i, s in enumerate(stores)}
     assert all(stores[0].get(i) is not None for i in ids)
     for s in stores:

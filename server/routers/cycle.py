@@ -10,13 +10,24 @@ from ..solve import solve
 router = APIRouter(prefix="/api/v1", tags=["cycle"], responses=ERROR_RESPONSES)
 
 
+def solves_quickly(inputs: CycleRequest) -> bool:
+    """A constant-pressure feed solves in a bounded few milliseconds on either pressure basis:
+    in closed form, or on the cake basis from one held-pressure table of fixed size (2,000
+    volumes, its optimum worked out on the table). Such a request runs at once on the event
+    loop: the hop to a worker thread costs a good part of the request, the time budget cannot
+    be reached, and the solver holds the interpreter in a thread as much as on the loop. A cycle
+    with stages after filtration (squeeze, blow, wash quality, specifications) searches their
+    free durations and goes to a worker thread under the time budget."""
+    return inputs.solves_in_closed_form or (inputs.feed.closed_form and not inputs.cycle.adds_stages)
+
+
 @router.post("/cycle", response_model=CycleResponse)
 async def post_cycle(request: Request, inputs: CycleRequest) -> dict:
     """Best feasible cycle, unconstrained optimum, chambers-full cycle and thickness comparison.
 
     Quantities may be SI numbers or strings with units; results are SI (see ``units``).
     """
-    solved = await within_budget(request, solve, inputs, quick=inputs.solves_in_closed_form)
+    solved = await within_budget(request, solve, inputs, quick=solves_quickly(inputs))
     # serialised once by the solve (and checked finite there); the schema above still
     # describes it, and the schema-driven tests check every answer against it
     return Response(solved.results_json, media_type="application/json")

@@ -20,6 +20,7 @@ from ..schemas.common import ERROR_RESPONSES
 from ..schemas.scenarios import ScenarioCreated, ScenarioIn, ScenarioList, ScenarioOut
 from ..solve import CAUTIONS
 from ..store import Cursor, Listed, Scenario
+from ..store.base import OLDEST
 from ..uploads import read_upload
 from ..views import page_json, render_results
 
@@ -42,6 +43,8 @@ register_url_convertor("scenario_id", ScenarioIdConvertor())
 router = APIRouter(prefix="/api/v1/scenarios", tags=["scenarios"], responses=ERROR_RESPONSES)
 pages = APIRouter(tags=["pages"], include_in_schema=False)
 PER_PAGE = 20
+#: the cursor value of the oldest page in links (a cursor token would do too)
+OLDEST_LINK = "oldest"
 MAX_IMPORT_BYTES = 2_000_000
 
 
@@ -114,22 +117,30 @@ async def create_scenario(request: Request, body: ScenarioIn) -> dict:
 def list_scenarios(request: Request, q: str = Query("", max_length=200),
                    cursor: str | None = Query(None, max_length=200, description=(
                        "The `next` or `previous` value of a list answer: the page after (older) or before "
-                       "(newer) it. Every page costs the same.")),
+                       "(newer) it; `oldest` for the oldest page. Every page costs the same.")),
                    page: int | None = Query(None, ge=1, le=100000, description=(
                        "A page number (20 a page): deep pages cost more than `cursor`. Ignored with a cursor."))):
     """Saved scenarios, newest first, 20 a page; q finds scenarios whose name, note or summary words
-    (what limits the cycle, the feed mode) contain every word of q. Page on with `next` / `previous`."""
+    (what limits the cycle, the feed mode) contain q as typed (three characters or more), or a word
+    beginning with q (one or two characters). Page on with `next` / `previous`. A search counts
+    its matches up to 5,000: beyond, `total_exact` is false and more than `total` match."""
     _listing_allowed(request)
-    store = _store(request)
-    if page is not None and page > 1 and not cursor:
-        items, total = store.search(q.strip(), page, PER_PAGE)
-        nxt = prev = None
-    else:
-        found = store.page(q.strip(), _cursor(cursor), PER_PAGE)
-        items, total, nxt, prev = found.items, found.total, found.next, found.previous
+    found = _list(request, q, cursor, page)
+    if not (page is not None and page > 1 and not cursor):
         page = None if cursor else 1
-    return {"items": [_item(s) for s in items], "page": page, "pages": max(1, math.ceil(total / PER_PAGE)),
-            "total": total, "q": q, "next": nxt, "previous": prev}
+    return {"items": [_item(s) for s in found.items], "page": page,
+            "pages": max(1, math.ceil(found.total / PER_PAGE)), "total": found.total, "total_exact": found.exact,
+            "first": found.start, "q": q, "next": found.next, "previous": found.previous}
+
+
+def _list(request: Request, q: str, cursor: str | None, page: int | None):
+    """A page of the list: by cursor (or the first), or by an old page number (offset)."""
+    store = _store(request)
+    if cursor == OLDEST_LINK:
+        cursor = OLDEST.encode()
+    if page is not None and page > 1 and not cursor:
+        return store.search(q.strip(), page, PER_PAGE)
+    return store.page(q.strip(), _cursor(cursor), PER_PAGE)
 
 
 @router.get("/{sid:scenario_id}", response_model=ScenarioOut)
@@ -245,17 +256,11 @@ def _listable(store, items: list[Listed]) -> list[Listed]:
 def scenarios_page(request: Request, q: str = Query("", max_length=200),
                    cursor: str | None = Query(None, max_length=200), page: int | None = Query(None, ge=1, le=100000)):
     _listing_allowed(request)
-    store = _store(request)
-    if page is not None and page > 1 and not cursor:  # an old page-number link: still answered
-        items, total = store.search(q.strip(), page, PER_PAGE)
-        found = None
-    else:
-        found = store.page(q.strip(), _cursor(cursor), PER_PAGE)
-        items, total = found.items, found.total
+    found = _list(request, q, cursor, page)  # an old page-number link is still answered
     return _templates(request).TemplateResponse(request, "scenarios.html", {
-        "items": _listable(store, items), "q": q, "total": total, "u": Units("si"),
-        "next": found.next if found else None, "previous": found.previous if found else None,
-        "first": bool(cursor or page),
+        "items": _listable(_store(request), found.items), "q": q, "found": found, "u": Units("si"),
+        "next": found.next, "previous": found.previous, "first": bool(cursor or page),
+        "oldest": OLDEST_LINK if found.next else None, "per_page": PER_PAGE,
     })
 
 

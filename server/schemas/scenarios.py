@@ -47,7 +47,11 @@ class ScenarioList(BaseModel):
     items: list[ScenarioSummary]
     page: int | None = Field(description="The page number asked for (1 without page or cursor; null with a cursor)")
     pages: int
-    total: int = Field(description="Scenarios in the list (matching q)")
+    total: int = Field(description="Scenarios in the list (matching q); with `total_exact` false, more than this match")
+    total_exact: bool = Field(True, description="False when a search found more matches than it counts (5,000)")
+    first: int | None = Field(None, description=(
+        "Place of the first item in the whole list, 1 for the newest (null when not known: a search "
+        "with more matches than it counts)"))
     q: str
     next: str | None = Field(None, description="Cursor of the next (older) page; pass it as `cursor`. Null at the end")
     previous: str | None = Field(None, description="Cursor of the previous (newer) page; null on the first page")

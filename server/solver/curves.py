@@ -16,6 +16,7 @@ filtration (the supply/cake-resistance construction; from memory).
 """
 
 from bisect import bisect_right
+from functools import lru_cache
 
 import numpy as np
 
@@ -174,6 +175,7 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
     p0, p1, q0, q1 = p[j], p[j + 1], q[j], q[j + 1]
     m = (q1 - q0) / (p1 - p0)  # <= 0
     cake_per_alpha = f.solids_per_filtrate * V / A2
+    at_cap = V >= V_nodes[last]  # past the last node: the cap's pressure, set below
     if f.compressibility == 0.0:
         muR = f.viscosity * (f.resistance_ref * cake_per_alpha + medium)
         P = muR * (q0 - m * p0) / (1.0 - muR * m)
@@ -183,37 +185,60 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
                          (V - V_nodes[j]) / (V_nodes[j + 1] - V_nodes[j]), 0.0)
         P = p0 + np.clip(w, 0.0, 1.0) * (p1 - p0)
         s_, a_ref, p_ref, mu = f.compressibility, f.resistance_ref, f.reference_pressure, f.viscosity
-        for _ in range(NEWTON_STEPS):
-            with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-                Q = q0 + m * (P - p0)
-                pc = np.maximum(P - cloth * Q, 1e-300)  # the pressure alpha belongs to
-                alpha = a_ref * (pc / p_ref) ** s_
-                R = alpha * cake_per_alpha + medium
-                g = P - mu * Q * R
-                dg = 1.0 - mu * (m * R + Q * s_ * alpha * cake_per_alpha / pc * (1.0 - cloth * m))
-                step = g / dg
-            # out of floating-point range (a pressure next to zero): go to the segment's middle
-            step = np.where(np.isfinite(step), step, P - 0.5 * (p0 + p1))
-            P = np.clip(P - step, p0, p1)
-            if np.all(np.abs(step) <= 1e-14 * p1):  # converged (quadratically) to round-off
-                break
+        # Newton's method only where the pressure is not held at the cap (there it is known,
+        # and a step out of the last segment would never settle)
+        live = np.flatnonzero(~at_cap)
+        Pl, p0l, p1l, q0l, ml, cpa = P[live], p0[live], p1[live], q0[live], m[live], cake_per_alpha[live]
+        # what does not change between steps, worked out once
+        a_cpa = a_ref * p_ref**-s_ * cpa  # alpha c V / A^2 = a_cpa pc^s
+        s_turn = s_ * (1.0 - cloth * ml)
+        tolerance = 1e-14 * p1l
+        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
+            for _ in range(NEWTON_STEPS if live.size else 0):
+                Q = q0l + ml * (Pl - p0l)
+                pc = np.maximum(Pl - cloth * Q, 1e-300)  # the pressure alpha belongs to
+                cake = a_cpa * pc**s_  # alpha c V / A^2
+                R = cake + medium
+                step = (Pl - mu * Q * R) / (1.0 - mu * (ml * R + Q * cake / pc * s_turn))
+                if not np.all(np.isfinite(step)):
+                    # out of floating-point range (a pressure next to zero): go to the segment's middle
+                    step = np.where(np.isfinite(step), step, Pl - 0.5 * (p0l + p1l))
+                Pl = np.clip(Pl - step, p0l, p1l)
+                if np.all(np.abs(step) <= tolerance):  # converged (quadratically) to round-off
+                    break
+        P[live] = Pl
         if medium == 0.0:
             # the first segment without a cloth: P = mu q0 alpha_ref (P/p_ref)^s c V / A^2
             first = j == 0
-            P = np.where(first, (mu * q0 * a_ref * cake_per_alpha * p_ref**-s_) ** (1.0 / (1.0 - s_)), P)
-    at_cap = V >= V_nodes[last]
+            # the power may overflow for a compressibility near 1 (only on points it does not
+            # concern, or on a cycle the finiteness check then refuses with a 422)
+            with np.errstate(over="ignore"):
+                P = np.where(first, (mu * q0 * a_ref * cake_per_alpha * p_ref**-s_) ** (1.0 / (1.0 - s_)), P)
     P = np.where(at_cap, p[last], P)
     supply = q0 + m * (P - p0)
-    flow = np.where(at_cap, cake_flow(p[last], V, filtration, filter_area), supply)
+    flow = supply.copy()
+    if np.any(at_cap):  # the cake's flow at the held pressure, only where it is held
+        flow[at_cap] = cake_flow(p[last], V[at_cap], filtration, filter_area)
     flow = np.where(np.isfinite(flow), np.minimum(flow, supply), supply)
     return P, flow
 
 
 def volume_grid(V_max: float, n: int = 2000) -> np.ndarray:
-    """Filtrate volumes from 0 to V_max: dense near the start where the cake is thin."""
-    geometric = np.geomspace(V_max * 1e-6, V_max, n // 2)
-    linear = np.linspace(0.0, V_max, n - n // 2)
-    return np.unique(np.concatenate(([0.0], geometric, linear)))
+    """Filtrate volumes from 0 to V_max: dense near the start where the cake is thin.
+
+    The grid of V_max = 1 scaled (made once per n): the same nodes to round-off as building
+    it for each V_max, without a geomspace and a sort per curve.
+    """
+    return V_max * _unit_volume_grid(n)
+
+
+@lru_cache(maxsize=8)
+def _unit_volume_grid(n: int) -> np.ndarray:
+    geometric = np.geomspace(1e-6, 1.0, n // 2)
+    linear = np.linspace(0.0, 1.0, n - n // 2)
+    grid = np.unique(np.concatenate(([0.0], geometric, linear)))
+    grid.flags.writeable = False  # shared: scaled copies only
+    return grid
 
 
 class TabulatedCurve:

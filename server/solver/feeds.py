@@ -141,18 +141,21 @@ class Filtration:
         """
         s_ = self.compressibility
         a = self.specific_resistance(P)
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            k = self.medium_resistance * filter_area / (a * self.solids_per_filtrate * V)
+        started = V > 0.0
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+            # no cake yet (V = 0): solved at V = 1 and set to 0 below, so every k is finite and > 0
+            k = self.medium_resistance * filter_area / (a * self.solids_per_filtrate * np.where(started, V, 1.0))
             power = 1.0 / (1.0 - s_)
-            x = np.minimum(1.0, 1.0 / k)
+            x = np.minimum(1.0, 1.0 / k)  # > 0 and at or above the root: the steps fall to it
             for _ in range(CAKE_SHARE_STEPS):
                 xp = x**power
-                step = (xp + k * x - 1.0) / (power * xp / np.where(x > 0.0, x, 1.0) + k)
-                step = np.where(np.isfinite(step), step, 0.0)
+                step = (xp + k * x - 1.0) / (power * xp / x + k)
+                if not np.all(np.isfinite(step)):  # rare: k out of floating-point range, x = 0: held there
+                    step = np.where(np.isfinite(step), step, 0.0)
                 x = np.maximum(x - step, 0.0)
                 if np.all(np.abs(step) <= 1e-15 * np.maximum(x, 1e-300)):
                     break
-            phi = np.where(V > 0.0, x**power, 0.0)
+            phi = np.where(started, np.maximum(x, 0.0) ** power, 0.0)
         return phi
 
     def resistance_per_rate(self, pressure, V, filter_area: float):
@@ -256,6 +259,55 @@ class HeldPressureCurve(TabulatedCurve):
 
     knots = np.empty(0)
     held_from = 0.0
+
+    @property
+    def pressure(self) -> float:
+        """The held pressure drop [Pa]."""
+        return self._Pl[0]
+
+    @property
+    def optimum_volume(self):
+        """``_optimum_volume`` when the table's throughput has a peak for certain: its 1/Q still
+        rising at the end (the table continues its last segment, so the throughput falls
+        beyond some volume) and finite. Otherwise None, and the cycle scans for the peak."""
+        if self._kl[-1] > 0.0 and np.isfinite(self._tl[-1]) and np.isfinite(self._rl[-1]):
+            return self._optimum_volume
+        return None
+
+    def _optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
+        r"""The filtrate volume of the highest throughput of this tabulated curve, exactly.
+
+        With a wash time t_w = a V r(V) (r = 1/Q) the throughput V / T, T = t + t_w + t_d,
+        rises while g = T - V dT/dV > 0. On a table segment (h = V - V_i, r = r_i + k h,
+        t = t_i + r_i h + k h^2/2) g is the quadratic
+
+        .. math:: g = (t_i + t_d - V_i r_i - a k V_i^2) - k (1 + 2a) V_i h - k (1/2 + a) h^2
+
+        falling in h for k >= 0, so each segment's root is closed-form; where g turns
+        non-positive at a node (a kink of 1/Q) the peak is that node. Every such place is a
+        local peak; the highest throughput of them is returned (the first of equals). Starting
+        on the line r = B + K V (a ConstantPressureCurve), the root is sqrt(t_d / (K (1/2 + a))).
+        This gives the optimum that a global scan of the same table refines to (derived here;
+        tested against ``peak_scan`` in tests/solver/test_cake_basis.py).
+        """
+        V, t, r, k = self.V, self.t, self.r, self.slope
+        a, t_d = wash_coefficient, downtime
+        C0 = t + t_d - V * r - a * k * V * V  # g at each segment's start, with its own slope
+        C1 = -k * V * (1.0 + 2.0 * a)
+        C2 = -k * (0.5 + a)
+        width = np.append(np.diff(V), np.inf)  # the last segment continues the table
+        with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+            g_end = np.where(np.isfinite(width), C0 + (C1 + C2 * width) * width, np.where(k > 0.0, -np.inf, C0))
+            # a root inside a segment: g from > 0 to <= 0 along it
+            inside = (C0 > 0.0) & (g_end <= 0.0)
+            # a peak at a node: g > 0 up to it, <= 0 from it
+            at_node = np.zeros(V.size, dtype=bool)
+            at_node[1:] = (C0[1:] <= 0.0) & (g_end[:-1] > 0.0)
+            h = 2.0 * C0 / (-C1 + np.sqrt(np.maximum(C1 * C1 - 4.0 * C2 * C0, 0.0)))
+        candidates = np.concatenate((V[inside] + np.minimum(h[inside], width[inside]), V[at_node]))
+        candidates = np.sort(candidates[np.isfinite(candidates)])  # the last segment gives one at least
+        T = self.time(candidates) + a * candidates / self.rate(candidates) + t_d
+        return float(candidates[int(np.argmax(candidates / T))])
 
 
 def held_pressure_curve(filtration: Filtration, filter_area: float, pressure: float, V_max: float,

@@ -4,6 +4,7 @@ results, the search words and the list cursors. No SQL here (each store has its 
 import base64
 import binascii
 import json
+import re
 import secrets
 import zlib
 from dataclasses import dataclass
@@ -11,8 +12,13 @@ from datetime import UTC, datetime
 from typing import Protocol
 
 #: 1: results with chart series as JSON text. 2: results without chart series or curves
-#: (recomputed on view), zlib-compressed; keyset index; search index.
-SCHEMA_VERSION = 2
+#: (recomputed on view), zlib-compressed; keyset index; search index. 3: a count of scenarios
+#: kept by triggers in the saving transaction (no count(*) per list); word prefixes for
+#: searches of one or two characters; on PostgreSQL the search text in a narrow table of its own.
+SCHEMA_VERSION = 3
+#: Searches count their matches up to this many: more is said as "more than COUNT_LIMIT"
+#: (counting every one of 20,000 matches would cost more than the page itself).
+COUNT_LIMIT = 5000
 ID_BYTES = 9  # 12 url-safe characters, 72 random bits: unguessable
 
 
@@ -55,12 +61,17 @@ class Listed:
 @dataclass(frozen=True)
 class Page:
     """One page of a list, newest first. ``next`` (older) and ``previous`` (newer) are cursors
-    for :meth:`ScenarioStore.page`, None at either end."""
+    for :meth:`ScenarioStore.page`, None at either end. ``total`` is exact when ``exact``;
+    otherwise more than ``total`` scenarios match (a search with over COUNT_LIMIT matches).
+    ``start`` is the 1-based place of the first item in the whole list (None when not known:
+    a search counted only up to its limit, or a cursor from before schema 3)."""
 
     items: list[Listed]
     total: int
     next: str | None
     previous: str | None
+    exact: bool = True
+    start: int | None = None
 
 
 class ScenarioStore(Protocol):
@@ -79,9 +90,9 @@ class ScenarioStore(Protocol):
     def page(self, q: str, cursor: str | None, per_page: int) -> Page:
         """A page of the list (or of a search), by keyset: every page costs the same."""
 
-    def search(self, q: str, page: int, per_page: int) -> tuple[list[Listed], int]:
+    def search(self, q: str, page: int, per_page: int) -> Page:
         """Page number ``page`` (1-based) by offset: deep pages cost more; ``page`` is kept for
-        the API's ``page`` parameter."""
+        the API's ``page`` parameter. No cursors."""
 
     def recent(self, n: int) -> list[Listed]: ...
 
@@ -143,6 +154,44 @@ def search_terms(q: str) -> list[str]:
     return [q.lower()] if q.strip() else []
 
 
+#: a word of the search text: letters and digits (Unicode), split at anything else
+_WORD = re.compile(r"[^\W_]+")
+#: searches shorter than this find the words that begin with them (no trigram index serves them)
+SUBSTRING_MIN = 3
+
+
+def word_prefixes(text: str) -> list[str]:
+    """The first one and two characters of every word of a search text, each once, sorted:
+    what searches of one or two characters look up ("A1" finds "Press A1b", not "XA1")."""
+    found = set()
+    for word in _WORD.findall(text.lower()):
+        found.update((word[:1], word[:2]))
+    return sorted(found)
+
+
+@dataclass(frozen=True)
+class Search:
+    """What a list query looks for. ``kind``: "all" (no search), "substring" (three characters
+    or more, anywhere in the search text), "prefix" (one or two letters or digits: the start of
+    a word), "scan" (one or two characters, not all letters or digits, such as "%" or "0%":
+    found anywhere, by reading every search text; no index serves them)."""
+
+    kind: str
+    term: str = ""
+
+    @classmethod
+    def of(cls, q: str) -> "Search":
+        terms = search_terms(q)
+        if not terms:
+            return cls("all")
+        term = terms[0]
+        if len(term) >= SUBSTRING_MIN:
+            return cls("substring", term)
+        if _WORD.fullmatch(term):
+            return cls("prefix", term)
+        return cls("scan", term)
+
+
 def like_pattern(term: str) -> str:
     """A LIKE pattern for a substring, with ``\\`` as the escape character."""
     return "%" + term.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_") + "%"
@@ -151,34 +200,53 @@ def like_pattern(term: str) -> str:
 @dataclass(frozen=True)
 class Cursor:
     """Where a page starts: after (older than) or before (newer than) the row (created, seq).
-    ``seq`` is the store's insertion number, which orders scenarios saved in the same millisecond."""
+    ``seq`` is the store's insertion number, which orders scenarios saved in the same millisecond.
+    ``older`` counts the rows of the list older than that row when it was known (None: not
+    known). Scenarios are never deleted and every save is newer than what is listed, so that
+    count stays true while the list grows: a page's place is the current total less it (off
+    only by saves that commit with an earlier time, a clock difference between instances)."""
 
     direction: str  # "older" or "newer"
     created: str
     seq: int
+    older: int | None = None
 
     def encode(self) -> str:
-        raw = f"{self.direction[0]}|{self.created}|{self.seq}".encode()
-        return base64.urlsafe_b64encode(raw).decode().rstrip("=")
+        raw = f"{self.direction[0]}|{self.created}|{self.seq}"
+        if self.older is not None:
+            raw += f"|{self.older}"
+        return base64.urlsafe_b64encode(raw.encode()).decode().rstrip("=")
 
     @classmethod
     def decode(cls, token: str) -> "Cursor":
         """The cursor of a ``next``/``previous`` token; ValueError if it is not one."""
         try:
             raw = base64.urlsafe_b64decode(token + "=" * (-len(token) % 4)).decode()
-            d, created, seq = raw.split("|")
-            cursor = cls({"o": "older", "n": "newer"}[d], created, int(seq))
+            parts = raw.split("|")
+            if len(parts) not in (3, 4):
+                raise ValueError
+            older = int(parts[3]) if len(parts) == 4 else None
+            cursor = cls({"o": "older", "n": "newer"}[parts[0]], parts[1], int(parts[2]), older)
         except (binascii.Error, UnicodeDecodeError, ValueError, KeyError):
             raise ValueError("not a cursor from a scenario list: use the next or previous value of a list") from None
-        if not 0 <= cursor.seq < 2**63 or len(created) > 40:
+        if (not 0 <= cursor.seq < 2**63 or len(cursor.created) > 40
+                or (older is not None and not -1 <= older < 2**63)):
             raise ValueError("not a cursor from a scenario list: use the next or previous value of a list")
         return cursor
 
 
-def page_from_rows(rows: list, cursor: Cursor | None, per_page: int, total: int, to_listed) -> Page:
+#: The cursor of the oldest page: newer than a row older than every scenario (no scenario has
+#: an empty time); none are older than it.
+OLDEST = Cursor("newer", "", 0, -1)
+
+
+def page_from_rows(rows: list, cursor: Cursor | None, per_page: int, total: int, to_listed,
+                   exact: bool = True) -> Page:
     """A Page from up to per_page + 1 rows (created, seq, id, name, note, summary-json) fetched in
     the cursor's direction: the extra row says whether there is more that way. ``to_listed``
-    makes a Listed of (id, name, note, created, summary-json)."""
+    makes a Listed of (id, name, note, created, summary-json). With an exact total, each row's
+    count of older rows follows from the cursor's (or, on the first page, from the total) and
+    goes into the next cursors, so every page knows its place."""
     newer = cursor is not None and cursor.direction == "newer"
     more = len(rows) > per_page
     rows = rows[:per_page]
@@ -186,13 +254,27 @@ def page_from_rows(rows: list, cursor: Cursor | None, per_page: int, total: int,
         rows.reverse()
     items = [to_listed((r[2], r[3], r[4], r[0], r[5])) for r in rows]
     if not rows:
-        return Page(items, total, None, None)
+        return Page(items, total, None, None, exact)
+    n = len(rows)
+    if not exact:
+        older_first = None
+    elif cursor is None:
+        older_first = total - 1
+    elif cursor.older is None:
+        older_first = None
+    else:
+        older_first = cursor.older - 1 if not newer else cursor.older + n
+    start = total - older_first if older_first is not None else None
+    if start is not None and not 1 <= start <= total - n + 1:
+        start = older_first = None  # a cursor from another list (or another search): place unknown
     first, last = rows[0], rows[-1]
-    has_older = more if not newer else True
+    has_older = more if not newer else cursor.created != OLDEST.created
     has_newer = (cursor is not None) if not newer else more
+    older_last = older_first - (n - 1) if older_first is not None else None
     return Page(items, total,
-                Cursor("older", last[0], last[1]).encode() if has_older else None,
-                Cursor("newer", first[0], first[1]).encode() if has_newer else None)
+                Cursor("older", last[0], last[1], older_last).encode() if has_older else None,
+                Cursor("newer", first[0], first[1], older_first).encode() if has_newer else None,
+                exact, start)
 
 
 def listed(sid, name, note, created, summary_json) -> Listed:
@@ -215,15 +297,29 @@ def record(row) -> Scenario:
 
 
 class ListQueries:
-    """Lists, pages and searches, the same on every store: keyset pages on (created, seq), where
-    ``seq`` is the store's insertion number (``_SEQ``), ``_P`` its parameter mark, ``_match(n)``
-    its condition for n search patterns, ``_read(sql, args, one)`` its query."""
+    """Lists, pages and searches on keyset pages (created, seq), where ``seq`` is the store's
+    insertion number (``_SEQ``) and ``_P`` its parameter mark. A store gives ``_count(search)``
+    (the count of its list, searches counted up to ``count_limit``), ``_filter(search)`` (its
+    condition on the scenarios table) and ``_read(sql, args, one)``; it may override ``_source``
+    (the plan of a list query) or ``page`` itself."""
 
     _SEQ: str
     _P: str
     _SHOWN = "id, name, note, created, summary"
+    #: searches count their matches up to this many (more: "more than count_limit")
+    count_limit = COUNT_LIMIT
 
-    def _match(self, n: int) -> str:
+    #: searches with more matches than this walk the newest-first index (see _filter); up to
+    #: there the matches are looked up and sorted, a cost in proportion to their number (a walk
+    #: can read far when the matches cluster among old scenarios, as a trial series does)
+    walk_above = COUNT_LIMIT
+
+    def _count(self, search: Search) -> tuple[int, bool]:
+        raise NotImplementedError
+
+    def _filter(self, search: Search, walk: bool) -> tuple[str, tuple]:
+        """The condition on the scenarios table and its arguments; ``walk``: many matches, so the
+        query walks the newest-first index and the condition is checked row by row."""
         raise NotImplementedError
 
     def _read(self, sql: str, args=(), one=False):
@@ -232,18 +328,20 @@ class ListQueries:
     def mark_damaged(self, what: str):
         raise NotImplementedError
 
-    def _where(self, q: str) -> tuple[str, tuple]:
-        terms = search_terms(q)
-        if not terms:
-            return "", ()
-        return f"WHERE {self._match(len(terms))}", tuple(like_pattern(t) for t in terms)
+    def _capped(self, n: int) -> tuple[int, bool]:
+        """A count made with LIMIT count_limit + 1: (the count, exact) or (count_limit, False)."""
+        return (n, True) if n <= self.count_limit else (self.count_limit, False)
 
-    def _total(self, where: str, args: tuple) -> int:
-        return self._read(f"SELECT count(*) FROM scenarios {where}", args, one=True)[0]
+    def _source(self, walk: bool) -> str:
+        """The table of a list query, with any plan hint."""
+        return "scenarios"
 
-    def _source(self, where: str, total: int) -> tuple[str, str]:
-        """The table (with any plan hint) and the condition of a list query that finds ``total`` rows."""
-        return "scenarios", where
+    def _plan(self, search: Search) -> tuple[int, bool, str, str, tuple]:
+        """(total, exact, table, WHERE clause, arguments) of a list query."""
+        total, exact = self._count(search)
+        walk = search.kind != "all" and (total > self.walk_above or not exact)
+        where, args = self._filter(search, walk)
+        return total, exact, self._source(walk), f"WHERE {where}" if where else "", args
 
     def _one_listed(self, row) -> Listed:
         try:
@@ -253,9 +351,7 @@ class ListQueries:
 
     def page(self, q: str, cursor: str | None, per_page: int) -> Page:
         at = Cursor.decode(cursor) if cursor else None
-        where, args = self._where(q)
-        total = self._total(where, args)
-        source, where = self._source(where, total)
+        total, exact, source, where, args = self._plan(Search.of(q))
         order, p, seq = "DESC", self._P, self._SEQ
         if at is not None:
             op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
@@ -263,15 +359,17 @@ class ListQueries:
             args = (*args, at.created, at.seq)
         rows = self._read(f"SELECT created, {seq}, id, name, note, summary FROM {source} {where} "
                           f"ORDER BY created {order}, {seq} {order} LIMIT {p}", (*args, per_page + 1))
-        return page_from_rows(rows, at, per_page, total, self._one_listed)
+        return page_from_rows(rows, at, per_page, total, self._one_listed, exact)
 
-    def search(self, q: str, page: int, per_page: int) -> tuple[list[Listed], int]:
-        where, args = self._where(q)
-        total = self._total(where, args)
-        source, where = self._source(where, total)
+    def search(self, q: str, page: int, per_page: int) -> Page:
+        """Page number ``page`` (1-based) by offset: deep pages cost more; kept for the API's
+        ``page`` parameter. No cursors."""
+        total, exact, source, where, args = self._plan(Search.of(q))
         rows = self._read(f"SELECT {self._SHOWN} FROM {source} {where} ORDER BY created DESC, {self._SEQ} DESC "
                           f"LIMIT {self._P} OFFSET {self._P}", (*args, per_page, (page - 1) * per_page))
-        return [self._one_listed(r) for r in rows], total
+        start = (page - 1) * per_page + 1
+        return Page([self._one_listed(r) for r in rows], total, None, None, exact,
+                    start if rows and exact else None)
 
     def recent(self, n: int) -> list[Listed]:
         rows = self._read(f"SELECT {self._SHOWN} FROM scenarios ORDER BY created DESC, {self._SEQ} DESC "

@@ -9,8 +9,9 @@ read-only (saves are refused in words); a record found damaged later stops all w
 file; a full disk is said so.
 
 Search: an FTS5 table with the trigram tokenizer over each scenario's search text (name,
-note, summary words), queried with LIKE, so any substring of three characters or more is
-found through the index; shorter words are matched by scanning that small table.
+note, summary words), so any substring of three characters or more is found through the
+index; one or two characters find the words that begin with them (the table of word
+prefixes). The count of scenarios is kept by triggers (schema 3), so a list reads no count(*).
 """
 
 import errno
@@ -23,8 +24,11 @@ from pathlib import Path
 
 from .base import (
     SCHEMA_VERSION,
+    Cursor,
     ListQueries,
+    Page,
     Scenario,
+    Search,
     StorageError,
     compact,
     dumps,
@@ -32,10 +36,11 @@ from .base import (
     new_id,
     now_iso,
     pack,
+    page_from_rows,
     record,
-    search_terms,
     search_text,
     unpack,
+    word_prefixes,
 )
 
 APPLICATION_ID = 0x50524359  # "PRCY": marks a presscycle database file
@@ -78,6 +83,23 @@ def _schema_2(conn, solver_version: str):
                        (rowid, search_text(name, note, inputs, summary)))
 
 
+def _schema_3(conn):
+    """The count of scenarios kept by triggers in the saving transaction (a list then reads one
+    row instead of counting); the first one and two characters of each word of the search
+    text, for searches of one or two characters (no trigram serves them)."""
+    conn.execute("CREATE TABLE scenario_count (n INTEGER NOT NULL)")
+    conn.execute("INSERT INTO scenario_count SELECT count(*) FROM scenarios")
+    conn.execute("CREATE TRIGGER scenario_count_insert AFTER INSERT ON scenarios "
+                 "BEGIN UPDATE scenario_count SET n = n + 1; END")
+    conn.execute("CREATE TRIGGER scenario_count_delete AFTER DELETE ON scenarios "
+                 "BEGIN UPDATE scenario_count SET n = n - 1; END")
+    conn.execute("CREATE TABLE scenario_prefixes (prefix TEXT NOT NULL, scenario INTEGER NOT NULL, "
+                 "PRIMARY KEY (prefix, scenario)) WITHOUT ROWID")
+    rows = conn.execute("SELECT rowid, text FROM scenarios_search")
+    conn.executemany("INSERT INTO scenario_prefixes VALUES (?, ?)",
+                     ((prefix, rowid) for rowid, text in rows for prefix in word_prefixes(text)))
+
+
 class SqliteStore(ListQueries):
     def __init__(self, path: Path | str, check_integrity: bool = True, solver_version: str | None = None):
         self.path = Path(path)
@@ -96,8 +118,6 @@ class SqliteStore(ListQueries):
                                f"point PRESSCYCLE_DB at a writable place") from None
         self._migrate()
 
-    #: searches with more matches than this walk the newest-first index (see _source)
-    walk_above = 1000
     _SEQ = "rowid"  # insertion order: orders scenarios saved in the same millisecond
     _P = "?"
 
@@ -167,9 +187,12 @@ class SqliteStore(ListQueries):
                 if not existing:
                     conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")  # a new file: ours from now on
                 conn.execute("PRAGMA journal_mode = WAL")
-                steps = {1: _schema_1, 2: lambda c: _schema_2(c, self.solver_version)}
+                steps = {1: _schema_1, 2: lambda c: _schema_2(c, self.solver_version), 3: _schema_3}
                 for v in range(version + 1, SCHEMA_VERSION + 1):
                     conn.execute("BEGIN IMMEDIATE")
+                    if conn.execute("PRAGMA user_version").fetchone()[0] >= v:
+                        conn.execute("COMMIT")  # another process (a uvicorn worker) took this step meanwhile
+                        continue
                     steps[v](conn)
                     conn.execute(f"PRAGMA user_version = {v}")
                     conn.execute("COMMIT")
@@ -260,6 +283,8 @@ class SqliteStore(ListQueries):
                         cur = conn.execute(f"INSERT INTO scenarios ({self._COLUMNS}) VALUES ({self._MARKS})",
                                            (sid, *payload))
                         conn.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)", (cur.lastrowid, text))
+                        conn.executemany("INSERT INTO scenario_prefixes VALUES (?, ?)",
+                                         [(prefix, cur.lastrowid) for prefix in word_prefixes(text)])
                         conn.execute("COMMIT")
                         return Scenario(sid, name, note, created, inputs, results, solver_version, parent, summary)
                     except sqlite3.IntegrityError:
@@ -290,31 +315,79 @@ class SqliteStore(ListQueries):
         except (ValueError, TypeError):
             self.mark_damaged(f"the record of scenario {r[0]!r} in {self.path} is damaged")
 
-    def _where(self, q: str) -> tuple[str, tuple]:
-        """A search through the trigram index: the text as a phrase (any substring of three
-        characters or more, ``%`` and ``_`` literal); shorter text by LIKE over the search table."""
-        terms = search_terms(q)
-        if not terms:
+    #: where each kind of search finds its scenarios (rowids)
+    _MATCHES = {
+        "substring": "SELECT rowid FROM scenarios_search WHERE scenarios_search MATCH ?",
+        "prefix": "SELECT scenario FROM scenario_prefixes WHERE prefix = ?",
+        "scan": "SELECT rowid FROM scenarios_search WHERE text LIKE ? ESCAPE '\\'",
+    }
+
+    @staticmethod
+    def _argument(search: Search) -> str:
+        if search.kind == "substring":  # the text as a phrase of trigrams: any substring, % and _ literal
+            return '"' + search.term.replace('"', '""') + '"'
+        if search.kind == "prefix":
+            return search.term
+        return like_pattern(search.term)
+
+    def _count(self, search: Search) -> tuple[int, bool]:
+        if search.kind == "all":
+            return self._read("SELECT n FROM scenario_count", one=True)[0], True
+        sql = f"SELECT count(*) FROM ({self._MATCHES[search.kind]} LIMIT {self.count_limit + 1})"
+        return self._capped(self._read(sql, (self._argument(search),), one=True)[0])
+
+    #: the same, checked for one row of scenarios (a walk of the newest-first index)
+    _HAS = {
+        "substring": "instr((SELECT text FROM scenarios_search WHERE rowid = scenarios.rowid), ?) > 0",
+        "prefix": "EXISTS (SELECT 1 FROM scenario_prefixes WHERE prefix = ? AND scenario = scenarios.rowid)",
+        "scan": "instr((SELECT text FROM scenarios_search WHERE rowid = scenarios.rowid), ?) > 0",
+    }
+
+    def _filter(self, search: Search, walk: bool) -> tuple[str, tuple]:
+        # Many matches: walk the newest-first index, check each row, stop after a page (matches
+        # come every few rows). Fewer: look the matches up and sort them (walk_above).
+        if search.kind == "all":
             return "", ()
-        term = terms[0]
-        if len(term) >= 3:
-            return ("WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE scenarios_search MATCH ?)",
-                    ('"' + term.replace('"', '""') + '"',))
-        return ("WHERE rowid IN (SELECT rowid FROM scenarios_search WHERE text LIKE ? ESCAPE '\\')",
-                (like_pattern(term),))
+        if walk:
+            return self._HAS[search.kind], (search.term,)
+        return f"rowid IN ({self._MATCHES[search.kind]})", (self._argument(search),)
 
-    def _total(self, where: str, args: tuple) -> int:
-        if where:  # the search table alone: no row of scenarios is read
-            inner = where.removeprefix("WHERE rowid IN (").removesuffix(")").replace("SELECT rowid", "SELECT count(*)")
-            return self._read(inner, args, one=True)[0]
-        return super()._total(where, args)
+    def _source(self, walk: bool) -> str:
+        return "scenarios INDEXED BY scenarios_created" if walk else "scenarios"
 
-    def _source(self, where: str, total: int) -> tuple[str, str]:
-        # Many matches: walk the newest-first index and stop after a page (matches come every
-        # few rows). Few: look the matches up and sort them. The crossing is near 1,000 at 100,000.
-        if where and total > self.walk_above:
-            return "scenarios INDEXED BY scenarios_created", where.replace("WHERE rowid IN", "WHERE +rowid IN")
-        return "scenarios", where
+    #: searches with up to this many matches look them up and sort them; more (up to
+    #: count_limit) walk the newest-first index, checking each row against the matches found
+    look_up_below = 2000
+
+    def page(self, q: str, cursor: str | None, per_page: int) -> Page:
+        """A search reads its matches once (up to count_limit + 1 rowids): their number is the
+        count, and the page is found among them, by looking them up and sorting (few) or by
+        walking the newest-first index and checking each row against them (many; the index
+        holds the rowid, so no scenario row is read until it matches). Past count_limit, the
+        walk checks each row's own search text or prefixes."""
+        search = Search.of(q)
+        if search.kind == "all":
+            return super().page(q, cursor, per_page)
+        at = Cursor.decode(cursor) if cursor else None
+        found = [r[0] for r in self._read(f"{self._MATCHES[search.kind]} LIMIT {self.count_limit + 1}",
+                                          (self._argument(search),))]
+        total, exact = self._capped(len(found))
+        if not exact:
+            where, args = self._HAS[search.kind], (search.term,)
+            source = self._source(walk=True)
+        else:
+            where, args = "rowid IN (SELECT value FROM json_each(?))", (json.dumps(found),)
+            source = "scenarios"
+            if total >= self.look_up_below:
+                source, where = self._source(walk=True), "+" + where
+        order = "DESC"
+        if at is not None:
+            op, order = ("<", "DESC") if at.direction == "older" else (">", "ASC")
+            where = f"{where} AND (created, rowid) {op} (?, ?)"
+            args = (*args, at.created, at.seq)
+        rows = self._read(f"SELECT created, rowid, id, name, note, summary FROM {source} WHERE {where} "
+                          f"ORDER BY created {order}, rowid {order} LIMIT ?", (*args, per_page + 1))
+        return page_from_rows(rows, at, per_page, total, self._one_listed, exact)
 
 
 def _kind(exc: sqlite3.DatabaseError) -> str:

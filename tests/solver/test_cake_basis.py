@@ -161,3 +161,103 @@ def test_tiller_leu_refuses_values_outside_their_range(field, value):
     with pytest.raises(SolverInputError) as err:
         TillerLeu(**args)
     assert err.value.parameter == field
+
+
+# --- the optimum of a held-pressure (tabulated) curve, worked out on its table (issue 12) -----
+
+def _scanned_optimum(curve, downtime, a):
+    """The optimum the cycle found before HeldPressureCurve.optimum_volume: every peak of the
+    throughput of the same table scanned, then refined by a bounded scalar search."""
+    from server.solver.cycle import peak_scan
+
+    def throughput(V):
+        return V / (curve.time(V) + a * np.asarray(V) / curve.rate(V) + downtime)
+
+    return peak_scan(throughput, 1.0, curve.knots, curve.held_from).V_best, throughput
+
+
+@pytest.mark.parametrize("P", [1e5, 6e5, 15e5])
+@pytest.mark.parametrize("downtime, a", [(600.0, 0.0), (1800.0, 0.4), (7200.0, 4.0)])
+def test_the_held_pressure_optimum_on_its_table_is_the_scanned_one(P, downtime, a):
+    curve = ConstantPressure(P).curve(filtration(), A, 40.0)
+    exact = curve.optimum_volume(downtime, a)
+    scanned, throughput = _scanned_optimum(curve, downtime, a)
+    # the same peak: the scan, refined from throughput values alone, places a flat maximum to
+    # about sqrt(machine epsilon); the throughput there agrees to round-off
+    assert exact == pytest.approx(scanned, rel=1e-7)
+    assert throughput(exact) >= throughput(scanned) * (1 - 1e-14)
+    assert throughput(exact) > throughput(exact * (1 - 1e-6)) and throughput(exact) > throughput(exact * (1 + 1e-6))
+
+
+def test_the_tabulated_optimum_of_a_straight_line_is_the_closed_form():
+    # 1/Q = K V + B tabulated: the optimum is sqrt(t_d / (K (1/2 + a))) (the closed form)
+    from server.solver.curves import volume_grid
+    from server.solver.feeds import HeldPressureCurve
+
+    K, B, t_d, a = 4e2, 3e3, 1800.0, 0.7
+    V = volume_grid(50.0)
+    curve = HeldPressureCurve(V, np.full_like(V, 5e5), 1.0 / (K * V + B))
+    assert curve.optimum_volume(t_d, a) == pytest.approx(np.sqrt(t_d / (K * (0.5 + a))), rel=1e-12)
+    assert curve.pressure == 5e5
+
+
+def test_a_peak_at_a_kink_of_the_table_is_found_at_the_node():
+    # 1/Q steep past V = 2 m³: with a wash (a > 0) the wash time's slope jumps there, and the
+    # throughput rises up to the kink and falls after it
+    from server.solver.feeds import HeldPressureCurve
+
+    V = np.linspace(0.0, 10.0, 11)
+    r = np.where(V <= 2.0, 1.0 + 0.01 * V, 1.02 + 50.0 * (V - 2.0))
+    curve = HeldPressureCurve(V, np.full_like(V, 5e5), 1.0 / r)
+    scanned, throughput = _scanned_optimum(curve, 100.0, 1.0)
+    assert curve.optimum_volume(100.0, 1.0) == 2.0 == pytest.approx(scanned, rel=1e-7)
+    no_wash = curve.optimum_volume(100.0, 0.0)  # without a wash the kink is no peak
+    assert no_wash > 2.0 and no_wash == pytest.approx(_scanned_optimum(curve, 100.0, 0.0)[0], rel=1e-7)
+
+
+def test_a_table_without_a_certain_peak_leaves_the_optimum_to_the_scan():
+    # 1/Q flat at the end: the throughput may rise for ever; the cycle then scans as before
+    from server.solver.feeds import HeldPressureCurve
+
+    V = np.linspace(0.0, 10.0, 11)
+    flat = HeldPressureCurve(V, np.full_like(V, 5e5), np.full_like(V, 0.5))
+    assert flat.optimum_volume is None
+    rising = HeldPressureCurve(V, np.full_like(V, 5e5), 1.0 / (1.0 + V))
+    assert rising.optimum_volume is not None
+
+
+def test_demo_results_on_the_cake_basis_agree_with_the_scanned_optimum(monkeypatch):
+    """Every figure of every demo as before the optimum was worked out on the table: the
+    optimum's throughput to round-off, and what depends on where the (flat) peak lies to
+    the scan's resolution."""
+    import json
+    from pathlib import Path
+
+    from server.schemas.cycle import CycleRequest
+    from server.solve import solve
+    from server.solver.feeds import HeldPressureCurve
+
+    def numbers(x, path=""):
+        if isinstance(x, dict):
+            for k, v in x.items():
+                yield from numbers(v, f"{path}.{k}")
+        elif isinstance(x, list):
+            for i, v in enumerate(x):
+                yield from numbers(v, f"{path}[{i}]")
+        elif isinstance(x, int | float) and not isinstance(x, bool):
+            yield path, float(x)
+
+    on_table = 0
+    for f in sorted((Path(__file__).resolve().parents[2] / "demo_cases").glob("*.json")):
+        request = CycleRequest.model_validate(json.loads(f.read_text())["inputs"])
+        new = dict(numbers(json.loads(solve(request).results_json)))
+        with monkeypatch.context() as m:
+            m.setattr(HeldPressureCurve, "optimum_volume", None)
+            old = dict(numbers(json.loads(solve(request).results_json)))
+        assert new.keys() == old.keys()
+        for k in new:
+            assert new[k] == pytest.approx(old[k], rel=1e-7, abs=1e-300), (f.name, k)
+            if k.endswith("_throughput") and k.startswith((".best", ".unconstrained_optimum")):
+                assert new[k] == pytest.approx(old[k], rel=1e-12), (f.name, k)
+        on_table += new != old
+    assert on_table >= 2  # the demos on the cake basis took the new path

@@ -1,0 +1,43 @@
+"""Which cycle requests run at once on the event loop and which in a worker thread under the
+time budget (server/routers/cycle.py, server/budget.py)."""
+
+import json
+from pathlib import Path
+
+import anyio.to_thread
+import pytest
+
+from server.routers.cycle import solves_quickly
+from server.schemas.cycle import CycleRequest
+
+DEMOS = Path(__file__).resolve().parents[1] / "demo_cases"
+
+
+def demo(name):
+    return json.loads((DEMOS / f"{name}.json").read_text())["inputs"]
+
+
+@pytest.fixture
+def thread_hops(monkeypatch):
+    """The requests' hops to a worker thread, counted."""
+    hops = []
+    real = anyio.to_thread.run_sync
+
+    async def counted(fn, *args, **kwargs):
+        hops.append(fn)
+        return await real(fn, *args, **kwargs)
+
+    monkeypatch.setattr(anyio.to_thread, "run_sync", counted)
+    return hops
+
+
+@pytest.mark.parametrize("name, quick", [("gypsum_chamber_limited", True), ("copper_concentrate", True),
+                                         ("iron_oxide_pigment", True), ("kaolin_pump_fed", False)])
+def test_constant_pressure_runs_at_once_a_pump_under_the_budget(client, thread_hops, name, quick):
+    inputs = demo(name)
+    request = CycleRequest.model_validate(inputs)
+    assert solves_quickly(request) is quick
+    assert request.solves_in_closed_form == (name == "gypsum_chamber_limited")  # the cake basis is tabulated
+    r = client.post("/api/v1/cycle", json=inputs)
+    assert r.status_code == 200 and r.json()["best"]["filtrate_throughput"] > 0
+    assert len(thread_hops) == (0 if quick else 1)
