@@ -311,7 +311,7 @@ def washing(w: dict, results: dict) -> dict:
                        "y1": 100 * spec["required"], "line": {"color": COLORS["full"], "dash": "dot", "width": 1.5}})
     per = w.get("pore_volumes_per_filtrate")
     title = "Washing: solute removed and washate" + (
-        f" (1 filtrate volume = {1.0 / per:.3g} pore volumes)" if per else "")
+        f" (1 filtrate volume = {per:.3g} pore volumes)" if per else "")
     y1, y2 = aligned_ranges(100.0, max(conc))
     layout = {
         **BASE_LAYOUT,

@@ -247,7 +247,8 @@ GROUPS = [
         FormField("cycle.wash_target.solute_removal", "Wash until solute removed", "fraction",
                   "instead of a wash ratio; needs a wash model", optional=True),
         FormField("cycle.squeeze.pressure", "Membrane squeeze pressure", "pressure",
-                  "blank: no squeeze; membrane plates usually {usual}", optional=True),
+                  "blank: no squeeze; membrane plates usually {usual}; C_e and the equilibrium below belong to "
+                  "this pressure: change them with it", optional=True),
         FormField("cycle.squeeze.time", "Squeeze time", "time",
                   "or a consolidation ratio below; both blank with a moisture specification: the best cycle "
                   "chooses it", optional=True),
@@ -532,7 +533,10 @@ def _form_paths() -> set[str]:
     return paths
 
 
-FORM_PATHS = _form_paths()
+#: inputs the form sets by a choice rather than a field: the wash model's name follows from its
+#: parameter (schemas.cycle.CycleIn infers it), so a copy must not carry the old one along
+IMPLIED_PATHS = {"cycle.wash_model.model"}
+FORM_PATHS = _form_paths() | IMPLIED_PATHS
 
 
 def carried(inputs: dict, prefix: str = "") -> dict:

@@ -233,7 +233,7 @@ def pump_fill_flow(inputs: CycleRequest) -> float | None:
     raise solver.SolverInputError(
         "fill_time", f'"pump" fills the chambers at the pump\'s highest flow: it needs a pump-fed feed '
         f"(constant_rate, or pump_curve with a flow above 0); the feed is {feed.mode.replace('_', ' ')}: "
-        "give the filling time in seconds instead")
+        "give the filling time as a time instead (e.g. 5 min)")
 
 
 def _best_wash_interval(inputs: CycleRequest, system, dp):

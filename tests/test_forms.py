@@ -187,3 +187,17 @@ def test_without_a_stage_order_the_form_sends_the_wash_before_the_squeeze():
     assert CycleRequest.model_validate(inputs).cycle.order[:2] == ("squeeze", "wash")
     again = CycleRequest.model_validate(collect(prefill(inputs)))
     assert again.cycle.order[:2] == ("wash", "squeeze")
+
+
+def test_the_wash_model_is_not_carried_so_the_form_can_change_it():
+    """A plant engineer could not switch the membrane demo's wash model: its name was carried
+    back unchanged beside the newly chosen model's parameter."""
+    from server.forms import carried
+
+    inputs = next(d for d in DEMOS if d.slug == "hydroxide_membrane_wash").inputs
+    assert "wash_model" not in carried(inputs).get("cycle", {})
+    state = prefill(inputs)
+    state["choices"]["cycle.wash_model.kind"] = "efficiency"
+    state["values"]["cycle.wash_model.efficiency"] = ("60", "%")
+    sent = collect(state)
+    assert CycleRequest.model_validate(sent).cycle.wash_model.model == "efficiency"

@@ -8,7 +8,7 @@ list of feed modes is read off the ``FeedIn`` union.
 
 from typing import Annotated, ClassVar, Literal, get_args
 
-from pydantic import BaseModel, Field, PrivateAttr, model_validator
+from pydantic import BaseModel, Field, PrivateAttr, TypeAdapter, field_validator, model_validator
 
 from ..solver import cycle as solver_cycle
 from ..solver import feeds as solver_feeds
@@ -318,7 +318,7 @@ class SqueezeIn(Strict):
         exactly_one(self, ("time", "consolidation"), required=False)
         exactly_one(self, ("final_porosity", "final_moisture"))
         if self.creep_fraction > 0.0 and self.creep_rate is None:
-            raise ValueError("creep_fraction above 0 needs creep_rate")
+            raise ValueError("a creep share (creep_fraction) above 0 needs its creep rate (creep_rate, 1/s or 1/min)")
         return self
 
     def to_solver(self, porosity: float, wet_to_dry_ratio: float) -> Squeeze:
@@ -404,6 +404,8 @@ class SpecsIn(Strict):
         return solver_stages.Specs(self.max_moisture, self.min_solute_removal)
 
 
+FillTime = quantity("time", ge=0.0, le=1e5, description="Filling the chambers before filtration")
+
 #: the request keys that put each stage in the order given
 _STAGE_KEYS = {"wash_ratio": "wash", "wash_target": "wash", "wash_model": "wash", "squeeze": "squeeze",
                "blow": "blow"}
@@ -440,12 +442,21 @@ class CycleIn(Strict):
                                         "\"blow\"]; default: the order they are given in the request")
     specs: SpecsIn | None = Field(None, description="What the discharged cake must meet; the best cycle meets them "
                                                     "at the highest throughput")
-    fill_time: quantity("time", ge=0.0, le=1e5, description="Filling the chambers before filtration") \
-        | Literal["pump"] | None = Field(
-            None, description="[s]; \"pump\": the chambers and manifold filled at the pump's highest flow "
-                              "(pump-fed presses); default: no separate filling time")
+    fill_time: float | Literal["pump"] | None = Field(
+        None, description="Filling the chambers before filtration [s] (a number in s or a string with a unit, "
+                          "0 to 1e5 s); \"pump\": the chambers and manifold filled at the pump's highest flow "
+                          "(pump-fed presses); default: no separate filling time",
+        json_schema_extra={"x-si-unit": "s"})
     manifold_volume: quantity("volume", ge=0.0, le=100.0, description="Feed pipes and manifold filled with "
                                                                       "the chambers") = 0.0
+
+    @field_validator("fill_time", mode="before")
+    @classmethod
+    def _fill_time(cls, value):
+        """"pump" (any case), or a time checked as every time is (one clear message)."""
+        if value is None or (isinstance(value, str) and value.strip().lower() == "pump"):
+            return None if value is None else "pump"
+        return TypeAdapter(FillTime).validate_python(value)
 
     #: the stage order as the request gave it (key order), when ``stages`` is not given
     _given_order: tuple = PrivateAttr(default=())

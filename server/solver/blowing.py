@@ -64,10 +64,10 @@ class Blow:
             raise SolverInputError("time", "give time or target_moisture, not both")
         if self.time is not None and not self.time > 0.0:
             raise SolverInputError("time", f"must be > 0 s; got {self.time:.6g}")
-        if self.target_moisture is not None and not m[-1] <= self.target_moisture < m[0]:
+        if self.target_moisture is not None and not m[-1] <= self.target_moisture < 1.0:
             raise SolverInputError(
                 "target_moisture", f"the lab curve runs from {100 * m[0]:.4g} % down to {100 * m[-1]:.4g} %: "
-                f"a target must lie between (from {100 * m[-1]:.4g} % up to below {100 * m[0]:.4g} %)")
+                f"a blow reaches no lower than {100 * m[-1]:.4g} % (the curve is never extrapolated)")
 
     @property
     def free(self) -> bool:
@@ -80,18 +80,53 @@ class Blow:
     def _lab_time(self, t, thickness):
         return np.asarray(t, dtype=float) * (self.lab_thickness / np.asarray(thickness, dtype=float)) ** 2
 
-    def moisture_after(self, t, thickness):
+    @property
+    def _liquid_ends(self) -> tuple[float, float]:
+        """Liquid per dry solids X = m / (1 - m) at the lab curve's start and end."""
+        m0, m_end = float(self.moistures[0]), float(self.moistures[-1])
+        return m0 / (1.0 - m0), m_end / (1.0 - m_end)
+
+    def moisture_after(self, t, thickness, entering=None):
         """Cake moisture after blowing a cake of ``thickness`` [m] for t [s], vectorised.
 
-        Past the lab curve's last time the last measured moisture is kept (no extrapolation).
+        ``entering``: the press cake's moisture as the blow starts. The lab curve gives the
+        shape of the drying as reduced liquid content, (X - X_end) / (X_start - X_end) with
+        X = m / (1 - m) the liquid per dry solids, so a cake that enters wetter or drier than
+        the lab cake starts from its own moisture and tends to the same end (for the same
+        cake structure and pressure); at t = 0 nothing has changed. None: the lab cake's own
+        start. Past the lab curve's last time its end is kept (no extrapolation).
         """
-        out = np.interp(self._lab_time(t, thickness), self.times, self.moistures)
+        m_lab = np.interp(self._lab_time(t, thickness), self.times, self.moistures)
+        if entering is None:
+            return m_lab if np.ndim(m_lab) else float(m_lab)
+        X0, X_end = self._liquid_ends
+        X_in = np.asarray(entering, dtype=float) / (1.0 - np.asarray(entering, dtype=float))
+        if X0 > X_end:
+            reduced = (m_lab / (1.0 - m_lab) - X_end) / (X0 - X_end)
+        else:  # a flat curve: the blow dries nothing
+            reduced = np.ones_like(m_lab)
+        X = np.where(X_in > X_end, X_end + (X_in - X_end) * reduced, X_in)
+        out = X / (1.0 + X)
         return out if np.ndim(out) else float(out)
 
-    def time_to(self, moisture, thickness):
+    def time_to(self, moisture, thickness, entering=None):
         """Blow time [s] that brings a cake of ``thickness`` [m] down to ``moisture`` [-]
-        (within the lab curve's range), vectorised; the curve's first time, scaled (0 for a
-        curve that starts at 0 s), where the curve starts at or below it."""
+        (not below the lab curve's end), vectorised. ``entering``: the press cake's moisture
+        as the blow starts (see :meth:`moisture_after`); 0 where it is already at or below
+        the moisture. None: the lab cake's own start (then the curve's first time, scaled,
+        where the curve starts at or below the moisture)."""
+        if entering is not None:
+            X0, X_end = self._liquid_ends
+            e = np.asarray(entering, dtype=float)
+            X_in = e / (1.0 - e)
+            target = np.asarray(moisture, dtype=float)
+            X_t = target / (1.0 - target)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                reduced = np.clip((X_t - X_end) / (X_in - X_end), 0.0, 1.0)
+            X_c = X_end + reduced * (X0 - X_end)  # the lab cake's moisture at the same stage of drying
+            t = self.time_to(X_c / (1.0 + X_c), thickness)
+            out = np.where((X_t >= X_in) | (X_in <= X_end), 0.0, t)
+            return out if np.ndim(out) else float(out)
         m = np.asarray(self.moistures, dtype=float)
         t = np.asarray(self.times, dtype=float)
         moisture = np.asarray(moisture, dtype=float)

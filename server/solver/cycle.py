@@ -721,6 +721,35 @@ def _squeeze_warning(system: PressSystem) -> list[str]:
             "the squeeze pressure and the equilibrium moisture or porosity given for it."]
 
 
+def _moisture_advice(t, best: CycleResult, need: float) -> str:
+    """Why no cycle reaches the moisture specification, and what would."""
+    c = t.cycle
+    said = [f"No cycle meets the moisture specification of {100 * need:.3g} %: the closest is "
+            f"{100 * best.moisture:.3g} %, the cycle shown."]
+    if c.squeeze is not None:
+        X_eq = c.squeeze.final_void_ratio * t.liquid_per_void
+        m_eq = X_eq / (1.0 + X_eq)
+        if need <= m_eq * (1 + 1e-9):
+            said.append(f"The squeezed cake's equilibrium moisture at this squeeze pressure is {100 * m_eq:.3g} %: "
+                        "no squeeze time goes below it; a higher squeeze pressure (with its own equilibrium) or a "
+                        "blow would be needed.")
+        elif t.squeeze_free:
+            said.append("The squeeze is taken to 99.9 % of its way to equilibrium.")
+        else:
+            said.append("A longer squeeze (or leaving its time blank for the best cycle to choose) would help.")
+    if c.blow is not None:
+        if need < c.blow.lowest_moisture:
+            said.append(f"The lab blow curve ends at {100 * c.blow.lowest_moisture:.3g} %: a blow reaches no lower "
+                        "(the curve is never extrapolated).")
+        elif t.blow_free:
+            said.append("The blow is taken to the lab curve's end.")
+        else:
+            said.append("A longer blow (or leaving its time blank for the best cycle to choose) would help.")
+    elif c.squeeze is None:
+        said.append("Only a squeeze or a blow lowers the moisture of a cake: add one.")
+    return " ".join(said)
+
+
 def spec_report(family: CycleFamily, best: CycleResult) -> tuple[dict | None, list[str]]:
     """Each specification at the best cycle: required, achieved, met, binds; and warnings for
     any the press cannot meet (the best cycle shown is then the closest)."""
@@ -736,13 +765,7 @@ def spec_report(family: CycleFamily, best: CycleResult) -> tuple[dict | None, li
         binds = met and (free or got >= need * (1 - 1e-6))
         out["max_moisture"] = {"required": need, "achieved": got, "met": met, "binds": binds}
         if not met:
-            how = [w for w, on in (("the squeeze to " + f"{100 * best.consolidation:.1f} % consolidation"
-                                    if best.consolidation is not None else "", t.squeeze_free),
-                                   ("the blow to the lab curve's end", t.blow_free)) if on and w]
-            warnings.append(
-                f"No cycle meets the moisture specification of {100 * need:.3g} %: the closest the stages reach is "
-                f"{100 * got:.3g} %" + (f" ({' and '.join(how)})" if how else "") + ". The cycle shown is that "
-                "closest one; a longer squeeze, a higher squeeze pressure or a blow would be needed.")
+            warnings.append(_moisture_advice(t, best, need))
     if specs.min_solute_removal is not None:
         need, got = specs.min_solute_removal, best.solute_removal
         met = got is not None and got >= need * (1 - 1e-9)

@@ -323,6 +323,22 @@ def fit_squeeze(test: SqueezeTest) -> SqueezeFit:
                         "readings' unit, the dry solids mass, the solids density and the area.")
     if np.isfinite(r2) and r2 < 0.98:
         warnings.append(f"The model fits the readings only to R² = {r2:.3f}: check the readings.")
+    # a squeeze only ever thins the cake and expresses more liquid: readings that go back
+    # beyond their noise are doubtful (thickness rising, or expressed liquid falling)
+    backwards = np.diff(y) > 0.0 if test.quantity == "thickness" else np.diff(y) < 0.0
+    # the readings' scatter, robustly (one bad reading must not hide itself)
+    noise = 1.4826 * float(np.median(np.abs(residuals))) if residuals.size > 2 else 0.0
+    steps = np.abs(np.diff(y))
+    if np.any(backwards & (steps > 2.0 * noise)):
+        k = int(np.argmax(backwards & (steps > 2.0 * noise))) + 1
+        what = "thickness rises" if test.quantity == "thickness" else "expressed liquid falls"
+        warnings.append(f"The {what} at reading {k + 1} (beyond the readings' scatter): a squeeze cannot do "
+                        "that; check the readings.")
+    loose = [name for name, k, value in (("C_e", 2, Ce), ("creep fraction", 3, B), ("creep rate", 4, eta))
+             if (k < 3 or test.creep) and se(k) is not None and value > 0.0 and se(k) > 0.5 * value]
+    if loose:
+        warnings.append(f"The readings pin down {' and '.join(loose)} only loosely (standard error above half the "
+                        "value): use these values with care, or repeat the test with more readings.")
     return SqueezeFit(
         consolidation_coefficient=float(Ce), consolidation_coefficient_stderr=se(2),
         creep_fraction=B, creep_fraction_stderr=se(3) if test.creep else None,

@@ -24,8 +24,9 @@ Assumptions (stated on the page and in the README):
   cloth as in filtration;
 - the washed cake keeps its void ratio (a wash displaces the liquor, it does not compress);
 - the blow is the last stage (a blown cake is no longer saturated: neither the wash nor the
-  squeeze model applies to it); the lab blow curve is measured on the cake as it enters the
-  blow (squeezed or not) at the press's blow pressure;
+  squeeze model applies to it); the lab blow curve, measured at the press's blow pressure,
+  gives the shape of the drying in reduced liquid content (blowing.Blow.moisture_after): the
+  press cake starts from its own moisture and tends to the curve's end;
 - a free squeeze runs to at most U_c = 0.999 (common practice, no source: the last tenth of a
   per cent takes very long).
 """
@@ -140,12 +141,12 @@ class Treatment:
         self.squeeze_free = sq is not None and sq.free and specs.max_moisture is not None
         self.blow_free = cycle.blow is not None and cycle.blow.free and specs.max_moisture is not None
         if sq is not None and sq.free and not self.squeeze_free:
-            raise SolverInputError("squeeze.time", "give the squeeze a time or a consolidation ratio, or a moisture "
-                                   "specification (specs.max_moisture) for the optimum to choose it",
+            raise SolverInputError("squeeze.time", "give the squeeze a time or a consolidation ratio, or a "
+                                   "specification of the cake moisture for the best cycle to choose it",
                                    also=("squeeze.consolidation",))
         if cycle.blow is not None and cycle.blow.free and not self.blow_free:
-            raise SolverInputError("blow.time", "give the blow a time or a target moisture, or a moisture "
-                                   "specification (specs.max_moisture) for the optimum to choose it",
+            raise SolverInputError("blow.time", "give the blow a time or a target moisture, or a specification of "
+                                   "the cake moisture for the best cycle to choose it",
                                    also=("blow.target_moisture",))
         self._F_table = None  # (W grid, removal) for a vectorised dispersion removal
         self._W_exact = None  # the removal of a wash ratio fixed in pore volumes, exact
@@ -247,7 +248,8 @@ class Treatment:
                 elif b.time is not None:
                     t = np.full_like(V, b.time)
                 elif b.target_moisture is not None:
-                    t = np.asarray(b.time_to(b.target_moisture, np.where(thickness > 0, thickness, 1.0)))
+                    t = np.asarray(b.time_to(b.target_moisture, np.where(thickness > 0, thickness, 1.0),
+                                             saturated_moisture))
                 else:
                     t = zeros
                 out["blow_time"] = np.asarray(t, dtype=float) * np.ones_like(V)
@@ -255,8 +257,8 @@ class Treatment:
         moisture = X / (1.0 + X)
         thickness = omega * (1.0 + e)
         if "blow" in self.order:
-            blown = self.cycle.blow.moisture_after(out["blow_time"], np.where(thickness > 0, thickness, 1.0))
-            moisture = np.minimum(saturated_moisture, blown)
+            moisture = self.cycle.blow.moisture_after(out["blow_time"], np.where(thickness > 0, thickness, 1.0),
+                                                      saturated_moisture)
         out["moisture"], out["cake_thickness_final"] = moisture, thickness
         out["void_ratio"] = e
         return out
@@ -315,9 +317,10 @@ class Treatment:
             state = self.evaluate(V, U_squeeze=U, blow_time=0.0)
         thickness = np.where(state["cake_thickness_final"] > 0, state["cake_thickness_final"], 1.0)
         goal = np.maximum(spec, b.lowest_moisture)
-        t = np.asarray(b.time_to(goal, thickness), dtype=float) * np.ones_like(V)
         X = state["void_ratio"] * self.liquid_per_void
-        return np.where(X / (1.0 + X) <= spec, 0.0, t)
+        entering = X / (1.0 + X)
+        t = np.asarray(b.time_to(goal, thickness, entering), dtype=float) * np.ones_like(V)
+        return np.where(entering <= spec, 0.0, t)
 
     def _free_squeeze(self, V, spec):
         sq = self.cycle.squeeze

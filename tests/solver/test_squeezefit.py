@@ -190,3 +190,14 @@ def test_an_equilibrium_below_the_solids_thickness_is_refused():
         fit_squeeze(test(L, creep=False))
     assert err.value.parameter == "readings"
     assert "dry_solids_mass" in err.value.also
+
+
+def test_readings_that_go_backwards_or_pin_nothing_down_are_warned():
+    """A plant engineer's readings with the thickness rising (9.3 -> 9.4 mm) fitted without a
+    word; a squeeze only ever thins the cake."""
+    clean = fit_squeeze(test(exact_thickness(TIMES, 2e-7, 0.1, 2e-3)))
+    assert not any("rises" in w or "loosely" in w for w in clean.warnings)
+    L = np.array(exact_thickness(TIMES, 2e-7, 0.1, 2e-3))
+    L[len(L) // 2] += 0.1 * (L[0] - L[-1])  # one reading well above the one before it
+    bent = fit_squeeze(test(L))
+    assert any("thickness rises" in w for w in bent.warnings)
