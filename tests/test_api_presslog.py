@@ -329,11 +329,13 @@ def test_a_cycle_without_filtrate_names_its_lines(client):
 
 
 def test_a_log_that_does_not_follow_the_rate_equation_is_said_so_and_cannot_be_saved(client):
-    # flow constant while the pressure holds: nothing builds a cake; the fit gives a resistance below zero
+    # flow constant while the pressure holds: nothing builds a cake; the fit gives alpha 0
     lines = [GOOD_HEAD] + [f"{i // 2}, {6 if 5 < i < 100 else 0}, 10" for i in range(200)]
     r = post(client, csv="\n".join(lines))
     assert r.status_code == 200
-    assert any("below zero" in w for w in r.json()["warnings"])
+    assert any("No cycle gives a physically valid fit (cycle 1: α" in w and "not above zero" in w
+               for w in r.json()["warnings"])
+    assert r.json()["cycles"][0]["left_out"] and r.json()["calibrated_inputs"] is None
     field, msg = error_of(post(client, csv="\n".join(lines), save={"name": "x"}))
     assert field == "save" and "nothing to save" in msg
 
