@@ -151,10 +151,10 @@ class CycleFits:
     start time [s] and mean and highest pressure [Pa] of each filtration phase.
 
     ``start_bound`` [1/m]: the fit counts filtration from the first row under pressure; a feed
-    that started up to one log step before it filtered a volume the log did not see, and
-    the fitted R_m is then too high by up to alpha c V_1 / A (the cake resistance of the first
-    step's filtrate V_1: the linear term of the integrated form takes up 2 a V_0; derived
-    here). ``patterned``: fewer sign changes in the residuals' steps than noise gives (see
+    that started up to one log step before it filtered a volume V_0 the log did not see, and
+    the fitted R_m is then too high by alpha c V_0 / A (the linear term of the integrated form
+    takes up 2 a V_0; derived here); the bound is :func:`_start_bound`. ``patterned``: fewer
+    sign changes in the residuals' steps than noise gives (see
     :func:`_pattern`); those cycles' standard errors are widened by it.
     """
 
@@ -310,13 +310,31 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
     max_p = np.maximum.reduceat(pp, offsets)
     second = offsets + np.minimum(1, lengths - 1)
     first_step = tt[second] - t_first
-    # the whole pressure across the cake (phi = 1): an upper bound on either basis, and one that
-    # does not lean on the fitted R_m (a cloth fitted too high would shrink the cake's share)
-    w1 = cake_weight(V[second], pp[second], None, None, A, c, s, reference_pressure, "total") if s > 0.0 else 1.0
-    start_bound = np.abs(alpha) * c * w1 * np.abs(V[second]) / A
+    start_bound = _start_bound(V[second], pp[second], first_step, alpha, mu, A, c, s, reference_pressure)
     return CycleFits(alpha, alpha_se, R_m, R_se, np.clip(corr, -1.0, 1.0), r2, rms, lengths, V_end, duration,
                      t_first, mean_p, max_p, reference_pressure, s, pressure_basis, beta[:, 0] * y_end,
                      first_step, start_bound, widen > 1.0)
+
+
+#: V_0 <= V_1 / (sqrt(2) - 1): the filtrate before the first row against that of the first step,
+#: at most when the feed started a whole step early and the cake alone resists (V ~ sqrt(t)).
+START_VOLUME_FACTOR = 1.0 / (math.sqrt(2.0) - 1.0)
+
+
+def _start_bound(V1, p1, step, alpha, mu, A, c, s, reference_pressure):
+    """The most R_m can be too high from a feed started up to one step before the first row:
+    alpha c w V_0 / A with V_0 the smaller of V_1 / (sqrt(2) - 1) (V(t) is concave from the
+    start, between sqrt(t) for a cake alone and t for a cloth alone: V(l)/(V(l+h) - V(l)) is
+    largest at l = h for sqrt(t); derived here) and the filtrate of one step through the cake
+    alone, sqrt(2 A^2 dP h / (mu alpha c w)) (Ruth's equation with no cloth). w = (dP/p_ref)^s,
+    the whole pressure across the cake: an upper bound on either basis that does not lean on
+    the fitted R_m (a cloth fitted too high would shrink the cake's share)."""
+    w = cake_weight(V1, p1, None, None, A, c, s, reference_pressure, "total") if s > 0.0 else 1.0
+    k = np.abs(alpha) * c * w
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cake_only = np.where(k > 0, np.sqrt(2.0 * A * A * np.maximum(p1, 0.0) * step / (mu * k)), np.inf)
+    V0 = np.minimum(START_VOLUME_FACTOR * np.abs(V1), cake_only)
+    return k * V0 / A
 
 
 #: Share of sign changes in the residuals' steps below which they follow a pattern: noise gives
@@ -669,18 +687,19 @@ class Resolution:
     resolved: bool
     share: float  # median of start_bound / R_m
     step: float  # median log step at the start of filtration [s]
-    step_needed: float  # the step that would resolve R_m [s] (nan when R_m is not above zero)
+    step_needed: float  # about the step that would resolve R_m [s] (nan when it cannot be told)
 
 
 def cloth_resolution(fits: CycleFits, use, area: float, viscosity: float, solids_per_filtrate: float,
                      share: float = RESOLUTION_SHARE) -> Resolution:
-    """Whether R_m is resolved: the cake resistance of the first step's filtrate (the bound on
-    R_m's excess from a feed started between two rows; it is also how much the cake already
-    outweighs the cloth at the first logged rows) at most ``share`` of R_m, in the median cycle.
+    """Whether R_m is resolved: ``CycleFits.start_bound`` (the most a feed started between two
+    rows can raise R_m; it is also how far the cake already outweighs the cloth at the first
+    logged rows) at most ``share`` of R_m, in the median cycle.
 
-    The step needed: the time a clean start takes to filtrate V* = share R_m A / (alpha c) at
-    the cycle's highest pressure, mu (alpha c V*^2 / (2 A^2) + R_m V* / A) / dP (the rate
-    equation integrated at constant pressure; McCabe, Smith & Harriott, 7th ed., ch. 29)."""
+    The step needed: the time a standing start takes to filtrate V* = share R A /
+    (2.414 alpha c) at the cycles' highest pressure, mu (alpha c V*^2 / (2 A^2) + R V* / A) / dP
+    (the rate equation integrated at constant pressure; McCabe, Smith & Harriott, 7th ed.,
+    ch. 29), R = R_m less half its bound (nan when that is not above zero)."""
     u = np.asarray(use, dtype=bool)
     R = fits.medium_resistance[u]
     bound = fits.start_bound[u]
@@ -688,12 +707,14 @@ def cloth_resolution(fits: CycleFits, use, area: float, viscosity: float, solids
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(R > 0, bound / R, np.inf)
     mid = float(np.median(ratio))
-    R_mid, a_mid = float(np.median(R)), float(np.median(fits.resistance[u]))
+    # R_m in the middle of its start-of-feeding range (the fitted R_m is its top)
+    R_low = float(np.median(R - 0.5 * bound))
+    a_mid = float(np.median(fits.resistance[u]))
     needed = math.nan
-    if R_mid > 0 and a_mid > 0:
+    if R_low > 0 and a_mid > 0:
         mu, A, c = viscosity, area, solids_per_filtrate
-        V = share * R_mid * A / (a_mid * c)
-        needed = mu * (a_mid * c * V * V / (2 * A * A) + R_mid * V / A) / float(np.median(fits.max_pressure[u]))
+        V = share * R_low * A / (START_VOLUME_FACTOR * a_mid * c)
+        needed = mu * (a_mid * c * V * V / (2 * A * A) + R_low * V / A) / float(np.median(fits.max_pressure[u]))
     return Resolution(bool(mid <= share), mid, step, needed)
 
 
