@@ -495,15 +495,21 @@ def analyse(req: PressLogRequest, store=None) -> dict:
              "medium_resistance_start_share": res.share, "log_step": res.step,
              "log_step_needed": None if math.isnan(res.step_needed) else res.step_needed}
     if not res.resolved:
-        needed = (f" Log at least every {res.step_needed:.2g} s while the feed starts, or" if res.step_needed > 0
-                  else " Log more often while the feed starts, or")
+        if res.step_needed >= 1.0:
+            needed = f" Log at least every {res.step_needed:.2g} s while the feed starts, or mark the start of feeding."
+        elif res.step_needed > 0:
+            needed = (f" It would take a step of about {res.step_needed:.2g} s while the feed starts, which few "
+                      "plant loggers write: the cloth is small against this cake, and its resistance is better "
+                      "measured on the cloth itself (a clean-water test) or taken from the lab.")
+        else:
+            needed = " Log more often while the feed starts, or mark the start of feeding."
         limit = f"{logfit.RESOLUTION_SHARE:.0%}"
         warnings.append(
             f"The log's step of {res.step:.3g} s is too coarse to resolve the cloth resistance: a feed started up to "
             "one step before the first row under pressure filtrates a volume the log does not see, and the cake "
-            f"resistance of one step's filtrate is {res.share:.0%} of R_m (so the fitted R_m may be up to that much "
-            f"too high; at most {limit} resolves it).{needed} mark the start of feeding in the log. No cloth-wash "
-            "interval is recommended from this R_m, and the calibrated copy keeps the scenario's cloth resistance.")
+            f"resistance of that volume can reach {res.share:.0%} of the fitted R_m (which may be too high by as much; "
+            f"at most {limit} resolves it).{needed} No cloth-wash interval is recommended from this R_m, and the "
+            "calibrated copy keeps the scenario's cloth resistance.")
     if not blinding.clean > 0:
         warnings.append("The cloth resistance from the log is not above zero: the calibrated copy needs a cloth "
                         "resistance above 0, so it cannot be saved from this log.")

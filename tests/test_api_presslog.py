@@ -404,8 +404,13 @@ def test_one_corrupted_cycle_is_left_out_of_every_summary_and_named(client):
     assert a["plant"]["medium_resistance"] == pytest.approx(R0, rel=0.02)
     assert a["calibration"]["resistance_ratio"] == pytest.approx(ALPHA / 1.8e11, rel=0.01)
     assert a["cloth"]["washes"] == [] and not a["alpha_drift"]["flagged"]
-    assert a["model"]["calibrated_filtrate_throughput"] == pytest.approx(a["model"]["filtrate_throughput"] / 1.0,
-                                                                        rel=0.15)
+    assert a["model"]["calibrated_filtrate_throughput"] == pytest.approx(a["model"]["filtrate_throughput"], rel=0.15)
+    # nor is it drawn on the trend charts, which say so
+    from server.presslogcharts import presslog_figures
+
+    alpha_fig = presslog_figures(a)["alpha"]
+    assert 4 not in alpha_fig["data"][0]["x"] and len(alpha_fig["data"][0]["x"]) == 8
+    assert "(cycle 4 left out: invalid fit)" in alpha_fig["layout"]["title"]["text"]
 
 
 def test_a_coarse_log_step_is_said_to_leave_the_cloth_unresolved(client):
