@@ -76,8 +76,13 @@ def _trend_figure(result, key, title, y_title, unit, washes=()):
     err = [c[key + "_stderr"] for c in fits]
     tr = result["trend"][key]
     when = [c["start_date"] or f"{c['start_time'] / 3600:.4g} h into the log" for c in fits]
-    data = [{"type": "scatter", "mode": "markers", "name": "per cycle", "x": n, "y": y, "customdata": when,
-             "error_y": {"type": "data", "array": err, "visible": True, "color": "#9ca3af"},
+    bars = {"type": "data", "array": err, "visible": True, "color": "#9ca3af"}
+    if key == "medium_resistance":  # down to where a feed started a step before the first row would put it
+        bars.update(symmetric=False, arrayminus=[e + (c.get("medium_resistance_start_bound") or 0.0)
+                                                 for e, c in zip(err, fits)])
+    name = "per cycle (bars down: a feed started a log step early)" if key == "medium_resistance" else "per cycle"
+    data = [{"type": "scatter", "mode": "markers", "name": name, "x": n, "y": y, "customdata": when,
+             "error_y": bars,
              "marker": {"color": COLORS["main"], "size": 6},
              "hovertemplate": "cycle %{x} (%{customdata}): %{y:.4g} " + unit + "<extra></extra>"}]
     if key == "resistance" and n:
