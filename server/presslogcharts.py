@@ -78,8 +78,8 @@ def _trend_figure(result, key, title, y_title, unit, washes=()):
     when = [c["start_date"] or f"{c['start_time'] / 3600:.4g} h into the log" for c in fits]
     bars = {"type": "data", "array": err, "visible": True, "color": "#9ca3af"}
     if key == "medium_resistance":  # down to where a feed started a step before the first row would put it
-        bars.update(symmetric=False, arrayminus=[e + (c.get("medium_resistance_start_bound") or 0.0)
-                                                 for e, c in zip(err, fits)])
+        bars.update(symmetric=False, arrayminus=[max(min(e + (c.get("medium_resistance_start_bound") or 0.0), v), e)
+                                                 for e, v, c in zip(err, y, fits)])  # not below zero
     name = "per cycle (bars down: a feed started a log step early)" if key == "medium_resistance" else "per cycle"
     data = [{"type": "scatter", "mode": "markers", "name": name, "x": n, "y": y, "customdata": when,
              "error_y": bars,
