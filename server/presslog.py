@@ -660,11 +660,16 @@ def _summary(out: dict) -> str:
     first, last = used[0], used[-1]
     span = f"{first['start_date']} to {last['start_date']}" if first.get("start_date") else \
         f"{(last['start_time'] - first['start_time']) / 3600:.4g} h of log"
-    return (f"Calibrated from a press log: {len(used)} of {out['cycles_found']} cycles "
+    plant = out["plant"]
+    left = plant["cycles_left_out"]
+    left_text = f", {len(left)} left out as invalid fits" if left else ""
+    cloth = (f"clean cloth R_m {plant['medium_resistance']:.4g} 1/m, cloth growth "
+             f"{out['cloth']['growth_per_cycle']:.3g} 1/m per cycle" if plant["medium_resistance_resolved"] else
+             f"R_m not resolved at a {plant['log_step']:.3g} s log step (the scenario's kept)")
+    return (f"Calibrated from a press log: {plant['cycles_used']} of {out['cycles_found']} cycles{left_text} "
             f"({first['number']}–{last['number']}, {span}; {out['rows']:,} rows; columns "
-            f"{', '.join(out['columns'].values())}). Plant α {out['plant']['resistance']:.4g} m/kg "
-            f"± {out['plant']['resistance_stderr']:.2g}, clean cloth R_m {out['plant']['medium_resistance']:.4g} 1/m, "
-            f"cloth growth {out['cloth']['growth_per_cycle']:.3g} 1/m per cycle.")
+            f"{', '.join(out['columns'].values())}). Plant α {plant['resistance']:.4g} m/kg "
+            f"± {plant['resistance_stderr']:.2g} (median), {cloth}.")
 
 
 MAX_CHART_POINTS = 1500

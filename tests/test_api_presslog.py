@@ -443,3 +443,11 @@ def test_the_page_says_cycle_or_cycles_as_the_count_wants(client, washes, words)
     assert "cycles 6;" not in html and "– (none)" not in html and "1 cycles" not in html
     # what each throughput counts is said beside them
     assert "They count different cycles" in html and "the scenario's downtime" in html and "as the plant ran them" in html
+
+
+def test_a_calibrated_copy_from_a_log_with_a_bad_cycle_says_so_in_its_note(client):
+    r = post(client, csv=to_csv(corrupted_log()), save={"name": "from a log with a bad cycle"})
+    assert r.status_code == 200, r.text[:300]
+    saved = client.get(f"/api/v1/scenarios/{r.json()['saved']['id']}").json()
+    assert "8 of 9 cycles, 1 left out as invalid fits" in saved["note"] and "(median)" in saved["note"]
+    assert saved["inputs"]["cake"]["resistance"] == pytest.approx(ALPHA, rel=0.01)
