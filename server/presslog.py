@@ -311,18 +311,41 @@ def _check_gaps(log: Log, cycles: logfit.Cycles, gap: float | None, use) -> None
                              "give a longer gap if the logger writes only when a value changes")
 
 
+def _cycles_phrase(numbers, capital: bool = False) -> str:
+    """'cycle 5', 'cycles 5 and 9', 'cycles 2, 3 and 7' (at most ten named, then '… and n more')."""
+    n = [str(int(x)) for x in numbers]
+    word = ("Cycle" if capital else "cycle") + ("s" if len(n) > 1 else "")
+    if len(n) > 10:
+        return f"{word} {', '.join(n[:10])} and {len(n) - 10} more"
+    if len(n) > 1:
+        return f"{word} {', '.join(n[:-1])} and {n[-1]}"
+    return f"{word} {n[0]}" if n else f"no {word.lower()}"
+
+
+def _cycle_parts(best: dict) -> dict:
+    """What a best cycle of the model counts [s]: filtration, the stages after it (wash,
+    squeeze, blow, filling) and the downtime."""
+    stages = best["cycle_time"] - best["filtration_time"] - best["downtime"]
+    return {"cycle_time": best["cycle_time"], "filtration_time": best["filtration_time"],
+            "stage_time": max(stages, 0.0), "downtime": best["downtime"]}
+
+
 def _trend(tr: logfit.Trend) -> dict:
     return {"slope": tr.slope, "slope_low": tr.slope_low, "slope_high": tr.slope_high, "intercept": tr.intercept,
             "scatter": tr.scatter}
 
 
-def _calibrated_inputs(raw: dict, plant: dict, growth: float | None) -> dict:
+def _calibrated_inputs(raw: dict, plant: dict, growth: float | None, keep_cloth: bool = False) -> dict:
+    """The scenario with the plant's alpha and, unless ``keep_cloth`` (an R_m the log does not
+    resolve), its clean cloth and the cloth's growth."""
     out = {**raw}
     cake = {**raw["cake"], "resistance": plant["resistance"]}
     cake.pop("resistance_stderr", None)
     if plant.get("resistance_stderr"):
         cake["resistance_stderr"] = plant["resistance_stderr"]
     out["cake"] = cake
+    if keep_cloth:
+        return out
     out["medium_resistance"] = plant["medium_resistance"]
     out.pop("medium_resistance_stderr", None)
     out.pop("resistance_medium_correlation", None)
@@ -410,6 +433,32 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     starts = log.time[cycles.first]
     cycle_time = np.append(np.diff(starts), np.nan)
 
+    # which fitted cycles the summaries use: physically valid fits only, each left out named
+    reasons = logfit.screen_cycles(fits)
+    valid = np.array([not r for r in reasons])
+    left_out = [{"number": int(used_numbers[i]), "reasons": reasons[i]} for i in np.flatnonzero(~valid)]
+    if left_out:
+        named = "; ".join(f"cycle {c['number']}: {', '.join(c['reasons'])}" for c in left_out[:10])
+        more = f"; and {len(left_out) - 10} more" if len(left_out) > 10 else ""
+        if valid.any():
+            verb = "is" if len(left_out) == 1 else "are"
+            warnings.append(f"{_cycles_phrase([c['number'] for c in left_out], capital=True)} {verb} left out of the "
+                            f"plant values, calibration, trends and cloth blinding ({named}{more}): the logged "
+                            "pressure and flow do not follow the rate equation there; check the cycle or exclude it.")
+        else:
+            warnings.append(f"No cycle gives a physically valid fit ({named}{more}): the plant values below use every "
+                            "cycle and mean little; nothing can be calibrated or saved from this log.")
+            valid = np.ones_like(valid)
+    sel = np.flatnonzero(valid)
+    sum_numbers = used_numbers[sel]
+    alpha_v, rm_v = fits.resistance[sel], fits.medium_resistance[sel]
+    patterned = used_numbers[fits.patterned]
+    if patterned.size:
+        warnings.append(f"In {_cycles_phrase(patterned.tolist())} the residuals of the fit follow a pattern, not "
+                        "noise: the model does not describe the log there exactly (a compressibility or pressure "
+                        "basis that is not the cake's, or a log step too coarse for the curve of the flow); "
+                        f"{'its' if patterned.size == 1 else 'their'} standard errors are widened to allow for it.")
+
     # cloth washes and blinding
     if req.cloth_washes is not None:
         wash_numbers = sorted(set(req.cloth_washes))
@@ -417,36 +466,53 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         if missing:
             raise InputError([(("body", "cloth_washes"), f"no cycle {missing[0]} in the log: cycles are numbered "
                                                          f"{numbers[0]} to {numbers[-1]}")])
-        wash_pos = np.searchsorted(used_numbers, wash_numbers)
+        wash_pos = np.searchsorted(sum_numbers, wash_numbers)
         washes_from = "user"
     else:
-        wash_pos = logfit.detect_washes(fits.medium_resistance)
+        wash_pos = logfit.detect_washes(rm_v)
         washes_from = "detected"
-    blinding = logfit.cloth_blinding(used_numbers, fits.medium_resistance, wash_pos)
-    wash_cycles = [int(used_numbers[p]) for p in blinding.washes] if washes_from == "detected" else wash_numbers
+    blinding = logfit.cloth_blinding(sum_numbers, rm_v, wash_pos)
+    wash_cycles = [int(sum_numbers[p]) for p in blinding.washes] if washes_from == "detected" else wash_numbers
 
     # trends
-    drift = logfit.alpha_drift(used_numbers, fits.resistance)
+    drift = logfit.alpha_drift(sum_numbers, alpha_v)
     if drift.flagged:
         warnings.append(drift.note)
-    rm_trend = logfit.robust_trend(used_numbers, fits.medium_resistance)
+    rm_trend = logfit.robust_trend(sum_numbers, rm_v)
 
-    # the plant's values: alpha as the mean over cycles, the clean cloth from the blinding fit
-    n_used = fits.resistance.size
-    alpha_plant = float(np.mean(fits.resistance))
-    alpha_se = float(np.std(fits.resistance, ddof=1) / math.sqrt(n_used)) if n_used > 1 else float(
-        fits.resistance_stderr[0])
+    # does the log's step resolve the cloth? (a feed started between two rows)
+    res = logfit.cloth_resolution(fits, valid, A, mu, c)
+    start_term = float(np.median(fits.start_bound[sel])) / math.sqrt(12.0)  # uniform within the bound
+
+    # the plant's values: alpha as the median of the valid cycles, the clean cloth from the blinding fit
+    centre = logfit.robust_centre(alpha_v, fits.resistance_stderr[sel])
+    alpha_plant, alpha_se = centre.value, centre.stderr
+    clean_se = math.hypot(blinding.clean_stderr, start_term)
     plant = {"resistance": alpha_plant, "resistance_stderr": alpha_se, "medium_resistance": blinding.clean,
-             "medium_resistance_stderr": blinding.clean_stderr, "reference_pressure": f.reference_pressure,
+             "medium_resistance_stderr": clean_se, "reference_pressure": f.reference_pressure,
              "compressibility": f.compressibility, "pressure_basis": f.pressure_basis,
-             "cycles_used": int(n_used)}
+             "cycles_used": int(sel.size), "cycles_left_out": left_out, "medium_resistance_resolved": res.resolved,
+             "medium_resistance_start_share": res.share, "log_step": res.step,
+             "log_step_needed": None if math.isnan(res.step_needed) else res.step_needed}
+    if not res.resolved:
+        if res.step_needed >= 1.0:
+            needed = f" Log at least every {res.step_needed:.2g} s while the feed starts, or mark the start of feeding."
+        elif res.step_needed > 0:
+            needed = (f" It would take a step of about {res.step_needed:.2g} s while the feed starts, which few "
+                      "plant loggers write: the cloth is small against this cake, and its resistance is better "
+                      "measured on the cloth itself (a clean-water test) or taken from the lab.")
+        else:
+            needed = " Log more often while the feed starts, or mark the start of feeding."
+        limit = f"{logfit.RESOLUTION_SHARE:.0%}"
+        warnings.append(
+            f"The log's step of {res.step:.3g} s is too coarse to resolve the cloth resistance: a feed started up to "
+            "one step before the first row under pressure filtrates a volume the log does not see, and the cake "
+            f"resistance of that volume can reach {res.share:.0%} of the fitted R_m (which may be too high by as much; "
+            f"at most {limit} resolves it).{needed} No cloth-wash interval is recommended from this R_m, and the "
+            "calibrated copy keeps the scenario's cloth resistance.")
     if not blinding.clean > 0:
         warnings.append("The cloth resistance from the log is not above zero: the calibrated copy needs a cloth "
                         "resistance above 0, so it cannot be saved from this log.")
-    if n_used > 1 and np.min(fits.r_squared) < 0.99:
-        worst = int(used_numbers[int(np.argmin(fits.r_squared))])
-        warnings.append(f"Cycle {worst} fits the rate equation poorly (R² {np.min(fits.r_squared):.3f}): check it "
-                        "or exclude it.")
     lab = inputs.cake
     calibration = {
         "from_lab_fit": lab.resistance_stderr is not None or inputs.medium_resistance_stderr is not None,
@@ -455,7 +521,7 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     r, r_se = logfit.ratio_with_error(alpha_plant, alpha_se, lab.resistance, lab.resistance_stderr)
     calibration.update(resistance_ratio=r, resistance_ratio_stderr=r_se)
     if inputs.medium_resistance > 0:
-        r, r_se = logfit.ratio_with_error(blinding.clean, blinding.clean_stderr, inputs.medium_resistance,
+        r, r_se = logfit.ratio_with_error(blinding.clean, clean_se, inputs.medium_resistance,
                                           inputs.medium_resistance_stderr)
         calibration.update(medium_resistance_ratio=r, medium_resistance_ratio_stderr=r_se)
     else:
@@ -472,26 +538,24 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         "washes": wash_cycles, "washes_from": washes_from, "growth_per_cycle": growth,
         "growth_per_cycle_stderr": blinding.growth_stderr,
         "relative_growth_per_cycle": growth / blinding.clean if blinding.clean > 0 else None,
-        "clean_resistance": blinding.clean, "clean_resistance_stderr": blinding.clean_stderr,
+        "clean_resistance": blinding.clean, "clean_resistance_stderr": clean_se,
         "current_resistance": blinding.current, "cycles_since_wash": blinding.cycles_since_wash,
-        "wash_interval": None,
+        "wash_interval": None, "resolved": res.resolved,
     }
     calibrated = calibrated_system = None
-    bad_cycles = used_numbers[(fits.resistance <= 0) | (fits.medium_resistance < 0)]
-    if bad_cycles.size:
-        warnings.append(f"Cycles {', '.join(map(str, bad_cycles[:10].tolist()))}"
-                        f"{' …' if bad_cycles.size > 10 else ''} give a cake or cloth resistance below zero: the "
-                        "logged pressure and flow do not follow the rate equation there (check or exclude them).")
-    if blinding.clean > 0 and alpha_plant > 0:
-        calibrated = _calibrated_inputs(raw, plant, growth if growth > 0 else None)
+    usable = len(left_out) < fits.resistance.size  # some cycle gave a physically valid fit
+    if usable and blinding.clean > 0 and alpha_plant > 0:
+        calibrated = _calibrated_inputs(raw, plant, growth if growth > 0 else None, keep_cloth=not res.resolved)
         try:
             calibrated_system = build_system(validate_inputs(calibrated, prefix)).system
         except InputError as exc:
             warnings.append("The scenario with the plant's values is refused ("
                             f"{exc.errors[0][1]}): no calibrated copy from this log.")
             calibrated = None
-    V_typical = float(np.median(fits.filtrate_volume))
-    if wash_time is None:
+    V_typical = float(np.median(fits.filtrate_volume[sel]))
+    if not res.resolved:
+        pass  # said above: no advice built on an unresolved R_m
+    elif wash_time is None:
         warnings.append("No cloth wash time (cloth_wash_time, or the scenario's downtime_parts.cloth_wash): no "
                         "wash interval recommended.")
     elif not growth > 0 or growth <= 2.0 * blinding.growth_stderr:
@@ -506,13 +570,22 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     # throughput per cycle against the model's best
     throughput = fits.filtrate_volume / cycle_time[k_used]
     try:
-        model = {"filtrate_throughput": solve(inputs).results["best"]["filtrate_throughput"]}
+        best = solve(inputs).results["best"]
     except InputError as exc:
         raise exc.within(prefix) from None
+    model = {"filtrate_throughput": best["filtrate_throughput"], **_cycle_parts(best)}
+    plant_q = throughput[sel]
+    plant_q = plant_q[np.isfinite(plant_q)]
+    model["plant_filtrate_throughput"] = float(np.median(plant_q)) if plant_q.size else None
+    plant_ct = cycle_time[k_used][sel]
+    plant_ct = plant_ct[np.isfinite(plant_ct)]
+    model["plant_cycle_time"] = float(np.median(plant_ct)) if plant_ct.size else None
+    model["plant_filtration_time"] = float(np.median(fits.filtration_time[sel]))
     if calibrated is not None:
         try:
-            model["calibrated_filtrate_throughput"] = solve(validate_inputs(calibrated, prefix)).results["best"][
-                "filtrate_throughput"]
+            cal_best = solve(validate_inputs(calibrated, prefix)).results["best"]
+            model["calibrated_filtrate_throughput"] = cal_best["filtrate_throughput"]
+            model["calibrated"] = _cycle_parts(cal_best)
         except InputError as exc:
             model["calibrated_filtrate_throughput"] = None
             warnings.append(f"The scenario with the plant's values cannot be solved ({exc.errors[0][1]}).")
@@ -550,7 +623,8 @@ def analyse(req: PressLogRequest, store=None) -> dict:
                 resistance_medium_correlation=float(fits.correlation[i]), r_squared=float(fits.r_squared[i]),
                 residual_rms=float(fits.residual_rms[i]), rows=int(fits.rows[i]),
                 throughput=None if math.isnan(throughput[i]) else float(throughput[i]),
-                after_wash=int(numbers[kk]) in set(wash_cycles))
+                after_wash=int(numbers[kk]) in set(wash_cycles), left_out=reasons[i] or None,
+                medium_resistance_start_bound=float(fits.start_bound[i]), residual_pattern=bool(fits.patterned[i]))
         rows_out.append(row)
 
     out = {
@@ -586,11 +660,16 @@ def _summary(out: dict) -> str:
     first, last = used[0], used[-1]
     span = f"{first['start_date']} to {last['start_date']}" if first.get("start_date") else \
         f"{(last['start_time'] - first['start_time']) / 3600:.4g} h of log"
-    return (f"Calibrated from a press log: {len(used)} of {out['cycles_found']} cycles "
+    plant = out["plant"]
+    left = plant["cycles_left_out"]
+    left_text = f", {len(left)} left out as invalid fits" if left else ""
+    cloth = (f"clean cloth R_m {plant['medium_resistance']:.4g} 1/m, cloth growth "
+             f"{out['cloth']['growth_per_cycle']:.3g} 1/m per cycle" if plant["medium_resistance_resolved"] else
+             f"R_m not resolved at a {plant['log_step']:.3g} s log step (the scenario's kept)")
+    return (f"Calibrated from a press log: {plant['cycles_used']} of {out['cycles_found']} cycles{left_text} "
             f"({first['number']}–{last['number']}, {span}; {out['rows']:,} rows; columns "
-            f"{', '.join(out['columns'].values())}). Plant α {out['plant']['resistance']:.4g} m/kg "
-            f"± {out['plant']['resistance_stderr']:.2g}, clean cloth R_m {out['plant']['medium_resistance']:.4g} 1/m, "
-            f"cloth growth {out['cloth']['growth_per_cycle']:.3g} 1/m per cycle.")
+            f"{', '.join(out['columns'].values())}). Plant α {plant['resistance']:.4g} m/kg "
+            f"± {plant['resistance_stderr']:.2g} (median), {cloth}.")
 
 
 MAX_CHART_POINTS = 1500

@@ -12,6 +12,19 @@ def _fits(result: dict) -> list[dict]:
     return [c for c in result["cycles"] if not c["excluded"]]
 
 
+def _valid(result: dict) -> list[dict]:
+    """The cycles the summaries use: fitted and not left out as physically invalid."""
+    return [c for c in _fits(result) if not c.get("left_out")]
+
+
+def _left_out_note(result: dict) -> str:
+    n = [str(c["number"]) for c in _fits(result) if c.get("left_out")]
+    if not n:
+        return ""
+    listed = ", ".join(n[:5]) + (" …" if len(n) > 5 else "")
+    return f" (cycle{'s' if len(n) > 1 else ''} {listed} left out: invalid fit)"
+
+
 def cycle_figure(result: dict) -> dict:
     """Pressure and filtrate flow against time in the cycle drawn, the model's flow over it."""
     ch = result["chart_cycle"]
@@ -56,14 +69,20 @@ def volume_figure(result: dict) -> dict:
 
 
 def _trend_figure(result, key, title, y_title, unit, washes=()):
-    fits = _fits(result)
+    fits = _valid(result)
+    title += _left_out_note(result)
     n = [c["number"] for c in fits]
     y = [c[key] for c in fits]
     err = [c[key + "_stderr"] for c in fits]
     tr = result["trend"][key]
     when = [c["start_date"] or f"{c['start_time'] / 3600:.4g} h into the log" for c in fits]
-    data = [{"type": "scatter", "mode": "markers", "name": "per cycle", "x": n, "y": y, "customdata": when,
-             "error_y": {"type": "data", "array": err, "visible": True, "color": "#9ca3af"},
+    bars = {"type": "data", "array": err, "visible": True, "color": "#9ca3af"}
+    if key == "medium_resistance":  # down to where a feed started a step before the first row would put it
+        bars.update(symmetric=False, arrayminus=[max(min(e + (c.get("medium_resistance_start_bound") or 0.0), v), e)
+                                                 for e, v, c in zip(err, y, fits)])  # not below zero
+    name = "per cycle (bars down: a feed started a log step early)" if key == "medium_resistance" else "per cycle"
+    data = [{"type": "scatter", "mode": "markers", "name": name, "x": n, "y": y, "customdata": when,
+             "error_y": bars,
              "marker": {"color": COLORS["main"], "size": 6},
              "hovertemplate": "cycle %{x} (%{customdata}): %{y:.4g} " + unit + "<extra></extra>"}]
     if key == "resistance" and n:

@@ -40,8 +40,12 @@ class Feed:
 
 
 def exact_cycle(feed: Feed, alpha: float, R_m: float, filtration_time: float, step: float,
-                area=AREA, mu=MU, c=C, grid=200_001):
-    """Rows t [s] from 0 to filtration_time, with pressure [Pa], flow [m^3/s] and V [m^3]."""
+                area=AREA, mu=MU, c=C, grid=200_001, late=0.0):
+    """Rows t [s] from 0 to filtration_time, with pressure [Pa], flow [m^3/s] and V [m^3].
+
+    ``late`` [s]: the log reads its rows that long after the feed started (a start of feeding
+    between two rows of the log); the rows' times still count from the first, and V counts
+    from the feed's start (the first row reads the filtrate of those ``late`` seconds)."""
     V_max = 1.0
     while True:  # a volume past the end of filtration
         Vg = np.linspace(0.0, V_max, 2001)
@@ -59,7 +63,7 @@ def exact_cycle(feed: Feed, alpha: float, R_m: float, filtration_time: float, st
     q = feed.rate(Vg, alpha, R_m, area, mu, c)
     tg = np.concatenate(([0.0], np.cumsum(0.5 * (1 / q[1:] + 1 / q[:-1]) * np.diff(Vg))))
     t = np.arange(0.0, filtration_time + 0.5 * step, step)
-    V = np.interp(t, tg, Vg)
+    V = np.interp(t + late, tg, Vg)
     flow = feed.rate(V, alpha, R_m, area, mu, c)
     pressure = mu * (alpha * c * V / area**2 + R_m / area) * flow
     return t, pressure, flow, V
@@ -80,9 +84,11 @@ class SyntheticLog:
 
 def synthetic_log(cycles=45, feed: Feed | None = None, growth=0.02, wash_every=15, noise=0.005, seed=17,
                   filtration_time=1800.0, downtime=600.0, step=2.0, alpha=ALPHA, R0=R0, idle_rows=3,
-                  alpha_of_cycle=None, area=AREA, grid=200_001):
+                  alpha_of_cycle=None, area=AREA, grid=200_001, late_start=False):
     """A log of ``cycles`` cycles: R_m = R0 (1 + growth j), j cycles since the last wash (every
-    ``wash_every`` cycles); multiplicative noise of relative size ``noise`` on pressure and flow."""
+    ``wash_every`` cycles); multiplicative noise of relative size ``noise`` on pressure and flow.
+    ``late_start``: each feed starts at a random moment (seeded, uniform) within the log step
+    before its first row under pressure, as it does in a plant."""
     feed = feed or Feed()
     rng = np.random.default_rng(seed)
     parts, t0 = [], 0.0
@@ -93,7 +99,8 @@ def synthetic_log(cycles=45, feed: Feed | None = None, growth=0.02, wash_every=1
             washes.append(k + 1)
         R = R0 * (1.0 + growth * j)
         a = alpha_of_cycle(k) if alpha_of_cycle else alpha
-        t, p, q, V = exact_cycle(feed, a, R, filtration_time, step, area=area, grid=grid)
+        late = float(rng.uniform(0.0, step)) if late_start else 0.0
+        t, p, q, V = exact_cycle(feed, a, R, filtration_time, step, area=area, grid=grid, late=late)
         idle_before = t0 + step * np.arange(idle_rows)
         t_f = t0 + step * idle_rows + t
         t_after = t_f[-1] + step * np.arange(1, int(downtime / step) + 1)

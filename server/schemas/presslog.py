@@ -79,6 +79,13 @@ class CycleFitOut(BaseModel):
     rows: int | None = None
     throughput: float | None = Field(None, description="Filtrate per cycle time [m³/s]")
     after_wash: bool | None = None
+    left_out: list[str] | None = Field(None, description="Why the cycle's fit is left out of the summaries "
+                                                         "(physically invalid); none when it counts")
+    medium_resistance_start_bound: float | None = Field(
+        None, description="How much too high R_m may be if the feed started up to one log step before the first "
+                          "row under pressure: the cake resistance of the first step's filtrate [1/m]")
+    residual_pattern: bool | None = Field(None, description="The fit's residuals follow a pattern, not noise "
+                                                            "(its standard errors are widened)")
 
 
 class WashIntervalOut(BaseModel):
@@ -100,17 +107,30 @@ class ClothOut(BaseModel):
     current_resistance: float = Field(description="[1/m]")
     cycles_since_wash: int
     wash_interval: WashIntervalOut | None
+    resolved: bool = Field(True, description="The log's step resolves the cloth resistance (else no wash interval)")
+
+
+class LeftOutOut(BaseModel):
+    number: int
+    reasons: list[str]
 
 
 class PlantOut(BaseModel):
-    resistance: float = Field(description="alpha, the mean over the cycles fitted (at reference_pressure) [m/kg]")
-    resistance_stderr: float = Field(description="Its standard error from the cycles' scatter [m/kg]")
+    resistance: float = Field(description="alpha, the median over the valid cycles (at reference_pressure) [m/kg]")
+    resistance_stderr: float = Field(description="Its standard error: from the cycles' scatter (MAD), at least "
+                                                 "their own errors over sqrt(n) [m/kg]")
     medium_resistance: float = Field(description="R_m of a freshly washed cloth [1/m]")
-    medium_resistance_stderr: float = Field(description="[1/m]")
+    medium_resistance_stderr: float = Field(description="With the start of feeding's uncertainty [1/m]")
     reference_pressure: float = Field(description="[Pa]")
     compressibility: float = Field(description="s, the scenario's [-]")
     pressure_basis: str
-    cycles_used: int
+    cycles_used: int = Field(description="Cycles in the plant values, trends and cloth blinding")
+    cycles_left_out: list[LeftOutOut] = Field([], description="Fitted cycles left out of every summary, and why")
+    medium_resistance_resolved: bool = Field(True, description="The log's step resolves R_m")
+    medium_resistance_start_share: float = Field(0.0, description="R_m's possible excess from the start of feeding, "
+                                                                  "as a share of R_m (the median cycle) [-]")
+    log_step: float = Field(0.0, description="The log's step at the start of filtration (median) [s]")
+    log_step_needed: float | None = Field(None, description="A step that would resolve R_m [s]")
 
 
 class CalibrationOut(BaseModel):

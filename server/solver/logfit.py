@@ -149,6 +149,13 @@ class CycleFits:
     follow each other, through the effective number of rows) and correlation; R^2 of the
     integrated form; ``residual_rms`` [Pa*s]; the filtrate volume [m^3], filtration time [s],
     start time [s] and mean and highest pressure [Pa] of each filtration phase.
+
+    ``start_bound`` [1/m]: the fit counts filtration from the first row under pressure; a feed
+    that started up to one log step before it filtered a volume V_0 the log did not see, and
+    the fitted R_m is then too high by alpha c V_0 / A (the linear term of the integrated form
+    takes up 2 a V_0; derived here); the bound is :func:`_start_bound`. ``patterned``: fewer
+    sign changes in the residuals' steps than noise gives (see
+    :func:`_pattern`); those cycles' standard errors are widened by it.
     """
 
     resistance: np.ndarray
@@ -168,6 +175,9 @@ class CycleFits:
     compressibility: float
     pressure_basis: str
     offset: np.ndarray  # d of the integrated form [Pa*s]
+    first_step: np.ndarray  # the log's step at the start of filtration [s]
+    start_bound: np.ndarray  # R_m's possible excess from a feed started before the first row [1/m]
+    patterned: np.ndarray  # residuals that follow a pattern, not noise (errors widened)
 
 
 def _phase_rows(cycles: Cycles, keep):
@@ -282,6 +292,8 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
         a, b = beta[:, 2], beta[:, 1]
         alpha = a * y_end * A * A / (mu * c * Z_end)
         R_m = b * y_end * A / (mu * V_end)
+    share, widen = _pattern(resid, offsets, lengths, errors)
+    cov = cov * (widen * widen)[:, None, None]
     se_a, se_b = np.sqrt(cov[:, 2, 2]), np.sqrt(cov[:, 1, 1])
     alpha_se = se_a * y_end * A * A / (mu * c * Z_end)
     R_se = se_b * y_end * A / (mu * V_end)
@@ -296,8 +308,59 @@ def fit_cycles(time, pressure, volume, cycles: Cycles, area: float, viscosity: f
     duration = tt[offsets + lengths - 1] - t_first
     mean_p = y_end / np.where(duration > 0, duration, 1.0)
     max_p = np.maximum.reduceat(pp, offsets)
+    second = offsets + np.minimum(1, lengths - 1)
+    first_step = tt[second] - t_first
+    start_bound = _start_bound(V[second], pp[second], first_step, alpha, mu, A, c, s, reference_pressure)
     return CycleFits(alpha, alpha_se, R_m, R_se, np.clip(corr, -1.0, 1.0), r2, rms, lengths, V_end, duration,
-                     t_first, mean_p, max_p, reference_pressure, s, pressure_basis, beta[:, 0] * y_end)
+                     t_first, mean_p, max_p, reference_pressure, s, pressure_basis, beta[:, 0] * y_end,
+                     first_step, start_bound, widen > 1.0)
+
+
+#: V_0 <= V_1 / (sqrt(2) - 1): the filtrate before the first row against that of the first step,
+#: at most when the feed started a whole step early and the cake alone resists (V ~ sqrt(t)).
+START_VOLUME_FACTOR = 1.0 / (math.sqrt(2.0) - 1.0)
+
+
+def _start_bound(V1, p1, step, alpha, mu, A, c, s, reference_pressure):
+    """The most R_m can be too high from a feed started up to one step before the first row:
+    alpha c w V_0 / A with V_0 the smaller of V_1 / (sqrt(2) - 1) (V(t) is concave from the
+    start, between sqrt(t) for a cake alone and t for a cloth alone: V(l)/(V(l+h) - V(l)) is
+    largest at l = h for sqrt(t); derived here) and the filtrate of one step through the cake
+    alone, sqrt(2 A^2 dP h / (mu alpha c w)) (Ruth's equation with no cloth). w = (dP/p_ref)^s,
+    the whole pressure across the cake: an upper bound on either basis that does not lean on
+    the fitted R_m (a cloth fitted too high would shrink the cake's share)."""
+    w = cake_weight(V1, p1, None, None, A, c, s, reference_pressure, "total") if s > 0.0 else 1.0
+    k = np.abs(alpha) * c * w
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cake_only = np.where(k > 0, np.sqrt(2.0 * A * A * np.maximum(p1, 0.0) * step / (mu * k)), np.inf)
+    V0 = np.minimum(START_VOLUME_FACTOR * np.abs(V1), cake_only)
+    return k * V0 / A
+
+
+#: Share of sign changes in the residuals' steps below which they follow a pattern: noise gives
+#: arccos(rho)/pi for steps with lag-one correlation rho (the orthant probability of two
+#: correlated normal variables), at least 1/3 for the trapezoid's rho = 1/2 and 1/2 or more
+#: for readings; a smooth misfit gives a few changes in a whole cycle.
+PATTERN_SHARE = 0.1
+
+
+def _pattern(resid, offsets, lengths, errors):
+    """Share of sign changes of each cycle's residual steps (or residuals, for readings) and
+    the factor its standard errors are widened by: sqrt(expected / observed share) when the
+    share is below PATTERN_SHARE (the rows counted as that many fewer independent ones; a
+    heuristic derived here, no source), else 1."""
+    x = np.concatenate(([0.0], np.diff(resid))) if errors == "random_walk" else resid.copy()
+    positive = x > 0.0
+    change = np.concatenate(([False], positive[1:] != positive[:-1]))
+    change[offsets] = False
+    if errors == "random_walk":
+        change[np.minimum(offsets + 1, resid.size - 1)] = False  # the first step is set to zero
+    pairs = np.maximum(lengths - (2 if errors == "random_walk" else 1), 1).astype(float)
+    share = np.add.reduceat(change.astype(float), offsets) / pairs
+    expected = 1.0 / 3.0 if errors == "random_walk" else 0.5
+    low = (share < PATTERN_SHARE) & (lengths >= 2 * MIN_ROWS)
+    widen = np.where(low, np.sqrt(expected / np.maximum(share, 1.0 / pairs)), 1.0)
+    return share, widen
 
 
 def _stacked_fit(columns, y, offsets, lengths, weights=None, errors: str = "serial"):
@@ -435,21 +498,37 @@ class Drift:
     note: str
 
 
-def alpha_drift(cycle_number, alpha) -> Drift:
-    """alpha's trend over the log, flagged when its 95 % slope interval excludes zero and the
-    trend moves by more than twice the cycle-to-cycle scatter, or when cycles lie beyond three
-    scatters of the trend (a step: a feed change). Common practice, no source."""
+#: Smallest change of alpha over the log, as a share of it, that is flagged as drift: a few per
+#: cent is within what a feed's day-to-day variation does (common practice, no source).
+DRIFT_SHARE = 0.05
+
+
+def alpha_drift(cycle_number, alpha, min_share: float = DRIFT_SHARE) -> Drift:
+    """alpha's trend over the log, flagged as a feed change only when the change is both well
+    beyond its scatter and of practical size: the 95 % slope interval excludes zero, the trend
+    moves by more than three times the cycle-to-cycle scatter and by more than ``min_share``
+    of alpha; or at least two cycles (and 5 %) lie beyond three scatters of the trend and
+    beyond ``min_share`` of it (a step). Common practice, no source."""
     x = np.asarray(cycle_number, dtype=float)
-    tr = robust_trend(x, alpha)
+    a = np.asarray(alpha, dtype=float)
+    tr = robust_trend(x, a)
     change = tr.slope * float(x.max() - x.min()) if x.size else 0.0
-    sloped = (tr.slope_low > 0 or tr.slope_high < 0) and abs(change) > 2.0 * tr.scatter
-    stepped = tr.outliers.size >= max(2, int(0.05 * x.size))
+    level = abs(tr.intercept + tr.slope * float(np.median(x))) if x.size else 0.0
+    sloped = ((tr.slope_low > 0 or tr.slope_high < 0) and abs(change) > 3.0 * tr.scatter
+              and abs(change) > min_share * level)
+    far = np.empty(0, dtype=np.int64)
+    if tr.outliers.size:
+        resid = a[tr.outliers] - (tr.intercept + tr.slope * x[tr.outliers])
+        far = tr.outliers[np.abs(resid) > min_share * level]
+    stepped = x.size >= 3 and far.size >= max(2, int(0.05 * x.size))
     note = ""
+    start = abs(tr.intercept + tr.slope * float(x.min())) if x.size else 0.0
     if sloped:
-        note = (f"alpha moved by {change / abs(tr.intercept + tr.slope * x.min()):+.1%} over the log, beyond its "
-                "scatter: the feed may have changed")
+        note = (f"α moved by {change / start:+.1%} over the log, beyond its scatter (±{tr.scatter / level:.1%} "
+                f"from cycle to cycle) and beyond {min_share:.0%}: the feed may have changed")
     elif stepped:
-        note = f"{tr.outliers.size} cycles lie beyond three times alpha's scatter: the feed may have changed"
+        note = (f"{far.size} cycles lie beyond three times α's scatter and more than {min_share:.0%} from its trend: "
+                "the feed may have changed")
     return Drift(bool(sloped or stepped), tr, float(change), note)
 
 
@@ -509,10 +588,134 @@ def cloth_blinding(cycle_number, R_m, washes) -> Blinding:
     s2 = float(np.sum(resid * resid)) / dof
     g_se = math.sqrt(s2 / Sxx)
     clean = float(np.mean(intercepts))
-    clean_se = float(np.std(intercepts, ddof=1) / math.sqrt(intercepts.size)) if intercepts.size > 1 \
-        else math.sqrt(s2 / lengths[0] + (xm[0] * g_se) ** 2)
+    # the mean intercept's error from the scatter about the lines (each interval's mean is
+    # uncorrelated with the pooled slope: Var = (sum s2/n_j + (sum xm_j)^2 Var g) / J^2;
+    # derived here), and from the intercepts' own scatter when there are several: the larger
+    # (two intervals that repeat each other do not make the clean cloth exact)
+    J = intercepts.size
+    model_se = math.sqrt(float(np.sum(s2 / lengths)) + (float(np.sum(xm)) * g_se) ** 2) / J
+    clean_se = model_se
+    if J > 1:
+        clean_se = max(clean_se, float(np.std(intercepts, ddof=1) / math.sqrt(J)))
     current = float(intercepts[-1] + g * x[-1])
     return Blinding(g, g_se, clean, clean_se, w, int(n[-1] - n[starts[-1]] + 1), current)
+
+
+# ---- which cycles the summaries use, and their robust centre -------------------------------
+
+#: Lowest R^2 of the integrated form for a cycle to count in the summaries.
+MIN_R_SQUARED = 0.99
+#: A cycle whose alpha is this many times off the median of the valid cycles is left out.
+ALPHA_FACTOR = 3.0
+
+
+def screen_cycles(fits: CycleFits, min_rows: int = MIN_ROWS, min_r_squared: float = MIN_R_SQUARED,
+                  alpha_factor: float = ALPHA_FACTOR) -> list[list[str]]:
+    """Why each fitted cycle is physically invalid (an empty list: valid), in words.
+
+    Invalid: alpha <= 0 or R_m < 0 (the log does not follow the rate equation there), R^2 of
+    the integrated form below ``min_r_squared``, fewer than ``min_rows`` rows, a value that is
+    not finite, or alpha more than ``alpha_factor`` times off the median alpha of the cycles
+    valid on the other counts (common practice, no source)."""
+    reasons = []
+    for i in range(fits.resistance.size):
+        a, r, r2 = float(fits.resistance[i]), float(fits.medium_resistance[i]), float(fits.r_squared[i])
+        why = []
+        if not (math.isfinite(a) and math.isfinite(r)):
+            why.append("its fit is not finite")
+        else:
+            if a <= 0:
+                why.append(f"α {a:.3g} m/kg is not above zero")
+            if r < 0:
+                why.append(f"R_m {r:.3g} 1/m is below zero")
+        if not r2 >= min_r_squared:
+            why.append(f"R² {r2:.3f} is below {min_r_squared:g}")
+        if int(fits.rows[i]) < min_rows:
+            why.append(f"{int(fits.rows[i])} rows under pressure (fewer than {min_rows})")
+        reasons.append(why)
+    ok = np.array([not w for w in reasons])
+    if ok.sum() >= 3:
+        mid = float(np.median(fits.resistance[ok]))
+        for i in np.flatnonzero(ok):
+            ratio = float(fits.resistance[i]) / mid
+            if ratio > alpha_factor or ratio < 1.0 / alpha_factor:
+                reasons[i].append(f"α {float(fits.resistance[i]):.3g} m/kg is {ratio:.3g} times the median of the "
+                                  "other cycles")
+    return reasons
+
+
+@dataclass(frozen=True)
+class Centre:
+    """A robust centre of values from several cycles and its standard error."""
+
+    value: float
+    stderr: float
+    scatter: float  # 1.4826 x the median absolute deviation
+    count: int
+
+
+def robust_centre(values, stderrs) -> Centre:
+    """The median of per-cycle values and its standard error.
+
+    The error is the larger of sqrt(pi/2) 1.4826 MAD / sqrt(n) (the median's standard error
+    for normal scatter, its efficiency 2/pi; 1.4826 MAD the standard deviation: common
+    practice, no source) and the median of the cycles' own standard errors / sqrt(n) (cycles
+    that repeat each other exactly have no scatter, but each is only known that well). One
+    value: its own standard error."""
+    v = np.asarray(values, dtype=float)
+    se = np.asarray(stderrs, dtype=float)
+    n = v.size
+    if n == 0:
+        raise SolverInputError("cycles", "no valid cycle to summarise")
+    mid = float(np.median(v))
+    if n == 1:
+        return Centre(mid, float(se[0]), 0.0, 1)
+    scatter = 1.4826 * float(np.median(np.abs(v - mid)))
+    err = max(math.sqrt(math.pi / 2.0) * scatter, float(np.median(se))) / math.sqrt(n)
+    return Centre(mid, err, scatter, int(n))
+
+
+#: R_m is resolved when a feed started up to one log step before the first row could move it
+#: by at most this share (the start-of-feeding bound against R_m itself; a judgement, no source).
+RESOLUTION_SHARE = 0.2
+
+
+@dataclass(frozen=True)
+class Resolution:
+    """Whether the log's step resolves the cloth resistance (over the cycles given)."""
+
+    resolved: bool
+    share: float  # median of start_bound / R_m
+    step: float  # median log step at the start of filtration [s]
+    step_needed: float  # about the step that would resolve R_m [s] (nan when it cannot be told)
+
+
+def cloth_resolution(fits: CycleFits, use, area: float, viscosity: float, solids_per_filtrate: float,
+                     share: float = RESOLUTION_SHARE) -> Resolution:
+    """Whether R_m is resolved: ``CycleFits.start_bound`` (the most a feed started between two
+    rows can raise R_m; it is also how far the cake already outweighs the cloth at the first
+    logged rows) at most ``share`` of R_m, in the median cycle.
+
+    The step needed: the time a standing start takes to filtrate V* = share R A /
+    (2.414 alpha c) at the cycles' highest pressure, mu (alpha c V*^2 / (2 A^2) + R V* / A) / dP
+    (the rate equation integrated at constant pressure; McCabe, Smith & Harriott, 7th ed.,
+    ch. 29), R = R_m less half its bound (nan when that is not above zero)."""
+    u = np.asarray(use, dtype=bool)
+    R = fits.medium_resistance[u]
+    bound = fits.start_bound[u]
+    step = float(np.median(fits.first_step[u]))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ratio = np.where(R > 0, bound / R, np.inf)
+    mid = float(np.median(ratio))
+    # R_m in the middle of its start-of-feeding range (the fitted R_m is its top)
+    R_low = float(np.median(R - 0.5 * bound))
+    a_mid = float(np.median(fits.resistance[u]))
+    needed = math.nan
+    if R_low > 0 and a_mid > 0:
+        mu, A, c = viscosity, area, solids_per_filtrate
+        V = share * R_low * A / (START_VOLUME_FACTOR * a_mid * c)
+        needed = mu * (a_mid * c * V * V / (2 * A * A) + R_low * V / A) / float(np.median(fits.max_pressure[u]))
+    return Resolution(bool(mid <= share), mid, step, needed)
 
 
 def ratio_with_error(plant: float, plant_se: float, lab: float, lab_se: float | None) -> tuple[float, float]:

@@ -226,3 +226,97 @@ def test_a_compressible_cake_on_the_cake_pressure_basis_matches_the_cycle_solver
     # the model drawn over the log is the fitted one, compressibility and basis included
     curve_fit = logfit.cycle_curves(tt, pp, VV, cycles, 0, cake, 0, AREA, MU, C)
     np.testing.assert_allclose(curve_fit["volume_model"][5:], curve_fit["volume"][5:], rtol=1e-3)
+
+
+# ---- robust summaries, drift size, the log step and patterned residuals ----------------------
+
+
+def test_the_robust_centre_is_the_median_with_its_mad_error_and_never_below_the_cycles_own():
+    # constructed here: [1, 2, 3, 4, 100] has median 3 and MAD 1; the median's error for normal
+    # scatter is sqrt(pi/2) 1.4826 MAD / sqrt(n) (common practice, no source)
+    c = logfit.robust_centre([1.0, 2.0, 3.0, 4.0, 100.0], [0.01] * 5)
+    assert c.value == 3.0 and c.count == 5
+    assert c.stderr == pytest.approx(np.sqrt(np.pi / 2) * 1.4826 / np.sqrt(5), rel=1e-12)
+    # cycles that repeat each other exactly: no scatter, the error is their own over sqrt(n)
+    same = logfit.robust_centre([5.0, 5.0, 5.0], [0.3, 0.3, 0.3])
+    assert same.stderr == pytest.approx(0.3 / np.sqrt(3), rel=1e-12)
+
+
+def test_invalid_cycles_are_named_with_their_reasons():
+    log = synthetic_log(cycles=6, noise=0.005, seed=31)
+    _, fits = fit_log(log)
+    broken = logfit.CycleFits(**{**fits.__dict__,
+                                 "resistance": fits.resistance * np.array([1, 1, -1, 1, 1, 10.0]),
+                                 "medium_resistance": fits.medium_resistance * np.array([1, -1, 1, 1, 1, 1.0]),
+                                 "r_squared": np.where(np.arange(6) == 3, 0.9, fits.r_squared)})
+    why = logfit.screen_cycles(broken)
+    assert why[0] == [] and why[4] == []
+    assert "below zero" in why[1][0] and "not above zero" in why[2][0] and "R² 0.900" in why[3][0]
+    assert "times the median" in why[5][0]
+
+
+def test_drift_needs_a_change_beyond_the_scatter_and_of_practical_size():
+    # constructed here: alpha rising linearly by 1 % or 8 % over 40 cycles, with an alternating
+    # scatter of 0.05 %; both slopes are beyond the scatter, only 8 % is beyond 5 %
+    k = np.arange(1, 41)
+    wiggle = 1 + 0.0005 * (-1.0) ** k
+    small = logfit.alpha_drift(k, ALPHA * (1 + 0.01 * (k - 1) / 39) * wiggle)
+    big = logfit.alpha_drift(k, ALPHA * (1 + 0.08 * (k - 1) / 39) * wiggle)
+    assert small.trend.slope_low > 0 and abs(small.change) > 3 * small.trend.scatter  # beyond the scatter
+    assert not small.flagged
+    assert big.flagged and "+8.0%" in big.note
+
+
+def test_two_repeated_wash_intervals_do_not_make_the_clean_cloth_exact():
+    # constructed here: the same curved R_m in two intervals; their intercepts agree exactly, but
+    # the straight line misses the curve, and the clean cloth's error says so
+    R = np.array([1.0, 1.5, 2.5, 4.0] * 2)
+    b = logfit.cloth_blinding(np.arange(1, 9), R, [4])
+    intercepts = np.array([b.clean, b.clean])
+    assert np.std(intercepts, ddof=1) == 0.0  # the error the intercepts' scatter alone would give
+    x = np.tile(np.arange(4.0), 2)
+    g = np.sum((x - 1.5) * (R - 2.25)) / 10.0  # the pooled slope: Sxx = 2 x sum((x - 1.5)^2) = 10
+    assert b.growth == pytest.approx(g, rel=1e-12) and b.clean == pytest.approx(2.25 - 1.5 * g, rel=1e-12)
+    resid = R - (2.25 - 1.5 * g) - g * x
+    s2 = np.sum(resid**2) / (8 - 2 - 1)
+    g_se = np.sqrt(s2 / 10.0)
+    expected = np.sqrt(2 * s2 / 4 + (2 * 1.5 * g_se) ** 2) / 2  # derived in cloth_blinding
+    assert b.clean_stderr == pytest.approx(expected, rel=1e-12) and b.clean_stderr > 0.1
+
+
+@pytest.mark.parametrize("step, resolved", [(1.0, True), (2.0, True), (5.0, False), (10.0, False), (30.0, False)])
+def test_a_feed_started_between_rows_biases_r_m_within_its_bound_and_coarse_steps_are_flagged(step, resolved):
+    # each feed starts at a random moment within the step before its first row (seeded); the
+    # fit counts from that row, so R_m comes out high by alpha c V_0 / A, V_0 the filtrate the log
+    # missed (derived in logfit.CycleFits); the bound holds it, and is below 20 % of R_m only at
+    # fine steps
+    log = synthetic_log(cycles=8, growth=0.02, noise=0.005, seed=41, step=step, late_start=True, grid=50_001)
+    _, fits = fit_log(log)
+    excess = fits.medium_resistance - log.medium_resistance
+    print(f"step {step:g} s: R_m excess {np.min(excess / log.medium_resistance):+.1%} to "
+          f"{np.max(excess / log.medium_resistance):+.1%}, bound {np.median(fits.start_bound / R0):.1%}")
+    assert np.all(excess <= fits.start_bound + 3 * fits.medium_resistance_stderr)
+    res = logfit.cloth_resolution(fits, np.ones(8, dtype=bool), AREA, MU, C)
+    assert res.resolved is resolved and res.step == step
+    # the step that resolves the true cloth (constructed here): V* = 0.2 R0 A / (2.414 alpha c),
+    # a standing start at 6 bar takes mu (alpha c V*^2 / (2 A^2) + R0 V* / A) / dP = 2.3 s
+    V = 0.2 * R0 * AREA / (logfit.START_VOLUME_FACTOR * ALPHA * C)
+    true_needed = MU * (ALPHA * C * V * V / (2 * AREA**2) + R0 * V / AREA) / PRESSURE
+    assert true_needed == pytest.approx(2.3, abs=0.05)
+    assert 0.5 * true_needed < res.step_needed < 1.5 * true_needed
+    # alpha is not touched by where the feed started
+    assert np.max(np.abs(fits.resistance / log.alpha - 1)) < 0.01
+
+
+def test_residuals_with_a_pattern_widen_the_errors_and_noise_does_not():
+    # a clean incompressible log fitted as a compressible cake on the cake basis: the misfit is
+    # smooth, not noise; the consistent fit of a noisy log is not flagged
+    log = synthetic_log(cycles=3, noise=0.0)
+    V = volume_from_flow(log)
+    cycles = logfit.find_cycles(log.time, log.pressure)
+    wrong = logfit.fit_cycles(log.time, log.pressure, V, cycles, AREA, MU, C, compressibility=0.4,
+                              reference_pressure=PRESSURE, pressure_basis="cake")
+    assert wrong.patterned.all()
+    noisy = synthetic_log(cycles=10, noise=0.005, seed=43)
+    _, fits = fit_log(noisy)
+    assert not fits.patterned.any()
