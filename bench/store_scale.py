@@ -7,8 +7,14 @@ each store in batches, with the store's own statements; then, in process (fastap
 so each figure includes about 1 ms of test-client overhead): the list page, the API list, a
 search (many, few and no matches; one and two characters), the first and the last page, one
 save through the store and through the API. Prints figures (medians); asserts nothing about time.
+
+    MIGRATION=1 python bench/store_scale.py
+
+instead fills a schema-3 file and database (the statements of tests/data/store_schema3) and
+times today's store opening them: the step to schema 4 (the keys of every scenario recomputed).
 """
 
+import importlib.util
 import json
 import os
 import statistics
@@ -26,8 +32,8 @@ from server.app import create_app  # noqa: E402
 from server.scenarios import solve_inputs, summary_of  # noqa: E402
 from server.settings import Settings  # noqa: E402
 from server.solver import SOLVER_VERSION  # noqa: E402
-from server.store import compact, open_store  # noqa: E402
-from server.store.base import OLDEST, Cursor, dumps, pack, search_text, word_prefixes  # noqa: E402
+from server.store import SCHEMA_VERSION, compact, open_store  # noqa: E402
+from server.store.base import OLDEST, Cursor, dumps, pack, search_keys, search_text, word_prefixes  # noqa: E402
 
 N = int(os.environ.get("N", "100000"))
 BATCH = 2000
@@ -56,12 +62,15 @@ def rows(demos, n):
         name, inputs_json, results_blob, summary_json, inputs, summary = packed[i % len(packed)]
         title = f"{name} {i}"
         note = f"{PLANTS[i % len(PLANTS)]} press {i % 12 + 1}, trial {i // 97}"
+        if i % 60 == 0:
+            note += ", 10% solids"  # one in sixty: short searches of other characters ("%", "0%")
         created = (start + timedelta(milliseconds=37 * i)).isoformat(timespec="milliseconds")
         yield (secrets.token_urlsafe(9), title, note, created, inputs_json, results_blob, SOLVER_VERSION, None,
                summary_json, search_text(title, note, inputs, summary))
 
 
-def fill_sqlite(store, demos):
+def fill_sqlite(store, demos, keys=("scenario_keys", search_keys)):
+    """``keys``: the table of keys and what goes in it (schema 3: scenario_prefixes, word_prefixes)."""
     conn = store._connect()
     try:
         it = rows(demos, N)
@@ -74,8 +83,8 @@ def fill_sqlite(store, demos):
             for r in batch:
                 cur = conn.execute(f"INSERT INTO scenarios ({store._COLUMNS}) VALUES ({store._MARKS})", r[:9])
                 conn.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)", (cur.lastrowid, r[9]))
-                conn.executemany("INSERT INTO scenario_prefixes VALUES (?, ?)",
-                                 [(prefix, cur.lastrowid) for prefix in word_prefixes(r[9])])
+                conn.executemany(f"INSERT INTO {keys[0]} VALUES (?, ?)",
+                                 [(term, cur.lastrowid) for term in keys[1](r[9])])
             conn.execute("COMMIT")
         conn.execute("PRAGMA wal_checkpoint(TRUNCATE)")
         conn.execute("ANALYZE")
@@ -83,8 +92,9 @@ def fill_sqlite(store, demos):
         conn.close()
 
 
-def fill_postgres(store, demos):
-    """COPY into the scenarios (the count trigger fires per statement), then their search rows."""
+def fill_postgres(store, demos, keys=("keys", search_keys)):
+    """COPY into the scenarios (the count trigger fires per statement), then their search rows.
+    ``keys``: the column of keys and what goes in it (schema 3: prefixes, word_prefixes)."""
     search = {}
     with store.pool.connection() as conn:
         with conn.cursor() as cur, cur.copy(f"COPY scenarios ({store._COLUMNS}) FROM STDIN") as copy:
@@ -92,11 +102,12 @@ def fill_postgres(store, demos):
                 copy.write_row(r[:9])
                 search[r[0]] = (r[3], r[9])
         seqs = conn.execute("SELECT id, seq FROM scenarios").fetchall()
-        with conn.cursor() as cur, cur.copy("COPY scenario_search (seq, created, search, prefixes) FROM STDIN") as copy:
+        copy_search = f"COPY scenario_search (seq, created, search, {keys[0]}) FROM STDIN"
+        with conn.cursor() as cur, cur.copy(copy_search) as copy:
             copy.set_types(["int8", "text", "text", "text[]"])
             for sid, seq in seqs:
                 created, text = search[sid]
-                copy.write_row((seq, created, text, word_prefixes(text)))
+                copy.write_row((seq, created, text, keys[1](text)))
         conn.execute("VACUUM ANALYZE scenarios")
         conn.execute("VACUUM ANALYZE scenario_search")
 
@@ -142,7 +153,7 @@ def measure(label, db, size_of, demos):
             "store.page, first": median_ms(lambda: store.page("", None, 20)),
             "store.page, last": median_ms(lambda: store.page("", last, 20)),
         }
-        for q in ("copper", "kemi press 1,", "trial 150", "zz no such", "press", "ü", "k", "17", "%"):
+        for q in ("copper", "kemi press 1,", "trial 150", "zz no such", "press", "ü", "k", "17", "%", "0%", "1,"):
             found = c.get("/api/v1/scenarios", params={"q": q}).json()
             hits = f"{found['total']:,}" if found["total_exact"] else f"more than {found['total']:,}"
             figures[f"search {q!r} ({hits} hits)"] = median_ms(get_ok(c, "/api/v1/scenarios", q=q))
@@ -164,8 +175,56 @@ def measure(label, db, size_of, demos):
         print(f"  {k:48s} {v if isinstance(v, str) else f'{v:8.2f} ms'}")
 
 
+def schema3():
+    """The schema-3 store package (tests/data/store_schema3), imported under its own name."""
+    folder = ROOT / "tests/data/store_schema3"
+    spec = importlib.util.spec_from_file_location("store_schema3", folder / "__init__.py",
+                                                  submodule_search_locations=[str(folder)])
+    module = importlib.util.module_from_spec(spec)
+    sys.modules["store_schema3"] = module
+    spec.loader.exec_module(module)
+    return module
+
+
+def migration(demos):
+    """The step from schema 3 to 4 at N scenarios, on SQLite and PostgreSQL."""
+    old = schema3()
+    path = Path(tempfile.mkdtemp(prefix="presscycle-bench-")) / "schema3.sqlite3"
+    fill_sqlite(old.SqliteStore(path, solver_version=SOLVER_VERSION), demos, ("scenario_prefixes", word_prefixes))
+    t = time.perf_counter()
+    open_store(path).close()
+    print(f"SQLite, {N:,} scenarios: schema 3 -> {SCHEMA_VERSION} at start-up in {time.perf_counter() - t:.1f} s")
+    t = time.perf_counter()
+    open_store(path).close()
+    print(f"  a start without a step (integrity check included): {time.perf_counter() - t:.1f} s")
+    from tests.pgserver import PgServer, binaries
+
+    if binaries() is None:
+        print("PostgreSQL: not installed (Debian package postgresql), skipped")
+        return
+    server = PgServer()
+    try:
+        url = server.new_database("bench")
+        import store_schema3.postgres
+
+        store = store_schema3.postgres.PostgresStore(url)
+        fill_postgres(store, demos, ("prefixes", word_prefixes))
+        store.close()
+        t = time.perf_counter()
+        open_store(url).close()
+        print(f"PostgreSQL, {N:,} scenarios: schema 3 -> {SCHEMA_VERSION} at start-up in "
+              f"{time.perf_counter() - t:.1f} s")
+        t = time.perf_counter()
+        open_store(url).close()
+        print(f"  a start without a step: {time.perf_counter() - t:.1f} s")
+    finally:
+        server.stop()
+
+
 def main():
     demos = payloads()
+    if os.environ.get("MIGRATION"):
+        return migration(demos)
     folder = Path(tempfile.mkdtemp(prefix="presscycle-bench-"))
     path = folder / "scale.sqlite3"
     store = open_store(path)

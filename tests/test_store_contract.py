@@ -31,6 +31,9 @@ class Sqlite:
     def set_version(self, v):
         self.execute(f"PRAGMA user_version = {v}")
 
+    def blank_search_texts(self):
+        self.execute("UPDATE scenarios_search SET text = ''")
+
     def foreign(self):
         self.execute("CREATE TABLE invoices (n INTEGER)")
         self.execute("INSERT INTO invoices VALUES (42)")
@@ -50,6 +53,9 @@ class Postgres:
 
     def set_version(self, v):
         self.execute("UPDATE presscycle_meta SET value = %s WHERE key = 'schema_version'", (str(v),))
+
+    def blank_search_texts(self):
+        self.execute("UPDATE scenario_search SET search = ''")
 
     def foreign(self):
         self.execute("CREATE TABLE invoices (n integer)")
@@ -169,8 +175,41 @@ def test_one_or_two_characters_find_words_that_begin_with_them(store):
     assert found("öl") == {k.id} and found("ß") == {k.id}  # letters beyond ASCII are letters
     assert found("er") == set()  # inside "filter": not the start of a word
     assert found("xa1") == {xa1.id}  # three characters: anywhere, as before
-    assert found("%") == {pct.id} and found("0%") == {pct.id}  # not only letters or digits: found anywhere (read)
+    assert found("%") == {pct.id} and found("0%") == {pct.id}  # not only letters or digits: found anywhere
+    assert found("ß-") == {k.id} and found("-ö") == {k.id} and found("%f") == set()  # "% f" has a space
     assert store.search("A1", 1, 10).total == 2
+
+
+@pytest.mark.parametrize("many", [False, True], ids=["few matches", "many matches"])
+def test_short_searches_of_other_characters_go_through_the_keys(store, backend, many):
+    """One or two characters that are not all letters or digits are found anywhere in the search
+    text through the keys (schema 4), not by reading the text: with every search text blanked by
+    hand they are found as before, while searches that read the text (three characters or more,
+    or a short one with a space, which the app never sends: it strips what is typed) find nothing."""
+    if many:  # the plans for many matches: walk the newest-first index, checking each row
+        store.walk_above, store.count_limit = 1, 2
+    pct = make(store, "100% filter aid", "under_score")
+    dash = make(store, "Line B-2", "ß-Öl; 7 bar")
+    make(store, "Kemi 3", "plain")
+    copies = [make(store, f"copy {i}: 100%", "").id for i in range(3)]
+
+    def found(q, how="page"):
+        if how == "offset":
+            return {s.id for s in store.search(q, 1, 50).items}
+        seen, pages = walk(store, q, 2)
+        assert len(seen) == len(set(seen)) and pages[0].exact == (not many or len(seen) <= 2), q
+        return set(seen)
+
+    expected = {"%": {pct.id, *copies}, "0%": {pct.id, *copies}, "r_": {pct.id}, "_": {pct.id}, "_s": {pct.id},
+                "-": {dash.id}, "B-": {dash.id}, "-2": {dash.id}, "ß-": {dash.id}, "-Ö": {dash.id},
+                ";": {dash.id}, "l;": {dash.id}, ":": set(copies), "%f": set(), ",": set(), "0 ": set()}
+    for q, ids in expected.items():
+        assert found(q) == found(q, "offset") == ids, q
+    assert found("7 ") == {dash.id} and found("filter") == {pct.id}
+    backend.blank_search_texts()
+    assert found("7 ") == set() and found("filter") == set()  # these read the text: gone
+    for q, ids in expected.items():
+        assert found(q) == found(q, "offset") == ids, q  # the keys: found as before
 
 
 def test_counts_are_exact_up_to_the_limit_and_said_as_more_beyond(store):
@@ -235,9 +274,9 @@ def test_search_pages_by_keyset_too(store, many):
         store.walk_above, store.count_limit = 3, 5
     elif isinstance(store, SqliteStore):  # the matches found, checked during a walk of the index
         store.look_up_below = 3
-    ids = [make(store, f"thickness study {i}" if i % 3 == 0 else f"other {i}").id for i in range(40)]
+    ids = [make(store, f"thickness study #{i}" if i % 3 == 0 else f"other {i}").id for i in range(40)]
     wanted = [i for k, i in enumerate(ids) if k % 3 == 0][::-1]
-    for q in ("study", "th", "t"):  # a substring; words that begin with one or two characters
+    for q in ("study", "th", "t", "#"):  # a substring; words that begin with one or two characters; a piece
         seen, pages = walk(store, q, 4)
         assert seen == wanted, q
         assert (pages[0].total, pages[0].exact) == ((5, False) if many else (14, True)), q

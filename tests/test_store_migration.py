@@ -55,7 +55,7 @@ def test_schema_1_migrates_to_2_keeping_every_scenario(schema1_file):
     size_before = path.stat().st_size
     store = SqliteStore(path)
     conn = sqlite3.connect(path)
-    assert conn.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 3
+    assert conn.execute("PRAGMA user_version").fetchone()[0] == SCHEMA_VERSION == 4
     conn.close()
     for old in saved[:-1]:
         now = store.get(old.id)

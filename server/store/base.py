@@ -15,7 +15,10 @@ from typing import Protocol
 #: (recomputed on view), zlib-compressed; keyset index; search index. 3: a count of scenarios
 #: kept by triggers in the saving transaction (no count(*) per list); word prefixes for
 #: searches of one or two characters; on PostgreSQL the search text in a narrow table of its own.
-SCHEMA_VERSION = 3
+#: 4: the keys of short searches also hold every piece of one or two characters that is not all
+#: letters or digits and has no space ("%", "0%"), so those searches go through the index too
+#: (the key table or column renamed, so an instance still on schema 3 refuses saves in words).
+SCHEMA_VERSION = 4
 #: Searches count their matches up to this many: more is said as "more than COUNT_LIMIT"
 #: (counting every one of 20,000 matches would cost more than the page itself).
 COUNT_LIMIT = 5000
@@ -156,6 +159,8 @@ def search_terms(q: str) -> list[str]:
 
 #: a word of the search text: letters and digits (Unicode), split at anything else
 _WORD = re.compile(r"[^\W_]+")
+#: one character that is not a letter or digit (what _WORD splits at)
+_NOT_WORD = re.compile(r"[\W_]")
 #: searches shorter than this find the words that begin with them (no trigram index serves them)
 SUBSTRING_MIN = 3
 
@@ -169,12 +174,38 @@ def word_prefixes(text: str) -> list[str]:
     return sorted(found)
 
 
+def short_pieces(text: str) -> list[str]:
+    """Every piece of one or two characters of a search text (as stored: lower-cased) that has
+    no whitespace and is not all letters or digits ("%", "0%", "r_", "-"), each once, sorted:
+    what a search of such a piece looks up (found anywhere in the text, as a substring)."""
+    found = set()
+    for run in text.split():  # the stretches without whitespace (str.isspace)
+        for m in _NOT_WORD.finditer(run):  # each piece holds one of these
+            i = m.start()
+            found.add(run[i])
+            if i > 0:
+                found.add(run[i - 1:i + 1])
+            if i + 1 < len(run):
+                found.add(run[i:i + 2])
+    return sorted(found)
+
+
+def search_keys(text: str) -> list[str]:
+    """The keys of a search text for searches of one or two characters (schema 4): its word
+    prefixes and its short pieces, each once, sorted. The two never meet (a prefix is all
+    letters or digits, a piece is not)."""
+    return sorted({*word_prefixes(text), *short_pieces(text)})
+
+
 @dataclass(frozen=True)
 class Search:
     """What a list query looks for. ``kind``: "all" (no search), "substring" (three characters
     or more, anywhere in the search text), "prefix" (one or two letters or digits: the start of
-    a word), "scan" (one or two characters, not all letters or digits, such as "%" or "0%":
-    found anywhere, by reading every search text; no index serves them)."""
+    a word), "piece" (one or two characters without whitespace, not all letters or digits, such
+    as "%" or "0%": found anywhere, through the keys of short_pieces), "scan" (one or two
+    characters with whitespace, such as "7 ": found anywhere, by reading every search text; the
+    app strips what is typed, so only a direct call of the store asks this).
+    "prefix" and "piece" look their term up among the same keys (search_keys)."""
 
     kind: str
     term: str = ""
@@ -189,6 +220,8 @@ class Search:
             return cls("substring", term)
         if _WORD.fullmatch(term):
             return cls("prefix", term)
+        if not any(c.isspace() for c in term):
+            return cls("piece", term)
         return cls("scan", term)
 
 

@@ -9,10 +9,12 @@ advisory lock, so instances starting together migrate once.
 Lists (schema 3): the count of scenarios is kept in ``scenario_counts`` by statement triggers
 in the saving transaction (sixteen slots, one per connection's process id modulo 16, so
 concurrent saves from several instances rarely wait on one row); a list sums sixteen rows
-instead of counting 100,000. Search: each scenario's search text, and the first one and two
-characters of its words, sit in the narrow table ``scenario_search`` (a few dozen bytes a
-row, so a search reads little): a trigram GIN index (pg_trgm) serves substrings of three
-characters or more, a GIN index on the prefixes the shorter searches. A search counts its
+instead of counting 100,000. Search: each scenario's search text, and its keys for short
+searches (schema 4: the first one and two characters of its words and every piece of one or
+two characters without whitespace that is not all letters or digits, base.search_keys), sit
+in the narrow table ``scenario_search`` (a few dozen bytes a row, so a search reads little):
+a trigram GIN index (pg_trgm) serves substrings of three characters or more, a GIN index on
+the keys the shorter searches. A search counts its
 matches up to COUNT_LIMIT; up to there it pages through the matches themselves (index, then
 sort), beyond it it walks the newest-first index and stops after a page. Without pg_trgm the
 same queries scan the narrow table (slower, same answers).
@@ -41,6 +43,7 @@ from .base import (
     pack,
     page_from_rows,
     record,
+    search_keys,
     search_text,
     word_prefixes,
 )
@@ -106,6 +109,15 @@ _MIGRATIONS = {
         "FOR EACH STATEMENT EXECUTE FUNCTION presscycle_count_scenarios()",
         "CREATE TRIGGER scenario_count_truncate AFTER TRUNCATE ON scenarios "
         "FOR EACH STATEMENT EXECUTE FUNCTION presscycle_count_scenarios()",
+    ],
+    4: [
+        # renamed first: the table is locked (ACCESS EXCLUSIVE) until the step commits, and an
+        # instance still on schema 3 then refuses saves in words instead of saving rows without
+        # their short pieces
+        "ALTER TABLE scenario_search RENAME COLUMN prefixes TO keys",
+        "DROP INDEX scenario_search_prefixes",  # built again once, after the update
+        "FILL keys",  # every row's keys recomputed from its search text (see _fill_keys)
+        "CREATE INDEX scenario_search_keys ON scenario_search USING gin (keys)",
     ],
 }
 
@@ -189,6 +201,8 @@ class PostgresStore(ListQueries):
                 for statement in _MIGRATIONS[v]:
                     if statement == "FILL scenario_search":
                         self._fill_search(conn)
+                    elif statement == "FILL keys":
+                        self._fill_keys(conn)
                     elif statement == "TRIGRAM INDEX":
                         self._search_index(conn)
                     else:
@@ -203,6 +217,20 @@ class PostgresStore(ListQueries):
             copy.set_types(["int8", "text", "text", "text[]"])
             for seq, created, text in rows:
                 copy.write_row((seq, created, text, word_prefixes(text)))
+
+    @staticmethod
+    def _fill_keys(conn) -> None:
+        """Every search row's keys (base.search_keys) from its search text: computed here, copied
+        into a temporary table, and set in one UPDATE (only the keys column changes)."""
+        rows = conn.execute("SELECT seq, search FROM scenario_search").fetchall()
+        conn.execute("CREATE TEMPORARY TABLE presscycle_new_keys (seq bigint PRIMARY KEY, keys text[] NOT NULL) "
+                     "ON COMMIT DROP")
+        with conn.cursor() as cur, cur.copy("COPY presscycle_new_keys (seq, keys) FROM STDIN") as copy:
+            copy.set_types(["int8", "text[]"])
+            for seq, text in rows:
+                copy.write_row((seq, search_keys(text)))
+        conn.execute("UPDATE scenario_search s SET keys = n.keys FROM presscycle_new_keys n "
+                     "WHERE s.seq = n.seq AND s.keys IS DISTINCT FROM n.keys")
 
     def _search_index(self, conn) -> None:
         try:
@@ -257,12 +285,12 @@ class PostgresStore(ListQueries):
         # one statement: the scenario, its search row and (by trigger) the count go in together
         sql = (f"WITH saved AS (INSERT INTO scenarios ({self._COLUMNS}) VALUES ({', '.join(['%s'] * 9)}) "
                f"ON CONFLICT (id) DO NOTHING RETURNING seq, created) "
-               f"INSERT INTO scenario_search (seq, created, search, prefixes) "
+               f"INSERT INTO scenario_search (seq, created, search, keys) "
                f"SELECT seq, created, %s, %s FROM saved RETURNING seq")
         with self._errors(writing=True), self.pool.connection() as conn:
             for _ in range(10):
                 sid = new_id()
-                row = conn.execute(sql, (sid, *payload, text, word_prefixes(text))).fetchone()
+                row = conn.execute(sql, (sid, *payload, text, search_keys(text))).fetchone()
                 if row is not None:
                     return Scenario(sid, name, note, created, inputs, results, solver_version, parent, summary)
             raise StorageError("could not draw a free scenario id")
@@ -286,16 +314,16 @@ class PostgresStore(ListQueries):
     @staticmethod
     def _match(search: Search) -> tuple[str, str]:
         """The condition on scenario_search that finds a search's rows through its index, and its argument."""
-        if search.kind == "prefix":
-            return "prefixes @> ARRAY[%s]::text[]", search.term
+        if search.kind in ("prefix", "piece"):
+            return "keys @> ARRAY[%s]::text[]", search.term
         return "search LIKE %s", like_pattern(search.term)  # "%" and "_" literal; "\\" escapes
 
     @staticmethod
     def _walk(search: Search) -> tuple[str, str]:
         """The same condition in a form no index serves (the planner then walks the newest-first
         index, which finds a page quickly when matches are many)."""
-        if search.kind == "prefix":
-            return "array_position(prefixes, %s) IS NOT NULL", search.term
+        if search.kind in ("prefix", "piece"):
+            return "array_position(keys, %s) IS NOT NULL", search.term
         return "strpos(search, %s) > 0", search.term
 
     def _count(self, search: Search) -> tuple[int, bool]:

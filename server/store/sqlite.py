@@ -10,8 +10,10 @@ file; a full disk is said so.
 
 Search: an FTS5 table with the trigram tokenizer over each scenario's search text (name,
 note, summary words), so any substring of three characters or more is found through the
-index; one or two characters find the words that begin with them (the table of word
-prefixes). The count of scenarios is kept by triggers (schema 3), so a list reads no count(*).
+index; one or two letters or digits find the words that begin with them, and one or two other
+characters without whitespace ("%", "0%") are found anywhere, both through the table of keys
+(schema 4: word prefixes and short pieces, base.search_keys). The count of scenarios is kept
+by triggers (schema 3), so a list reads no count(*).
 """
 
 import errno
@@ -38,6 +40,7 @@ from .base import (
     pack,
     page_from_rows,
     record,
+    search_keys,
     search_text,
     unpack,
     word_prefixes,
@@ -98,6 +101,24 @@ def _schema_3(conn):
     rows = conn.execute("SELECT rowid, text FROM scenarios_search")
     conn.executemany("INSERT INTO scenario_prefixes VALUES (?, ?)",
                      ((prefix, rowid) for rowid, text in rows for prefix in word_prefixes(text)))
+
+
+def _schema_4(conn):
+    """Keys for every search of one or two characters: the table of word prefixes gives way to
+    the table of keys, which also holds every short piece (base.search_keys), recomputed from
+    each scenario's search text (gathered unsorted in a temporary table, then written in key
+    order). Under another name, so a process still on schema 3 refuses saves (no such table)
+    instead of saving scenarios without their pieces. Only the key table changes."""
+    conn.execute("CREATE TEMPORARY TABLE presscycle_new_keys (term TEXT NOT NULL, scenario INTEGER NOT NULL)")
+    rows = conn.execute("SELECT rowid, text FROM scenarios_search")
+    conn.executemany("INSERT INTO temp.presscycle_new_keys VALUES (?, ?)",
+                     ((term, rowid) for rowid, text in rows for term in search_keys(text)))
+    conn.execute("DROP TABLE scenario_prefixes")
+    conn.execute("CREATE TABLE scenario_keys (term TEXT NOT NULL, scenario INTEGER NOT NULL, "
+                 "PRIMARY KEY (term, scenario)) WITHOUT ROWID")
+    conn.execute("INSERT INTO scenario_keys SELECT term, scenario FROM temp.presscycle_new_keys "
+                 "ORDER BY term, scenario")
+    conn.execute("DROP TABLE temp.presscycle_new_keys")
 
 
 class SqliteStore(ListQueries):
@@ -187,7 +208,7 @@ class SqliteStore(ListQueries):
                 if not existing:
                     conn.execute(f"PRAGMA application_id = {APPLICATION_ID}")  # a new file: ours from now on
                 conn.execute("PRAGMA journal_mode = WAL")
-                steps = {1: _schema_1, 2: lambda c: _schema_2(c, self.solver_version), 3: _schema_3}
+                steps = {1: _schema_1, 2: lambda c: _schema_2(c, self.solver_version), 3: _schema_3, 4: _schema_4}
                 for v in range(version + 1, SCHEMA_VERSION + 1):
                     conn.execute("BEGIN IMMEDIATE")
                     if conn.execute("PRAGMA user_version").fetchone()[0] >= v:
@@ -283,8 +304,8 @@ class SqliteStore(ListQueries):
                         cur = conn.execute(f"INSERT INTO scenarios ({self._COLUMNS}) VALUES ({self._MARKS})",
                                            (sid, *payload))
                         conn.execute("INSERT INTO scenarios_search (rowid, text) VALUES (?, ?)", (cur.lastrowid, text))
-                        conn.executemany("INSERT INTO scenario_prefixes VALUES (?, ?)",
-                                         [(prefix, cur.lastrowid) for prefix in word_prefixes(text)])
+                        conn.executemany("INSERT INTO scenario_keys VALUES (?, ?)",
+                                         [(term, cur.lastrowid) for term in search_keys(text)])
                         conn.execute("COMMIT")
                         return Scenario(sid, name, note, created, inputs, results, solver_version, parent, summary)
                     except sqlite3.IntegrityError:
@@ -318,7 +339,8 @@ class SqliteStore(ListQueries):
     #: where each kind of search finds its scenarios (rowids)
     _MATCHES = {
         "substring": "SELECT rowid FROM scenarios_search WHERE scenarios_search MATCH ?",
-        "prefix": "SELECT scenario FROM scenario_prefixes WHERE prefix = ?",
+        "prefix": "SELECT scenario FROM scenario_keys WHERE term = ?",
+        "piece": "SELECT scenario FROM scenario_keys WHERE term = ?",
         "scan": "SELECT rowid FROM scenarios_search WHERE text LIKE ? ESCAPE '\\'",
     }
 
@@ -326,7 +348,7 @@ class SqliteStore(ListQueries):
     def _argument(search: Search) -> str:
         if search.kind == "substring":  # the text as a phrase of trigrams: any substring, % and _ literal
             return '"' + search.term.replace('"', '""') + '"'
-        if search.kind == "prefix":
+        if search.kind in ("prefix", "piece"):
             return search.term
         return like_pattern(search.term)
 
@@ -339,7 +361,8 @@ class SqliteStore(ListQueries):
     #: the same, checked for one row of scenarios (a walk of the newest-first index)
     _HAS = {
         "substring": "instr((SELECT text FROM scenarios_search WHERE rowid = scenarios.rowid), ?) > 0",
-        "prefix": "EXISTS (SELECT 1 FROM scenario_prefixes WHERE prefix = ? AND scenario = scenarios.rowid)",
+        "prefix": "EXISTS (SELECT 1 FROM scenario_keys WHERE term = ? AND scenario = scenarios.rowid)",
+        "piece": "EXISTS (SELECT 1 FROM scenario_keys WHERE term = ? AND scenario = scenarios.rowid)",
         "scan": "instr((SELECT text FROM scenarios_search WHERE rowid = scenarios.rowid), ?) > 0",
     }
 
@@ -364,7 +387,7 @@ class SqliteStore(ListQueries):
         count, and the page is found among them, by looking them up and sorting (few) or by
         walking the newest-first index and checking each row against them (many; the index
         holds the rowid, so no scenario row is read until it matches). Past count_limit, the
-        walk checks each row's own search text or prefixes."""
+        walk checks each row's own search text or keys."""
         search = Search.of(q)
         if search.kind == "all":
             return super().page(q, cursor, per_page)
