@@ -343,16 +343,26 @@ class CycleFamily:
 
     def _optimum_volume(self, V_scale: float) -> float:
         closed_form = getattr(self.curve, "optimum_volume", None)
-        if self.treatment is not None and not (self.treatment.adds_only_wash and self.cycle.specs is None):
+        linear_wash = self.treatment is None or (self.treatment.adds_only_wash and self.cycle.specs is None)
+        if not linear_wash:
             closed_form = None  # a squeeze or a blow: their times are not linear in V
+        c, mu = self.cycle, self.filtration.viscosity
         if closed_form is not None:  # one peak, in closed form
             self.scan = None
-            c, mu = self.cycle, self.filtration.viscosity
             p = self.curve.pressure
             p_w = c.wash_pressure if c.wash_pressure is not None else p
             a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu) * (p / p_w)
             return closed_form(c.downtime + self.fill_time, a)
         curve = self.curve
+        if (linear_wash and getattr(curve, "has_peak", False)
+                and (c.wash_pressure is None or self.wash_per_filtrate == 0.0)):
+            # a table (pump, constant rate on the cake basis) with the wash at the pressure
+            # filtration ended at (the ratio is 1): its peaks worked out on the table, no scan
+            a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu)
+            peaks = curve.peak_volumes(c.downtime + self.fill_time, a)
+            if peaks.size:
+                self.scan = table_peaks(peaks, self.throughput)
+                return self.scan.V_best
         self.scan = peak_scan(self.objective, V_scale, getattr(curve, "knots", ()), getattr(curve, "held_from", 0.0))
         return self.scan.V_best
 
@@ -619,6 +629,19 @@ def peak_scan(throughput, V_scale: float, knots=(), held_from: float = 0.0) -> T
         V = np.concatenate((V, extra_V))[order]
         Q = np.concatenate((Q, extra_Q))[order]
     # index of the running maximum (first of equals): the best cycle up to each volume
+    running = np.maximum.accumulate(Q)
+    new_best = np.concatenate(([True], running[1:] > running[:-1]))
+    best_upto = np.maximum.accumulate(np.where(new_best, np.arange(V.size), 0))
+    return ThroughputScan(V, Q, best_upto)
+
+
+def table_peaks(V_peaks, throughput) -> ThroughputScan:
+    """A :class:`ThroughputScan` of just the local peaks of the throughput, each exact (a
+    table's :meth:`~.curves.TabulatedCurve.peak_volumes`): between peaks the throughput
+    falls then rises, so the best cycle within any chamber volume is the best peak below it
+    or the full chambers, as from a scan."""
+    V = np.asarray(V_peaks, dtype=float)
+    Q = np.asarray(throughput(V), dtype=float)
     running = np.maximum.accumulate(Q)
     new_best = np.concatenate(([True], running[1:] > running[:-1]))
     best_upto = np.maximum.accumulate(np.where(new_best, np.arange(V.size), 0))
