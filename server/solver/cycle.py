@@ -155,6 +155,19 @@ class CycleResult:
     meets_specs: bool | None = None  # every specification met (None: none given)
 
 
+_CYCLE_FIELDS = tuple(CycleResult.__dataclass_fields__)
+
+
+def cycle_result(values) -> CycleResult:
+    """The CycleResult of its field values, all of them in field order: the same object as
+    ``CycleResult(*values)`` without the frozen dataclass's __init__ (one object.__setattr__
+    per field, most of the cost of a closed-form cycle). Tested against the constructor in
+    tests/solver/test_cycle.py."""
+    result = object.__new__(CycleResult)
+    result.__dict__.update(zip(_CYCLE_FIELDS, values, strict=True))
+    return result
+
+
 @dataclass(frozen=True)
 class PressSystem:
     """Everything a scenario's cycle depends on: cake and cloth, press, feed and cycle settings."""
@@ -387,16 +400,15 @@ class CycleFamily:
         c = f.solids_per_filtrate
         fill = float(press.chamber_fill(V, v))
         w = self.wash_per_filtrate
-        return CycleResult(
-            filtrate_volume=V, filtration_time=float(times["filtration"]), wash_volume=w * V,
-            wash_time=float(times["wash"]), downtime=float(times["downtime"]), cycle_time=T,
-            filtrate_throughput=V / T, solids_throughput=c * V / T, cake_thickness=float(press.cake_thickness(V, v)),
-            chamber_fill=fill, dry_cake_mass=c * V, wet_cake_mass=f.wet_to_dry_ratio * c * V,
-            final_rate=float(self.curve.rate(V)), final_pressure=float(self.curve.pressure_at(V)),
-            limited_by=limited_by, feasible=fill <= press.fill_fraction * (1.0 + 1e-12),
-            fill_time=float(self.fill_time), wash_filtrate_volumes=w or None,
-            moisture=1.0 - 1.0 / f.wet_to_dry_ratio, cake_thickness_final=float(press.cake_thickness(V, v)),
-        )
+        thickness = float(press.cake_thickness(V, v))
+        # CycleResult's fields in order (see cycle_result)
+        return cycle_result((
+            V, float(times["filtration"]), w * V, float(times["wash"]), float(times["downtime"]), T,
+            V / T, c * V / T, thickness, fill, c * V, f.wet_to_dry_ratio * c * V,
+            float(self.curve.rate(V)), float(self.curve.pressure_at(V)), limited_by,
+            fill <= press.fill_fraction * (1.0 + 1e-12), float(self.fill_time),
+            0.0, 0.0, 0.0, None, None, w or None, None, 1.0 - 1.0 / f.wet_to_dry_ratio, thickness, None,
+        ))
 
     def results(self, press: Press, V, chamber_thickness, limited_by) -> list[CycleResult]:
         """The cycles ending at ``V`` [m^3] in chambers of ``chamber_thickness`` [m] (arrays
@@ -448,7 +460,7 @@ class CycleFamily:
             column(self.curve.rate(V)), column(self.curve.pressure_at(V)), reasons, feasible,
             [float(self.fill_time)] * n, *extra, strict=True,
         )
-        return [CycleResult(*row) for row in rows]
+        return [cycle_result(row) for row in rows]
 
     def end_volume(self, end: EndCriterion, V_best: float, V_full: float) -> tuple[float, str]:
         """Filtrate volume at which the end criterion stops filtration, and why."""
