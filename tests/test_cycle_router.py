@@ -41,6 +41,9 @@ PUMP = demo("kaolin_pump_fed")
     ("kaolin_pump_fed", True, {}),
     ("kaolin_pump_fed", False, {"cycle": {**PUMP["cycle"], "wash_ratio": 1.0, "wash_pressure": "5 bar"}}),
     ("kaolin_pump_fed", False, {"cake": {**PUMP["cake"], "resistance_stderr": "2e11 m/kg"}}),
+    ("kaolin_pump_fed", False, {"compare_thicknesses": [f"{20 + 2 * i} mm" for i in range(13)]}),
+    ("kaolin_pump_fed", False, {"feed": {**PUMP["feed"], "points": [[f"{i * 0.4} m^3/h", f"{8.5 - i * 0.03} bar"]
+                                                                    for i in range(201)]}}),
     ("kaolin_pump_fed", False, {"cycle": {**PUMP["cycle"], "squeeze": {
         "pressure": "15 bar", "consolidation_coefficient": "2e-7 m^2/s", "final_porosity": "40 %", "time": "10 min"}}}),
 ])

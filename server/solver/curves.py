@@ -326,6 +326,32 @@ class TabulatedCurve:
         candidates = np.concatenate((V[inside] + np.minimum(h[inside], width[inside]), V[at_node]))
         return np.sort(candidates[np.isfinite(candidates)])  # with has_peak, the last segment gives one
 
+    def first_volume_where(self, quantity: str, level: float, V_limit: float) -> float | None:
+        """The first volume in [0, V_limit] [m^3] where 1/Q ("reciprocal_rate" [s/m^3]) or the
+        pressure ("pressure" [Pa]) reaches ``level``, exactly on the table's segments (both
+        are linear in V there: 1/Q by construction, the pressure as interpolated), else None.
+
+        The last segment of 1/Q is continued past the table, the pressure held at its last
+        node's, as :meth:`rate` and :meth:`pressure_at` do.
+        """
+        if quantity == "reciprocal_rate":
+            y, slope = self.r, self.slope
+        else:
+            y = self.P
+            with np.errstate(divide="ignore", invalid="ignore"):
+                slope = np.append(np.diff(self.P) / np.diff(self.V), 0.0)
+        n = max(int(np.searchsorted(self.V, V_limit, side="left")), 1)  # segments that start below V_limit
+        V0, y0, k = self.V[:n], y[:n], slope[:n]
+        ends = np.append(self.V[1:n], max(V_limit, self.V[0]))
+        y_end = np.append(y[1:n], y0[-1] + k[-1] * (ends[-1] - V0[-1]))
+        hits = np.flatnonzero((y0 >= level) | (y_end >= level))
+        if hits.size == 0:
+            return None
+        i = int(hits[0])
+        if y0[i] >= level:
+            return float(V0[i])
+        return float(min(V0[i] + (level - y0[i]) / k[i], ends[i]))
+
     def _segment(self, V):
         # the count of inner nodes at or below V: the segment's index, 0 below the first node
         # and the last segment beyond the end (no clipping needed)

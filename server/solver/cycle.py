@@ -503,6 +503,10 @@ class CycleFamily:
                 f"end.{name}", f"the threshold {threshold * 3600:.4g} m³/h is not below the initial flow "
                 f"{q0 * 3600:.4g} m³/h: filtration would end at once",
             )
+        exact = getattr(self.curve, "first_volume_where", None)
+        if exact is not None:  # a table: 1/Q linear on each segment, the crossing in closed form
+            V = exact("reciprocal_rate", 1.0 / threshold, V_full)
+            return (V_full, LIMITED_BY_CHAMBERS) if V is None else (V, "flow")
         return self._first_crossing(lambda V: threshold - self.curve.rate(V), V_full, "flow")
 
     def _pressure_end(self, end: EndCriterion, V_full: float) -> tuple[float, str]:
@@ -517,6 +521,10 @@ class CycleFamily:
                 "end.pressure", f"the feed is at {in_bar(start)} from the start, not below the terminal "
                 f"pressure {in_bar(end.pressure)}: filtration would end at once",
             )
+        exact = getattr(self.curve, "first_volume_where", None)
+        if exact is not None:  # a table: the pressure linear on each segment, the crossing in closed form
+            V = exact("pressure", end.pressure, V_full)
+            return (V_full, LIMITED_BY_CHAMBERS) if V is None else (V, "pressure")
         return self._first_crossing(lambda V: self.curve.pressure_at(V) - end.pressure, V_full, "pressure")
 
     @staticmethod
