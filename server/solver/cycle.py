@@ -868,7 +868,8 @@ def compare_thicknesses(
     unconstrained = family.results(press, np.full(n, V_star), Ls, LIMITED_BY_OPTIMUM)
     full = family.results(press, V_full, Ls, LIMITED_BY_CHAMBERS)
     between = np.flatnonzero((V_best != V_star) & (V_best < V_full))  # a lower peak inside (steps, pumps)
-    inner = dict(zip(between.tolist(), family.results(press, V_best[between], Ls[between], LIMITED_BY_OPTIMUM)))
+    inner = dict(zip(between.tolist(), family.results(press, V_best[between], Ls[between], LIMITED_BY_OPTIMUM))) \
+        if between.size else {}
     best = [unconstrained[i] if V_best[i] == V_star else (full[i] if V_best[i] >= V_full[i] else inner[i])
             for i in range(n)]
     ends = [family.end_volume(end, best[i].filtrate_volume, float(V_full[i])) for i in range(n)]
