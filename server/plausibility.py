@@ -108,16 +108,53 @@ class InputWarning:
     message: str
 
 
+#: USUAL's keys split at their dots, with their ranges (worked out once)
+_USUAL_PARTS = [(key, tuple(key.split(".")), low, high) for key, (low, high) in USUAL.items()]
+
+
 def input_warnings(si: dict, raw: dict) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
-    validated request as a dict), ``raw`` the request as sent (for the units typed)."""
+    validated request as a dict), ``raw`` the request as sent (for the units typed).
+
+    Most requests have no unusual value: the SI values are looked up along each key's path
+    first, and the request as sent is walked (for the unit typed) only for a key whose values
+    include one outside its range."""
     out = []
-    for key, (low, high) in USUAL.items():
+    for key, parts, low, high in _USUAL_PARTS:
+        if not _any_unusual(si, parts, low, high, key in ZERO_ALLOWED):
+            continue
         for path, value, typed in _entries(si, raw, key):
             if not isinstance(value, float | int) or (value == 0 and key in ZERO_ALLOWED) or low <= value <= high:
                 continue
             out.append({"field": path, "message": _unusual(key, value, typed, low, high)})
     return out
+
+
+def _any_unusual(si, parts: tuple, low: float, high: float, zero_allowed: bool) -> bool:
+    """Whether any value the key's parts name lies outside [low, high] (what :func:`_entries`
+    would find, without the request as sent): may say yes where the full walk finds nothing
+    to flag, never no where it finds something."""
+    node = si
+    for i, head in enumerate(parts):
+        if head == "*":
+            if not isinstance(node, list):
+                return False
+            rest = parts[i + 1:]
+            return any(_any_unusual(item, rest, low, high, zero_allowed) if rest
+                       else _outside(item, low, high, zero_allowed) for item in node)
+        if isinstance(node, dict):
+            node = node.get(head)
+        elif isinstance(node, list | tuple) and head.isdigit() and int(head) < len(node):
+            node = node[int(head)]
+        else:
+            return False
+        if node is None:
+            return False
+    return _outside(node, low, high, zero_allowed)
+
+
+def _outside(value, low: float, high: float, zero_allowed: bool) -> bool:
+    return isinstance(value, float | int) and not (value == 0 and zero_allowed) and not low <= value <= high
 
 
 def _unusual(key: str, value: float, typed, low: float, high: float) -> str:

@@ -248,7 +248,8 @@ def _best_wash_interval(inputs: CycleRequest, system, dp):
 
 
 def _cycle_dict(r: solver.CycleResult) -> dict:
-    return {name: getattr(r, name) for name in r.__dataclass_fields__}
+    # a frozen dataclass keeps its fields in __dict__, in field order: a copy is the dict
+    return dict(r.__dict__)
 
 
 @dataclass(frozen=True)
@@ -453,22 +454,23 @@ _TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings", "sta
 
 
 def _any_non_finite(data) -> bool:
-    """Whether plain data holds a NaN or an infinity anywhere: x * 0 is 0 for a finite x and
-    NaN otherwise, so one sum answers for every number (no overflow, no per-path bookkeeping;
-    first_non_finite finds the path when the answer is yes)."""
+    """Whether plain data (a dict or a list) holds a NaN or an infinity anywhere: x * 0 is 0
+    for a finite x and NaN otherwise, so one sum answers for every number (no per-path
+    bookkeeping; first_non_finite finds the path when the answer is yes, and a sum that only
+    overflowed finds none). Each container's items are looked at in one loop, only the
+    containers among them kept for later: the answer is mostly flat dicts of numbers."""
     stack, acc = [data], 0.0
-    pop, push = stack.pop, stack.extend
+    pop, push = stack.pop, stack.append
     while stack:
         item = pop()
-        kind = type(item)
-        if kind is float:
-            acc += item * 0.0
-        elif kind is dict:
-            push(item.values())
-        elif kind is list or kind is tuple:
-            push(item)
-        elif isinstance(item, float):  # numpy's float64, as a plain float (no warning)
-            acc += float(item) * 0.0
+        for value in (item.values() if type(item) is dict else item):
+            kind = type(value)
+            if kind is float:
+                acc += value * 0.0
+            elif kind is dict or kind is list or kind is tuple:
+                push(value)
+            elif isinstance(value, float):  # numpy's float64, as a plain float (no warning)
+                acc += float(value) * 0.0
     return acc != 0.0
 
 

@@ -18,7 +18,30 @@ def solves_quickly(inputs: CycleRequest) -> bool:
     be reached, and the solver holds the interpreter in a thread as much as on the loop. A cycle
     with stages after filtration (squeeze, blow, wash quality, specifications) searches their
     free durations and goes to a worker thread under the time budget."""
-    return inputs.solves_in_closed_form or (inputs.feed.closed_form and not inputs.cycle.adds_stages)
+    return (inputs.solves_in_closed_form or (inputs.feed.closed_form and not inputs.cycle.adds_stages)
+            or pump_on_its_table(inputs))
+
+
+#: a pump curve of at most this many points, compared at at most this many thicknesses, solves
+#: on its table in about 2-3 ms (one core); the longest the schema allows take several times that
+PUMP_POINTS_AT_ONCE = 200
+THICKNESSES_AT_ONCE = 12
+
+
+def pump_on_its_table(inputs: CycleRequest) -> bool:
+    """A pump curve solved on its table in a bounded few milliseconds: the operating points on
+    a grid of fixed size (the pump's own table of fixed size, the cake's law in closed form),
+    the optimum worked out on the table with the wash at the end pressure (no scan), no stages
+    after filtration, and none of the extra solves of an uncertainty range or a best cloth-wash
+    interval; a curve of a few points and a short thickness comparison. Such a request runs on
+    the event loop, as a closed form does."""
+    c, k = inputs.cycle, inputs.cake
+    wash = c.downtime_parts.cloth_wash if c.downtime_parts is not None else None
+    return (inputs.feed.mode == "pump_curve" and len(inputs.feed.points) <= PUMP_POINTS_AT_ONCE
+            and len(inputs.compare_thicknesses) <= THICKNESSES_AT_ONCE
+            and not c.adds_stages and c.wash_pressure is None and k.local is None
+            and not (k.resistance_stderr or k.compressibility_stderr or inputs.medium_resistance_stderr)
+            and not (wash is not None and wash.every_cycles == "best"))
 
 
 @router.post("/cycle", response_model=CycleResponse)

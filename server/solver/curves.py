@@ -278,6 +278,80 @@ class TabulatedCurve:
         optimum search scans them)."""
         return self.V[1:]
 
+    @property
+    def has_peak(self) -> bool:
+        """Whether a cycle's throughput on this table surely has a peak: 1/Q still rising at
+        the end (the table continues its last segment, so the throughput falls beyond some
+        volume) and finite."""
+        return self._kl[-1] > 0.0 and np.isfinite(self._tl[-1]) and np.isfinite(self._rl[-1])
+
+    def peak_volumes(self, downtime: float, wash_coefficient: float) -> np.ndarray:
+        r"""Every local peak of a cycle's throughput on this table [m^3], increasing, exactly.
+
+        With a wash time t_w = a V r(V) (r = 1/Q; a constant: the wash at the pressure
+        filtration ended at) and a fixed time t_d besides, the throughput V / T,
+        T = t + t_w + t_d, rises while g = T - V dT/dV > 0. On a table segment
+        (h = V - V_i, r = r_i + k h, t = t_i + r_i h + k h^2/2) g is the quadratic
+
+        .. math:: g = (t_i + t_d - V_i r_i - a k V_i^2) - k (1 + 2a) V_i h - k (1/2 + a) h^2
+
+        falling in h for k >= 0 (rising for k < 0, where no peak can lie), so each segment's
+        root is closed-form; where g turns non-positive at a node (a kink of 1/Q) the peak is
+        that node. Starting on the line r = B + K V (a ConstantPressureCurve), the root is
+        sqrt(t_d / (K (1/2 + a))). These are the peaks a global scan of the same table refines
+        to (derived here; tested against ``peak_scan`` in tests/solver/test_cake_basis.py and
+        tests/solver/test_optimum.py).
+
+        Parameters
+        ----------
+        downtime : float
+            t_d: every time of the cycle that does not depend on V [s].
+        wash_coefficient : float
+            a: wash time per V / Q at the end of filtration [-].
+        """
+        V, t, r, k = self.V, self.t, self.r, self.slope
+        a, t_d = wash_coefficient, downtime
+        C0 = t + t_d - V * r - a * k * V * V  # g at each segment's start, with its own slope
+        C1 = -k * V * (1.0 + 2.0 * a)
+        C2 = -k * (0.5 + a)
+        width = np.append(np.diff(V), np.inf)  # the last segment continues the table
+        with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
+            g_end = np.where(np.isfinite(width), C0 + (C1 + C2 * width) * width, np.where(k > 0.0, -np.inf, C0))
+            # a root inside a segment: g from > 0 to <= 0 along it
+            inside = (C0 > 0.0) & (g_end <= 0.0)
+            # a peak at a node: g > 0 up to it, <= 0 from it
+            at_node = np.zeros(V.size, dtype=bool)
+            at_node[1:] = (C0[1:] <= 0.0) & (g_end[:-1] > 0.0)
+            h = 2.0 * C0 / (-C1 + np.sqrt(np.maximum(C1 * C1 - 4.0 * C2 * C0, 0.0)))
+        candidates = np.concatenate((V[inside] + np.minimum(h[inside], width[inside]), V[at_node]))
+        return np.sort(candidates[np.isfinite(candidates)])  # with has_peak, the last segment gives one
+
+    def first_volume_where(self, quantity: str, level: float, V_limit: float) -> float | None:
+        """The first volume in [0, V_limit] [m^3] where 1/Q ("reciprocal_rate" [s/m^3]) or the
+        pressure ("pressure" [Pa]) reaches ``level``, exactly on the table's segments (both
+        are linear in V there: 1/Q by construction, the pressure as interpolated), else None.
+
+        The last segment of 1/Q is continued past the table, the pressure held at its last
+        node's, as :meth:`rate` and :meth:`pressure_at` do.
+        """
+        if quantity == "reciprocal_rate":
+            y, slope = self.r, self.slope
+        else:
+            y = self.P
+            with np.errstate(divide="ignore", invalid="ignore"):
+                slope = np.append(np.diff(self.P) / np.diff(self.V), 0.0)
+        n = max(int(np.searchsorted(self.V, V_limit, side="left")), 1)  # segments that start below V_limit
+        V0, y0, k = self.V[:n], y[:n], slope[:n]
+        ends = np.append(self.V[1:n], max(V_limit, self.V[0]))
+        y_end = np.append(y[1:n], y0[-1] + k[-1] * (ends[-1] - V0[-1]))
+        hits = np.flatnonzero((y0 >= level) | (y_end >= level))
+        if hits.size == 0:
+            return None
+        i = int(hits[0])
+        if y0[i] >= level:
+            return float(V0[i])
+        return float(min(V0[i] + (level - y0[i]) / k[i], ends[i]))
+
     def _segment(self, V):
         # the count of inner nodes at or below V: the segment's index, 0 below the first node
         # and the last segment beyond the end (no clipping needed)

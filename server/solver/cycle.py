@@ -155,6 +155,19 @@ class CycleResult:
     meets_specs: bool | None = None  # every specification met (None: none given)
 
 
+_CYCLE_FIELDS = tuple(CycleResult.__dataclass_fields__)
+
+
+def cycle_result(values) -> CycleResult:
+    """The CycleResult of its field values, all of them in field order: the same object as
+    ``CycleResult(*values)`` without the frozen dataclass's __init__ (one object.__setattr__
+    per field, most of the cost of a closed-form cycle). Tested against the constructor in
+    tests/solver/test_cycle.py."""
+    result = object.__new__(CycleResult)
+    result.__dict__.update(zip(_CYCLE_FIELDS, values, strict=True))
+    return result
+
+
 @dataclass(frozen=True)
 class PressSystem:
     """Everything a scenario's cycle depends on: cake and cloth, press, feed and cycle settings."""
@@ -343,16 +356,26 @@ class CycleFamily:
 
     def _optimum_volume(self, V_scale: float) -> float:
         closed_form = getattr(self.curve, "optimum_volume", None)
-        if self.treatment is not None and not (self.treatment.adds_only_wash and self.cycle.specs is None):
+        linear_wash = self.treatment is None or (self.treatment.adds_only_wash and self.cycle.specs is None)
+        if not linear_wash:
             closed_form = None  # a squeeze or a blow: their times are not linear in V
+        c, mu = self.cycle, self.filtration.viscosity
         if closed_form is not None:  # one peak, in closed form
             self.scan = None
-            c, mu = self.cycle, self.filtration.viscosity
             p = self.curve.pressure
             p_w = c.wash_pressure if c.wash_pressure is not None else p
             a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu) * (p / p_w)
             return closed_form(c.downtime + self.fill_time, a)
         curve = self.curve
+        if (linear_wash and getattr(curve, "has_peak", False)
+                and (c.wash_pressure is None or self.wash_per_filtrate == 0.0)):
+            # a table (pump, constant rate on the cake basis) with the wash at the pressure
+            # filtration ended at (the ratio is 1): its peaks worked out on the table, no scan
+            a = wash_rate_divisor(c.washing) * self.wash_per_filtrate * ((c.wash_viscosity or mu) / mu)
+            peaks = curve.peak_volumes(c.downtime + self.fill_time, a)
+            if peaks.size:
+                self.scan = table_peaks(peaks, self.throughput)
+                return self.scan.V_best
         self.scan = peak_scan(self.objective, V_scale, getattr(curve, "knots", ()), getattr(curve, "held_from", 0.0))
         return self.scan.V_best
 
@@ -377,16 +400,15 @@ class CycleFamily:
         c = f.solids_per_filtrate
         fill = float(press.chamber_fill(V, v))
         w = self.wash_per_filtrate
-        return CycleResult(
-            filtrate_volume=V, filtration_time=float(times["filtration"]), wash_volume=w * V,
-            wash_time=float(times["wash"]), downtime=float(times["downtime"]), cycle_time=T,
-            filtrate_throughput=V / T, solids_throughput=c * V / T, cake_thickness=float(press.cake_thickness(V, v)),
-            chamber_fill=fill, dry_cake_mass=c * V, wet_cake_mass=f.wet_to_dry_ratio * c * V,
-            final_rate=float(self.curve.rate(V)), final_pressure=float(self.curve.pressure_at(V)),
-            limited_by=limited_by, feasible=fill <= press.fill_fraction * (1.0 + 1e-12),
-            fill_time=float(self.fill_time), wash_filtrate_volumes=w or None,
-            moisture=1.0 - 1.0 / f.wet_to_dry_ratio, cake_thickness_final=float(press.cake_thickness(V, v)),
-        )
+        thickness = float(press.cake_thickness(V, v))
+        # CycleResult's fields in order (see cycle_result)
+        return cycle_result((
+            V, float(times["filtration"]), w * V, float(times["wash"]), float(times["downtime"]), T,
+            V / T, c * V / T, thickness, fill, c * V, f.wet_to_dry_ratio * c * V,
+            float(self.curve.rate(V)), float(self.curve.pressure_at(V)), limited_by,
+            fill <= press.fill_fraction * (1.0 + 1e-12), float(self.fill_time),
+            0.0, 0.0, 0.0, None, None, w or None, None, 1.0 - 1.0 / f.wet_to_dry_ratio, thickness, None,
+        ))
 
     def results(self, press: Press, V, chamber_thickness, limited_by) -> list[CycleResult]:
         """The cycles ending at ``V`` [m^3] in chambers of ``chamber_thickness`` [m] (arrays
@@ -438,7 +460,7 @@ class CycleFamily:
             column(self.curve.rate(V)), column(self.curve.pressure_at(V)), reasons, feasible,
             [float(self.fill_time)] * n, *extra, strict=True,
         )
-        return [CycleResult(*row) for row in rows]
+        return [cycle_result(row) for row in rows]
 
     def end_volume(self, end: EndCriterion, V_best: float, V_full: float) -> tuple[float, str]:
         """Filtrate volume at which the end criterion stops filtration, and why."""
@@ -481,6 +503,10 @@ class CycleFamily:
                 f"end.{name}", f"the threshold {threshold * 3600:.4g} m³/h is not below the initial flow "
                 f"{q0 * 3600:.4g} m³/h: filtration would end at once",
             )
+        exact = getattr(self.curve, "first_volume_where", None)
+        if exact is not None:  # a table: 1/Q linear on each segment, the crossing in closed form
+            V = exact("reciprocal_rate", 1.0 / threshold, V_full)
+            return (V_full, LIMITED_BY_CHAMBERS) if V is None else (V, "flow")
         return self._first_crossing(lambda V: threshold - self.curve.rate(V), V_full, "flow")
 
     def _pressure_end(self, end: EndCriterion, V_full: float) -> tuple[float, str]:
@@ -495,6 +521,10 @@ class CycleFamily:
                 "end.pressure", f"the feed is at {in_bar(start)} from the start, not below the terminal "
                 f"pressure {in_bar(end.pressure)}: filtration would end at once",
             )
+        exact = getattr(self.curve, "first_volume_where", None)
+        if exact is not None:  # a table: the pressure linear on each segment, the crossing in closed form
+            V = exact("pressure", end.pressure, V_full)
+            return (V_full, LIMITED_BY_CHAMBERS) if V is None else (V, "pressure")
         return self._first_crossing(lambda V: self.curve.pressure_at(V) - end.pressure, V_full, "pressure")
 
     @staticmethod
@@ -619,6 +649,19 @@ def peak_scan(throughput, V_scale: float, knots=(), held_from: float = 0.0) -> T
         V = np.concatenate((V, extra_V))[order]
         Q = np.concatenate((Q, extra_Q))[order]
     # index of the running maximum (first of equals): the best cycle up to each volume
+    running = np.maximum.accumulate(Q)
+    new_best = np.concatenate(([True], running[1:] > running[:-1]))
+    best_upto = np.maximum.accumulate(np.where(new_best, np.arange(V.size), 0))
+    return ThroughputScan(V, Q, best_upto)
+
+
+def table_peaks(V_peaks, throughput) -> ThroughputScan:
+    """A :class:`ThroughputScan` of just the local peaks of the throughput, each exact (a
+    table's :meth:`~.curves.TabulatedCurve.peak_volumes`): between peaks the throughput
+    falls then rises, so the best cycle within any chamber volume is the best peak below it
+    or the full chambers, as from a scan."""
+    V = np.asarray(V_peaks, dtype=float)
+    Q = np.asarray(throughput(V), dtype=float)
     running = np.maximum.accumulate(Q)
     new_best = np.concatenate(([True], running[1:] > running[:-1]))
     best_upto = np.maximum.accumulate(np.where(new_best, np.arange(V.size), 0))
@@ -825,7 +868,8 @@ def compare_thicknesses(
     unconstrained = family.results(press, np.full(n, V_star), Ls, LIMITED_BY_OPTIMUM)
     full = family.results(press, V_full, Ls, LIMITED_BY_CHAMBERS)
     between = np.flatnonzero((V_best != V_star) & (V_best < V_full))  # a lower peak inside (steps, pumps)
-    inner = dict(zip(between.tolist(), family.results(press, V_best[between], Ls[between], LIMITED_BY_OPTIMUM)))
+    inner = dict(zip(between.tolist(), family.results(press, V_best[between], Ls[between], LIMITED_BY_OPTIMUM))) \
+        if between.size else {}
     best = [unconstrained[i] if V_best[i] == V_star else (full[i] if V_best[i] >= V_full[i] else inner[i])
             for i in range(n)]
     ends = [family.end_volume(end, best[i].filtrate_volume, float(V_full[i])) for i in range(n)]

@@ -270,42 +270,16 @@ class HeldPressureCurve(TabulatedCurve):
         """``_optimum_volume`` when the table's throughput has a peak for certain: its 1/Q still
         rising at the end (the table continues its last segment, so the throughput falls
         beyond some volume) and finite. Otherwise None, and the cycle scans for the peak."""
-        if self._kl[-1] > 0.0 and np.isfinite(self._tl[-1]) and np.isfinite(self._rl[-1]):
+        if self.has_peak:
             return self._optimum_volume
         return None
 
     def _optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
-        r"""The filtrate volume of the highest throughput of this tabulated curve, exactly.
-
-        With a wash time t_w = a V r(V) (r = 1/Q) the throughput V / T, T = t + t_w + t_d,
-        rises while g = T - V dT/dV > 0. On a table segment (h = V - V_i, r = r_i + k h,
-        t = t_i + r_i h + k h^2/2) g is the quadratic
-
-        .. math:: g = (t_i + t_d - V_i r_i - a k V_i^2) - k (1 + 2a) V_i h - k (1/2 + a) h^2
-
-        falling in h for k >= 0, so each segment's root is closed-form; where g turns
-        non-positive at a node (a kink of 1/Q) the peak is that node. Every such place is a
-        local peak; the highest throughput of them is returned (the first of equals). Starting
-        on the line r = B + K V (a ConstantPressureCurve), the root is sqrt(t_d / (K (1/2 + a))).
-        This gives the optimum that a global scan of the same table refines to (derived here;
-        tested against ``peak_scan`` in tests/solver/test_cake_basis.py).
-        """
-        V, t, r, k = self.V, self.t, self.r, self.slope
+        """The filtrate volume of the highest throughput of this tabulated curve, exactly: the
+        highest of the table's local peaks (:meth:`TabulatedCurve.peak_volumes`; the first of
+        equals). Tested against ``peak_scan`` in tests/solver/test_cake_basis.py."""
+        candidates = self.peak_volumes(downtime, wash_coefficient)
         a, t_d = wash_coefficient, downtime
-        C0 = t + t_d - V * r - a * k * V * V  # g at each segment's start, with its own slope
-        C1 = -k * V * (1.0 + 2.0 * a)
-        C2 = -k * (0.5 + a)
-        width = np.append(np.diff(V), np.inf)  # the last segment continues the table
-        with np.errstate(invalid="ignore", over="ignore", divide="ignore"):
-            g_end = np.where(np.isfinite(width), C0 + (C1 + C2 * width) * width, np.where(k > 0.0, -np.inf, C0))
-            # a root inside a segment: g from > 0 to <= 0 along it
-            inside = (C0 > 0.0) & (g_end <= 0.0)
-            # a peak at a node: g > 0 up to it, <= 0 from it
-            at_node = np.zeros(V.size, dtype=bool)
-            at_node[1:] = (C0[1:] <= 0.0) & (g_end[:-1] > 0.0)
-            h = 2.0 * C0 / (-C1 + np.sqrt(np.maximum(C1 * C1 - 4.0 * C2 * C0, 0.0)))
-        candidates = np.concatenate((V[inside] + np.minimum(h[inside], width[inside]), V[at_node]))
-        candidates = np.sort(candidates[np.isfinite(candidates)])  # the last segment gives one at least
         T = self.time(candidates) + a * candidates / self.rate(candidates) + t_d
         return float(candidates[int(np.argmax(candidates / T))])
 

@@ -272,3 +272,26 @@ def test_the_comparison_at_once_equals_one_solve_per_thickness(feed_kind, end):
         alone = solve_cycle(PressSystem(system.filtration, system.press.with_thickness(L), feed, system.cycle),
                             criterion, family)
         _same_solution(sol, alone)
+
+
+def test_a_cycle_result_built_from_its_values_is_the_dataclass_built_by_its_constructor():
+    # cycle_result skips the frozen dataclass's __init__ (issue 12): the same object, fields in order
+    from dataclasses import fields
+
+    from server.solver.cycle import CycleResult, CycleSettings, cycle_family_for, cycle_result
+    from server.solver.feeds import ConstantPressure, Filtration
+    from server.solver.press import Press
+
+    system = PressSystem(Filtration(150.0, 0.06, 2.6, 0.6e-3, 3e11, 5e5, 0.0, 1.5e11), Press(68.0, 0.025),
+                         ConstantPressure(6e5), CycleSettings(2400.0, 1.0, fill_time=120.0))
+    sol = solve_cycle(system)
+    family = cycle_family_for(system)
+    arrays = family.results(system.press, np.array([sol.best.filtrate_volume, 1.0]), np.array([0.025, 0.04]), "optimum")
+    for made in (sol.best, sol.unconstrained_optimum, sol.chambers_full, *arrays):
+        built = CycleResult(*(getattr(made, f.name) for f in fields(CycleResult)))
+        assert made == built and list(made.__dict__.items()) == list(built.__dict__.items())
+        assert [type(x) for x in made.__dict__.values()] == [type(x) for x in built.__dict__.values()]
+    values = tuple(range(len(fields(CycleResult))))
+    assert cycle_result(values) == CycleResult(*values)
+    with pytest.raises(ValueError):
+        cycle_result(values[:-1])

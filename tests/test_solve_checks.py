@@ -1,0 +1,102 @@
+"""The quicker checks on every answer say what the full walks say (issue 12).
+
+``solve._any_non_finite`` (one loop per container) and ``plausibility.input_warnings`` (the SI
+values looked up first, the request as sent walked only for a key with an unusual value) are
+compared here with the plain recursive walks they replace, written out in this file.
+"""
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from server.plausibility import USUAL, ZERO_ALLOWED, _entries, _unusual, input_warnings
+from server.schemas.cycle import CycleRequest
+from server.solve import _TEXT_PARTS, _any_non_finite, first_non_finite, solve
+
+DEMOS = sorted((Path(__file__).resolve().parent.parent / "demo_cases").glob("*.json"))
+
+
+def walked_non_finite(x) -> bool:
+    """Every number visited one by one (the oracle)."""
+    if isinstance(x, dict):
+        return any(walked_non_finite(v) for v in x.values())
+    if isinstance(x, list | tuple):
+        return any(walked_non_finite(v) for v in x)
+    return isinstance(x, float) and not math.isfinite(x)
+
+
+def walked_warnings(si, raw):
+    """input_warnings as it was: every key's entries walked with the request as sent."""
+    out = []
+    for key, (low, high) in USUAL.items():
+        for path, value, typed in _entries(si, raw, key):
+            if not isinstance(value, float | int) or (value == 0 and key in ZERO_ALLOWED) or low <= value <= high:
+                continue
+            out.append({"field": path, "message": _unusual(key, value, typed, low, high)})
+    return out
+
+
+def _paths(x, path=()):
+    """The path of every float in plain data."""
+    if isinstance(x, dict):
+        for k, v in x.items():
+            yield from _paths(v, (*path, k))
+    elif isinstance(x, list | tuple):
+        for i, v in enumerate(x):
+            yield from _paths(v, (*path, i))
+    elif isinstance(x, float):
+        yield path
+
+
+def _set(data, path, value):
+    for key in path[:-1]:
+        data = data[key]
+    if isinstance(data, tuple):
+        raise TypeError
+    data[path[-1]] = value
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=lambda p: p.stem)
+def test_a_non_finite_number_anywhere_in_an_answer_is_found(demo):
+    request = CycleRequest.model_validate(json.loads(demo.read_text())["inputs"])
+    results = {k: v for k, v in solve(request).results.items() if k not in _TEXT_PARTS}
+    assert not _any_non_finite(results) and not walked_non_finite(results)
+    paths = list(_paths(results))
+    assert len(paths) > 100
+    for bad in (math.nan, math.inf, -math.inf, np.float64("nan")):
+        for path in paths[:: max(1, len(paths) // 60)] + paths[-3:]:
+            copy = json.loads(json.dumps(results))
+            try:
+                _set(copy, path, bad)
+            except TypeError:
+                continue
+            assert _any_non_finite(copy), path
+            assert first_non_finite(copy) is not None
+
+
+def test_non_finite_numbers_in_tuples_nested_lists_and_numpy_floats_are_found():
+    for data in ({"a": [1.0, (2.0, math.nan)]}, {"a": {"b": [[np.float64(math.inf)]]}}, [{"x": -math.inf}],
+                 {"a": [], "b": {}, "c": None, "d": "text", "e": True, "f": [1, 2, {"g": math.nan}]}):
+        assert _any_non_finite(data) and walked_non_finite(data)
+    assert not _any_non_finite({"a": [1e308, 1e308], "b": (0.0, -1.0), "c": [np.float64(2.0)], "d": 7})
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=lambda p: p.stem)
+@pytest.mark.parametrize("factor", [1.0, 1e3, 1e-3, 0.0])
+def test_input_warnings_are_those_of_the_full_walk(demo, factor):
+    request = CycleRequest.model_validate(json.loads(demo.read_text())["inputs"])
+    si, raw = request.model_dump(), request._raw
+    for path in _paths(si):
+        scaled = json.loads(json.dumps(si))  # tuples become lists, as they may in a request
+        _set(scaled, path, _get(scaled, path) * factor)
+        assert input_warnings(scaled, raw) == walked_warnings(scaled, raw), path
+    assert input_warnings(si, raw) == walked_warnings(si, raw)
+
+
+def _get(data, path):
+    for key in path:
+        data = data[key]
+    return data
