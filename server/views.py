@@ -112,12 +112,38 @@ def render_results(templates, results: dict, chart_series: dict | None, units,
     from .forms import LABELS
     from .inputs_table import input_rows
 
+    results = with_current_fields(results)
     rows = input_rows(inputs) if inputs else None
     html = templates.get_template("_results.html").render(
         {"results": results, "u": units, "labels": LABELS, "input_rows": rows, "plan_link": plan_link})
     if chart_series is None:
         return html, {}
     return html, compact(figures(chart_series, chart_results or results, units))
+
+
+def with_current_fields(results: dict) -> dict:
+    """Results saved by an earlier version, with the fields added since at their defaults (no
+    squeeze, blow, wash model or specifications then), so one template draws old and new alike.
+    The saved figures themselves are untouched."""
+    from dataclasses import MISSING, fields
+
+    from .solver.cycle import CycleResult
+
+    defaults = {f.name: f.default for f in fields(CycleResult) if f.default is not MISSING}
+    if all(k in results.get("best", {}) for k in defaults) and "stage_order" in results:
+        return results
+    out = dict(results)
+    for section in ("best", "unconstrained_optimum", "chambers_full", "at_end"):
+        if isinstance(out.get(section), dict):
+            out[section] = {**defaults, **out[section]}
+    out["thickness_comparison"] = [
+        {**row, **{k: {**defaults, **row[k]} for k in ("best", "chambers_full") if isinstance(row.get(k), dict)}}
+        for row in out.get("thickness_comparison", [])]
+    if "stage_order" not in out:
+        washed = bool(out.get("best", {}).get("wash_volume"))
+        out["stage_order"] = ["fill", "filtration", *(["wash"] if washed else []), "downtime"]
+    out.setdefault("specs", None)
+    return out
 
 
 class PageCache:

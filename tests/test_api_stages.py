@@ -140,3 +140,14 @@ def test_a_squeeze_no_harder_than_the_feed_is_warned(client):
     firm = post(client, body(squeeze={**SQUEEZE, "time": "5 min"}))
     assert any("not above the feed pressure" in w for w in soft["warnings"])
     assert not any("not above the feed pressure" in w for w in firm["warnings"])
+
+
+def test_a_plain_wash_is_counted_in_pore_volumes_too(client):
+    """Issue 15: the pigment demo washes with one filtrate volume, about 17 cake pore volumes,
+    and nothing said so: the pore volumes are ratio / (porosity x cake volume per filtrate)."""
+    pigment = json.loads((PROJECT_ROOT / "demo_cases" / "iron_oxide_pigment.json").read_text())["inputs"]
+    r = post(client, pigment)
+    d = r["derived"]
+    assert r["best"]["wash_pore_volumes"] == pytest.approx(1.0 / (d["porosity"] * d["cake_volume_ratio"]), rel=1e-12)
+    assert 15 < r["best"]["wash_pore_volumes"] < 20
+    assert "pore volumes" in client.get("/demo/iron_oxide_pigment").text

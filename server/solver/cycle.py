@@ -407,8 +407,17 @@ class CycleFamily:
             V / T, c * V / T, thickness, fill, c * V, f.wet_to_dry_ratio * c * V,
             float(self.curve.rate(V)), float(self.curve.pressure_at(V)), limited_by,
             fill <= press.fill_fraction * (1.0 + 1e-12), float(self.fill_time),
-            0.0, 0.0, 0.0, None, None, w or None, None, 1.0 - 1.0 / f.wet_to_dry_ratio, thickness, None,
+            0.0, 0.0, 0.0, None, self._pore_volumes(w), w or None, None, 1.0 - 1.0 / f.wet_to_dry_ratio, thickness,
+            None,
         ))
+
+    def _pore_volumes(self, wash_per_filtrate: float) -> float | None:
+        """A plain wash counted in the cake's pore volumes [-] (the volume that displaces the
+        liquor: what a wash model would take), or None without a wash or a porosity."""
+        f = self.filtration
+        if not wash_per_filtrate or not f.porosity:
+            return None
+        return wash_per_filtrate / (f.porosity * f.cake_volume_ratio)
 
     def results(self, press: Press, V, chamber_thickness, limited_by) -> list[CycleResult]:
         """The cycles ending at ``V`` [m^3] in chambers of ``chamber_thickness`` [m] (arrays
@@ -432,7 +441,8 @@ class CycleFamily:
         if st is None:
             wash_volume = self.wash_per_filtrate * V
             moisture = 1.0 - 1.0 / f.wet_to_dry_ratio
-            extra = [[0.0] * n, [0.0] * n, [0.0] * n, [None] * n, [None] * n,
+            pores = self._pore_volumes(self.wash_per_filtrate)
+            extra = [[0.0] * n, [0.0] * n, [0.0] * n, [None] * n, [pores] * n,
                      column(self.wash_per_filtrate) if self.wash_per_filtrate else [None] * n,
                      [None] * n, [moisture] * n, column(press.cake_thickness(V, v)), [None] * n]
             wet = f.wet_to_dry_ratio * c * V
