@@ -188,10 +188,10 @@ class Treatment:
         grid, F = self._F_table
         return np.interp(W, grid, F)
 
-    def evaluate(self, V, U_squeeze=None, blow_time=None) -> dict:
+    def evaluate(self, V, U_squeeze=None, blow_time=None, squeeze_time=None) -> dict:
         """Run the stages for cycles ending at V (vectorised): each stage's time [s] and what
-        it leaves. ``U_squeeze`` / ``blow_time`` set a free squeeze's consolidation ratio and a
-        free blow's time (arrays broadcast with V)."""
+        it leaves. ``U_squeeze`` (or ``squeeze_time``) / ``blow_time`` set a free squeeze's
+        consolidation ratio (or its time) and a free blow's time (arrays broadcast with V)."""
         V = np.asarray(V, dtype=float)
         f, A, c = self.f, self.A, self.cycle
         zeros = np.zeros_like(V)
@@ -223,7 +223,10 @@ class Treatment:
                         out["solute_removal"] = np.asarray(self._removal(W), dtype=float) * np.ones_like(V)
             elif stage == "squeeze":
                 sq = c.squeeze
-                if U_squeeze is not None:
+                if squeeze_time is not None:
+                    t = np.broadcast_to(np.asarray(squeeze_time, dtype=float), V.shape)
+                    U = np.asarray(sq.ratio(t, np.where(omega > 0, omega, 1.0)), dtype=float)
+                elif U_squeeze is not None:
                     U = np.broadcast_to(np.asarray(U_squeeze, dtype=float), V.shape)
                     t = np.asarray(sq.time_for(U, np.where(omega > 0, omega, 1.0)), dtype=float)
                 elif sq.time is not None:
@@ -334,33 +337,47 @@ class Treatment:
             U = self._least_U(V, spec, U)
         return self.evaluate(V, U_squeeze=U)
 
+    def _omega(self, V):
+        """Solids volume per face area [m] of the cakes ending at V (never 0: a placeholder 1)."""
+        f = self.f
+        omega = (1.0 - f.porosity) * f.cake_volume_ratio * np.asarray(V, dtype=float) / self.A
+        return np.where(omega > 0, omega, 1.0)
+
     def _least_U(self, V, spec, U_hi):
-        """The smallest U in [0, U_hi] with moisture <= spec (moisture falls with U), by bisection."""
-        lo, hi = np.zeros(V.shape), np.array(U_hi, dtype=float) * np.ones(V.shape)
-        ok0 = self.evaluate(V, U_squeeze=lo)["moisture"] <= spec
+        """The least squeeze (as its consolidation ratio) in [0, U_hi] that leaves moisture <= spec
+        after the fixed blow (moisture falls with the squeeze), by bisection on its time."""
+        sq = self.cycle.squeeze
+        om = self._omega(V)
+        t_hi = np.asarray(sq.time_for(np.asarray(U_hi) * np.ones(V.shape), om), dtype=float)
+        lo, hi = np.zeros(V.shape), t_hi.copy()
+        ok0 = self.evaluate(V, squeeze_time=lo)["moisture"] <= spec
         for _ in range(60):
             mid = 0.5 * (lo + hi)
-            ok = self.evaluate(V, U_squeeze=mid)["moisture"] <= spec
+            ok = self.evaluate(V, squeeze_time=mid)["moisture"] <= spec
             lo, hi = np.where(ok, lo, mid), np.where(ok, mid, hi)
-        return np.where(ok0, 0.0, hi)
+        return np.where(ok0, 0.0, np.asarray(sq.ratio(hi, om), dtype=float))
 
     def _free_squeeze_and_blow(self, V, spec):
-        """Squeeze and blow both free: the split of least total time (a grid over the squeeze's
-        consolidation ratio, then golden-section steps around the best grid point)."""
+        """Squeeze and blow both free: the split of least total time (a grid of squeeze times up
+        to the capped squeeze, then golden-section steps around the best grid point). Squeeze
+        times, not ratios, are searched: the squeeze's state follows from a time directly, with
+        no inversion (creep makes one costly)."""
         V = np.asarray(V, dtype=float)
-        b = self.cycle.blow
-        Us = SQUEEZE_CAP * (1.0 - (1.0 - np.linspace(0.0, 1.0, _U_GRID)) ** 2)  # denser near the cap
+        b, sq = self.cycle.blow, self.cycle.squeeze
+        om = self._omega(V)
+        t_cap = np.asarray(sq.time_for(np.full(V.shape, SQUEEZE_CAP), om), dtype=float)
+        xs = np.linspace(0.0, 1.0, _U_GRID) ** 2  # shares of the capped squeeze's time, denser early
 
-        def total(U):
-            st = self.evaluate(V, U_squeeze=U, blow_time=0.0)
-            t_b = self._blow_needed(V, spec, U, st)
+        def total(x):
+            st = self.evaluate(V, squeeze_time=x * t_cap, blow_time=0.0)
+            t_b = self._blow_needed(V, spec, None, st)
             X = st["void_ratio"] * self.liquid_per_void
             bad = (X / (1.0 + X) > spec) & (b.lowest_moisture > spec)  # not even the whole blow will do
             return st["squeeze_time"] + st["wash_time"] + t_b + np.where(bad, 1e30, 0.0)
 
-        T = np.stack([total(np.full(V.shape, u)) for u in Us])
+        T = np.stack([total(np.full(V.shape, x)) for x in xs])
         k = np.argmin(T, axis=0)
-        a, c = Us[np.maximum(k - 1, 0)], Us[np.minimum(k + 1, _U_GRID - 1)]
+        a, c = xs[np.maximum(k - 1, 0)], xs[np.minimum(k + 1, xs.size - 1)]
         g = (np.sqrt(5.0) - 1.0) / 2.0
         x1, x2 = c - g * (c - a), a + g * (c - a)
         f1, f2 = total(x1), total(x2)
@@ -373,7 +390,8 @@ class Treatment:
             f1n = np.where(left, total(x1n), f2)
             f2n = np.where(left, f1, total(x2n))
             x1, x2, f1, f2 = x1n, x2n, f1n, f2n
-        U = np.where(f1 <= f2, x1, x2)
-        U = np.where(np.minimum(f1, f2) <= T[k, np.arange(V.size)], U, Us[k])
-        U = np.where(T.min(axis=0) >= 1e30, SQUEEZE_CAP, U)  # nothing meets the spec: the closest
-        return self.evaluate(V, U_squeeze=U, blow_time=self._blow_needed(V, spec, U))
+        x = np.where(f1 <= f2, x1, x2)
+        x = np.where(np.minimum(f1, f2) <= T[k, np.arange(V.size)], x, xs[k])
+        x = np.where(T.min(axis=0) >= 1e30, 1.0, x)  # nothing meets the spec: the closest
+        st = self.evaluate(V, squeeze_time=x * t_cap, blow_time=0.0)
+        return self.evaluate(V, squeeze_time=x * t_cap, blow_time=self._blow_needed(V, spec, None, st))
