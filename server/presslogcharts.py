@@ -80,7 +80,7 @@ def _trend_figure(result, key, title, y_title, unit, washes=()):
     if key == "medium_resistance":  # down to where a feed started a step before the first row would put it
         bars.update(symmetric=False, arrayminus=[max(min(e + (c.get("medium_resistance_start_bound") or 0.0), v), e)
                                                  for e, v, c in zip(err, y, fits)])  # not below zero
-    name = "per cycle (bars down: a feed started a log step early)" if key == "medium_resistance" else "per cycle"
+    name = "per cycle (bars: start-of-feed bias)" if key == "medium_resistance" else "per cycle"
     data = [{"type": "scatter", "mode": "markers", "name": name, "x": n, "y": y, "customdata": when,
              "error_y": bars,
              "marker": {"color": COLORS["main"], "size": 6},
