@@ -201,7 +201,7 @@ def _menu_spelling(unit: str) -> str:
 #: the SI unit of a bare number, as the menus spell it
 _SI_SPELLING = {"density": "kg/m^3", "viscosity": "Pa*s", "specific_resistance": "m/kg", "medium_resistance": "1/m",
                 "length": "m", "pressure": "Pa", "time": "s", "area": "m^2", "temperature": "degC",
-                "flux": "m^3/(m^2*s)"}
+                "flux": "m^3/(m^2*s)", "diffusivity": "m^2/s", "rate": "1/s"}
 
 
 def _in_typed_unit(typed, value: float, kind: str) -> str:

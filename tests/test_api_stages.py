@@ -151,3 +151,14 @@ def test_a_plain_wash_is_counted_in_pore_volumes_too(client):
     assert r["best"]["wash_pore_volumes"] == pytest.approx(1.0 / (d["porosity"] * d["cake_volume_ratio"]), rel=1e-12)
     assert 15 < r["best"]["wash_pore_volumes"] < 20
     assert "pore volumes" in client.get("/demo/iron_oxide_pigment").text
+
+
+def test_a_bare_number_consolidation_coefficient_outside_the_usual_range_is_flagged(client):
+    """A reviewer's 500: a bare C_e outside 1e-9-1e-5 m²/s had no unit to be flagged in."""
+    r = post(client, body(squeeze={**SQUEEZE, "time": "5 min", "consolidation_coefficient": 1e-12}))
+    assert any(w["field"] == "cycle.squeeze.consolidation_coefficient" for w in r["input_warnings"])
+
+
+def test_a_wash_target_given_as_remaining_is_named_in_its_errors(client):
+    r = post(client, body(wash_model={"dispersion_number": 1e-5}, wash_target={"solute_remaining": 1e-9}), status=422)
+    assert any(d["loc"][1:] == ["cycle", "wash_target", "solute_remaining"] for d in r["detail"]), r

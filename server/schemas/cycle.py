@@ -524,6 +524,8 @@ class CycleIn(Strict):
             wash_pressure=self.wash_pressure, wash_viscosity=self.wash_viscosity, wash_basis=self.wash_basis,
             wash_model=part("wash_model", lambda: self.wash_model.to_solver()),
             wash_removal_target=self.wash_target.removal if self.wash_target is not None else None,
+            wash_target_field="wash_target.solute_remaining" if self.wash_target is not None
+            and self.wash_target.solute_remaining is not None else "wash_target.solute_removal",
             squeeze=part("squeeze", lambda: self.squeeze.to_solver(porosity, wet_to_dry_ratio)),
             blow=part("blow", lambda: self.blow.to_solver()),
             order=self.order, specs=part("specs", lambda: self.specs.to_solver()),

@@ -49,15 +49,21 @@ class Blow:
         for j, column in ((0, t), (1, m)):  # NaN and infinity pass every comparison below
             if not np.all(np.isfinite(column)):
                 raise SolverInputError(f"curve.{int(np.argmin(np.isfinite(column)))}.{j}", "must be a finite number")
-        if t[0] < 0.0 or np.any(np.diff(t) <= 0.0):
-            k = int(np.argmax(np.diff(t) <= 0.0)) + 1 if t[0] >= 0.0 else 0
-            raise SolverInputError(f"curve.{k}.0", "blow times must start at 0 s or later and rise from point to point")
+        if t[0] != 0.0:
+            raise SolverInputError("curve.0.0", "the lab blow curve starts at 0 s, with the cake's moisture as the "
+                                   "blow begins (the curve's shape is counted from there)")
+        if np.any(np.diff(t) <= 0.0):
+            k = int(np.argmax(np.diff(t) <= 0.0)) + 1
+            raise SolverInputError(f"curve.{k}.0", "blow times must rise from point to point")
         if np.any((m <= 0.0) | (m >= 1.0)):
             k = int(np.argmax((m <= 0.0) | (m >= 1.0)))
             raise SolverInputError(f"curve.{k}.1", "moisture must be between 0 and 1 (exclusive)")
         if np.any(np.diff(m) > 0.0):
             k = int(np.argmax(np.diff(m) > 0.0)) + 1
             raise SolverInputError(f"curve.{k}.1", "a blow never raises the moisture: moisture must not rise with time")
+        if not m[-1] < m[0]:
+            raise SolverInputError(f"curve.{m.size - 1}.1", "the lab blow curve never lowers the moisture: a blow "
+                                   "that dries nothing (give readings where the moisture falls)")
         if not self.lab_thickness > 0.0:
             raise SolverInputError("lab_thickness", f"must be > 0 m; got {self.lab_thickness:.6g}")
         if self.time is not None and self.target_moisture is not None:

@@ -81,6 +81,8 @@ class CycleSettings:
     wash_basis: str = "filtrate"
     wash_model: WashModel | None = None
     wash_removal_target: float | None = None
+    #: the input the target came from (its errors name it): solute_removal or solute_remaining
+    wash_target_field: str = "wash_target.solute_removal"
     squeeze: Squeeze | None = None
     blow: Blow | None = None
     order: tuple = STAGES
@@ -807,11 +809,19 @@ def _squeeze_warning(system: PressSystem) -> list[str]:
             "the squeeze pressure and the equilibrium moisture or porosity given for it."]
 
 
-def _moisture_advice(t, best: CycleResult, need: float) -> str:
+def _moisture_advice(family: CycleFamily, best: CycleResult, need: float) -> str:
     """Why no cycle reaches the moisture specification, and what would."""
+    t = family.treatment
     c = t.cycle
-    said = [f"No cycle meets the moisture specification of {100 * need:.3g} %: the closest is "
-            f"{100 * best.moisture:.3g} %, the cycle shown."]
+    said = [f"No cycle meets the moisture specification of {100 * need:.3g} %: the cycle shown is the best "
+            f"throughput's, at {100 * best.moisture:.3g} %."]
+    V = np.geomspace(family.V_needed * 1e-3, family.V_needed, 200)
+    moisture = np.asarray(t.run(V)["moisture"], dtype=float)
+    k = int(np.argmin(moisture))
+    if moisture[k] < best.moisture * (1 - 1e-4):
+        said.append(f"The lowest any cycle within the chambers reaches is {100 * moisture[k]:.3g} %, with a cake "
+                    f"of {1000 * family.filtration.cake_volume_ratio * V[k] / family.filter_area:.3g} mm per face "
+                    "(thinner cakes squeeze and blow faster).")
     if c.squeeze is not None:
         X_eq = c.squeeze.final_void_ratio * t.liquid_per_void
         m_eq = X_eq / (1.0 + X_eq)
@@ -851,7 +861,7 @@ def spec_report(family: CycleFamily, best: CycleResult) -> tuple[dict | None, li
         binds = met and (free or got >= need * (1 - 1e-6))
         out["max_moisture"] = {"required": need, "achieved": got, "met": met, "binds": binds}
         if not met:
-            warnings.append(_moisture_advice(t, best, need))
+            warnings.append(_moisture_advice(family, best, need))
     if specs.min_solute_removal is not None:
         need, got = specs.min_solute_removal, best.solute_removal
         met = got is not None and got >= need * (1 - 1e-9)

@@ -119,7 +119,7 @@ class Treatment:
             if self.model is None:
                 raise SolverInputError("wash_model", "a wash target needs a wash model (dispersion or efficiency)",
                                        also=("wash_target",))
-            self.W_fixed = self.model.wash_ratio_for(cycle.wash_removal_target, "wash_target.solute_removal")
+            self.W_fixed = self.model.wash_ratio_for(cycle.wash_removal_target, cycle.wash_target_field)
         elif specs.min_solute_removal is not None:
             if self.model is None:
                 raise SolverInputError("wash_model", "a solute removal specification needs a wash model "
@@ -326,6 +326,8 @@ class Treatment:
         return np.where(entering <= spec, 0.0, t)
 
     def _free_squeeze(self, V, spec):
+        if "blow" in self.order:  # a blow after the squeeze (its own time or target): search the split
+            return self._search_squeeze(V, spec, blow_free=False)
         sq = self.cycle.squeeze
         # moisture falls linearly in e, e linearly in U: the ratio that just meets the spec
         X_spec = spec / (1.0 - spec)
@@ -333,8 +335,6 @@ class Treatment:
         span = self.e0 - sq.final_void_ratio
         U_needed = (self.e0 - e_spec) / span
         U = np.full(V.shape, min(max(U_needed, 0.0), SQUEEZE_CAP))
-        if "blow" in self.order:  # a fixed blow after the squeeze: less squeeze may do
-            U = self._least_U(V, spec, U)
         return self.evaluate(V, U_squeeze=U)
 
     def _omega(self, V):
@@ -343,25 +343,16 @@ class Treatment:
         omega = (1.0 - f.porosity) * f.cake_volume_ratio * np.asarray(V, dtype=float) / self.A
         return np.where(omega > 0, omega, 1.0)
 
-    def _least_U(self, V, spec, U_hi):
-        """The least squeeze (as its consolidation ratio) in [0, U_hi] that leaves moisture <= spec
-        after the fixed blow (moisture falls with the squeeze), by bisection on its time."""
-        sq = self.cycle.squeeze
-        om = self._omega(V)
-        t_hi = np.asarray(sq.time_for(np.asarray(U_hi) * np.ones(V.shape), om), dtype=float)
-        lo, hi = np.zeros(V.shape), t_hi.copy()
-        ok0 = self.evaluate(V, squeeze_time=lo)["moisture"] <= spec
-        for _ in range(60):
-            mid = 0.5 * (lo + hi)
-            ok = self.evaluate(V, squeeze_time=mid)["moisture"] <= spec
-            lo, hi = np.where(ok, lo, mid), np.where(ok, mid, hi)
-        return np.where(ok0, 0.0, np.asarray(sq.ratio(hi, om), dtype=float))
-
     def _free_squeeze_and_blow(self, V, spec):
-        """Squeeze and blow both free: the split of least total time (a grid of squeeze times up
-        to the capped squeeze, then golden-section steps around the best grid point). Squeeze
-        times, not ratios, are searched: the squeeze's state follows from a time directly, with
-        no inversion (creep makes one costly)."""
+        return self._search_squeeze(V, spec, blow_free=True)
+
+    def _search_squeeze(self, V, spec, blow_free: bool):
+        """A free squeeze followed by a blow (free, or its own time or target): the squeeze time
+        of least total time that meets the moisture spec (a grid of squeeze times up to the capped
+        squeeze, then golden-section steps around the best grid point). Squeeze times, not ratios,
+        are searched: the squeeze's state follows from a time directly, with no inversion (creep
+        makes one costly). Where none meets the spec, the cycle that comes closest in moisture
+        (then the shortest) is taken."""
         V = np.asarray(V, dtype=float)
         b, sq = self.cycle.blow, self.cycle.squeeze
         om = self._omega(V)
@@ -369,11 +360,19 @@ class Treatment:
         xs = np.linspace(0.0, 1.0, _U_GRID) ** 2  # shares of the capped squeeze's time, denser early
 
         def total(x):
-            st = self.evaluate(V, squeeze_time=x * t_cap, blow_time=0.0)
-            t_b = self._blow_needed(V, spec, None, st)
-            X = st["void_ratio"] * self.liquid_per_void
-            bad = (X / (1.0 + X) > spec) & (b.lowest_moisture > spec)  # not even the whole blow will do
-            return st["squeeze_time"] + st["wash_time"] + t_b + np.where(bad, 1e30, 0.0)
+            if blow_free:
+                st = self.evaluate(V, squeeze_time=x * t_cap, blow_time=0.0)
+                t_b = self._blow_needed(V, spec, None, st)
+                X = st["void_ratio"] * self.liquid_per_void
+                m = b.moisture_after(t_b, np.where(st["cake_thickness_final"] > 0, st["cake_thickness_final"], 1.0),
+                                     X / (1.0 + X))
+            else:
+                st = self.evaluate(V, squeeze_time=x * t_cap)
+                t_b, m = st["blow_time"], st["moisture"]
+            time = st["squeeze_time"] + st["wash_time"] + t_b
+            # a cycle that misses the spec ranks after every one that meets it, by how far it misses
+            miss = np.maximum(np.asarray(m) - spec * (1 + 1e-12), 0.0)
+            return np.where(miss > 0.0, 1e30 * (1.0 + miss), time)
 
         T = np.stack([total(np.full(V.shape, x)) for x in xs])
         k = np.argmin(T, axis=0)
@@ -392,6 +391,7 @@ class Treatment:
             x1, x2, f1, f2 = x1n, x2n, f1n, f2n
         x = np.where(f1 <= f2, x1, x2)
         x = np.where(np.minimum(f1, f2) <= T[k, np.arange(V.size)], x, xs[k])
-        x = np.where(T.min(axis=0) >= 1e30, 1.0, x)  # nothing meets the spec: the closest
+        if not blow_free:
+            return self.evaluate(V, squeeze_time=x * t_cap)
         st = self.evaluate(V, squeeze_time=x * t_cap, blow_time=0.0)
         return self.evaluate(V, squeeze_time=x * t_cap, blow_time=self._blow_needed(V, spec, None, st))

@@ -12,7 +12,8 @@ Separation, the chapters on cake washing; Perry's Chemical Engineers' Handbook):
   and the fraction of solute removed F(W) = integral of c_R from 0 to W. Plug flow
   (D_n -> infinity) removes everything at W = 1.
 - wash efficiency E (Choudhury & Dahlstrom's stage-wise rule): the fraction remaining after
-  N pore volumes is (1 - E)^N.
+  N pore volumes is (1 - E)^N, never below what plug flow leaves (1 - N for N < 1: a wash
+  carries out at most its own volume of liquor).
 """
 
 from dataclasses import dataclass
@@ -71,7 +72,8 @@ class WashModel:
         """Fraction of the solute removed after W pore volumes [-], vectorised over W."""
         W = np.asarray(W, dtype=float)
         if self.model == "efficiency":
-            out = 1.0 - (1.0 - self.efficiency) ** W
+            # never more than plug flow carries out (W pore volumes remove at most W of it)
+            out = np.minimum(1.0 - (1.0 - self.efficiency) ** W, W)
         else:
             out = np.vectorize(self._dispersion_removal, otypes=[float])(W)
         return out if out.ndim else float(out)
@@ -93,7 +95,8 @@ class WashModel:
         if not 0.0 < removal < 1.0:
             raise SolverInputError(field, f"must be between 0 and 1 (exclusive); got {removal:.6g}")
         if self.model == "efficiency":
-            return float(np.log1p(-removal) / np.log1p(-self.efficiency))
+            # the rule, or plug flow where the rule would remove more than the wash carries
+            return float(max(np.log1p(-removal) / np.log1p(-self.efficiency), removal))
         hi = 2.0
         while self._dispersion_removal(hi) < removal:
             hi *= 2.0
@@ -107,6 +110,7 @@ class WashModel:
         if self.model == "efficiency":
             # the stage-wise rule's washate: the rate of removal, c_R = -ln(1-E) (1-E)^W
             c = -np.log1p(-self.efficiency) * (1.0 - self.efficiency) ** W
+            c = np.where(1.0 - (1.0 - self.efficiency) ** W > W, 1.0, np.minimum(c, 1.0))  # plug flow's bound
         else:
             c = exit_concentration(W, self.dispersion_number)
         return {"wash_ratio": W, "concentration": np.asarray(c, dtype=float), "removal": self.removal(W)}

@@ -124,9 +124,12 @@ def test_blow_names_the_point_with_the_missing_number():
     assert err.value.parameter == "curve.2.1"
 
 
-def test_a_curve_that_starts_late_gives_its_first_time_scaled():
-    # the lab curve says nothing before its first reading: the moisture it starts at is
-    # reached at that reading's time, scaled like every other
-    b = blow(times=(20.0, 60.0, 120.0), moistures=(0.3, 0.25, 0.22))
-    assert b.time_to(0.3, 2 * LAB) == pytest.approx(80.0, rel=1e-14)
-    assert b.time_to(0.275, LAB) == pytest.approx(40.0, rel=1e-14)
+def test_a_curve_that_starts_late_or_never_dries_is_refused():
+    # a first reading after 0 s would charge dead blow time (a reviewer's finding), and a curve
+    # whose moisture never falls would let a blow of no time "meet" any moisture: both refused
+    with pytest.raises(SolverInputError) as late:
+        blow(times=(20.0, 60.0, 120.0), moistures=(0.3, 0.25, 0.22))
+    assert late.value.parameter == "curve.0.0"
+    with pytest.raises(SolverInputError) as flat:
+        blow(times=(0.0, 60.0), moistures=(0.3, 0.3))
+    assert flat.value.parameter == "curve.1.1"

@@ -165,3 +165,14 @@ def test_profile_concentration_is_the_rate_of_removal(model):
     assert W[0] == 0.0 and W[-1] == 4.0
     F_trapezoid = np.concatenate([[0.0], np.cumsum(0.5 * (c[1:] + c[:-1]) * np.diff(W))])
     assert np.max(np.abs(F - F_trapezoid)) < 2e-5
+
+
+def test_the_efficiency_rule_never_removes_more_than_the_wash_carries():
+    """(1 - E)^N for fractional N < 1 would remove more than plug flow can for E > 1 - 1/e (a
+    reviewer's finding): W pore volumes carry out at most W of the liquor (mass balance)."""
+    m = WashModel("efficiency", efficiency=0.95)
+    assert m.removal(0.3) == pytest.approx(0.3, rel=1e-15)
+    assert m.wash_ratio_for(0.6) == pytest.approx(0.6, rel=1e-15)
+    assert m.removal(2.0) == pytest.approx(1 - 0.05**2, rel=1e-15)  # the rule where it is below W
+    prof = m.profile(3.0)
+    assert max(prof["concentration"]) <= 1.0
