@@ -118,8 +118,11 @@ def throughput_vs_time(s: dict, results: dict, u: Units) -> dict:
                 "line": {"color": COLORS["main"], "dash": dash, "width": 2.5},
                 "customdata": [[a, b] for a, b in zip(Tm, tm)], "hovertemplate": hover + "<extra></extra>"}
 
-    traces = [line(feasible, "cake fits the chambers", "solid"),
-              line(~feasible, "chambers overfull (not possible)", "dot")]
+    meets = np.array(s.get("meets_specs", [True] * feasible.size), dtype=bool)
+    traces = [line(feasible & meets, "cake fits the chambers", "solid")]
+    if np.any(feasible & ~meets):
+        traces.append(line(feasible & ~meets, "misses a specification", "dash"))
+    traces.append(line(~feasible, "chambers overfull (not possible)", "dot"))
     points = [("unconstrained optimum", results["unconstrained_optimum"], COLORS["best"], "star"),
               ("chambers full", results["chambers_full"], COLORS["full"], "square"),
               ("best feasible", results["best"], COLORS["best"], "circle")]
