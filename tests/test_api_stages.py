@@ -3,8 +3,11 @@ stage order, specifications and filling; their errors name the field; the plan f
 
 import copy
 import json
+import math
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from server.solver.washquality import WashModel
 from tests.test_pages import PROJECT_ROOT
@@ -180,3 +183,48 @@ def test_the_throughput_chart_marks_cycles_that_miss_a_specification():
     assert any(meets) and not all(meets)
     names = [t["name"] for t in figures(solved.chart_series, solved.results, Units())["throughput_time"]["data"]]
     assert "misses a specification" in names and solved.results["best"]["meets_specs"] is True
+
+
+# ---- random stage inputs: an answer or a plain 422, never a 500 or a NaN --------------------
+
+def _log_uniform(lo, hi):
+    return st.floats(math.log(lo), math.log(hi)).map(math.exp)
+
+
+def _blow_curves():
+    """Lab blow curves from 0 s with moisture not rising (a flat one is refused: also tried)."""
+    points = st.lists(st.tuples(_log_uniform(1, 1e4), st.floats(0.01, 0.9)), min_size=1, max_size=5)
+    return points.map(lambda pts: sorted({round(t, 6): m for t, m in pts}.items())).map(
+        lambda pts: [[t, m] for t, m in zip([0.0] + [t for t, _ in pts],
+                                            sorted([max(m for _, m in pts)] + [m for _, m in pts], reverse=True))])
+
+
+_random_cycles = st.fixed_dictionaries({"downtime": _log_uniform(60, 1e5)}, optional={
+    "squeeze": st.fixed_dictionaries(
+        {"pressure": _log_uniform(1e5, 3e6), "consolidation_coefficient": _log_uniform(1e-13, 1e-3),
+         "final_porosity": st.floats(0.05, 0.95)},
+        optional={"time": _log_uniform(1, 1e5), "creep_fraction": st.floats(0, 0.9),
+                  "creep_rate": _log_uniform(1e-6, 5)}),
+    "wash_model": st.one_of(st.fixed_dictionaries({"dispersion_number": _log_uniform(1e-3, 1e4)}),
+                            st.fixed_dictionaries({"efficiency": st.floats(0.001, 0.999)})),
+    "wash_target": st.fixed_dictionaries({"solute_removal": st.floats(0.001, 0.999)}),
+    "wash_ratio": st.floats(0, 20),
+    "blow": st.fixed_dictionaries({"curve": _blow_curves(), "lab_thickness": _log_uniform(1e-3, 0.1)},
+                                  optional={"time": _log_uniform(1, 1e4)}),
+    "specs": st.fixed_dictionaries({}, optional={"max_moisture": st.floats(0.01, 0.9),
+                                                 "min_solute_removal": st.floats(0.01, 0.999)}),
+    "stages": st.permutations(["wash", "squeeze", "blow"]),
+    "washing": st.sampled_from(["through", "simple"]),
+    "fill_time": _log_uniform(1, 1e4),
+})
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(cycle=_random_cycles)
+def test_random_stage_inputs_give_an_answer_or_a_plain_422(client, cycle):
+    r = client.post("/api/v1/cycle", json=dict(DEMO, cycle=cycle))
+    assert r.status_code in (200, 422), r.text
+    if r.status_code == 200:
+        best = r.json()["best"]
+        assert all(math.isfinite(v) for v in best.values() if isinstance(v, float))
+        assert best["moisture"] <= r.json()["derived"]["moisture"] * (1 + 1e-9)  # stages never wet the cake
