@@ -1,17 +1,14 @@
 """POST /api/v1/squeeze-fit (C_e, creep and the squeezed cake from a lab squeeze test) and its
 page twin POST /ui/squeeze-fit (the lab page's Squeeze test section: html, figures, results)."""
 
-import json
-from urllib.parse import quote
-
 from fastapi import APIRouter, Request
 
 from ..budget import within_budget
 from ..labcharts import squeeze_figures
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.squeezefit import SqueezeFitRequest, SqueezeFitResponse
-from ..solve import CAUTIONS
 from ..squeezelab import scenario_prefill, squeeze_request
+from .ui import lab_part
 
 router = APIRouter(tags=["squeeze-fit"], responses=ERROR_RESPONSES)
 
@@ -29,8 +26,4 @@ async def post_squeeze_fit(request: Request, squeeze: SqueezeFitRequest) -> dict
 @router.post("/ui/squeeze-fit", include_in_schema=False)
 async def post_squeeze_fit_page(request: Request, squeeze: SqueezeFitRequest) -> dict:
     results = await within_budget(request, squeeze_request, squeeze)
-    figs = squeeze_figures(results)
-    link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(results)))
-    html = request.app.state.templates.get_template("_lab_squeeze.html").render(
-        {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
-    return {"html": html, "figures": figs, "results": results}
+    return lab_part(request, "_lab_squeeze.html", results, squeeze_figures(results), scenario_prefill(results))

@@ -56,21 +56,24 @@ def scenario_prefill(result: dict) -> dict:
     return out
 
 
+def lab_part(request: Request, template: str, results: dict, figs: dict, prefill: dict | None = None) -> dict:
+    """A lab page section's partial update: its results drawn by ``template`` with the cautions,
+    its figures, and a link to a new scenario filled with ``prefill`` (part of a cycle request)."""
+    context = {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs)}
+    if prefill is not None:
+        context["scenario_link"] = "/scenario/new?prefill=" + quote(json.dumps(prefill))
+    html = request.app.state.templates.get_template(template).render(context)
+    return {"html": html, "figures": figs, "results": results}
+
+
 @router.post("/lab-fit")
 async def post_lab_fit(request: Request, lab_request: LabFitRequest) -> dict:
     results = await within_budget(request, fit_request, lab_request)
-    figs = lab_figures(results)
-    link = "/scenario/new?prefill=" + quote(json.dumps(scenario_prefill(results)))
-    html = request.app.state.templates.get_template("_lab_results.html").render(
-        {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs), "scenario_link": link})
-    return {"html": html, "figures": figs, "results": results}
+    return lab_part(request, "_lab_results.html", results, lab_figures(results), scenario_prefill(results))
 
 
 
 @router.post("/compression-fit")
 async def post_compression_fit(request: Request, compression: CompressionFitRequest) -> dict:
     results = await within_budget(request, compression_request, compression)
-    figs = compression_figures(results)
-    html = request.app.state.templates.get_template("_lab_compression.html").render(
-        {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs)})
-    return {"html": html, "figures": figs, "results": results}
+    return lab_part(request, "_lab_compression.html", results, compression_figures(results))

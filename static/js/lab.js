@@ -79,27 +79,6 @@
     if (!status.textContent) status.textContent = "Please correct the marked fields.";
   }
 
-  async function fit() {
-    form.querySelectorAll(".error").forEach((e) => { e.hidden = true; e.textContent = ""; });
-    status.textContent = "Fitting…";
-    const response = await fetch("/ui/lab-fit", {
-      method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(collect()),
-    }).catch(() => null);
-    const earlier = "Not fitted: these results are for earlier readings.";
-    if (!response) { status.textContent = "The server did not answer."; staleness.mark(earlier); return; }
-    const data = await response.json().catch(() => ({}));
-    if (response.status === 422) {
-      status.textContent = ""; showErrors(data.detail || []);
-      staleness.mark("The readings on the left do not fit: these results are for earlier readings.");
-      return;
-    }
-    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; staleness.mark(earlier); return; }
-    results.innerHTML = data.html;
-    staleness.clear();
-    window.presscycleCharts.plot(results, data.figures || {});
-    status.textContent = "Done.";
-  }
-
   // the compression-permeability table: its own form and results pane
   const cForm = document.getElementById("compression");
   const cResults = document.getElementById("compression-results");
@@ -126,10 +105,10 @@
   }
   cForm.addEventListener("submit", (e) => { e.preventDefault(); fitCompression(); });
 
-  const staleness = window.presscycleStale(results);
-  const edited = () => staleness.mark("You changed the readings: press Fit to see their results. These are for the earlier readings.");
-  form.addEventListener("input", edited);
-  form.addEventListener("change", edited);
+  const { fit, staleness, edited } = window.presscycleFitPart({
+    url: "/ui/lab-fit", form, results, status, collect, showErrors, what: "readings",
+    edited: "You changed the readings: press Fit to see their results. These are for the earlier readings.",
+  });
   document.getElementById("add-test").addEventListener("click", addTest);
   form.addEventListener("submit", (e) => { e.preventDefault(); fit(); });
   addTest();

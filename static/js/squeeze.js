@@ -39,29 +39,12 @@
     if (!status.textContent) status.textContent = "Please correct the marked fields.";
   }
 
-  async function fit() {
-    form.querySelectorAll(".error").forEach((e) => { e.hidden = true; e.textContent = ""; });
-    status.textContent = "Fitting…";
-    const response = await fetch("/ui/squeeze-fit", {
-      method: "POST", headers: { "content-type": "application/json" }, body: JSON.stringify(collect()),
-    }).catch(() => null);
-    const earlier = "Not fitted: these results are for earlier readings.";
-    if (!response) { status.textContent = "The server did not answer."; staleness.mark(earlier); return; }
-    const data = await response.json().catch(() => ({}));
-    if (response.status === 422) {
-      status.textContent = ""; showErrors(data.detail || []);
-      staleness.mark("The inputs on the left do not fit: these results are for earlier readings.");
-      return;
-    }
-    if (!response.ok) { status.textContent = data.detail || `The server answered ${response.status}.`; staleness.mark(earlier); return; }
-    results.innerHTML = data.html;
-    staleness.clear();
-    window.presscycleCharts.plot(results, data.figures || {});
-    status.textContent = "Done.";
-  }
-
-  const staleness = window.presscycleStale(results);
-  const edited = () => staleness.mark("You changed the test: press Fit the squeeze to see its results. These are for the earlier test.");
+  const part = window.presscycleFitPart({
+    url: "/ui/squeeze-fit", form, results, status, collect, showErrors, what: "readings",
+    edited: "You changed the test: press Fit the squeeze to see its results. These are for the earlier test.",
+  });
+  const fit = part.fit;
+  const edited = part.edited;
   document.getElementById("squeeze-file").addEventListener("change", (e) => {
     const file = e.target.files[0];
     if (!file) return;
@@ -70,8 +53,6 @@
     reader.onerror = () => { status.textContent = `The file ${file.name} could not be read.`; };
     reader.readAsText(file);
   });
-  form.addEventListener("input", edited);
-  form.addEventListener("change", edited);
   form.addEventListener("submit", (e) => { e.preventDefault(); fit(); });
   document.getElementById("fit-squeeze").disabled = false;
   window.presscycleSqueeze = { collect, fit };

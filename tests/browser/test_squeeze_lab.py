@@ -55,3 +55,28 @@ def test_a_squeeze_error_is_shown_at_its_field(page):
     err = form.locator(".field[data-path='dry_solids_mass'] .error")
     err.wait_for(state="visible")
     assert "above 0" in err.inner_text()
+
+
+def test_an_edit_while_fitting_leaves_the_squeeze_answer_marked_out_of_date(page):
+    # every answer is held back 1.5 s, so the test can change while the fit is on its way:
+    # the answer is then shown for the readings as sent, marked out of date (lab.js shares this)
+    page.add_init_script("""{
+      const real = window.fetch;
+      window.fetch = (...args) => new Promise((ok) => setTimeout(() => ok(real(...args)), 1500));
+    }""")
+    page.goto(page.base + "/lab")
+    form = page.locator("#squeeze")
+    form.locator('[data-name="pressure"]').fill("6")
+    form.locator('[data-unit="pressure"]').select_option("bar")
+    form.locator('[data-name="dry_solids_mass"]').fill("58")
+    form.locator('[data-name="solids_density"]').fill("2650")
+    form.locator('[data-name="area"]').fill("50")
+    form.locator('[data-unit="area"]').select_option("cm^2")
+    form.locator('[data-name="csv"]').fill((DATA / "squeeze_demo.csv").read_text())
+    page.click("#fit-squeeze")
+    form.locator('[data-name="solids_density"]').fill("2700")  # while the fit is on its way
+    page.wait_for_selector("[data-testid=squeeze-results]", timeout=20000)
+    page.wait_for_function("document.getElementById('squeeze-status').textContent.startsWith('Done')")
+    assert page.inner_text("#squeeze-status") == "Done, for the earlier inputs."
+    assert "stale" in page.get_attribute("#squeeze-results", "class")
+    clean(page)
