@@ -6,8 +6,10 @@ from ..budget import within_budget
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.cycle import CycleRequest, CycleResponse
 from ..solve import solve
+from .jsonbody import JSONBodyRoute
 
-router = APIRouter(prefix="/api/v1", tags=["cycle"], responses=ERROR_RESPONSES)
+# the body is validated in one step and the answer sent as serialised by the solve (issue 12)
+router = APIRouter(prefix="/api/v1", tags=["cycle"], responses=ERROR_RESPONSES, route_class=JSONBodyRoute)
 
 
 def solves_quickly(inputs: CycleRequest) -> bool:
@@ -45,7 +47,7 @@ def pump_on_its_table(inputs: CycleRequest) -> bool:
 
 
 @router.post("/cycle", response_model=CycleResponse)
-async def post_cycle(request: Request, inputs: CycleRequest) -> dict:
+async def post_cycle(request: Request, inputs: CycleRequest) -> Response:
     """Best feasible cycle, unconstrained optimum, chambers-full cycle and thickness comparison.
 
     Quantities may be SI numbers or strings with units; results are SI (see ``units``).

@@ -1,0 +1,70 @@
+"""A route whose JSON body is parsed and validated in one short step (issue 12).
+
+FastAPI's generic handler reads a route's body through its dependency machinery: the content
+type parsed with the e-mail package, the endpoint's context worked out, the body decoded,
+then validated field by field against the route's parameters. On the cycle endpoint that
+machinery cost about as much as the whole constant-pressure solve. :class:`JSONBodyRoute`
+keeps everything FastAPI derives from the endpoint's signature (the OpenAPI schema of the
+body and the answer, the route's name and tags) and replaces only the handler:
+
+- the body, already read in full by the edge guard (server/guards.py, which also answered a
+  415 to any media type but JSON), is decoded with ``json.loads`` as FastAPI does, then
+  validated by the body model (``model_validate``, python mode: the same rules as before);
+- a body that is not JSON, missing, or fails the model raises the same
+  ``RequestValidationError`` FastAPI raises (paths under "body"), so the app's one error
+  handler (server/errors.py) words it as every other 422;
+- the endpoint is awaited on the event loop with ``(request, body_model)`` and returns the
+  Response it builds (a cycle answer is serialised once, by the solve).
+
+Use it for an endpoint ``async def f(request: Request, inputs: Model) -> Response`` only: it
+refuses any other signature at start-up rather than mis-handle it.
+"""
+
+import json
+
+from fastapi import Request
+from fastapi.exceptions import RequestValidationError
+from fastapi.routing import APIRoute
+from pydantic import BaseModel, ValidationError
+
+
+class JSONBodyRoute(APIRoute):
+    """An APIRoute for ``async def f(request, inputs: Model)`` that validates the JSON body directly."""
+
+    def get_route_handler(self):
+        dependant = self.dependant
+        if (len(dependant.body_params) != 1 or dependant.query_params or dependant.path_params
+                or dependant.header_params or dependant.cookie_params or dependant.dependencies):
+            raise TypeError(f"JSONBodyRoute serves f(request, inputs: Model) only; {self.path} has other parameters")
+        field = dependant.body_params[0]
+        model = field.field_info.annotation
+        if not (isinstance(model, type) and issubclass(model, BaseModel)):
+            raise TypeError(f"JSONBodyRoute: the body of {self.path} must be one pydantic model")
+        endpoint, name = self.endpoint, field.name
+        request_name = dependant.request_param_name
+
+        async def handler(request: Request):
+            inputs = parse_body(model, await request.body())
+            kwargs = {name: inputs}
+            if request_name:
+                kwargs[request_name] = request
+            return await endpoint(**kwargs)
+
+        return handler
+
+
+def parse_body(model: type[BaseModel], body: bytes) -> BaseModel:
+    """The request body as ``model``, or the RequestValidationError FastAPI would raise."""
+    if not body:
+        raise RequestValidationError([{"type": "missing", "loc": ("body",), "msg": "Field required", "input": None}])
+    try:
+        data = json.loads(body)
+    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+        position = exc.pos if isinstance(exc, json.JSONDecodeError) else exc.start
+        raise RequestValidationError(
+            [{"type": "json_invalid", "loc": ("body", position), "msg": "JSON decode error", "input": {},
+              "ctx": {"error": getattr(exc, "msg", str(exc))}}], body=body) from None
+    try:
+        return model.model_validate(data)
+    except ValidationError as exc:
+        raise RequestValidationError([{**e, "loc": ("body", *e["loc"])} for e in exc.errors()], body=data) from None
