@@ -275,7 +275,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     with solver_errors():
         family = solver.cycle_family_for(system, inputs.compare_thicknesses)
         sol = solver.solve_cycle(system, end, family)
-        rows = solver.compare_thicknesses(system, inputs.compare_thicknesses, end, family)
+        rows = solver.thickness_rows(system, inputs.compare_thicknesses, family)
         series = solver.chart_series(family, system, sol) if with_chart_series else None
     derived = dict(built.derived)
     derived.update(
@@ -303,8 +303,8 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "at_end": at_end,
         "curves": curves,
         "thickness_comparison": [
-            {"chamber_thickness": L, "best": _cycle_dict(t.best), "chambers_full": _cycle_dict(t.chambers_full)}
-            for L, t in rows
+            {"chamber_thickness": L, "best": _cycle_dict(best), "chambers_full": _cycle_dict(full)}
+            for L, best, full in rows
         ],
         "stage_order": ["fill", "filtration", *sol.stage_order, "downtime"],
         "specs": sol.specs,

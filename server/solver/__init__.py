@@ -19,6 +19,7 @@ from .cycle import (
     cycle_family_for,
     numeric_optimum_volume,
     solve_cycle,
+    thickness_rows,
 )
 from .errors import SolverInputError
 from .feeds import ConstantPressure, ConstantRate, Filtration, PressureSteps, PumpCurve
@@ -45,6 +46,7 @@ __all__ = [
     "chart_series",
     "compare_thicknesses",
     "cycle_family_for",
+    "thickness_rows",
     "filter_area_from_plates",
     "numeric_optimum_volume",
     "planning",

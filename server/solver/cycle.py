@@ -950,3 +950,36 @@ def compare_thicknesses(
                 ("wash",) if family.wash_per_filtrate else ()),
         )))
     return out
+
+
+def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None = None
+                   ) -> list[tuple[float, CycleResult, CycleResult]]:
+    """(chamber thickness [m], best cycle, chambers-full cycle) at each thickness: what a
+    thickness comparison shows. The same cycles as :func:`compare_thicknesses` gives (tested in
+    tests/solver/test_cycle.py), without each thickness's end criterion and warnings.
+
+    On a closed-form curve with no stages and a fixed filling time, the optimum's cycle is the
+    same at every thickness but for how full its chambers are: it is worked out once and its
+    fill set per thickness (issue 12: a comparison of six thicknesses in a few microseconds).
+    """
+    thicknesses = [float(L) for L in thicknesses]
+    if not thicknesses:
+        return []
+    family = family or cycle_family_for(system, thicknesses)
+    if family.scan is not None or family.treatment is not None or system.cycle.fill_flow is not None:
+        return [(L, s.best, s.chambers_full) for L, s in compare_thicknesses(system, thicknesses, None, family)]
+    press, v = system.press, system.filtration.cake_volume_ratio
+    V_star = float(family.V_star)
+    optimum = family.result(press, V_star, LIMITED_BY_OPTIMUM).__dict__
+    rows = []
+    for L in thicknesses:
+        at_L = press.with_thickness(L)
+        full = family.result(at_L, at_L.chambers_full_volume(v), LIMITED_BY_CHAMBERS)
+        if float(family.best_volume(full.filtrate_volume)) == V_star:  # as solve_cycle chooses
+            fill = float(at_L.chamber_fill(V_star, v))
+            best = cycle_result({**optimum, "chamber_fill": fill,
+                                 "feasible": fill <= at_L.fill_fraction * (1.0 + 1e-12)}.values())
+        else:
+            best = full
+        rows.append((L, best, full))
+    return rows

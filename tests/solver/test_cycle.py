@@ -274,6 +274,39 @@ def test_the_comparison_at_once_equals_one_solve_per_thickness(feed_kind, end):
         _same_solution(sol, alone)
 
 
+
+@pytest.mark.parametrize("feed_kind", ["constant_pressure", "incompressible", "pump", "steps", "filling"])
+def test_the_rows_a_comparison_shows_are_its_best_and_chambers_full_cycles(feed_kind):
+    # thickness_rows (what the API's thickness_comparison shows) shares the closed-form
+    # optimum's cycle between thicknesses (issue 12): each row must be exactly the best and
+    # chambers-full cycles of compare_thicknesses, field for field
+    from dataclasses import replace
+
+    from server.solver import PressureSteps, PumpCurve, cycle_family_for, thickness_rows
+
+    base = make_system(wash_ratio=0.5, s=0.0 if feed_kind == "incompressible" else 0.3)
+    feed, cycle = base.feed, base.cycle
+    if feed_kind == "pump":
+        q = np.array([0.0, 20.0, 40.0, 60.0]) / 3600
+        feed = PumpCurve(tuple(zip(q, np.array([8.0, 7.0, 5.0, 2.0]) * 1e5)))
+    elif feed_kind == "steps":
+        feed = PressureSteps(((1e5, 600.0), (3e5, 900.0), (7e5, 1e6)))
+    elif feed_kind == "filling":
+        cycle = replace(cycle, fill_time=300.0)
+    system = PressSystem(base.filtration, base.press, feed, cycle)
+    L_match = solve_cycle(system).matched_chamber_thickness
+    # thicknesses below, at and above the optimum's match: the best is the optimum or full chambers
+    Ls = [0.25 * L_match, 0.7 * L_match, L_match, 1.6 * L_match, 0.012, 0.05]
+    family = cycle_family_for(system, Ls)
+    rows = thickness_rows(system, Ls, family)
+    full = compare_thicknesses(system, Ls, family=family)
+    assert [r[0] for r in rows] == [L for L, _ in full] == Ls
+    kinds = set()
+    for (_, best, chambers_full), (_, sol) in zip(rows, full, strict=True):
+        assert best == sol.best and chambers_full == sol.chambers_full  # every field, exactly
+        kinds.add(best.limited_by)
+    assert kinds == {"optimum", "chambers_full"}  # both branches were taken
+
 def test_a_cycle_result_built_from_its_values_is_the_dataclass_built_by_its_constructor():
     # cycle_result skips the frozen dataclass's __init__ (issue 12): the same object, fields in order
     from dataclasses import fields
