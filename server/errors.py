@@ -90,7 +90,7 @@ _WORDED = {
     "model_attributes_type": lambda c: "must be an object",
     "list_type": lambda c: "must be a list",
     "tuple_type": lambda c: "must be a list",
-    "json_invalid": lambda c: "the body is not valid JSON",
+    "json_invalid": lambda c: "the body is not valid JSON" + (f" ({c['error']})" if c.get("error") else ""),
 }
 
 

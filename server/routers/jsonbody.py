@@ -60,10 +60,12 @@ def parse_body(model: type[BaseModel], body: bytes) -> BaseModel:
     try:
         data = json.loads(body)
     except (json.JSONDecodeError, UnicodeDecodeError) as exc:
-        position = exc.pos if isinstance(exc, json.JSONDecodeError) else exc.start
+        # where, in words (FastAPI put the character's index in the path, shown as a field "11")
+        where = (f"{exc.msg.lower()} at line {exc.lineno}, column {exc.colno}" if isinstance(exc, json.JSONDecodeError)
+                 else f"byte {exc.start + 1} is not UTF-8 text")
         raise RequestValidationError(
-            [{"type": "json_invalid", "loc": ("body", position), "msg": "JSON decode error", "input": {},
-              "ctx": {"error": getattr(exc, "msg", str(exc))}}], body=body) from None
+            [{"type": "json_invalid", "loc": ("body",), "msg": "JSON decode error", "input": {},
+              "ctx": {"error": where}}], body=body) from None
     try:
         return model.model_validate(data)
     except ValidationError as exc:

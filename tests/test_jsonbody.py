@@ -1,0 +1,90 @@
+"""The cycle endpoint's own body handling (server/routers/jsonbody.py, issue 12): the same
+OpenAPI contract and the same 422s as FastAPI's generic handler gave, in one short step."""
+
+import json
+from pathlib import Path
+
+import pytest
+from fastapi import APIRouter, FastAPI, Request
+from fastapi.responses import JSONResponse
+from fastapi.testclient import TestClient
+
+from server.routers.jsonbody import JSONBodyRoute
+from server.schemas.cycle import CycleRequest
+
+DEMO = json.loads((Path(__file__).resolve().parents[1] / "demo_cases" / "gypsum_chamber_limited.json").read_text())
+
+
+def test_the_schema_still_describes_the_body_and_the_answer(client):
+    spec = client.get("/openapi.json").json()
+    post = spec["paths"]["/api/v1/cycle"]["post"]
+    body = post["requestBody"]
+    assert body["required"] is True
+    ref = body["content"]["application/json"]["schema"]["$ref"]
+    name = ref.rsplit("/", 1)[1]
+    assert name.startswith("CycleRequest")
+    assert {"slurry", "cake", "press", "feed", "cycle"} <= set(spec["components"]["schemas"][name]["properties"])
+    answer = post["responses"]["200"]["content"]["application/json"]["schema"]["$ref"]
+    assert answer.rsplit("/", 1)[1].startswith("CycleResponse")
+    assert "422" in post["responses"]
+
+
+@pytest.mark.parametrize("body, field, words", [
+    (b'{"slurry": ', "body", "the body is not valid JSON (expecting value at line 1, column 12)"),
+    (b'{"slurry": 1,\n "cake": }', "body", "the body is not valid JSON (expecting value at line 2, column 10)"),
+    (b'{"name": "\xc3("}', "body", "the body is not valid JSON (byte 11 is not UTF-8 text)"),
+    (b"", "body", "required"),
+    (b"[1, 2]", "body", "must be an object"),
+    (b'"text"', "body", "must be an object"),
+])
+def test_a_body_that_is_not_a_scenario_is_a_plain_422(client, body, field, words):
+    r = client.post("/api/v1/cycle", content=body, headers={"content-type": "application/json"})
+    assert r.status_code == 422, r.text
+    detail = r.json()["detail"]
+    assert detail[0]["field"] == field and detail[0]["msg"] == words, detail
+
+
+def test_field_errors_keep_their_paths_under_the_body(client):
+    inputs = json.loads(json.dumps(DEMO["inputs"]))
+    inputs["press"]["chambers"] = 0
+    del inputs["slurry"]
+    inputs["surplus"] = 1
+    r = client.post("/api/v1/cycle", json=inputs)
+    assert r.status_code == 422
+    by_field = {d["field"]: d for d in r.json()["detail"]}
+    assert by_field["slurry"]["msg"] == "required"
+    assert by_field["surplus"]["msg"] == "unknown field (check the spelling)"
+    assert "press.chambers" in by_field and by_field["press.chambers"]["loc"][0] == "body"
+
+
+def test_the_answer_is_the_solve_and_the_raw_request_is_kept_for_the_units_typed(client):
+    inputs = json.loads(json.dumps(DEMO["inputs"]))
+    inputs["feed"]["pressure"] = "90 bar"  # above the usual range: flagged in the unit typed
+    r = client.post("/api/v1/cycle", json=inputs)
+    assert r.status_code == 200
+    flags = r.json()["input_warnings"]
+    assert any(w["field"] == "feed.pressure" and "bar" in w["message"] for w in flags), flags
+
+
+def test_only_a_request_and_one_model_are_served():
+    router = APIRouter(route_class=JSONBodyRoute)
+
+    async def two_params(request: Request, inputs: CycleRequest, page: int = 1):
+        return None
+
+    with pytest.raises(TypeError, match="other parameters"):
+        router.add_api_route("/x", two_params, methods=["POST"])
+
+    async def plain(request: Request, inputs: dict):
+        return None
+
+    with pytest.raises(TypeError, match="one pydantic model"):
+        router.add_api_route("/y", plain, methods=["POST"])
+
+    async def fine(request: Request, inputs: CycleRequest):  # returns the Response it builds
+        return JSONResponse({"chambers": inputs.press.chambers})
+
+    router.add_api_route("/z", fine, methods=["POST"])
+    app = FastAPI()
+    app.include_router(router)
+    assert TestClient(app).post("/z", json=DEMO["inputs"]).json() == {"chambers": DEMO["inputs"]["press"]["chambers"]}
