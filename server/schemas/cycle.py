@@ -505,8 +505,8 @@ class CycleIn(Strict):
         """The stages after filtration in their order: as listed, else as given in the request."""
         if self.stages is not None:
             return tuple(self.stages)
-        rest = tuple(s for s in solver_stages.STAGES if s not in self._given_order)
-        return self._given_order + rest
+        given = self._given_order  # a private attribute: each look-up goes through pydantic's __getattr__
+        return given + tuple(s for s in solver_stages.STAGES if s not in given)
 
     def to_solver(self, downtime: float | None = None, porosity: float = 0.5, wet_to_dry_ratio: float = 2.0,
                   fill_flow: float | None = None) -> solver_cycle.CycleSettings:
