@@ -8,6 +8,7 @@ only module that knows both the request's field paths and the solver's (:data:`A
 import math
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
+from functools import cached_property
 
 import numpy as np
 import orjson
@@ -254,13 +255,38 @@ def _cycle_dict(r: solver.CycleResult) -> dict:
 
 @dataclass(frozen=True)
 class SolvedScenario:
-    """A scenario's results (the /api/v1/cycle answer, plain SI data) and, when asked for,
-    the SI data of every chart (solver/sweeps.py)."""
+    """A scenario's answer, serialised once (what /api/v1/cycle sends), and, when asked for,
+    the SI data of every chart (solver/sweeps.py).
 
-    results: dict
+    ``answer`` holds the solver's own objects (cycles as :class:`~.solver.CycleResult`, the
+    curves as arrays), which the JSON encoder writes as they are; ``results`` is the same answer
+    as plain data (dicts, lists and floats), made on first use: a page, a saved scenario or a
+    plan needs it, the API's answer does not (issue 12).
+    """
+
+    answer: dict
     chart_series: dict | None
     #: the results as JSON, serialised once (what /api/v1/cycle sends)
     results_json: bytes = b""
+
+    @cached_property
+    def results(self) -> dict:
+        """The /api/v1/cycle answer as plain data (SI): what ``results_json`` holds, as Python."""
+        return _plain(self.answer)
+
+
+def _plain(value):
+    """The answer as plain data: cycles as dicts (in field order), arrays as lists."""
+    kind = type(value)
+    if kind is dict:
+        return {k: _plain(v) for k, v in value.items()}
+    if kind is list:
+        return [_plain(v) for v in value]
+    if kind is solver.CycleResult:
+        return dict(value.__dict__)
+    if kind is np.ndarray:
+        return value.tolist()
+    return value
 
 
 def solve_results(inputs: CycleRequest) -> dict:
@@ -284,28 +310,25 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         matched_chamber_thickness=sol.matched_chamber_thickness,
         throughput_gain_unconstrained=sol.throughput_gain_unconstrained,
     )
-    # the curves are checked finite as arrays, before they become lists
-    arrays = {k: np.asarray(v, dtype=float) for k, v in sol.curves.items()}
-    bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in arrays.items()
+    # the curves are checked finite as arrays (and sent as arrays)
+    curves = {k: np.asarray(v, dtype=float) for k, v in sol.curves.items()}
+    bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in curves.items()
                 if not np.isfinite(v).all()), None)
-    curves = {k: v.tolist() for k, v in arrays.items()}
     si_inputs = inputs.model_dump()
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
-    results = {
+    answer = {
         "input_warnings": input_warnings(si_inputs, inputs._raw) + derived_warnings(built.derived, si_inputs),
         "derived": derived,
         "uncertainty": uncertainty(inputs, built, sol),
         "target": target_check(inputs, sol),
-        "best": _cycle_dict(sol.best),
-        "unconstrained_optimum": _cycle_dict(sol.unconstrained_optimum),
-        "chambers_full": _cycle_dict(sol.chambers_full),
+        "best": sol.best,
+        "unconstrained_optimum": sol.unconstrained_optimum,
+        "chambers_full": sol.chambers_full,
         "at_end": at_end,
         "curves": curves,
-        "thickness_comparison": [
-            {"chamber_thickness": L, "best": _cycle_dict(best), "chambers_full": _cycle_dict(full)}
-            for L, best, full in rows
-        ],
+        "thickness_comparison": [{"chamber_thickness": L, "best": best, "chambers_full": full}
+                                 for L, best, full in rows],
         "stage_order": ["fill", "filtration", *sol.stage_order, "downtime"],
         "specs": sol.specs,
         "warnings": list(sol.warnings) + tested_range_warning(inputs, system.feed),
@@ -313,8 +336,8 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    if bad is None and _any_non_finite({k: v for k, v in results.items() if k not in _TEXT_PARTS}):
-        bad = first_non_finite(results)
+    if bad is None and _any_non_finite({k: v for k, v in answer.items() if k not in _TEXT_PARTS}):
+        bad = first_non_finite(_plain(answer))
     if bad is None and series is not None:
         bad = next((f"chart_series.{name}" for name, values in _series_arrays(series)
                     if not np.isfinite(values).all()), None)
@@ -322,7 +345,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         raise InputError(
             [(("body",), f"these inputs give a result out of numeric range ({bad}); check the magnitudes")]
         )
-    return SolvedScenario(results, series, orjson.dumps(results, option=orjson.OPT_SERIALIZE_NUMPY))
+    return SolvedScenario(answer, series, orjson.dumps(answer, option=orjson.OPT_SERIALIZE_NUMPY))
 
 
 def _series_arrays(series: dict, prefix: str = ""):
@@ -454,20 +477,22 @@ _TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings", "sta
 
 
 def _any_non_finite(data) -> bool:
-    """Whether plain data (a dict or a list) holds a NaN or an infinity anywhere: x * 0 is 0
-    for a finite x and NaN otherwise, so one sum answers for every number (no per-path
-    bookkeeping; first_non_finite finds the path when the answer is yes, and a sum that only
-    overflowed finds none). Each container's items are looked at in one loop, only the
-    containers among them kept for later: the answer is mostly flat dicts of numbers."""
+    """Whether plain data (a dict or a list; cycles as CycleResult) holds a NaN or an infinity
+    anywhere: x * 0 is 0 for a finite x and NaN otherwise, so one sum answers for every number
+    (no per-path bookkeeping; first_non_finite finds the path when the answer is yes, and a
+    sum that only overflowed finds none). Each container's items are looked at in one loop,
+    only the containers among them kept for later: the answer is mostly flat dicts of numbers."""
     stack, acc = [data], 0.0
     pop, push = stack.pop, stack.append
+    cycle = solver.CycleResult
     while stack:
         item = pop()
-        for value in (item.values() if type(item) is dict else item):
+        kind = type(item)
+        for value in (item.values() if kind is dict else item.__dict__.values() if kind is cycle else item):
             kind = type(value)
             if kind is float:
                 acc += value * 0.0
-            elif kind is dict or kind is list or kind is tuple:
+            elif kind is dict or kind is list or kind is tuple or kind is cycle:
                 push(value)
             elif isinstance(value, float):  # numpy's float64, as a plain float (no warning)
                 acc += float(value) * 0.0

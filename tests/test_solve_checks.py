@@ -100,3 +100,15 @@ def _get(data, path):
     for key in path:
         data = data[key]
     return data
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=lambda p: p.stem)
+def test_the_json_sent_is_the_plain_results(demo):
+    # the API sends the answer as the solver made it (cycles as dataclasses, curves as arrays,
+    # serialised once); pages and saved scenarios use the same answer as plain data (issue 12)
+    solved = solve(CycleRequest.model_validate(json.loads(demo.read_text())["inputs"]))
+    plain = solved.results
+    assert json.loads(solved.results_json) == json.loads(json.dumps(plain, allow_nan=False))
+    assert type(plain["best"]) is dict and type(plain["curves"]["time"]) is list
+    assert list(plain["best"]) == list(json.loads(solved.results_json)["best"])  # fields in the same order
+    assert solved.results is plain  # made once
