@@ -12,7 +12,9 @@ References: McCabe, Smith & Harriott, Unit Operations of Chemical Engineering, c
 Vol. 2, 5th ed., section 7.3 and Example 7.2.
 """
 
+import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 from scipy.optimize import minimize_scalar
@@ -566,17 +568,25 @@ class CycleFamily:
 
     def curves(self, press: Press, V_full: float, n: int = 241) -> dict:
         """Equal-length arrays from the start of filtration to the chambers-full point (SI)."""
-        V = np.linspace(0.0, V_full, n)
         with np.errstate(divide="ignore"):
-            if not np.isfinite(self.curve.rate(0.0)):  # no cloth: the first instant's flow is unbounded
-                V = np.linspace(0.0, V_full, n + 1)[1:]
+            unbounded = not math.isfinite(self.curve.rate(0.0))  # no cloth: the first instant's flow
+        V = V_full * (_unit_steps(n + 1)[1:] if unbounded else _unit_steps(n))
+        pressure = self.curve.pressure_at(V)
         return {
             "time": self.curve.time(V),
             "filtrate_volume": V,
-            "pressure": np.asarray(self.curve.pressure_at(V), dtype=float) * np.ones_like(V),
+            "pressure": pressure if np.shape(pressure) == V.shape else np.full_like(V, pressure),
             "flow": self.curve.rate(V),
             "cake_thickness": press.cake_thickness(V, self.filtration.cake_volume_ratio),
         }
+
+
+@lru_cache(maxsize=8)
+def _unit_steps(n: int) -> np.ndarray:
+    """n equal steps from 0 to 1 inclusive (np.linspace(0, 1, n), made once per n)."""
+    steps = np.linspace(0.0, 1.0, n)
+    steps.flags.writeable = False  # shared: scaled copies only
+    return steps
 
 
 #: The best local peaks of a throughput scan that are refined (a flat tail can hold many).
