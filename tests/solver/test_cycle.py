@@ -328,3 +328,17 @@ def test_a_cycle_result_built_from_its_values_is_the_dataclass_built_by_its_cons
     assert cycle_result(values) == CycleResult(*values)
     with pytest.raises(ValueError):
         cycle_result(values[:-1])
+
+
+def test_a_press_at_another_thickness_is_the_press_built_with_it():
+    # Press.with_thickness copies the fields (issue 12): the same object as the constructor's,
+    # the original untouched, and a thickness the constructor refuses refused the same way
+    from server.solver import Press, SolverInputError
+
+    p = Press(50.0, 0.04, 0.9)
+    q = p.with_thickness(0.05)
+    assert q == Press(50.0, 0.05, 0.9) and hash(q) == hash(Press(50.0, 0.05, 0.9))
+    assert q.chamber_volume == Press(50.0, 0.05, 0.9).chamber_volume and p.chamber_thickness == 0.04
+    for bad in (0.0, -0.01, math.nan):
+        with pytest.raises(SolverInputError, match="chamber_thickness"):
+            p.with_thickness(bad)
