@@ -5,7 +5,8 @@ machine has two); the server's own CPU time (user + system, from /proc) is read 
 after each batch, which is steadier than requests per second on a shared machine. Prints a
 table; never asserts on time.
 
-    make bench        (or: .venv/bin/python bench/server_cpu.py)
+    make bench        (or: .venv/bin/python bench/server_cpu.py [word ...]: only the requests
+                       whose names hold one of the words, e.g. "cycle", "demo"; no memory run)
 """
 
 import json
@@ -93,32 +94,35 @@ def main() -> None:
                 healthz()
             floor = batch(healthz, 3000) / 3000
             rows = [("GET /healthz", (floor, 1.0), None)]
+            todo = []  # (name, request, how many, target kind)
             for name, inputs in demos.items():
                 kind = "pump" if inputs["feed"]["mode"] != "constant_pressure" else "cycle"
                 stages = any(k in inputs["cycle"] for k in ("squeeze", "blow", "wash_model", "wash_target", "specs"))
                 if stages:  # free stage durations searched (issue 15): issue 12's targets do not apply
                     kind = None
-                rows.append((f"POST /api/v1/cycle, {name}" + (" (stages searched)" if stages else ""),
-                             per_request(lambda i=inputs: http.post("/api/v1/cycle", json=i), 30 if stages else 900),
-                             kind))
+                todo.append((f"POST /api/v1/cycle, {name}" + (" (stages searched)" if stages else ""),
+                             lambda i=inputs: http.post("/api/v1/cycle", json=i), 30 if stages else 900, kind))
             pump = dict(demos["kaolin_pump_fed"], compare_thicknesses=["20 mm", "25 mm", "32 mm", "40 mm", "50 mm",
                                                                      "60 mm"])
-            rows.append(("POST /api/v1/cycle, pump-fed + 6 thicknesses",
-                         per_request(lambda: http.post("/api/v1/cycle", json=pump), 600), "pump"))
+            todo.append(("POST /api/v1/cycle, pump-fed + 6 thicknesses",
+                         lambda: http.post("/api/v1/cycle", json=pump), 600, "pump"))
             for name in demos:
-                rows.append((f"GET /demo/{name}", per_request(lambda n=name: http.get(f"/demo/{n}"), 300), "page"))
-            rows.append(("GET /s/<id> (saved page)", per_request(lambda: http.get(f"/s/{ids[0]}"), 200), "page"))
-            rows.append(("GET /compare (two saved)", per_request(lambda: http.get(
-                f"/compare?ids={ids[0]},{ids[1]}"), 200), "page"))
-            rows.append(("POST /ui/results (Calculate), pump-fed", per_request(lambda: http.post(
-                "/ui/results", json=demos["kaolin_pump_fed"]), 100), None))
+                todo.append((f"GET /demo/{name}", lambda n=name: http.get(f"/demo/{n}"), 300, "page"))
+            todo.append(("GET /s/<id> (saved page)", lambda: http.get(f"/s/{ids[0]}"), 200, "page"))
+            todo.append(("GET /compare (two saved)", lambda: http.get(f"/compare?ids={ids[0]},{ids[1]}"), 200, "page"))
+            todo.append(("POST /ui/results (Calculate), pump-fed",
+                         lambda: http.post("/ui/results", json=demos["kaolin_pump_fed"]), 100, None))
+            only = sys.argv[1:]  # words: only the requests whose names hold one of them
+            for name, fn, n, kind in todo:
+                if not only or any(word in name for word in only):
+                    rows.append((name, per_request(fn, n), kind))
 
             # memory: resident size over 10,000 mixed requests after the warm-up above
             mixed = [lambda: http.get("/healthz"), lambda: http.post("/api/v1/cycle", json=demos["copper_concentrate"]),
                      lambda: http.get("/demo/hydroxide_sludge"), lambda: http.get(f"/s/{ids[1]}"),
                      lambda: http.post("/api/v1/cycle", json=pump), lambda: http.get("/scenarios")]
             rss = [resident_kb(server.pid)]
-            for k in range(10_000):
+            for k in range(0 if sys.argv[1:] else 10_000):
                 mixed[k % len(mixed)]()
                 if (k + 1) % 2_500 == 0:
                     rss.append(resident_kb(server.pid))
