@@ -263,7 +263,7 @@ class HeldPressureCurve(TabulatedCurve):
     @property
     def pressure(self) -> float:
         """The held pressure drop [Pa]."""
-        return self._Pl[0]
+        return self.P.item(0)
 
     @property
     def optimum_volume(self):
