@@ -254,14 +254,19 @@ class TabulatedCurve:
         # 1/Q as given when the caller has it (no round trip through Q)
         self.r = (np.asarray(reciprocal_rate, dtype=float) if reciprocal_rate is not None
                   else 1.0 / np.asarray(flow, dtype=float))
-        dV = np.diff(self.V)
-        slope = np.empty_like(self.r)
-        np.divide(np.diff(self.r), dV, out=slope[:-1])
+        V, r = self.V, self.r
+        dV = V[1:] - V[:-1]
+        slope = np.empty_like(r)
+        np.subtract(r[1:], r[:-1], out=slope[:-1])
+        slope[:-1] /= dV
         slope[-1] = slope[-2] if slope.size > 1 else 0.0
         self.slope = slope
-        t = np.empty_like(self.r)
+        area = r[:-1] + r[1:]  # the trapezoids of piecewise-linear 1/Q, exact
+        area *= dV
+        area *= 0.5
+        t = np.empty_like(r)
         t[0] = 0.0
-        np.cumsum(0.5 * (self.r[:-1] + self.r[1:]) * dV, out=t[1:])
+        np.cumsum(area, out=t[1:])
         self.t = t
         # scalar calls (the cycle search asks one volume at a time) look the segment up with
         # ndarray.searchsorted and read the nodes with .item(): plain lists of the table
