@@ -305,18 +305,27 @@ class HeldPressureCurve(TabulatedCurve):
             return super().peak_volumes(downtime, wash_coefficient)
         V, t, r, k = self.V, self.t, self.r, self.slope
         a, t_d = wash_coefficient, downtime
-        # g at each node with the slope of the segment that starts there
-        g = t - (r + a * k * V) * V
-        g += t_d
-        falling = np.flatnonzero(g[1:] <= 0.0)
-        j = int(falling[0]) if falling.size else V.size - 1  # the segment the peak ends
-        Vj, kj, gj = V.item(j), k.item(j), g.item(j)
+        # g - t_d at each node, with the slope of the segment that starts there: t - (r + a k V) V
+        if a == 0.0:
+            g = r * V
+        else:
+            g = k * V
+            g *= a
+            g += r
+            g *= V
+        np.subtract(t, g, out=g)
+        falling = g[1:] <= -t_d  # g <= 0 (fl(g + t_d) <= 0 exactly when g <= -t_d)
+        j = int(falling.argmax())  # the first such node is j + 1, where the peak's segment j ends
+        found = bool(falling[j])
+        if not found:
+            j = V.size - 1  # g > 0 on the whole table: on the continued last segment
+        Vj, kj, gj = V.item(j), k.item(j), g.item(j) + t_d
         if not (gj > 0.0 and kj > 0.0):  # not the regular shape (no downtime): every segment
             return super().peak_volumes(downtime, wash_coefficient)
         C1 = -kj * Vj * (1.0 + 2.0 * a)
         C2 = -kj * (0.5 + a)
         h = 2.0 * gj / (-C1 + np.sqrt(max(C1 * C1 - 4.0 * C2 * gj, 0.0)))
-        if falling.size:
+        if found:
             width = V.item(j + 1) - Vj
             if gj + (C1 + C2 * width) * width > 0.0:  # g still positive at the node: a kink
                 return np.array([V.item(j + 1)])
@@ -408,34 +417,57 @@ def held_pressure_nodes(filtration: Filtration, filter_area: float, pressure: fl
     lo, hi = (1, grid.size) if steps is None else (
         max(int(grid.searchsorted(CAKE_BASIS_NEWTON_BAND[0] * V0)), 1),
         int(grid.searchsorted(CAKE_BASIS_NEWTON_BAND[1] * V0)))
-    V, psi = np.empty_like(grid), np.empty_like(grid)
-    V[0], psi[0] = 0.0, 1.0  # no cake yet: the cloth takes the whole drop
+    # the nodes' V and E = x^p - 1 = -psi (kept negative: V = V_0 x/psi = -V_0 x/E, 1/Q = -B/E)
+    V, E = np.empty_like(grid), np.empty_like(grid)
+    V[0], E[0] = 0.0, -1.0  # no cake yet: the cloth takes the whole drop
     with np.errstate(under="ignore", over="ignore", divide="ignore", invalid="ignore"):
         if m > 1:  # x from x = V/V_0 = 1/k: there f = x^p, f' = p x^p/x + k, f'' = p (p - 1) x^p/x^2
             x = grid[1:m] / V0
             k = V0 / grid[1:m]
             if not safe:
-                xp = np.exp(p * np.log(x))
-                d1 = p * xp / x + k
-                # Halley: x -= (f/f') / (1 - f f''/(2 f'^2)); f f''/(2 f'^2) < 1/2, so 0 < x < 1 after it
-                x -= xp / (d1 - halley * xp * xp / (x * x * d1))
+                xp = np.log(x)
+                xp *= p
+                np.exp(xp, out=xp)  # f = x^p
+                a = xp / x
+                a *= p  # f' - k
+                d1 = a + k  # f'
+                # Halley: x -= f / (f' - f f''/(2 f')), f f''/(2 f') = (p - 1)/(2 p) a^2/f';
+                # f f''/(2 f'^2) < 1/2, so 0 < x < 1 after it
+                a *= a
+                a *= (p - 1.0) / (2.0 * p)
+                a /= d1
+                np.subtract(d1, a, out=a)
+                np.divide(xp, a, out=a)
+                x -= a
             if lo < m:
                 _newton_share(x[lo - 1:], k[lo - 1:], p, steps)  # in place, on the views
-            cloth = psi[1:m]
-            np.negative(np.expm1(p * np.log(x)), out=cloth)
-            np.divide(x, cloth, out=V[1:m])
+            e = E[1:m]
+            np.log(x, out=e)
+            e *= p
+            np.expm1(e, out=e)
+            np.divide(x, e, out=V[1:m])  # x/E = -x/psi
         if m < grid.size:  # u = 1 - x from u = 0 (x = 1), where f = k, f' = -(p + k), f'' = p (p - 1)
             k = V0 / grid[m:]
-            pk = p + k
-            # Halley's step (0 < u < 2 k/(p + k) < 1), or Newton's
-            u = k / pk if safe else k / (pk - halley * k / pk)
+            pk = k + p
+            if safe:  # Newton's step
+                u = k / pk
+            else:  # Halley's step, k / (pk - halley k / pk): 0 < u < 2 k/(p + k) < 1
+                u = k * halley
+                u /= pk
+                np.subtract(pk, u, out=u)
+                np.divide(k, u, out=u)
             if hi > m:
                 _newton_cloth_share(u[:hi - m], k[:hi - m], p, steps)
-            cloth = psi[m:]
-            np.negative(np.expm1(p * np.log1p(-u)), out=cloth)
-            np.divide(1.0 - u, cloth, out=V[m:])
-        V *= V0
-    r = B / psi
+            e = E[m:]
+            np.negative(u, out=e)
+            np.log1p(e, out=e)
+            e *= p
+            np.expm1(e, out=e)
+            np.subtract(1.0, u, out=u)  # x
+            np.divide(u, e, out=V[m:])
+        V *= -V0  # V_0 x/psi
+        V[0] = 0.0
+    r = -B / E  # B/psi
     if not (np.all(V[1:] > V[:-1]) and V[-1] >= V_max and np.isfinite(r[-1])):
         if not safe:
             return held_pressure_nodes(filtration, filter_area, pressure, V_max, n, safe=True)
