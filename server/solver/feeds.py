@@ -276,9 +276,9 @@ class HeldPressureCurve(TabulatedCurve):
 
     def pressure_at(self, V):
         """The held pressure drop at every volume [Pa]."""
-        if isinstance(V, float):
+        if isinstance(V, float) or np.ndim(V) == 0:
             return self.P.item(0)
-        return super().pressure_at(V)
+        return np.full(np.shape(V), self.P.item(0))
 
     @property
     def optimum_volume(self):

@@ -208,6 +208,8 @@ def test_scalar_and_array_calls_of_a_table_agree(s, alpha_ref, R_m, V_max):
         assert curve.time(v) == curve.time(np.array([v]))[0]
         assert curve.rate(v) == curve.rate(np.array([v]))[0]
         assert curve.pressure_at(v) == P
+    np.testing.assert_array_equal(curve.pressure_at(volumes), np.full(volumes.shape, P))
+    assert curve.pressure_at(np.float64(0.5)) == P and curve.pressure_at(np.array(0.5)) == P
     # a general table (pressure that changes along it)
     V = np.linspace(0.0, 1.0, 11)
     table = TabulatedCurve(V, 1e5 * (1.0 + V * V), 1.0 / (1.0 + V))
