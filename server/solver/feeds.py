@@ -391,13 +391,13 @@ def held_pressure_nodes(filtration: Filtration, filter_area: float, pressure: fl
     step of Halley's method from x = min(1, 1/k), where f, f' and f'' are known in closed form,
     then, near V_0 where that is not yet close (``CAKE_BASIS_NEWTON_BAND``), a few Newton steps
     (``CAKE_BASIS_NODE_STEPS``). f is convex, so a Newton step ends at or above the root from
-    anywhere; elsewhere Halley's step lands within 1e-10 of it (measured): each node lies at,
-    or a little beyond, its grid volume. The
-    node's V and 1/Q are then computed from that share exactly. Should a node come out of
-    order, unbounded or short of ``V_max`` (not seen; ``safe``), the nodes are made again by
-    Newton's method alone from that start, to 1e-4 of the share. At or below V_0 the share is
-    carried as x (psi = -expm1(p ln x)), beyond it as u = 1 - x (psi = -expm1(p log1p(-u))), so
-    neither share loses precision near 0 or 1. x rises along the grid, V with x: the nodes rise.
+    anywhere; elsewhere Halley's step lands above it or below by 1e-10 of it at most
+    (measured): each node lies at, or a little beyond, its grid volume. The node's V and 1/Q
+    are then computed from that share exactly. At or below V_0 the share is carried as x
+    (psi = -expm1(p ln x)), beyond it as u = 1 - x (psi = -expm1(p log1p(-u))), so neither
+    share loses precision near 0 or 1. V rises with x, and the nodes are checked to rise: should
+    one come out of order, unbounded or short of ``V_max`` (not seen), they are made again
+    (``safe``) by Newton's method alone from x = min(1, 1/k), to 1e-4 of the share.
 
     1/Q is convex in V along the curve: dr/dV = (B/V_0) p x^(p-1) / (1 + (p-1) x^p), which
     rises with x for p >= 1 (derived here).
