@@ -15,7 +15,6 @@ Solid/Liquid Separation: Principles of Industrial Filtration, chapters on pump-f
 filtration (the supply/cake-resistance construction; from memory).
 """
 
-from bisect import bisect_right
 from functools import lru_cache
 
 import numpy as np
@@ -249,24 +248,34 @@ class TabulatedCurve:
     continued (linear 1/Q: constant pressure if the supply is at its cap there).
     """
 
-    def __init__(self, V, pressure, flow):
+    def __init__(self, V, pressure, flow=None, *, reciprocal_rate=None):
         self.V = np.asarray(V, dtype=float)
         self.P = np.asarray(pressure, dtype=float)
-        self.r = 1.0 / np.asarray(flow, dtype=float)
-        dV = np.diff(self.V)
-        self.slope = np.diff(self.r) / dV
-        self.slope = np.append(self.slope, self.slope[-1])
-        self.t = np.concatenate(([0.0], np.cumsum(0.5 * (self.r[:-1] + self.r[1:]) * dV)))
-        # plain lists for scalar calls: the cycle search asks one volume at a time, and a
-        # bisect on a list is many times quicker than numpy's machinery on one number
-        self._Vl, self._tl, self._rl, self._kl, self._Pl = (
-            a.tolist() for a in (self.V, self.t, self.r, self.slope, self.P))
-        self._last = self.V.size - 1
+        # 1/Q as given when the caller has it (no round trip through Q)
+        self.r = (np.asarray(reciprocal_rate, dtype=float) if reciprocal_rate is not None
+                  else 1.0 / np.asarray(flow, dtype=float))
+        V, r = self.V, self.r
+        dV = V[1:] - V[:-1]
+        slope = np.empty_like(r)
+        np.subtract(r[1:], r[:-1], out=slope[:-1])
+        slope[:-1] /= dV
+        slope[-1] = slope[-2] if slope.size > 1 else 0.0
+        self.slope = slope
+        area = r[:-1] + r[1:]  # the trapezoids of piecewise-linear 1/Q, exact
+        area *= dV
+        area *= 0.5
+        t = np.empty_like(r)
+        t[0] = 0.0
+        np.cumsum(area, out=t[1:])
+        self.t = t
+        # scalar calls (the cycle search asks one volume at a time) look the segment up with
+        # ndarray.searchsorted and read the nodes with .item(): plain lists of the table
+        # (a bisect on them) cost more to build than the few dozen scalar calls they serve
         self._V_inner, self._t_inner = self.V[1:], self.t[1:]
 
     def _i(self, v: float) -> int:
-        i = bisect_right(self._Vl, v) - 1
-        return 0 if i < 0 else (self._last if i > self._last else i)
+        # the count of inner nodes at or below v: the segment's index (see _segment)
+        return int(self._V_inner.searchsorted(v, "right"))
 
     @property
     def V_max(self) -> float:
@@ -283,7 +292,7 @@ class TabulatedCurve:
         """Whether a cycle's throughput on this table surely has a peak: 1/Q still rising at
         the end (the table continues its last segment, so the throughput falls beyond some
         volume) and finite."""
-        return self._kl[-1] > 0.0 and np.isfinite(self._tl[-1]) and np.isfinite(self._rl[-1])
+        return self.slope.item(-1) > 0.0 and np.isfinite(self.t.item(-1)) and np.isfinite(self.r.item(-1))
 
     def peak_volumes(self, downtime: float, wash_coefficient: float) -> np.ndarray:
         r"""Every local peak of a cycle's throughput on this table [m^3], increasing, exactly.
@@ -360,8 +369,8 @@ class TabulatedCurve:
     def time(self, V):
         if isinstance(V, float):
             i = self._i(V)
-            h = V - self._Vl[i]
-            return self._tl[i] + self._rl[i] * h + 0.5 * self._kl[i] * h * h
+            h = V - self.V.item(i)
+            return self.t.item(i) + self.r.item(i) * h + 0.5 * self.slope.item(i) * h * h
         V = np.asarray(V, dtype=float)
         i = self._segment(V)
         h = V - self.V[i]
@@ -380,7 +389,7 @@ class TabulatedCurve:
     def rate(self, V):
         if isinstance(V, float):
             i = self._i(V)
-            return 1.0 / (self._rl[i] + self._kl[i] * (V - self._Vl[i]))
+            return 1.0 / (self.r.item(i) + self.slope.item(i) * (V - self.V.item(i)))
         V = np.asarray(V, dtype=float)
         i = self._segment(V)
         out = 1.0 / (self.r[i] + self.slope[i] * (V - self.V[i]))
@@ -388,13 +397,14 @@ class TabulatedCurve:
 
     def pressure_at(self, V):
         if isinstance(V, float):
-            Vl, Pl = self._Vl, self._Pl
-            if V <= Vl[0]:
-                return Pl[0]
-            if V >= Vl[-1]:
-                return Pl[-1]
-            i = bisect_right(Vl, V) - 1
-            return Pl[i] + (Pl[i + 1] - Pl[i]) * (V - Vl[i]) / (Vl[i + 1] - Vl[i])
+            Vn, Pn = self.V, self.P
+            if V <= Vn.item(0):
+                return Pn.item(0)
+            if V >= Vn.item(-1):
+                return Pn.item(-1)
+            i = self._i(V)
+            P0, V0 = Pn.item(i), Vn.item(i)
+            return P0 + (Pn.item(i + 1) - P0) * (V - V0) / (Vn.item(i + 1) - V0)
         out = np.interp(V, self.V, self.P)
         return out if np.ndim(out) else float(out)
 

@@ -255,15 +255,30 @@ class ConstantPressure:
 
 class HeldPressureCurve(TabulatedCurve):
     """Constant pressure on the cake pressure basis: 1/Q tabulated on a volume grid (no closed
-    form). The pressure is held from the start, so the throughput has one peak at most."""
+    form). The pressure is held from the start, so the throughput has one peak at most.
+
+    ``convex``: the table's 1/Q is known to be convex in V (its nodes lie exactly on a convex
+    1/Q, as :func:`held_pressure_curve` makes them for a power-law cake); the throughput's one
+    peak is then found without looking at every segment (:meth:`peak_volumes`).
+    """
 
     knots = np.empty(0)
     held_from = 0.0
 
+    def __init__(self, V, pressure, flow=None, *, reciprocal_rate=None, convex: bool = False):
+        super().__init__(V, pressure, flow, reciprocal_rate=reciprocal_rate)
+        self.convex = convex
+
     @property
     def pressure(self) -> float:
         """The held pressure drop [Pa]."""
-        return self._Pl[0]
+        return self.P.item(0)
+
+    def pressure_at(self, V):
+        """The held pressure drop at every volume [Pa]."""
+        if isinstance(V, float) or np.ndim(V) == 0:
+            return self.P.item(0)
+        return np.full(np.shape(V), self.P.item(0))
 
     @property
     def optimum_volume(self):
@@ -274,22 +289,217 @@ class HeldPressureCurve(TabulatedCurve):
             return self._optimum_volume
         return None
 
+    def peak_volumes(self, downtime: float, wash_coefficient: float) -> np.ndarray:
+        r"""Every local peak of a cycle's throughput on this table [m^3] (see
+        :meth:`TabulatedCurve.peak_volumes`).
+
+        On a convex table one peak at most, found from the nodes alone: with k non-decreasing
+        from segment to segment, g = T - V dT/dV falls inside each segment (k >= 0) and at
+        each node (by a V^2 times the rise of k), so the throughput rises up to the first node
+        where g (with the next segment's slope) is <= 0 and falls after it; the peak is that
+        node, or the root of the quadratic g on the segment before it, or on the continued
+        last segment when g stays positive on the whole table. Tested against the general
+        search in tests/solver/test_cake_basis_table.py.
+        """
+        if not self.convex:
+            return super().peak_volumes(downtime, wash_coefficient)
+        V, t, r, k = self.V, self.t, self.r, self.slope
+        a, t_d = wash_coefficient, downtime
+        # g - t_d at each node, with the slope of the segment that starts there: t - (r + a k V) V
+        if a == 0.0:
+            g = r * V
+        else:
+            g = k * V
+            g *= a
+            g += r
+            g *= V
+        np.subtract(t, g, out=g)
+        falling = g[1:] <= -t_d  # g <= 0 (fl(g + t_d) <= 0 exactly when g <= -t_d)
+        j = int(falling.argmax())  # the first such node is j + 1, where the peak's segment j ends
+        found = bool(falling[j])
+        if not found:
+            j = V.size - 1  # g > 0 on the whole table: on the continued last segment
+        Vj, kj, gj = V.item(j), k.item(j), g.item(j) + t_d
+        if not (gj > 0.0 and kj > 0.0):  # not the regular shape (no downtime): every segment
+            return super().peak_volumes(downtime, wash_coefficient)
+        C1 = -kj * Vj * (1.0 + 2.0 * a)
+        C2 = -kj * (0.5 + a)
+        h = 2.0 * gj / (-C1 + np.sqrt(max(C1 * C1 - 4.0 * C2 * gj, 0.0)))
+        if found:
+            width = V.item(j + 1) - Vj
+            if gj + (C1 + C2 * width) * width > 0.0:  # g still positive at the node: a kink
+                return np.array([V.item(j + 1)])
+            h = min(h, width)
+        return np.array([Vj + h])
+
     def _optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
         """The filtrate volume of the highest throughput of this tabulated curve, exactly: the
         highest of the table's local peaks (:meth:`TabulatedCurve.peak_volumes`; the first of
         equals). Tested against ``peak_scan`` in tests/solver/test_cake_basis.py."""
         candidates = self.peak_volumes(downtime, wash_coefficient)
+        if candidates.size == 1:
+            return candidates.item(0)
         a, t_d = wash_coefficient, downtime
         T = self.time(candidates) + a * candidates / self.rate(candidates) + t_d
         return float(candidates[int(np.argmax(candidates / T))])
 
 
+#: Newton steps after the first (Halley's) step towards each grid volume near V_0, by
+#: compressibility: the more compressible the cake, the sharper x^p turns near V = V_0 and the
+#: further a fixed number of steps leaves the nodes from the grid there. Beyond s = 0.99, steps
+#: on every node until they move no share by more than 1e-4 of itself.
+CAKE_BASIS_NODE_STEPS = ((0.85, 1), (0.95, 2), (0.99, 3))
+CAKE_BASIS_MAX_STEPS = 200
+#: the grid volumes, as multiples of V_0, between which Halley's step alone leaves a node more
+#: than about 1e-5 of its volume from the grid (its error grows as k^3 away from k = 1): the
+#: Newton steps go only there. Measured with these (s up to 0.99, V_0 from 1e-7 to 60 times the
+#: largest volume): no segment more than 1.09 times as long as the grid's (1.01 for s <= 0.6),
+#: no node more than 0.25 % beyond its grid volume.
+CAKE_BASIS_NEWTON_BAND = (0.1, 50.0)
+
+
 def held_pressure_curve(filtration: Filtration, filter_area: float, pressure: float, V_max: float,
                         n: int = 2000) -> HeldPressureCurve:
-    """The constant-pressure curve with alpha at the cake's pressure at each volume."""
-    V = volume_grid(V_max if V_max > 0.0 else 1.0, n)
+    """The constant-pressure curve with alpha at the cake's pressure at each volume.
+
+    A power-law cake's nodes are exact points of the curve, without an iteration to
+    convergence (:func:`held_pressure_nodes`); local laws are solved on the usual grid.
+    """
+    V_max = V_max if V_max > 0.0 else 1.0
+    if filtration.local is None and filtration.on_cake_basis:
+        V, r = held_pressure_nodes(filtration, filter_area, pressure, V_max, n)
+        return HeldPressureCurve(V, np.full_like(V, pressure), reciprocal_rate=r, convex=True)
+    V = volume_grid(V_max, n)
     r = filtration.resistance_per_rate(pressure, V, filter_area)
-    return HeldPressureCurve(V, np.full_like(V, pressure), 1.0 / r)
+    return HeldPressureCurve(V, np.full_like(V, pressure), reciprocal_rate=r)
+
+
+def held_pressure_nodes(filtration: Filtration, filter_area: float, pressure: float, V_max: float,
+                        n: int = 2000, safe: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    r"""Filtrate volumes [m^3] and 1/Q [s/m^3] exactly on the held-pressure curve of a power-law
+    cake on the cake pressure basis, near the usual volume grid, from 0 to at least ``V_max``.
+
+    With alpha = alpha_P (dp_c/dP)^s (alpha_P at the whole drop dP), the cake's share
+    phi = dp_c/dP and the cloth's psi = 1 - phi split the rate between cake and cloth:
+    phi/psi = alpha(dp_c) c V / (A R_m). So V is explicit in the share, and so is the rate:
+
+    .. math:: V = V_0 \frac{x}{\psi},\quad x = \phi^{1-s},\quad V_0 = \frac{A R_m}{\alpha_P c},
+              \qquad \frac{1}{Q} = \frac{\mu R_m}{A \Delta P \psi} = \frac{B}{\psi}
+
+    (the cake's resistance alpha c V / A is R_m phi/psi). Each node takes an approximate share
+    for its grid volume V_g, the root of f(x) = x^p + k x - 1, k = V_0/V_g, p = 1/(1-s): one
+    step of Halley's method from x = min(1, 1/k), where f, f' and f'' are known in closed form,
+    then, near V_0 where that is not yet close (``CAKE_BASIS_NEWTON_BAND``), a few Newton steps
+    (``CAKE_BASIS_NODE_STEPS``). f is convex, so a Newton step ends at or above the root from
+    anywhere; elsewhere Halley's step lands above it or below by 1e-10 of it at most
+    (measured): each node lies at, or a little beyond, its grid volume. The node's V and 1/Q
+    are then computed from that share exactly. At or below V_0 the share is carried as x
+    (psi = -expm1(p ln x)), beyond it as u = 1 - x (psi = -expm1(p log1p(-u))), so neither
+    share loses precision near 0 or 1. V rises with x, and the nodes are checked to rise: should
+    one come out of order, unbounded or short of ``V_max`` (not seen), they are made again
+    (``safe``) by Newton's method alone from x = min(1, 1/k), to 1e-4 of the share.
+
+    1/Q is convex in V along the curve: dr/dV = (B/V_0) p x^(p-1) / (1 + (p-1) x^p), which
+    rises with x for p >= 1 (derived here).
+    """
+    f = filtration
+    s_ = f.compressibility
+    p = 1.0 / (1.0 - s_)
+    halley = 0.5 * p * (p - 1.0)  # f''/2 = halley x^p/x^2 in x, halley in u
+    # None: until close
+    steps = None if safe else next((n for top, n in CAKE_BASIS_NODE_STEPS if s_ <= top), None)
+    V0 = f.medium_resistance * filter_area / (f.specific_resistance(pressure) * f.solids_per_filtrate)
+    B = f.viscosity * f.medium_resistance / (filter_area * pressure)
+    # at or beyond the grid volume to round-off: a hair more, so the last node reaches V_max
+    grid = volume_grid(V_max * (1.0 + 1e-9), n)
+    m = int(grid.searchsorted(V0, "right"))  # grid[1:m] <= V0 < grid[m:]
+    # the Newton steps' nodes, grid[lo:hi] (every node when stepping until close)
+    lo, hi = (1, grid.size) if steps is None else (
+        max(int(grid.searchsorted(CAKE_BASIS_NEWTON_BAND[0] * V0)), 1),
+        int(grid.searchsorted(CAKE_BASIS_NEWTON_BAND[1] * V0)))
+    # the nodes' V and E = x^p - 1 = -psi (kept negative: V = V_0 x/psi = -V_0 x/E, 1/Q = -B/E)
+    V, E = np.empty_like(grid), np.empty_like(grid)
+    V[0], E[0] = 0.0, -1.0  # no cake yet: the cloth takes the whole drop
+    with np.errstate(under="ignore", over="ignore", divide="ignore", invalid="ignore"):
+        if m > 1:  # x from x = V/V_0 = 1/k: there f = x^p, f' = p x^p/x + k, f'' = p (p - 1) x^p/x^2
+            x = grid[1:m] / V0
+            k = V0 / grid[1:m]
+            if not safe:
+                xp = np.log(x)
+                xp *= p
+                np.exp(xp, out=xp)  # f = x^p
+                a = xp / x
+                a *= p  # f' - k
+                d1 = a + k  # f'
+                # Halley: x -= f / (f' - f f''/(2 f')), f f''/(2 f') = (p - 1)/(2 p) a^2/f';
+                # f f''/(2 f'^2) < 1/2, so 0 < x < 1 after it
+                a *= a
+                a *= (p - 1.0) / (2.0 * p)
+                a /= d1
+                np.subtract(d1, a, out=a)
+                np.divide(xp, a, out=a)
+                x -= a
+            if lo < m:
+                _newton_share(x[lo - 1:], k[lo - 1:], p, steps)  # in place, on the views
+            e = E[1:m]
+            np.log(x, out=e)
+            e *= p
+            np.expm1(e, out=e)
+            np.divide(x, e, out=V[1:m])  # x/E = -x/psi
+        if m < grid.size:  # u = 1 - x from u = 0 (x = 1), where f = k, f' = -(p + k), f'' = p (p - 1)
+            k = V0 / grid[m:]
+            pk = k + p
+            if safe:  # Newton's step
+                u = k / pk
+            else:  # Halley's step, k / (pk - halley k / pk): 0 < u < 2 k/(p + k) < 1
+                u = k * halley
+                u /= pk
+                np.subtract(pk, u, out=u)
+                np.divide(k, u, out=u)
+            if hi > m:
+                _newton_cloth_share(u[:hi - m], k[:hi - m], p, steps)
+            e = E[m:]
+            np.negative(u, out=e)
+            np.log1p(e, out=e)
+            e *= p
+            np.expm1(e, out=e)
+            np.subtract(1.0, u, out=u)  # x
+            np.divide(u, e, out=V[m:])
+        V *= -V0  # V_0 x/psi
+        V[0] = 0.0
+    r = -B / E  # B/psi
+    if not (np.all(V[1:] > V[:-1]) and V[-1] >= V_max and np.isfinite(r[-1])):
+        if not safe:
+            return held_pressure_nodes(filtration, filter_area, pressure, V_max, n, safe=True)
+        # only at the ends of floating-point range (a share rounding to 0 or 1): the nodes
+        # that are finite and rise
+        keep = np.flatnonzero(np.isfinite(V) & np.isfinite(r))
+        Vk = V[keep]
+        rises = np.concatenate(([True], Vk[1:] > np.maximum.accumulate(Vk)[:-1]))
+        V, r = Vk[rises], r[keep][rises]
+    return V, r
+
+
+def _newton_share(x, k, p, steps):
+    """Newton's method on x^p + k x = 1 in place: ``steps`` steps, or (None) until a step moves no
+    x by more than 1e-4 of itself."""
+    for _ in range(CAKE_BASIS_MAX_STEPS if steps is None else steps):
+        xp = np.exp(p * np.log(x))
+        step = (xp + k * x - 1.0) / (p * xp / x + k)
+        x -= step
+        if steps is None and not np.any(np.abs(step) > 1e-4 * x):
+            break
+
+
+def _newton_cloth_share(u, k, p, steps):
+    """Newton's method on (1 - u)^p + k (1 - u) = 1 in place (u = 1 - x), as :func:`_newton_share`."""
+    for _ in range(CAKE_BASIS_MAX_STEPS if steps is None else steps):
+        w = 1.0 - u
+        E = np.expm1(p * np.log1p(-u))  # x^p - 1
+        step = (k * w + E) / (p * (E + 1.0) / w + k)
+        u += step
+        if steps is None and not np.any(np.abs(step) > 1e-4 * u):
+            break
 
 
 def kink_volume(filtration: Filtration, filter_area: float, pressure: float, flow: float) -> float:
