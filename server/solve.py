@@ -312,8 +312,13 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     )
     # the curves are checked finite as arrays (and sent as arrays)
     curves = {k: np.asarray(v, dtype=float) for k, v in sol.curves.items()}
-    bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in curves.items()
-                if not np.isfinite(v).all()), None)
+    bad = None
+    # one sum for all of them: NaN or inf carries through it (a finite overflow is looked into)
+    with np.errstate(over="ignore", invalid="ignore"):
+        spoiled = bool(curves) and not math.isfinite(np.concatenate(tuple(curves.values())).sum())
+    if spoiled:
+        bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in curves.items()
+                    if not np.isfinite(v).all()), None)
     si_inputs = inputs.model_dump()
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)

@@ -112,3 +112,43 @@ def test_the_json_sent_is_the_plain_results(demo):
     assert type(plain["best"]) is dict and type(plain["curves"]["time"]) is list
     assert list(plain["best"]) == list(json.loads(solved.results_json)["best"])  # fields in the same order
     assert solved.results is plain  # made once
+
+
+@pytest.mark.parametrize("bad", [math.nan, math.inf, -math.inf])
+def test_a_non_finite_point_of_a_curve_is_named(monkeypatch, bad):
+    # the curves are checked with one sum over all their points (issue 12): a NaN or an
+    # infinity anywhere is still found and named by its curve and index
+    from dataclasses import replace
+
+    import server.solve as solve_module
+    from server.errors import InputError
+
+    real = solve_module.solver.solve_cycle
+
+    def spoiled(*args, **kwargs):
+        sol = real(*args, **kwargs)
+        flow = np.array(sol.curves["flow"], dtype=float)
+        flow[37] = bad
+        return replace(sol, curves={**sol.curves, "flow": flow})
+
+    monkeypatch.setattr(solve_module.solver, "solve_cycle", spoiled)
+    request = CycleRequest.model_validate(json.loads(DEMOS[0].read_text())["inputs"])
+    with pytest.raises(InputError, match=r"curves\.flow\.37"):
+        solve(request)
+
+
+def test_curves_of_huge_finite_numbers_are_not_refused(monkeypatch):
+    # a sum that overflows on finite numbers is looked into, not refused
+    from dataclasses import replace
+
+    import server.solve as solve_module
+
+    real = solve_module.solver.solve_cycle
+
+    def huge(*args, **kwargs):
+        sol = real(*args, **kwargs)
+        return replace(sol, curves={**sol.curves, "time": np.full(len(sol.curves["time"]), 1e308)})
+
+    monkeypatch.setattr(solve_module.solver, "solve_cycle", huge)
+    request = CycleRequest.model_validate(json.loads(DEMOS[0].read_text())["inputs"])
+    assert solve(request).results["curves"]["time"][0] == 1e308
