@@ -272,10 +272,19 @@ class TabulatedCurve:
         # ndarray.searchsorted and read the nodes with .item(): plain lists of the table
         # (a bisect on them) cost more to build than the few dozen scalar calls they serve
         self._V_inner, self._t_inner = self.V[1:], self.t[1:]
+        # a cycle asks its time, rate and pressure at one end volume in turn: the last scalar
+        # look-up kept, as one tuple (one assignment: safe when threads share the table)
+        self._last = (None, 0)
+        self._last_array = (None, None)
 
     def _i(self, v: float) -> int:
         # the count of inner nodes at or below v: the segment's index (see _segment)
-        return int(self._V_inner.searchsorted(v, "right"))
+        last = self._last
+        if last[0] == v:
+            return last[1]
+        i = int(self._V_inner.searchsorted(v, "right"))
+        self._last = (v, i)
+        return i
 
     @property
     def V_max(self) -> float:
@@ -363,8 +372,16 @@ class TabulatedCurve:
 
     def _segment(self, V):
         # the count of inner nodes at or below V: the segment's index, 0 below the first node
-        # and the last segment beyond the end (no clipping needed)
-        return np.searchsorted(self._V_inner, V, side="right")
+        # and the last segment beyond the end (no clipping needed). A read-only array's
+        # segments are kept for the next call with the same array (a cycle's curves ask the
+        # time and then the rate at the same volumes); a writeable one could change between.
+        last = self._last_array
+        if V is last[0]:
+            return last[1]
+        i = np.searchsorted(self._V_inner, V, side="right")
+        if not V.flags.writeable:
+            self._last_array = (V, i)
+        return i
 
     def time(self, V):
         if isinstance(V, float):

@@ -571,6 +571,7 @@ class CycleFamily:
         with np.errstate(divide="ignore"):
             unbounded = not math.isfinite(self.curve.rate(0.0))  # no cloth: the first instant's flow
         V = V_full * (_unit_steps(n + 1)[1:] if unbounded else _unit_steps(n))
+        V.flags.writeable = False  # a table then finds the segments once for all the curves
         pressure = self.curve.pressure_at(V)
         return {
             "time": self.curve.time(V),
