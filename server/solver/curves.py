@@ -60,7 +60,7 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
     """
     V = np.asarray(V, dtype=float)
     nodes = getattr(supply_flow, "nodes", None)
-    if nodes is not None and filtration.local is None:
+    if nodes is not None:
         return _operating_point_on_nodes(*nodes(pressure_cap), V, filtration, filter_area)
     if filtration.on_cake_basis:
         return _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter_area)
@@ -125,102 +125,164 @@ def _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter
     return P, flow
 
 
-NEWTON_STEPS = 6  # at most; within one table segment (1e-4 of the range wide) two or three reach round-off
+NEWTON_STEPS = 8  # at most; from the secant's root on a supply segment two reach round-off
+#: flow ratio of the nodes that continue the supply past its cap (the pressure held, the flow falling)
+HELD_RATIO = 1.03
+#: pressure ratio of the nodes below the supply's lowest pressure (its flow held there; total basis
+#: with a cloth, where that stretch has no closed form)
+FIRST_RATIO = 1.02
+
+
+@lru_cache(maxsize=16)
+def _unit_steps(n: int) -> np.ndarray:
+    """0, 1/(n-1), ..., 1 (kept: geometric nodes are an exponential of them)."""
+    steps = np.linspace(0.0, 1.0, n)
+    steps.flags.writeable = False
+    return steps
 
 
 def _operating_point_on_nodes(p, q, V, filtration, filter_area):
-    """``operating_point`` for a piecewise-linear supply Q(P) through nodes (p, q), p rising
-    from 0 to the cap: exact on each segment, no iteration over the whole grid.
+    r"""``operating_point`` for a piecewise-linear supply Q(P) through nodes (p, q), p non-decreasing
+    from 0 to the cap (a jump in Q: two nodes at one pressure): exact on each segment.
 
-    The volume at which the operating pressure reaches node j is closed-form, from
-    p_j = mu q_j (alpha(p_j) c V / A^2 + R_m / A); these volumes rise with p_j (the supply
-    falls, alpha p^-1 falls for s < 1), so each filtrate volume's segment is a binary search
-    away. On its segment Q is linear in P: an incompressible cake's operating pressure is then
-    the root of a linear equation; a compressible cake's is refined by Newton's method from the
-    interpolated pressure, kept inside the segment. Past the last node (the cap) the pressure
-    is held and the cake sets the flow.
+    alpha belongs to y = P - mu R_m Q / A on the cake basis (Tiller), to y = P on the total
+    basis. The cake and cloth meet the supply where
+
+    .. math:: G = y^{1-s} - \mu Q (r y^{-s} + k V) = 0,\qquad k = \alpha_{ref} p_{ref}^{-s} c / A^2
+
+    (r = R_m/A on the total basis, 0 on the cake basis), so the volume at which the operating
+    point reaches node j is closed-form, V_j = (y_j/(mu q_j) - r) A^2/(alpha(y_j) c); these
+    volumes rise with j (the supply falls, alpha y^-1 falls for s < 1), so each filtrate
+    volume's segment is a binary search away. Past the cap the pressure is held while the flow
+    falls to zero: more nodes continue the supply there. On a segment P and Q are linear in a
+    parameter t and G is concave and rising in t (derived here: y^(1-s) is concave, Q y^-s
+    convex), so Newton's method from the root of the chord (right of the root) goes left of
+    it once, then rises to it without overshooting. Where Q is constant (below the supply's
+    lowest pressure; a positive-displacement pump) and r = 0, y^(1-s) = mu Q k V gives the
+    root in closed form, Newton's start. An incompressible cake's G is linear in t; with local
+    laws (alpha a cake average) each segment is bisected in t.
     """
     f = filtration
+    mu, c = f.viscosity, f.solids_per_filtrate
     A2 = filter_area**2
     medium = f.medium_resistance / filter_area
     cake_basis = f.on_cake_basis
-    # the cloth's share of the pressure, mu R_m Q / A, per unit flow: alpha belongs to the rest
-    # on the cake pressure basis (Tiller), to the whole pressure on the total basis
-    cloth = f.viscosity * medium if cake_basis else 0.0
-    if f.compressibility and p.size >= 2:
-        # below the table the supply is flat and a compressible cake's pressure may span
-        # decades: nodes in geometric steps there keep Newton's start close. With a cloth the
-        # pressure never falls below the cloth's share mu q R_m / A; without, the first
-        # segment is solved in closed form below. On the cake basis the steps are in the
-        # cake's own pressure, which starts from zero there.
-        floor = f.viscosity * q[0] * medium if medium > 0.0 else 1e-9 * p[1]
+    cloth = mu * medium if cake_basis else 0.0  # the cloth's pressure per unit flow, taken off before alpha
+    r = 0.0 if cake_basis else medium  # the cloth in G (total basis)
+    power_law = f.local is None
+    s_ = f.compressibility if power_law else 0.0
+    cap = float(p[-1])
+    if power_law and s_ and r > 0.0 and p.size >= 2:
+        # below the supply's lowest pressure its flow is held and a compressible cake's pressure
+        # may span decades up from the cloth's share mu q R_m / A (at V = 0): nodes in geometric
+        # steps keep Newton's start close
+        floor = mu * q[0] * medium
         if floor < p[1]:
-            n = int(min(200, np.ceil(np.log(p[1] / floor) / np.log(1.15)))) + 1
-            if cake_basis:
-                extra = floor + np.geomspace(1e-9 * (p[1] - floor), p[1] - floor, n + 60)[:-1]
-                extra = np.concatenate(([floor], extra))
-            else:
-                extra = np.geomspace(floor, p[1], n)[:-1]
+            n = int(min(600, np.ceil(np.log(p[1] / floor) / np.log(FIRST_RATIO)))) + 1
+            extra = floor * np.exp(np.log(p[1] / floor) * _unit_steps(n)[:-1])
             p = np.concatenate(([0.0], extra, p[1:]))
             q = np.concatenate((np.full(extra.size + 1, q[0]), q[1:]))
-    cake_p = np.maximum(p - cloth * q, 0.0)
-    alpha_nodes = f.specific_resistance(cake_p) if f.compressibility else np.full_like(p, f.resistance_ref)
+    q_cap = float(q[-1])
+    if q_cap > 0.0:
+        # past the cap: nodes down to a flow where the volume is past every V asked (there
+        # y >= cap/2 and alpha(y) <= alpha(cap)), then Q = 0 (the total basis with a power law
+        # needs no more: G is linear in t at a held pressure)
+        held = ()
+        V_top = float(V.max()) if V.size else 0.0
+        if (cake_basis or not power_law) and V_top > 0.0:
+            q_end = 0.5 * cap / (mu * (r + float(f.specific_resistance(cap)) * c * V_top / A2))
+            if cloth > 0.0:
+                q_end = min(q_end, 0.5 * cap / cloth)
+            if q_end < q_cap:
+                n = int(min(2000, np.ceil(np.log(q_cap / q_end) / np.log(HELD_RATIO))))
+                held = q_cap * HELD_RATIO ** -np.arange(1.0, n + 1.0)
+        p = np.concatenate((p, np.full(len(held) + 1, cap)))
+        q = np.concatenate((q, held, (0.0,)))
+    y = p - cloth * q if cloth else p
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        y_pos = np.maximum(y, 0.0)
+        if power_law and s_:
+            k = f.resistance_ref * f.reference_pressure**-s_ * c / A2  # alpha c V / A^2 = k V y^s
+            b = (mu * k) * q  # G at node j: a_j - V b_j
+            a = y_pos**-s_ * (y_pos - (mu * r) * q) if r else y_pos ** (1.0 - s_)
+            V_nodes = a / b
+        else:
+            alpha = f.specific_resistance(y_pos) if not power_law else f.resistance_ref
+            V_nodes = (y / (mu * q) - r) * A2 / (alpha * c)
+        V_nodes = np.where(q > 0.0, np.fmax(V_nodes, 0.0), np.inf)  # 0/0 where the cake has no pressure yet: 0
+    V_nodes[0] = 0.0  # zero pressure: no filtrate yet
+    if not (V_nodes[1:] >= V_nodes[:-1]).all():
+        V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
+    j = np.searchsorted(V_nodes, V, side="right") - 1
+    j = np.minimum(np.maximum(j, 0), p.size - 2)
+    j1 = j + 1
+    p0, q0, y0, p1 = p[j], q[j], y[j], p[j1]
+    dp, dq = p1 - p0, q[j1] - q0
+    dy = dp - cloth * dq if cloth else dp  # >= 0
     with np.errstate(divide="ignore", invalid="ignore"):
-        V_nodes = (p / (f.viscosity * q) - medium) * A2 / (alpha_nodes * f.solids_per_filtrate)
-    V_nodes = np.where(q > 0.0, np.fmax(V_nodes, 0.0), np.inf)  # 0/0 where the cake has no pressure yet: 0
-    V_nodes[0] = 0.0  # zero pressure: no filtrate yet (0/0 for a compressible cake without cloth)
-    V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
-    last = p.size - 1
-    j = np.clip(np.searchsorted(V_nodes, V, side="right") - 1, 0, last - 1)
-    p0, p1, q0, q1 = p[j], p[j + 1], q[j], q[j + 1]
-    m = (q1 - q0) / (p1 - p0)  # <= 0
-    cake_per_alpha = f.solids_per_filtrate * V / A2
-    at_cap = V >= V_nodes[last]  # past the last node: the cap's pressure, set below
-    if f.compressibility == 0.0:
-        muR = f.viscosity * (f.resistance_ref * cake_per_alpha + medium)
-        P = muR * (q0 - m * p0) / (1.0 - muR * m)
-    else:
+        # where y < 0 at the segment's start (the cloth alone would need more than p) from y = 0
+        t_lo = np.minimum(np.maximum(-y0 / dy, 0.0), 1.0) if cloth else np.zeros_like(V)
+    if not power_law:
+        lo, hi = t_lo, np.ones_like(V)
+        cpa = c * V / A2
+        for _ in range(BISECTION_STEPS):
+            mid = 0.5 * (lo + hi)
+            ym = y0 + mid * dy
+            cake_wins = ym > mu * (q0 + mid * dq) * (f.specific_resistance(np.maximum(ym, 0.0)) * cpa + r)
+            hi = np.where(cake_wins, mid, hi)
+            lo = np.where(cake_wins, lo, mid)
+        t = 0.5 * (lo + hi)
+    elif not s_:
+        muR = mu * (f.resistance_ref * c * V / A2 + medium)
+        den = dp - muR * dq  # > 0 on a segment of positive length
         with np.errstate(divide="ignore", invalid="ignore"):
-            w = np.where(np.isfinite(V_nodes[j + 1]) & (V_nodes[j + 1] > V_nodes[j]),
-                         (V - V_nodes[j]) / (V_nodes[j + 1] - V_nodes[j]), 0.0)
-        P = p0 + np.clip(w, 0.0, 1.0) * (p1 - p0)
-        s_, a_ref, p_ref, mu = f.compressibility, f.resistance_ref, f.reference_pressure, f.viscosity
-        # Newton's method only where the pressure is not held at the cap (there it is known,
-        # and a step out of the last segment would never settle)
-        live = np.flatnonzero(~at_cap)
-        Pl, p0l, p1l, q0l, ml, cpa = P[live], p0[live], p1[live], q0[live], m[live], cake_per_alpha[live]
-        # what does not change between steps, worked out once
-        a_cpa = a_ref * p_ref**-s_ * cpa  # alpha c V / A^2 = a_cpa pc^s
-        s_turn = s_ * (1.0 - cloth * ml)
-        tolerance = 1e-14 * p1l
-        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-            for _ in range(NEWTON_STEPS if live.size else 0):
-                Q = q0l + ml * (Pl - p0l)
-                pc = np.maximum(Pl - cloth * Q, 1e-300)  # the pressure alpha belongs to
-                cake = a_cpa * pc**s_  # alpha c V / A^2
-                R = cake + medium
-                step = (Pl - mu * Q * R) / (1.0 - mu * (ml * R + Q * cake / pc * s_turn))
-                if not np.all(np.isfinite(step)):
-                    # out of floating-point range (a pressure next to zero): go to the segment's middle
-                    step = np.where(np.isfinite(step), step, Pl - 0.5 * (p0l + p1l))
-                Pl = np.clip(Pl - step, p0l, p1l)
-                if np.all(np.abs(step) <= tolerance):  # converged (quadratically) to round-off
-                    break
-        P[live] = Pl
-        if medium == 0.0:
-            # the first segment without a cloth: P = mu q0 alpha_ref (P/p_ref)^s c V / A^2
-            first = j == 0
-            # the power may overflow for a compressibility near 1 (only on points it does not
-            # concern, or on a cycle the finiteness check then refuses with a 422)
-            with np.errstate(over="ignore"):
-                P = np.where(first, (mu * q0 * a_ref * cake_per_alpha * p_ref**-s_) ** (1.0 / (1.0 - s_)), P)
-    P = np.where(at_cap, p[last], P)
-    supply = q0 + m * (P - p0)
-    flow = supply.copy()
-    if np.any(at_cap):  # the cake's flow at the held pressure, only where it is held
-        flow[at_cap] = cake_flow(p[last], V[at_cap], filtration, filter_area)
-    flow = np.where(np.isfinite(flow), np.minimum(flow, supply), supply)
-    return P, flow
+            t = np.where(den > 0.0, (muR * q0 - p0) / den, 0.0)
+        t = np.minimum(np.maximum(t, 0.0), 1.0)
+    else:
+        t = _newton_on_segments(V, a[j], b[j], a[j1], b[j1], y0, dy, q0, dq, t_lo, mu * k, mu * r, s_)
+    P = np.minimum(p0 + t * dp, p1)
+    return P, q0 + t * dq
+
+
+def _newton_on_segments(V, a0, b0, a1, b1, y0, dy, q0, dq, t_lo, mu_k, mu_r, s_):
+    """Each volume's parameter t on its segment (a power law, s > 0): Newton's method on G(t),
+    see ``_operating_point_on_nodes``; G = a - V b at the segment's ends."""
+    one_s = 1.0 - s_
+    mkV = mu_k * V
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        G0, G1 = a0 - V * b0, a1 - V * b1
+        t = G0 / (G0 - G1)  # the chord's root
+        if not mu_r:
+            # the flow held on the segment: y^(1-s) = mu Q k V, the root itself
+            flat = dq == 0.0
+            if flat.any():
+                t = np.where(flat, ((q0 * mkV) ** (1.0 / one_s) - y0) / dy, t)
+        t = np.where(t >= t_lo, t, t_lo)  # also where the chord has no root (NaN)
+        t = np.minimum(t, 1.0)
+        y_scale = dy / (y0 + dy)  # a change in t relative to the segment's end
+        for _ in range(NEWTON_STEPS):
+            y = np.maximum(y0 + t * dy, 1e-300)
+            Q = q0 + t * dq
+            y_s = y**-s_
+            if mu_r:
+                mQr = mu_r * Q
+                G = y_s * (y - mQr) - Q * mkV
+                dG = y_s * (one_s * dy + s_ * mQr * dy / y - mu_r * dq) - dq * mkV
+            else:
+                G = y * y_s - Q * mkV
+                dG = one_s * y_s * dy - dq * mkV
+            step = G / dG
+            # the change in y (relative to the segment's end) and Q (to itself): below 1e-8 the
+            # next step's would be below round-off (quadratic convergence; |G''/G'| <= s dy/y)
+            worst = float((np.abs(step) * (y_scale - dq / Q)).max())
+            if not worst <= 1e-8:
+                if not np.isfinite(worst):  # out of floating-point range: to the middle there instead
+                    step = np.where(np.isfinite(step), step, t - 0.5 * (t_lo + 1.0))
+                t = np.minimum(np.maximum(t - step, t_lo), 1.0)
+                continue
+            t = np.minimum(np.maximum(t - step, t_lo), 1.0)
+            break
+    return t
 
 
 def volume_grid(V_max: float, n: int = 2000) -> np.ndarray:
@@ -400,66 +462,78 @@ class TabulatedCurve:
 
 
 class GeneralisedInverse:
-    """Q_supply(dP) for a falling pump curve dP(Q) given on increasing flows.
+    """Q_supply(dP) for a falling pump curve dP(Q) given on increasing flows: piecewise linear
+    between the points, evaluated exactly.
 
-    Flat stretches of the curve become jumps in Q(dP); below the curve's lowest pressure
-    the flow is the curve's highest flow.
+    Flat stretches of the curve become jumps in Q(dP) (at the jump's pressure the highest of
+    its flows: the function is continuous from below); below the curve's lowest pressure the
+    flow is the curve's highest flow, above its highest pressure its lowest. A uniform table
+    over the pressure range points each pressure to the few nodes near it, so a lookup costs a
+    few array operations and no binary search (a bisection for the operating point calls the
+    supply dozens of times over a whole volume grid).
     """
 
     def __init__(self, flows, pressures):
         order = np.argsort(flows)
         Q = np.asarray(flows, dtype=float)[order]
         P = np.asarray(pressures, dtype=float)[order]
-        self.P = P[::-1]  # non-decreasing
-        self.Q = Q[::-1]  # decreasing
+        self.P = P[::-1].copy()  # non-decreasing
+        self.Q = Q[::-1].copy()  # decreasing
+        P, Q, n = self.P, self.Q, self.P.size
+        width = np.diff(P)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            slope = np.where(width > 0.0, np.diff(Q) / np.where(width > 0.0, width, 1.0), 0.0)
+        # by j, the count of nodes below the pressure, the flow is base[j] + slope[j] (p - anchor[j]):
+        # j = 0 below the curve (its highest flow), j = n above it (its lowest)
+        self._base = np.concatenate(([Q[0]], Q[:-1], [Q[-1]]))
+        self._anchor = np.concatenate(([P[0]], P[:-1], [P[-1]]))
+        self._slope = np.concatenate(([0.0], slope, [0.0]))
+        # that count, among the distinct pressures U (a jump's nodes share one): k of them below
+        # the pressure, then the nodes before U[k]
+        U = np.unique(P)
+        self._first = np.append(np.searchsorted(P, U, side="left"), n)
+        self._U = np.append(U, np.inf)  # U[k], with +inf past the last
+        self._corrections = None
+        if U.size > 1:
+            # buckets enough that none holds more than a few distinct pressures (or a search)
+            for buckets in (4 * U.size, 32 * U.size, 256 * U.size):
+                h = (U[-1] - U[0]) / buckets
+                # distinct pressures below each bucket's start (a hair below it, so that rounding
+                # in the bucket of a pressure never counts one at or above that pressure)
+                start = np.searchsorted(U, U[0] + h * np.arange(buckets + 1) - 1e-9 * h, side="left")
+                most = int(np.max(np.diff(np.append(start, U.size)))) + 1
+                if most <= 3:  # one step forward for each
+                    self._h, self._start, self._corrections = h, start, most
+                    break
+        self._nodes = {}
+
+    def _count_below(self, p):
+        """The number of nodes below each pressure (numpy's searchsorted, side "left")."""
+        if self._corrections is None:
+            return np.searchsorted(self.P, p, side="left")
+        b = (p - self._U[0]) * (1.0 / self._h)
+        k = self._start[np.clip(b, 0.0, self._start.size - 1.0).astype(np.intp)]
+        U = self._U
+        for _ in range(self._corrections):
+            k = k + (U[k] < p)
+        return self._first[k]
 
     def __call__(self, pressure):
         p = np.asarray(pressure, dtype=float)
-        j = np.searchsorted(self.P, p, side="left")
-        j_hi = np.clip(j, 0, self.P.size - 1)
-        j_lo = np.clip(j - 1, 0, self.P.size - 1)
-        span = self.P[j_hi] - self.P[j_lo]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            w = np.where(span > 0.0, (p - self.P[j_lo]) / span, 1.0)
-        Q = self.Q[j_lo] + (self.Q[j_hi] - self.Q[j_lo]) * np.clip(w, 0.0, 1.0)
-        return np.where(j == 0, self.Q[0], Q)
-
-
-class UniformTable:
-    """A non-increasing function of pressure tabulated on a uniform grid, for O(1) lookup.
-
-    The root find calls the supply tens of times over the whole volume grid; a uniform
-    table replaces a binary search per call with arithmetic. Below the first pressure
-    the first value holds; above the last, the last.
-    """
-
-    def __init__(self, fn, p_lo: float, p_hi: float, n: int = 8193):
-        self.p_lo = p_lo
-        self.n = n if p_hi > p_lo else 1
-        self.h = (p_hi - p_lo) / (self.n - 1) if self.n > 1 else 1.0
-        self.values = np.asarray(fn(np.linspace(p_lo, p_hi, self.n)), dtype=float)
-        # the step to the next value, with a zero step after the last (held beyond the table)
-        self.steps = np.append(np.diff(self.values), 0.0)
-        self._nodes = {}
+        j = self._count_below(p)
+        return self._base[j] + self._slope[j] * (p - self._anchor[j])
 
     def nodes(self, cap: float) -> tuple[np.ndarray, np.ndarray]:
-        """The table as (pressure, flow) nodes from 0 to ``cap`` [Pa]: the first value held
-        below the table, the table's nodes below the cap, and the value at the cap."""
+        """The function as (pressure, flow) nodes from 0 to ``cap`` [Pa], pressure non-decreasing
+        (a jump: two nodes at one pressure): the highest flow held from 0, the curve's own
+        points below the cap, and the flow at the cap. Exact: between nodes Q(P) is linear."""
         key = float(cap)
         cached = self._nodes.get(key)
         if cached is None:
-            grid = self.p_lo + self.h * np.arange(self.n) if self.n > 1 else np.array([self.p_lo])
-            inside = (grid > 0.0) & (grid < cap)
-            p = np.concatenate(([0.0], grid[inside], [cap]))
-            cached = (p, np.asarray(self(p), dtype=float))
+            inside = (self.P > 0.0) & (self.P < key)
+            p = np.concatenate(([0.0], self.P[inside], [key]))
+            q = np.concatenate(([self.Q[0]], self.Q[inside], [float(self(key))]))
+            cached = (p, q)
             if len(self._nodes) < 16:
                 self._nodes[key] = cached
         return cached
-
-    def __call__(self, pressure):
-        p = np.asarray(pressure, dtype=float)
-        if self.n == 1:
-            return np.full_like(p, self.values[0])
-        x = np.minimum(np.maximum((p - self.p_lo) * (1.0 / self.h), 0.0), self.n - 1.0)
-        i = x.astype(np.intp)
-        return self.values[i] + (x - i) * self.steps[i]
