@@ -15,7 +15,7 @@ Solid/Liquid Separation: Principles of Industrial Filtration, chapters on pump-f
 filtration (the supply/cake-resistance construction; from memory).
 """
 
-from bisect import bisect_right
+from bisect import bisect_left, bisect_right
 from functools import lru_cache
 
 import numpy as np
@@ -488,6 +488,8 @@ class GeneralisedInverse:
         self._base = np.concatenate(([Q[0]], Q[:-1], [Q[-1]]))
         self._anchor = np.concatenate(([P[0]], P[:-1], [P[-1]]))
         self._slope = np.concatenate(([0.0], slope, [0.0]))
+        self._P_list, self._base_list, self._anchor_list, self._slope_list = (
+            a.tolist() for a in (P, self._base, self._anchor, self._slope))
         # that count, among the distinct pressures U (a jump's nodes share one): k of them below
         # the pressure, then the nodes before U[k]
         U = np.unique(P)
@@ -519,6 +521,9 @@ class GeneralisedInverse:
         return self._first[k]
 
     def __call__(self, pressure):
+        if isinstance(pressure, float):  # one pressure (a kink, the cap): a bisect on a list
+            j = bisect_left(self._P_list, pressure)
+            return self._base_list[j] + self._slope_list[j] * (pressure - self._anchor_list[j])
         p = np.asarray(pressure, dtype=float)
         j = self._count_below(p)
         return self._base[j] + self._slope[j] * (p - self._anchor[j])
@@ -532,7 +537,7 @@ class GeneralisedInverse:
         if cached is None:
             inside = (self.P > 0.0) & (self.P < key)
             p = np.concatenate(([0.0], self.P[inside], [key]))
-            q = np.concatenate(([self.Q[0]], self.Q[inside], [float(self(key))]))
+            q = np.concatenate(([self.Q[0]], self.Q[inside], [self(key)]))
             cached = (p, q)
             if len(self._nodes) < 16:
                 self._nodes[key] = cached

@@ -457,7 +457,9 @@ def _supply_curve(feed, filtration: Filtration, filter_area: float, V_max: float
             continue
         V_kink = kink_volume(filtration, filter_area, pressure, float(feed.supply_flow(pressure)))
         if 0.0 < V_kink < V_max:
-            V = np.unique(np.append(V, V_kink))
+            i = int(np.searchsorted(V, V_kink))  # the grid is sorted: a node inserted, not a sort
+            if V[i] != V_kink:
+                V = np.concatenate((V[:i], (V_kink,), V[i:]))
     P, Q = operating_point(feed.supply_flow, feed.pressure_cap, V, filtration, filter_area)
     return TabulatedCurve(V, P, Q)
 
