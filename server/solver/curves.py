@@ -219,9 +219,11 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
     p0, q0, y0, p1 = p[j], q[j], y[j], p[j1]
     dp, dq = p1 - p0, q[j1] - q0
     dy = dp - cloth * dq if cloth else dp  # >= 0
-    with np.errstate(divide="ignore", invalid="ignore"):
-        # where y < 0 at the segment's start (the cloth alone would need more than p) from y = 0
-        t_lo = np.minimum(np.maximum(-y0 / dy, 0.0), 1.0) if cloth else np.zeros_like(V)
+    t_lo = 0.0
+    if cloth and (y[1:] < 0.0).any():  # (the first segment holds Q: solved in closed form)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            # where y < 0 at the segment's start (the cloth alone would need more than p): from y = 0
+            t_lo = np.minimum(np.maximum(-y0 / dy, 0.0), 1.0)
     if not power_law:
         lo, hi = t_lo, np.ones_like(V)
         cpa = c * V / A2
@@ -250,16 +252,16 @@ def _newton_on_segments(V, a0, b0, a1, b1, y0, dy, q0, dq, t_lo, mu_k, mu_r, s_)
     one_s = 1.0 - s_
     mkV = mu_k * V
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        G0, G1 = a0 - V * b0, a1 - V * b1
-        t = G0 / (G0 - G1)  # the chord's root
+        G0 = a0 - V * b0
+        t = G0 / (G0 - (a1 - V * b1))  # the chord's root
         if not mu_r:
             # the flow held on the segment: y^(1-s) = mu Q k V, the root itself
-            flat = dq == 0.0
-            if flat.any():
-                t = np.where(flat, ((q0 * mkV) ** (1.0 / one_s) - y0) / dy, t)
-        t = np.where(t >= t_lo, t, t_lo)  # also where the chord has no root (NaN)
-        t = np.minimum(t, 1.0)
+            flat = np.flatnonzero(dq == 0.0)
+            if flat.size:
+                t[flat] = ((q0[flat] * mkV[flat]) ** (1.0 / one_s) - y0[flat]) / dy[flat]
+        t = np.minimum(np.where(t >= t_lo, t, t_lo), 1.0)  # also where the chord has no root (NaN)
         y_scale = dy / (y0 + dy)  # a change in t relative to the segment's end
+        out, at = t, None  # the volumes still iterated: all, then those not yet converged
         for _ in range(NEWTON_STEPS):
             y = np.maximum(y0 + t * dy, 1e-300)
             Q = q0 + t * dq
@@ -272,17 +274,23 @@ def _newton_on_segments(V, a0, b0, a1, b1, y0, dy, q0, dq, t_lo, mu_k, mu_r, s_)
                 G = y * y_s - Q * mkV
                 dG = one_s * y_s * dy - dq * mkV
             step = G / dG
+            if not np.isfinite(step).all():  # out of floating-point range: to the segment's middle there
+                step = np.where(np.isfinite(step), step, t - 0.5 * (t_lo + 1.0))
+            t = np.minimum(np.maximum(t - step, t_lo), 1.0)
+            if at is None:
+                out = t
+            else:
+                out[at] = t
             # the change in y (relative to the segment's end) and Q (to itself): below 1e-8 the
             # next step's would be below round-off (quadratic convergence; |G''/G'| <= s dy/y)
-            worst = float((np.abs(step) * (y_scale - dq / Q)).max())
-            if not worst <= 1e-8:
-                if not np.isfinite(worst):  # out of floating-point range: to the middle there instead
-                    step = np.where(np.isfinite(step), step, t - 0.5 * (t_lo + 1.0))
-                t = np.minimum(np.maximum(t - step, t_lo), 1.0)
-                continue
-            t = np.minimum(np.maximum(t - step, t_lo), 1.0)
-            break
-    return t
+            going = np.flatnonzero(np.abs(step) * (y_scale - dq / Q) > 1e-8)
+            if going.size == 0:
+                break
+            at = going if at is None else at[going]
+            t, y0, dy, q0, dq, mkV, y_scale = (x[going] for x in (t, y0, dy, q0, dq, mkV, y_scale))
+            if np.ndim(t_lo):
+                t_lo = t_lo[going]
+    return out
 
 
 def volume_grid(V_max: float, n: int = 2000) -> np.ndarray:
