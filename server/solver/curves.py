@@ -190,7 +190,9 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
         held = ()
         V_top = float(V.max()) if V.size else 0.0
         if (cake_basis or not power_law) and V_top > 0.0:
-            q_end = 0.5 * cap / (mu * (r + float(f.specific_resistance(cap)) * c * V_top / A2))
+            alpha_cap = f.resistance_ref * (cap / f.reference_pressure) ** s_ if power_law else float(
+                f.specific_resistance(cap))
+            q_end = 0.5 * cap / (mu * (r + alpha_cap * c * V_top / A2))
             if cloth > 0.0:
                 q_end = min(q_end, 0.5 * cap / cloth)
             if q_end < q_cap:
@@ -209,8 +211,10 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
         else:
             alpha = f.specific_resistance(y_pos) if not power_law else f.resistance_ref
             V_nodes = (y / (mu * q) - r) * A2 / (alpha * c)
-        V_nodes = np.where(q > 0.0, np.fmax(V_nodes, 0.0), np.inf)  # 0/0 where the cake has no pressure yet: 0
+        V_nodes = np.fmax(V_nodes, 0.0)  # 0/0 where the cake has no pressure yet: 0
     V_nodes[0] = 0.0  # zero pressure: no filtrate yet
+    if q[-1] == 0.0:  # (only the last node can have no flow: q falls, and the supply's is > 0 below the cap)
+        V_nodes[-1] = np.inf  # the supply gives nothing: never reached
     if not (V_nodes[1:] >= V_nodes[:-1]).all():
         V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
     j = np.searchsorted(V_nodes, V, side="right") - 1

@@ -441,13 +441,14 @@ class CycleFamily:
         fill = np.asarray(press.chamber_fill(V, v, chamber_thickness), dtype=float)
         feasible = (fill <= press.fill_fraction * (1.0 + 1e-12)).tolist()
         reasons = [limited_by] * n if isinstance(limited_by, str) else list(limited_by)
+        thickness = column(press.cake_thickness(V, v))
         if st is None:
             wash_volume = self.wash_per_filtrate * V
             moisture = 1.0 - 1.0 / f.wet_to_dry_ratio
             pores = self._pore_volumes(self.wash_per_filtrate)
             extra = [[0.0] * n, [0.0] * n, [0.0] * n, [None] * n, [pores] * n,
                      column(self.wash_per_filtrate) if self.wash_per_filtrate else [None] * n,
-                     [None] * n, [moisture] * n, column(press.cake_thickness(V, v)), [None] * n]
+                     [None] * n, [moisture] * n, thickness, [None] * n]
             wet = f.wet_to_dry_ratio * c * V
         else:
             wash_volume = st["wash_volume"]
@@ -469,7 +470,7 @@ class CycleFamily:
         rows = zip(
             V.tolist(), column(times["filtration"]), column(wash_volume), column(times.get("wash", 0.0)),
             [float(self.cycle.downtime)] * n, T.tolist(), (V / T).tolist(), (c * V / T).tolist(),
-            column(press.cake_thickness(V, v)), fill.tolist(), (c * V).tolist(), column(wet),
+            thickness, fill.tolist(), (c * V).tolist(), column(wet),
             column(self.curve.rate(V)), column(self.curve.pressure_at(V)), reasons, feasible,
             [float(self.fill_time)] * n, *extra, strict=True,
         )
