@@ -126,8 +126,9 @@ def _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter
 
 
 NEWTON_STEPS = 8  # at most; from the secant's root on a supply segment two reach round-off
-#: flow ratio of the nodes that continue the supply past its cap (the pressure held, the flow falling)
+#: flow ratio of the nodes along the supply's last segment, to no flow (the pressure held past the cap)
 HELD_RATIO = 1.03
+HELD_NODES = 1000  # at most (the ratio grows instead)
 #: pressure ratio of the nodes below the supply's lowest pressure (its flow held there; total basis
 #: with a cloth, where that stretch has no closed form)
 FIRST_RATIO = 1.02
@@ -157,10 +158,12 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
     falls to zero: more nodes continue the supply there. On a segment P and Q are linear in a
     parameter t and G is concave and rising in t (derived here: y^(1-s) is concave, Q y^-s
     convex), so Newton's method from the root of the chord (right of the root) goes left of
-    it once, then rises to it without overshooting. Where Q is constant (below the supply's
-    lowest pressure; a positive-displacement pump) and r = 0, y^(1-s) = mu Q k V gives the
-    root in closed form, Newton's start. An incompressible cake's G is linear in t; with local
-    laws (alpha a cake average) each segment is bisected in t.
+    it once, then rises to it without overshooting (with r = 0 on the equivalent
+    H = y - (mu k V Q)^(1/(1-s)), also concave, whose slope stays finite where y -> 0). Where Q
+    is constant (below the supply's lowest pressure; a positive-displacement pump) and r = 0,
+    y^(1-s) = mu Q k V gives the root in closed form, Newton's start. An incompressible cake's
+    G is linear in t; with local laws (alpha a cake average) each segment is bisected in t.
+    Tested against brentq in tests/solver/test_pump_table.py.
     """
     f = filtration
     mu, c = f.viscosity, f.solids_per_filtrate
@@ -182,24 +185,27 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
             extra = floor * np.exp(np.log(p[1] / floor) * _unit_steps(n)[:-1])
             p = np.concatenate(([0.0], extra, p[1:]))
             q = np.concatenate((np.full(extra.size + 1, q[0]), q[1:]))
-    q_cap = float(q[-1])
-    if q_cap > 0.0:
-        # past the cap: nodes down to a flow where the volume is past every V asked (there
-        # y >= cap/2 and alpha(y) <= alpha(cap)), then Q = 0 (the total basis with a power law
-        # needs no more: G is linear in t at a held pressure)
-        held = ()
-        V_top = float(V.max()) if V.size else 0.0
-        if (cake_basis or not power_law) and V_top > 0.0:
-            alpha_cap = f.resistance_ref * (cap / f.reference_pressure) ** s_ if power_law else float(
-                f.specific_resistance(cap))
-            q_end = 0.5 * cap / (mu * (r + alpha_cap * c * V_top / A2))
-            if cloth > 0.0:
-                q_end = min(q_end, 0.5 * cap / cloth)
-            if q_end < q_cap:
-                n = int(min(2000, np.ceil(np.log(q_cap / q_end) / np.log(HELD_RATIO))))
-                held = q_cap * HELD_RATIO ** -np.arange(1.0, n + 1.0)
-        p = np.concatenate((p, np.full(len(held) + 1, cap)))
-        q = np.concatenate((q, held, (0.0,)))
+    if q[-1] > 0.0:  # past the cap the pressure is held while the flow falls to zero
+        p, q = np.append(p, cap), np.append(q, 0.0)
+    # The last segment ends at no flow (held at the cap, or a pump's shut-off there): nodes along it
+    # in geometric steps of the flow, down to one where the volume is past every V asked (there
+    # y >= p_lo/2 and alpha(y) <= alpha(cap)), keep Newton's start close and the flow's relative
+    # precision (Q = q0 + t dq would lose it next to zero)
+    V_top = float(V.max()) if V.size else 0.0
+    q_lo, p_lo = float(q[-2]), float(p[-2])
+    if V_top > 0.0 and q_lo > 0.0:
+        alpha_cap = f.resistance_ref * (cap / f.reference_pressure) ** s_ if power_law else float(
+            f.specific_resistance(cap))
+        q_end = 0.5 * p_lo / (mu * (r + alpha_cap * c * V_top / A2))
+        if cloth > 0.0:
+            q_end = min(q_end, 0.5 * p_lo / cloth)
+        if 0.0 < q_end < q_lo:
+            ratio = max(HELD_RATIO, (q_lo / q_end) ** (1.0 / HELD_NODES))
+            n = int(np.ceil(np.log(q_lo / q_end) / np.log(ratio)))
+            q_along = q_lo * ratio ** -np.arange(1.0, n + 1.0)
+            p_along = cap - (cap - p_lo) * (q_along / q_lo)  # on the segment's line
+            p = np.concatenate((p[:-1], p_along, p[-1:]))
+            q = np.concatenate((q[:-1], q_along, q[-1:]))
     y = p - cloth * q if cloth else p
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         y_pos = np.maximum(y, 0.0)
@@ -213,8 +219,7 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
             V_nodes = (y / (mu * q) - r) * A2 / (alpha * c)
         V_nodes = np.fmax(V_nodes, 0.0)  # 0/0 where the cake has no pressure yet: 0
     V_nodes[0] = 0.0  # zero pressure: no filtrate yet
-    if q[-1] == 0.0:  # (only the last node can have no flow: q falls, and the supply's is > 0 below the cap)
-        V_nodes[-1] = np.inf  # the supply gives nothing: never reached
+    V_nodes[-1] = np.inf  # no flow (the only node without: q falls, and the supply's is > 0 below the cap)
     if not (V_nodes[1:] >= V_nodes[:-1]).all():
         V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
     j = np.searchsorted(V_nodes, V, side="right") - 1
@@ -223,13 +228,8 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
     p0, q0, y0, p1 = p[j], q[j], y[j], p[j1]
     dp, dq = p1 - p0, q[j1] - q0
     dy = dp - cloth * dq if cloth else dp  # >= 0
-    t_lo = 0.0
-    if cloth and (y[1:] < 0.0).any():  # (the first segment holds Q: solved in closed form)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            # where y < 0 at the segment's start (the cloth alone would need more than p): from y = 0
-            t_lo = np.minimum(np.maximum(-y0 / dy, 0.0), 1.0)
     if not power_law:
-        lo, hi = t_lo, np.ones_like(V)
+        lo, hi = np.zeros_like(V), np.ones_like(V)
         cpa = c * V / A2
         for _ in range(BISECTION_STEPS):
             mid = 0.5 * (lo + hi)
@@ -245,55 +245,74 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
             t = np.where(den > 0.0, (muR * q0 - p0) / den, 0.0)
         t = np.minimum(np.maximum(t, 0.0), 1.0)
     else:
-        t = _newton_on_segments(V, a[j], b[j], a[j1], b[j1], y0, dy, q0, dq, t_lo, mu * k, mu * r, s_)
+        t = _newton_on_segments(V, a[j], b[j], a[j1], b[j1], y0, dy, q0, dq, dp / p1, mu * k, mu * r, s_)
     P = np.minimum(p0 + t * dp, p1)
     return P, q0 + t * dq
 
 
-def _newton_on_segments(V, a0, b0, a1, b1, y0, dy, q0, dq, t_lo, mu_k, mu_r, s_):
-    """Each volume's parameter t on its segment (a power law, s > 0): Newton's method on G(t),
-    see ``_operating_point_on_nodes``; G = a - V b at the segment's ends."""
+def _newton_on_segments(V, a0, b0, a1, b1, y0, dy, q0, dq, dp_rel, mu_k, mu_r, s_):
+    r"""Each volume's parameter t on its segment (a power law, s > 0), by Newton's method; see
+    ``_operating_point_on_nodes`` (G = a - V b at the segment's ends; dp_rel: the segment's
+    pressure rise relative to its end pressure).
+
+    With no cloth term in G (the cake basis; the total basis without cloth) the root of G is
+    the root of
+
+    .. math:: H(t) = y - (\mu k V Q)^{1/(1-s)},
+
+    concave and rising in t like G, but with H' = dy - Q' (mu k V Q)^{1/(1-s)} / ((1-s) Q) >= dy
+    finite where y -> 0 (a cake pressure next to nothing behind a cloth that takes nearly all
+    of it, where G' is infinite and Newton's method would crawl), and defined for y < 0 too.
+    """
     one_s = 1.0 - s_
     mkV = mu_k * V
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+    power = 1.0 / one_s
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
         G0 = a0 - V * b0
-        t = G0 / (G0 - (a1 - V * b1))  # the chord's root
+        t = G0 / (G0 - (a1 - V * b1))  # the root of G's chord: right of the root (G is concave)
         if not mu_r:
             # the flow held on the segment: y^(1-s) = mu Q k V, the root itself
             flat = np.flatnonzero(dq == 0.0)
             if flat.size:
-                t[flat] = ((q0[flat] * mkV[flat]) ** (1.0 / one_s) - y0[flat]) / dy[flat]
-        t = np.minimum(np.where(t >= t_lo, t, t_lo), 1.0)  # also where the chord has no root (NaN)
-        y_scale = dy / (y0 + dy)  # a change in t relative to the segment's end
+                t[flat] = ((q0[flat] * mkV[flat]) ** power - y0[flat]) / dy[flat]
+        t = np.minimum(np.where(t >= 0.0, t, 0.0), 1.0)  # also where the chord has no root (NaN)
+        if mu_r:
+            y_scale = dy / (y0 + dy)  # the total basis: y = P
         out, at = t, None  # the volumes still iterated: all, then those not yet converged
         for _ in range(NEWTON_STEPS):
-            y = np.maximum(y0 + t * dy, 1e-300)
             Q = q0 + t * dq
-            y_s = y**-s_
-            if mu_r:
+            if mu_r:  # G on the total basis with a cloth (y = P >= the cloth's share > 0)
+                y = np.maximum(y0 + t * dy, 1e-300)
+                y_s = y**-s_
                 mQr = mu_r * Q
                 G = y_s * (y - mQr) - Q * mkV
                 dG = y_s * (one_s * dy + s_ * mQr * dy / y - mu_r * dq) - dq * mkV
+                scale = y_scale
             else:
-                G = y * y_s - Q * mkV
-                dG = one_s * y_s * dy - dq * mkV
+                W = (mkV * Q) ** power
+                G = y0 + t * dy - W
+                dG = dy - power * W * dq / Q
+                scale = dp_rel
             step = G / dG
             if not np.isfinite(step).all():  # out of floating-point range: to the segment's middle there
-                step = np.where(np.isfinite(step), step, t - 0.5 * (t_lo + 1.0))
-            t = np.minimum(np.maximum(t - step, t_lo), 1.0)
+                step = np.where(np.isfinite(step), step, t - 0.5)
+            t = np.minimum(np.maximum(t - step, 0.0), 1.0)
             if at is None:
                 out = t
             else:
                 out[at] = t
-            # the change in y (relative to the segment's end) and Q (to itself): below 1e-8 the
-            # next step's would be below round-off (quadratic convergence; |G''/G'| <= s dy/y)
-            going = np.flatnonzero(np.abs(step) * (y_scale - dq / Q) > 1e-8)
+            # the change in P (relative to the segment's end) and in Q (to itself): below 1e-9 the
+            # next step's would be below round-off (quadratic convergence; |G''/G'| <= s dy/y,
+            # |H''/H'| <= (1/(1-s) - 1) |dq|/Q)
+            going = np.flatnonzero(np.abs(step) * (scale - dq / Q) > 1e-9)
             if going.size == 0:
                 break
             at = going if at is None else at[going]
-            t, y0, dy, q0, dq, mkV, y_scale = (x[going] for x in (t, y0, dy, q0, dq, mkV, y_scale))
-            if np.ndim(t_lo):
-                t_lo = t_lo[going]
+            t, y0, dy, q0, dq, mkV = (x[going] for x in (t, y0, dy, q0, dq, mkV))
+            if mu_r:
+                y_scale = y_scale[going]
+            else:
+                dp_rel = dp_rel[going]
     return out
 
 
@@ -500,8 +519,8 @@ class GeneralisedInverse:
         self._base = np.concatenate(([Q[0]], Q[:-1], [Q[-1]]))
         self._anchor = np.concatenate(([P[0]], P[:-1], [P[-1]]))
         self._slope = np.concatenate(([0.0], slope, [0.0]))
-        self._P_list, self._base_list, self._anchor_list, self._slope_list = (
-            a.tolist() for a in (P, self._base, self._anchor, self._slope))
+        self._P_list, self._Q_list, self._base_list, self._anchor_list, self._slope_list = (
+            a.tolist() for a in (P, Q, self._base, self._anchor, self._slope))
         # that count, among the distinct pressures U (a jump's nodes share one): k of them below
         # the pressure, then the nodes before U[k]
         U = np.unique(P)
@@ -535,6 +554,8 @@ class GeneralisedInverse:
     def __call__(self, pressure):
         if isinstance(pressure, float):  # one pressure (a kink, the cap): a bisect on a list
             j = bisect_left(self._P_list, pressure)
+            if j < len(self._P_list) and self._P_list[j] == pressure:
+                return self._Q_list[j]  # a node's own flow (the line through it would round it)
             return self._base_list[j] + self._slope_list[j] * (pressure - self._anchor_list[j])
         p = np.asarray(pressure, dtype=float)
         j = self._count_below(p)
@@ -549,7 +570,7 @@ class GeneralisedInverse:
         if cached is None:
             inside = (self.P > 0.0) & (self.P < key)
             p = np.concatenate(([0.0], self.P[inside], [key]))
-            q = np.concatenate(([self.Q[0]], self.Q[inside], [self(key)]))
+            q = np.concatenate(([self.Q[0]], self.Q[inside], [self(key)]))  # (a node's own flow there)
             cached = (p, q)
             if len(self._nodes) < 16:
                 self._nodes[key] = cached
