@@ -185,14 +185,14 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
             extra = floor * np.exp(np.log(p[1] / floor) * _unit_steps(n)[:-1])
             p = np.concatenate(([0.0], extra, p[1:]))
             q = np.concatenate((np.full(extra.size + 1, q[0]), q[1:]))
-    if q[-1] > 0.0:  # past the cap the pressure is held while the flow falls to zero
-        p, q = np.append(p, cap), np.append(q, 0.0)
-    # The last segment ends at no flow (held at the cap, or a pump's shut-off there): nodes along it
-    # in geometric steps of the flow, down to one where the volume is past every V asked (there
-    # y >= p_lo/2 and alpha(y) <= alpha(cap)), keep Newton's start close and the flow's relative
-    # precision (Q = q0 + t dq would lose it next to zero)
+    # The last segment ends at no flow: held at the cap (a node (cap, 0) added), or a pump's
+    # shut-off there. Nodes along it in geometric steps of the flow, down to one where the volume
+    # is past every V asked (there y >= p_lo/2 and alpha(y) <= alpha(cap)), keep Newton's start
+    # close and the flow's relative precision (Q = q0 + t dq would lose it next to zero).
+    held = q[-1] > 0.0  # past the cap the pressure is held while the flow falls to zero
+    p_lo, q_lo = (cap, float(q[-1])) if held else (float(p[-2]), float(q[-2]))
+    p_along = q_along = ()
     V_top = float(V.max()) if V.size else 0.0
-    q_lo, p_lo = float(q[-2]), float(p[-2])
     if V_top > 0.0 and q_lo > 0.0:
         alpha_cap = f.resistance_ref * (cap / f.reference_pressure) ** s_ if power_law else float(
             f.specific_resistance(cap))
@@ -204,8 +204,8 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
             n = int(np.ceil(np.log(q_lo / q_end) / np.log(ratio)))
             q_along = q_lo * ratio ** -np.arange(1.0, n + 1.0)
             p_along = cap - (cap - p_lo) * (q_along / q_lo)  # on the segment's line
-            p = np.concatenate((p[:-1], p_along, p[-1:]))
-            q = np.concatenate((q[:-1], q_along, q[-1:]))
+    p = np.concatenate((p if held else p[:-1], p_along, (cap,)))
+    q = np.concatenate((q if held else q[:-1], q_along, (0.0,)))
     y = p - cloth * q if cloth else p
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         y_pos = np.maximum(y, 0.0)
