@@ -145,7 +145,7 @@ def test_operating_point_matches_brentq_on_the_same_supply(basis, s, R_m, points
             continue
         P_exact, Q_exact = operating_point_exact(lambda x: supply(float(x)), pump.pressure_cap, float(V), f, A)
         # against brentq on the same supply (exact solution constructed here);
-        # the largest differences seen: 4e-15 (P) and 9e-14 (Q), relative
+        # the largest differences seen: 4e-15 (P) and 2e-15 (Q), relative
         assert P[i] == pytest.approx(P_exact, rel=1e-12, abs=1e-6), (i, V)
         assert Q[i] == pytest.approx(Q_exact, rel=1e-12), (i, V)
 
