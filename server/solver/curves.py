@@ -15,6 +15,7 @@ Solid/Liquid Separation: Principles of Industrial Filtration, chapters on pump-f
 filtration (the supply/cake-resistance construction; from memory).
 """
 
+from bisect import bisect_left
 from functools import lru_cache
 
 import numpy as np
@@ -59,7 +60,7 @@ def operating_point(supply_flow, pressure_cap, V, filtration, filter_area):
     """
     V = np.asarray(V, dtype=float)
     nodes = getattr(supply_flow, "nodes", None)
-    if nodes is not None and filtration.local is None:
+    if nodes is not None:
         return _operating_point_on_nodes(*nodes(pressure_cap), V, filtration, filter_area)
     if filtration.on_cake_basis:
         return _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter_area)
@@ -124,102 +125,195 @@ def _operating_point_cake_basis(supply_flow, pressure_cap, V, filtration, filter
     return P, flow
 
 
-NEWTON_STEPS = 6  # at most; within one table segment (1e-4 of the range wide) two or three reach round-off
+NEWTON_STEPS = 8  # at most; from the secant's root on a supply segment two reach round-off
+#: flow ratio of the nodes along the supply's last segment, to no flow (the pressure held past the cap)
+HELD_RATIO = 1.03
+HELD_NODES = 1000  # at most (the ratio grows instead)
+#: pressure ratio of the nodes below the supply's lowest pressure (its flow held there; total basis
+#: with a cloth, where that stretch has no closed form)
+FIRST_RATIO = 1.02
+
+
+@lru_cache(maxsize=16)
+def _unit_steps(n: int) -> np.ndarray:
+    """0, 1/(n-1), ..., 1 (kept: geometric nodes are an exponential of them)."""
+    steps = np.linspace(0.0, 1.0, n)
+    steps.flags.writeable = False
+    return steps
 
 
 def _operating_point_on_nodes(p, q, V, filtration, filter_area):
-    """``operating_point`` for a piecewise-linear supply Q(P) through nodes (p, q), p rising
-    from 0 to the cap: exact on each segment, no iteration over the whole grid.
+    r"""``operating_point`` for a piecewise-linear supply Q(P) through nodes (p, q), p non-decreasing
+    from 0 to the cap (a jump in Q: two nodes at one pressure): exact on each segment.
 
-    The volume at which the operating pressure reaches node j is closed-form, from
-    p_j = mu q_j (alpha(p_j) c V / A^2 + R_m / A); these volumes rise with p_j (the supply
-    falls, alpha p^-1 falls for s < 1), so each filtrate volume's segment is a binary search
-    away. On its segment Q is linear in P: an incompressible cake's operating pressure is then
-    the root of a linear equation; a compressible cake's is refined by Newton's method from the
-    interpolated pressure, kept inside the segment. Past the last node (the cap) the pressure
-    is held and the cake sets the flow.
+    alpha belongs to y = P - mu R_m Q / A on the cake basis (Tiller), to y = P on the total
+    basis. The cake and cloth meet the supply where
+
+    .. math:: G = y^{1-s} - \mu Q (r y^{-s} + k V) = 0,\qquad k = \alpha_{ref} p_{ref}^{-s} c / A^2
+
+    (r = R_m/A on the total basis, 0 on the cake basis), so the volume at which the operating
+    point reaches node j is closed-form, V_j = (y_j/(mu q_j) - r) A^2/(alpha(y_j) c); these
+    volumes rise with j (the supply falls, alpha y^-1 falls for s < 1), so each filtrate
+    volume's segment is a binary search away. Past the cap the pressure is held while the flow
+    falls to zero: more nodes continue the supply there. On a segment P and Q are linear in a
+    parameter t and G is concave and rising in t (derived here: y^(1-s) is concave, Q y^-s
+    convex), so Newton's method from the root of the chord (right of the root) goes left of
+    it once, then rises to it without overshooting (with r = 0 on the equivalent
+    H = y - (mu k V Q)^(1/(1-s)), also concave, whose slope stays finite where y -> 0). Where Q
+    is constant (below the supply's lowest pressure; a positive-displacement pump) and r = 0,
+    y^(1-s) = mu Q k V gives the root in closed form, Newton's start. An incompressible cake's
+    G is linear in t; with local laws (alpha a cake average) each segment is bisected in t.
+    Tested against brentq in tests/solver/test_pump_table.py.
     """
     f = filtration
+    mu, c = f.viscosity, f.solids_per_filtrate
     A2 = filter_area**2
     medium = f.medium_resistance / filter_area
     cake_basis = f.on_cake_basis
-    # the cloth's share of the pressure, mu R_m Q / A, per unit flow: alpha belongs to the rest
-    # on the cake pressure basis (Tiller), to the whole pressure on the total basis
-    cloth = f.viscosity * medium if cake_basis else 0.0
-    if f.compressibility and p.size >= 2:
-        # below the table the supply is flat and a compressible cake's pressure may span
-        # decades: nodes in geometric steps there keep Newton's start close. With a cloth the
-        # pressure never falls below the cloth's share mu q R_m / A; without, the first
-        # segment is solved in closed form below. On the cake basis the steps are in the
-        # cake's own pressure, which starts from zero there.
-        floor = f.viscosity * q[0] * medium if medium > 0.0 else 1e-9 * p[1]
+    cloth = mu * medium if cake_basis else 0.0  # the cloth's pressure per unit flow, taken off before alpha
+    r = 0.0 if cake_basis else medium  # the cloth in G (total basis)
+    power_law = f.local is None
+    s_ = f.compressibility if power_law else 0.0
+    cap = float(p[-1])
+    if power_law and s_ and r > 0.0 and p.size >= 2:
+        # below the supply's lowest pressure its flow is held and a compressible cake's pressure
+        # may span decades up from the cloth's share mu q R_m / A (at V = 0): nodes in geometric
+        # steps keep Newton's start close
+        floor = mu * q[0] * medium
         if floor < p[1]:
-            n = int(min(200, np.ceil(np.log(p[1] / floor) / np.log(1.15)))) + 1
-            if cake_basis:
-                extra = floor + np.geomspace(1e-9 * (p[1] - floor), p[1] - floor, n + 60)[:-1]
-                extra = np.concatenate(([floor], extra))
-            else:
-                extra = np.geomspace(floor, p[1], n)[:-1]
+            n = int(min(600, np.ceil(np.log(p[1] / floor) / np.log(FIRST_RATIO)))) + 1
+            extra = floor * np.exp(np.log(p[1] / floor) * _unit_steps(n)[:-1])
             p = np.concatenate(([0.0], extra, p[1:]))
             q = np.concatenate((np.full(extra.size + 1, q[0]), q[1:]))
-    cake_p = np.maximum(p - cloth * q, 0.0)
-    alpha_nodes = f.specific_resistance(cake_p) if f.compressibility else np.full_like(p, f.resistance_ref)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        V_nodes = (p / (f.viscosity * q) - medium) * A2 / (alpha_nodes * f.solids_per_filtrate)
-    V_nodes = np.where(q > 0.0, np.fmax(V_nodes, 0.0), np.inf)  # 0/0 where the cake has no pressure yet: 0
-    V_nodes[0] = 0.0  # zero pressure: no filtrate yet (0/0 for a compressible cake without cloth)
-    V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
-    last = p.size - 1
-    j = np.clip(np.searchsorted(V_nodes, V, side="right") - 1, 0, last - 1)
-    p0, p1, q0, q1 = p[j], p[j + 1], q[j], q[j + 1]
-    m = (q1 - q0) / (p1 - p0)  # <= 0
-    cake_per_alpha = f.solids_per_filtrate * V / A2
-    at_cap = V >= V_nodes[last]  # past the last node: the cap's pressure, set below
-    if f.compressibility == 0.0:
-        muR = f.viscosity * (f.resistance_ref * cake_per_alpha + medium)
-        P = muR * (q0 - m * p0) / (1.0 - muR * m)
-    else:
+    # The last segment ends at no flow: held at the cap (a node (cap, 0) added), or a pump's
+    # shut-off there. Nodes along it in geometric steps of the flow, down to one where the volume
+    # is past every V asked (there y >= p_lo/2 and alpha(y) <= alpha(cap)), keep Newton's start
+    # close and the flow's relative precision (Q = q0 + t dq would lose it next to zero).
+    held = q[-1] > 0.0  # past the cap the pressure is held while the flow falls to zero
+    p_lo, q_lo = (cap, float(q[-1])) if held else (float(p[-2]), float(q[-2]))
+    p_along = q_along = ()
+    V_top = float(V.max()) if V.size else 0.0
+    if V_top > 0.0 and q_lo > 0.0:
+        alpha_cap = f.resistance_ref * (cap / f.reference_pressure) ** s_ if power_law else float(
+            f.specific_resistance(cap))
+        q_end = 0.5 * p_lo / (mu * (r + alpha_cap * c * V_top / A2))
+        if cloth > 0.0:
+            q_end = min(q_end, 0.5 * p_lo / cloth)
+        if 0.0 < q_end < q_lo:
+            ratio = max(HELD_RATIO, (q_lo / q_end) ** (1.0 / HELD_NODES))
+            n = int(np.ceil(np.log(q_lo / q_end) / np.log(ratio)))
+            q_along = q_lo * ratio ** -np.arange(1.0, n + 1.0)
+            p_along = cap - (cap - p_lo) * (q_along / q_lo)  # on the segment's line
+    p = np.concatenate((p if held else p[:-1], p_along, (cap,)))
+    q = np.concatenate((q if held else q[:-1], q_along, (0.0,)))
+    y = p - cloth * q if cloth else p
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        y_pos = np.maximum(y, 0.0)
+        if power_law and s_:
+            k = f.resistance_ref * f.reference_pressure**-s_ * c / A2  # alpha c V / A^2 = k V y^s
+            b = (mu * k) * q  # G at node j: a_j - V b_j
+            a = y_pos**-s_ * (y_pos - (mu * r) * q) if r else y_pos ** (1.0 - s_)
+            V_nodes = a / b
+        else:
+            alpha = f.specific_resistance(y_pos) if not power_law else f.resistance_ref
+            V_nodes = (y / (mu * q) - r) * A2 / (alpha * c)
+        V_nodes = np.fmax(V_nodes, 0.0)  # 0/0 where the cake has no pressure yet: 0
+    V_nodes[0] = 0.0  # zero pressure: no filtrate yet
+    V_nodes[-1] = np.inf  # no flow (the only node without: q falls, and the supply's is > 0 below the cap)
+    if not (V_nodes[1:] >= V_nodes[:-1]).all():
+        V_nodes = np.maximum.accumulate(V_nodes)  # rounding must not break the order
+    j = np.searchsorted(V_nodes, V, side="right") - 1
+    j = np.minimum(np.maximum(j, 0), p.size - 2)
+    j1 = j + 1
+    p0, q0, y0, p1 = p[j], q[j], y[j], p[j1]
+    dp, dq = p1 - p0, q[j1] - q0
+    dy = dp - cloth * dq if cloth else dp  # >= 0
+    if not power_law:
+        lo, hi = np.zeros_like(V), np.ones_like(V)
+        cpa = c * V / A2
+        for _ in range(BISECTION_STEPS):
+            mid = 0.5 * (lo + hi)
+            ym = y0 + mid * dy
+            cake_wins = ym > mu * (q0 + mid * dq) * (f.specific_resistance(np.maximum(ym, 0.0)) * cpa + r)
+            hi = np.where(cake_wins, mid, hi)
+            lo = np.where(cake_wins, lo, mid)
+        t = 0.5 * (lo + hi)
+    elif not s_:
+        muR = mu * (f.resistance_ref * c * V / A2 + medium)
+        den = dp - muR * dq  # > 0 on a segment of positive length
         with np.errstate(divide="ignore", invalid="ignore"):
-            w = np.where(np.isfinite(V_nodes[j + 1]) & (V_nodes[j + 1] > V_nodes[j]),
-                         (V - V_nodes[j]) / (V_nodes[j + 1] - V_nodes[j]), 0.0)
-        P = p0 + np.clip(w, 0.0, 1.0) * (p1 - p0)
-        s_, a_ref, p_ref, mu = f.compressibility, f.resistance_ref, f.reference_pressure, f.viscosity
-        # Newton's method only where the pressure is not held at the cap (there it is known,
-        # and a step out of the last segment would never settle)
-        live = np.flatnonzero(~at_cap)
-        Pl, p0l, p1l, q0l, ml, cpa = P[live], p0[live], p1[live], q0[live], m[live], cake_per_alpha[live]
-        # what does not change between steps, worked out once
-        a_cpa = a_ref * p_ref**-s_ * cpa  # alpha c V / A^2 = a_cpa pc^s
-        s_turn = s_ * (1.0 - cloth * ml)
-        tolerance = 1e-14 * p1l
-        with np.errstate(over="ignore", divide="ignore", invalid="ignore"):
-            for _ in range(NEWTON_STEPS if live.size else 0):
-                Q = q0l + ml * (Pl - p0l)
-                pc = np.maximum(Pl - cloth * Q, 1e-300)  # the pressure alpha belongs to
-                cake = a_cpa * pc**s_  # alpha c V / A^2
-                R = cake + medium
-                step = (Pl - mu * Q * R) / (1.0 - mu * (ml * R + Q * cake / pc * s_turn))
-                if not np.all(np.isfinite(step)):
-                    # out of floating-point range (a pressure next to zero): go to the segment's middle
-                    step = np.where(np.isfinite(step), step, Pl - 0.5 * (p0l + p1l))
-                Pl = np.clip(Pl - step, p0l, p1l)
-                if np.all(np.abs(step) <= tolerance):  # converged (quadratically) to round-off
-                    break
-        P[live] = Pl
-        if medium == 0.0:
-            # the first segment without a cloth: P = mu q0 alpha_ref (P/p_ref)^s c V / A^2
-            first = j == 0
-            # the power may overflow for a compressibility near 1 (only on points it does not
-            # concern, or on a cycle the finiteness check then refuses with a 422)
-            with np.errstate(over="ignore"):
-                P = np.where(first, (mu * q0 * a_ref * cake_per_alpha * p_ref**-s_) ** (1.0 / (1.0 - s_)), P)
-    P = np.where(at_cap, p[last], P)
-    supply = q0 + m * (P - p0)
-    flow = supply.copy()
-    if np.any(at_cap):  # the cake's flow at the held pressure, only where it is held
-        flow[at_cap] = cake_flow(p[last], V[at_cap], filtration, filter_area)
-    flow = np.where(np.isfinite(flow), np.minimum(flow, supply), supply)
-    return P, flow
+            t = np.where(den > 0.0, (muR * q0 - p0) / den, 0.0)
+        t = np.minimum(np.maximum(t, 0.0), 1.0)
+    else:
+        t = _newton_on_segments(V, a[j], b[j], a[j1], b[j1], y0, dy, q0, dq, dp / p1, mu * k, mu * r, s_)
+    P = np.minimum(p0 + t * dp, p1)
+    return P, q0 + t * dq
+
+
+def _newton_on_segments(V, a0, b0, a1, b1, y0, dy, q0, dq, dp_rel, mu_k, mu_r, s_):
+    r"""Each volume's parameter t on its segment (a power law, s > 0), by Newton's method; see
+    ``_operating_point_on_nodes`` (G = a - V b at the segment's ends; dp_rel: the segment's
+    pressure rise relative to its end pressure).
+
+    With no cloth term in G (the cake basis; the total basis without cloth) the root of G is
+    the root of
+
+    .. math:: H(t) = y - (\mu k V Q)^{1/(1-s)},
+
+    concave and rising in t like G, but with H' = dy - Q' (mu k V Q)^{1/(1-s)} / ((1-s) Q) >= dy
+    finite where y -> 0 (a cake pressure next to nothing behind a cloth that takes nearly all
+    of it, where G' is infinite and Newton's method would crawl), and defined for y < 0 too.
+    """
+    one_s = 1.0 - s_
+    mkV = mu_k * V
+    power = 1.0 / one_s
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        G0 = a0 - V * b0
+        t = G0 / (G0 - (a1 - V * b1))  # the root of G's chord: right of the root (G is concave)
+        if not mu_r:
+            # the flow held on the segment: y^(1-s) = mu Q k V, the root itself
+            flat = np.flatnonzero(dq == 0.0)
+            if flat.size:
+                t[flat] = ((q0[flat] * mkV[flat]) ** power - y0[flat]) / dy[flat]
+        t = np.minimum(np.where(t >= 0.0, t, 0.0), 1.0)  # also where the chord has no root (NaN)
+        if mu_r:
+            y_scale = dy / (y0 + dy)  # the total basis: y = P
+        out, at = t, None  # the volumes still iterated: all, then those not yet converged
+        for _ in range(NEWTON_STEPS):
+            Q = q0 + t * dq
+            if mu_r:  # G on the total basis with a cloth (y = P >= the cloth's share > 0)
+                y = np.maximum(y0 + t * dy, 1e-300)
+                y_s = y**-s_
+                mQr = mu_r * Q
+                G = y_s * (y - mQr) - Q * mkV
+                dG = y_s * (one_s * dy + s_ * mQr * dy / y - mu_r * dq) - dq * mkV
+                scale = y_scale
+            else:
+                W = (mkV * Q) ** power
+                G = y0 + t * dy - W
+                dG = dy - power * W * dq / Q
+                scale = dp_rel
+            step = G / dG
+            if not np.isfinite(step).all():  # out of floating-point range: to the segment's middle there
+                step = np.where(np.isfinite(step), step, t - 0.5)
+            t = np.minimum(np.maximum(t - step, 0.0), 1.0)
+            if at is None:
+                out = t
+            else:
+                out[at] = t
+            # the change in P (relative to the segment's end) and in Q (to itself): below 1e-9 the
+            # next step's would be below round-off (quadratic convergence; |G''/G'| <= s dy/y,
+            # |H''/H'| <= (1/(1-s) - 1) |dq|/Q)
+            going = np.flatnonzero(np.abs(step) * (scale - dq / Q) > 1e-9)
+            if going.size == 0:
+                break
+            at = going if at is None else at[going]
+            t, y0, dy, q0, dq, mkV = (x[going] for x in (t, y0, dy, q0, dq, mkV))
+            if mu_r:
+                y_scale = y_scale[going]
+            else:
+                dp_rel = dp_rel[going]
+    return out
 
 
 def volume_grid(V_max: float, n: int = 2000) -> np.ndarray:
@@ -427,66 +521,85 @@ class TabulatedCurve:
 
 
 class GeneralisedInverse:
-    """Q_supply(dP) for a falling pump curve dP(Q) given on increasing flows.
+    """Q_supply(dP) for a falling pump curve dP(Q) given on increasing flows: piecewise linear
+    between the points, evaluated exactly.
 
-    Flat stretches of the curve become jumps in Q(dP); below the curve's lowest pressure
-    the flow is the curve's highest flow.
+    Flat stretches of the curve become jumps in Q(dP) (at the jump's pressure the highest of
+    its flows: the function is continuous from below); below the curve's lowest pressure the
+    flow is the curve's highest flow, above its highest pressure its lowest. A uniform table
+    over the pressure range points each pressure to the few nodes near it, so a lookup costs a
+    few array operations and no binary search (a bisection for the operating point calls the
+    supply dozens of times over a whole volume grid).
     """
 
     def __init__(self, flows, pressures):
         order = np.argsort(flows)
         Q = np.asarray(flows, dtype=float)[order]
         P = np.asarray(pressures, dtype=float)[order]
-        self.P = P[::-1]  # non-decreasing
-        self.Q = Q[::-1]  # decreasing
-
-    def __call__(self, pressure):
-        p = np.asarray(pressure, dtype=float)
-        j = np.searchsorted(self.P, p, side="left")
-        j_hi = np.clip(j, 0, self.P.size - 1)
-        j_lo = np.clip(j - 1, 0, self.P.size - 1)
-        span = self.P[j_hi] - self.P[j_lo]
+        self.P = P[::-1].copy()  # non-decreasing
+        self.Q = Q[::-1].copy()  # decreasing
+        P, Q, n = self.P, self.Q, self.P.size
+        width = np.diff(P)
         with np.errstate(divide="ignore", invalid="ignore"):
-            w = np.where(span > 0.0, (p - self.P[j_lo]) / span, 1.0)
-        Q = self.Q[j_lo] + (self.Q[j_hi] - self.Q[j_lo]) * np.clip(w, 0.0, 1.0)
-        return np.where(j == 0, self.Q[0], Q)
-
-
-class UniformTable:
-    """A non-increasing function of pressure tabulated on a uniform grid, for O(1) lookup.
-
-    The root find calls the supply tens of times over the whole volume grid; a uniform
-    table replaces a binary search per call with arithmetic. Below the first pressure
-    the first value holds; above the last, the last.
-    """
-
-    def __init__(self, fn, p_lo: float, p_hi: float, n: int = 8193):
-        self.p_lo = p_lo
-        self.n = n if p_hi > p_lo else 1
-        self.h = (p_hi - p_lo) / (self.n - 1) if self.n > 1 else 1.0
-        self.values = np.asarray(fn(np.linspace(p_lo, p_hi, self.n)), dtype=float)
-        # the step to the next value, with a zero step after the last (held beyond the table)
-        self.steps = np.append(np.diff(self.values), 0.0)
+            slope = np.where(width > 0.0, np.diff(Q) / np.where(width > 0.0, width, 1.0), 0.0)
+        # by j, the count of nodes below the pressure, the flow is base[j] + slope[j] (p - anchor[j]):
+        # j = 0 below the curve (its highest flow), j = n above it (its lowest)
+        self._base = np.concatenate(([Q[0]], Q[:-1], [Q[-1]]))
+        self._anchor = np.concatenate(([P[0]], P[:-1], [P[-1]]))
+        self._slope = np.concatenate(([0.0], slope, [0.0]))
+        self._P_list, self._Q_list, self._base_list, self._anchor_list, self._slope_list = (
+            a.tolist() for a in (P, Q, self._base, self._anchor, self._slope))
+        # that count, among the distinct pressures U (a jump's nodes share one): k of them below
+        # the pressure, then the nodes before U[k]
+        U = np.unique(P)
+        self._first = np.append(np.searchsorted(P, U, side="left"), n)
+        self._U = np.append(U, np.inf)  # U[k], with +inf past the last
+        self._corrections = None
+        if U.size > 1:
+            # buckets enough that none holds more than a few distinct pressures (or a search)
+            for buckets in (4 * U.size, 32 * U.size, 256 * U.size):
+                h = (U[-1] - U[0]) / buckets
+                # distinct pressures below each bucket's start (a hair below it, so that rounding
+                # in the bucket of a pressure never counts one at or above that pressure)
+                start = np.searchsorted(U, U[0] + h * np.arange(buckets + 1) - 1e-9 * h, side="left")
+                most = int(np.max(np.diff(np.append(start, U.size)))) + 1
+                if most <= 3:  # one step forward for each
+                    self._h, self._start, self._corrections = h, start, most
+                    break
         self._nodes = {}
 
+    def _count_below(self, p):
+        """The number of nodes below each pressure (numpy's searchsorted, side "left")."""
+        if self._corrections is None:
+            return np.searchsorted(self.P, p, side="left")
+        b = (p - self._U[0]) * (1.0 / self._h)
+        k = self._start[np.clip(b, 0.0, self._start.size - 1.0).astype(np.intp)]
+        U = self._U
+        for _ in range(self._corrections):
+            k = k + (U[k] < p)
+        return self._first[k]
+
+    def __call__(self, pressure):
+        if isinstance(pressure, float):  # one pressure (a kink, the cap): a bisect on a list
+            j = bisect_left(self._P_list, pressure)
+            if j < len(self._P_list) and self._P_list[j] == pressure:
+                return self._Q_list[j]  # a node's own flow (the line through it would round it)
+            return self._base_list[j] + self._slope_list[j] * (pressure - self._anchor_list[j])
+        p = np.asarray(pressure, dtype=float)
+        j = self._count_below(p)
+        return self._base[j] + self._slope[j] * (p - self._anchor[j])
+
     def nodes(self, cap: float) -> tuple[np.ndarray, np.ndarray]:
-        """The table as (pressure, flow) nodes from 0 to ``cap`` [Pa]: the first value held
-        below the table, the table's nodes below the cap, and the value at the cap."""
+        """The function as (pressure, flow) nodes from 0 to ``cap`` [Pa], pressure non-decreasing
+        (a jump: two nodes at one pressure): the highest flow held from 0, the curve's own
+        points below the cap, and the flow at the cap. Exact: between nodes Q(P) is linear."""
         key = float(cap)
         cached = self._nodes.get(key)
         if cached is None:
-            grid = self.p_lo + self.h * np.arange(self.n) if self.n > 1 else np.array([self.p_lo])
-            inside = (grid > 0.0) & (grid < cap)
-            p = np.concatenate(([0.0], grid[inside], [cap]))
-            cached = (p, np.asarray(self(p), dtype=float))
+            inside = (self.P > 0.0) & (self.P < key)
+            p = np.concatenate(([0.0], self.P[inside], [key]))
+            q = np.concatenate(([self.Q[0]], self.Q[inside], [self(key)]))  # (a node's own flow there)
+            cached = (p, q)
             if len(self._nodes) < 16:
                 self._nodes[key] = cached
         return cached
-
-    def __call__(self, pressure):
-        p = np.asarray(pressure, dtype=float)
-        if self.n == 1:
-            return np.full_like(p, self.values[0])
-        x = np.minimum(np.maximum((p - self.p_lo) * (1.0 / self.h), 0.0), self.n - 1.0)
-        i = x.astype(np.intp)
-        return self.values[i] + (x - i) * self.steps[i]

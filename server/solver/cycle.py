@@ -443,13 +443,14 @@ class CycleFamily:
         fill = np.asarray(press.chamber_fill(V, v, chamber_thickness), dtype=float)
         feasible = (fill <= press.fill_fraction * (1.0 + 1e-12)).tolist()
         reasons = [limited_by] * n if isinstance(limited_by, str) else list(limited_by)
+        thickness = column(press.cake_thickness(V, v))
         if st is None:
             wash_volume = self.wash_per_filtrate * V
             moisture = 1.0 - 1.0 / f.wet_to_dry_ratio
             pores = self._pore_volumes(self.wash_per_filtrate)
             extra = [[0.0] * n, [0.0] * n, [0.0] * n, [None] * n, [pores] * n,
                      column(self.wash_per_filtrate) if self.wash_per_filtrate else [None] * n,
-                     [None] * n, [moisture] * n, column(press.cake_thickness(V, v)), [None] * n]
+                     [None] * n, [moisture] * n, thickness, [None] * n]
             wet = f.wet_to_dry_ratio * c * V
         else:
             wash_volume = st["wash_volume"]
@@ -471,7 +472,7 @@ class CycleFamily:
         rows = zip(
             V.tolist(), column(times["filtration"]), column(wash_volume), column(times.get("wash", 0.0)),
             [float(self.cycle.downtime)] * n, T.tolist(), (V / T).tolist(), (c * V / T).tolist(),
-            column(press.cake_thickness(V, v)), fill.tolist(), (c * V).tolist(), column(wet),
+            thickness, fill.tolist(), (c * V).tolist(), column(wet),
             column(self.curve.rate(V)), column(self.curve.pressure_at(V)), reasons, feasible,
             [float(self.fill_time)] * n, *extra, strict=True,
         )
@@ -929,19 +930,25 @@ def compare_thicknesses(
     V_full = np.asarray(chambers_full_volume(press.filter_area, Ls, v, press.fill_fraction), dtype=float)
     V_star = float(family.V_star)
     V_best = np.broadcast_to(np.asarray(family.best_volume(V_full), dtype=float), V_full.shape)
-    unconstrained = family.results(press, np.full(n, V_star), Ls, LIMITED_BY_OPTIMUM)
-    full = family.results(press, V_full, Ls, LIMITED_BY_CHAMBERS)
-    between = np.flatnonzero((V_best != V_star) & (V_best < V_full))  # a lower peak inside (steps, pumps)
-    inner = dict(zip(between.tolist(), family.results(press, V_best[between], Ls[between], LIMITED_BY_OPTIMUM))) \
-        if between.size else {}
-    best = [unconstrained[i] if V_best[i] == V_star else (full[i] if V_best[i] >= V_full[i] else inner[i])
-            for i in range(n)]
-    ends = [family.end_volume(end, best[i].filtrate_volume, float(V_full[i])) for i in range(n)]
-    redo = [i for i, (V_end, reason) in enumerate(ends)
-            if not (V_end == best[i].filtrate_volume and reason == best[i].limited_by)]
-    again = family.results(press, np.array([ends[i][0] for i in redo]), Ls[redo], [ends[i][1] for i in redo]) \
-        if redo else []
-    at_end = dict(zip(redo, again))
+    # each best cycle's end volume and what limits it are known before any cycle is worked out
+    # (the optimum, full chambers, or a lower peak inside them: steps, pumps), and so is where
+    # the end criterion stops; then every cycle needed is worked out in one go
+    V_best_l, V_full_l = V_best.tolist(), V_full.tolist()
+    kinds = [0 if Vb == V_star else (1 if Vb >= Vf else 2) for Vb, Vf in zip(V_best_l, V_full_l)]
+    between = [i for i, kind in enumerate(kinds) if kind == 2]
+    best_V = [(V_star, V_full_l[i], V_best_l[i])[kind] for i, kind in enumerate(kinds)]
+    best_reason = [LIMITED_BY_CHAMBERS if kind == 1 else LIMITED_BY_OPTIMUM for kind in kinds]
+    ends = [family.end_volume(end, best_V[i], V_full_l[i]) for i in range(n)]
+    redo = [i for i, (V_end, reason) in enumerate(ends) if not (V_end == best_V[i] and reason == best_reason[i])]
+    picks = list(range(n)) * 2 + between + redo  # thickness of each cycle worked out
+    cycles = family.results(
+        press, np.concatenate((np.full(n, V_star), V_full, V_best[between], [ends[i][0] for i in redo])),
+        Ls[picks], [LIMITED_BY_OPTIMUM] * n + [LIMITED_BY_CHAMBERS] * n + [LIMITED_BY_OPTIMUM] * len(between)
+        + [ends[i][1] for i in redo])
+    unconstrained, full = cycles[:n], cycles[n:2 * n]
+    inner = dict(zip(between, cycles[2 * n:2 * n + len(between)]))
+    at_end = dict(zip(redo, cycles[2 * n + len(between):]))
+    best = [(unconstrained[i], full[i], inner.get(i))[kind] for i, kind in enumerate(kinds)]
     feed_warnings = getattr(system.feed, "warnings", None)
     shared = list(feed_warnings(f, press.filter_area)) if feed_warnings else []
     matched = 2.0 * v * V_star / (press.fill_fraction * press.filter_area)
@@ -949,13 +956,14 @@ def compare_thicknesses(
     out = []
     for i, L in enumerate(thicknesses):
         end_cycle = at_end.get(i, best[i])
+        specs, spec_warnings = spec_report(family, best[i])
         out.append((L, CycleSolution(
             best=best[i], unconstrained_optimum=unconstrained[i], chambers_full=full[i],
             at_end=EndResult(end_cycle, ends[i][1], end_cycle.filtrate_throughput / best[i].filtrate_throughput),
             chambers_full_volume=float(V_full[i]), matched_chamber_thickness=matched,
             throughput_gain_unconstrained=unconstrained[i].filtrate_throughput / best[i].filtrate_throughput - 1.0,
-            curves={}, K_p=K_p, B=B, specs=spec_report(family, best[i])[0],
-            warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched) + spec_report(family, best[i])[1]
+            curves={}, K_p=K_p, B=B, specs=specs,
+            warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched) + spec_warnings
             + _through_wash_warning(family, best[i], press),
             stage_order=family.treatment.order if family.treatment is not None else (
                 ("wash",) if family.wash_per_filtrate else ()),

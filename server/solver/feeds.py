@@ -19,7 +19,7 @@ import numpy as np
 from scipy.interpolate import PchipInterpolator
 
 from . import constant_pressure as cp
-from .curves import GeneralisedInverse, TabulatedCurve, UniformTable, operating_point, volume_grid
+from .curves import GeneralisedInverse, TabulatedCurve, operating_point, volume_grid
 from .errors import SolverInputError, in_bar, in_m3h
 from .locallaws import TillerLeu
 from .resistance import specific_resistance
@@ -667,7 +667,9 @@ def _supply_curve(feed, filtration: Filtration, filter_area: float, V_max: float
             continue
         V_kink = kink_volume(filtration, filter_area, pressure, float(feed.supply_flow(pressure)))
         if 0.0 < V_kink < V_max:
-            V = np.unique(np.append(V, V_kink))
+            i = int(np.searchsorted(V, V_kink))  # the grid is sorted: a node inserted, not a sort
+            if V[i] != V_kink:
+                V = np.concatenate((V[:i], (V_kink,), V[i:]))
     P, Q = operating_point(feed.supply_flow, feed.pressure_cap, V, filtration, filter_area)
     return TabulatedCurve(V, P, Q)
 
@@ -758,16 +760,15 @@ class PumpCurve:
 
 
 @lru_cache(maxsize=64)
-def _pump_supply_table(points: tuple) -> UniformTable:
+def _pump_supply_table(points: tuple) -> GeneralisedInverse:
     """Flow against pressure for a pump curve given as sorted (flow, pressure) points: the
-    monotone cubic through them, inverted, tabulated (kept: a scenario's curve comes back with
-    every request about it)."""
+    monotone cubic through them on a dense grid of flows, inverted (piecewise linear between
+    the grid's points; kept: a scenario's curve comes back with every request about it)."""
     q = np.array([p[0] for p in points])
     P = np.array([p[1] for p in points])
     dense_q = np.unique(np.concatenate((q, np.linspace(q[0], q[-1], max(4 * q.size, 2000)))))
     dense_p = PchipInterpolator(q, P)(dense_q)
-    inverse = GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p))
-    return UniformTable(inverse, float(P.min()), float(P.max()))
+    return GeneralisedInverse(dense_q, np.minimum.accumulate(dense_p))
 
 
 def cake_flow_at_start(filtration: Filtration, filter_area: float, pressure: float) -> float:
