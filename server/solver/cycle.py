@@ -926,18 +926,10 @@ def compare_thicknesses(
     v = f.cake_volume_ratio
     Ls = np.asarray(thicknesses)
     n = Ls.size
-    # every thickness's cycles at once: the curve and the optimum are the same for all
-    V_full = np.asarray(chambers_full_volume(press.filter_area, Ls, v, press.fill_fraction), dtype=float)
+    V_full, V_best, kinds, best_V, best_reason = _best_volumes(family, press, Ls)
     V_star = float(family.V_star)
-    V_best = np.broadcast_to(np.asarray(family.best_volume(V_full), dtype=float), V_full.shape)
-    # each best cycle's end volume and what limits it are known before any cycle is worked out
-    # (the optimum, full chambers, or a lower peak inside them: steps, pumps), and so is where
-    # the end criterion stops; then every cycle needed is worked out in one go
-    V_best_l, V_full_l = V_best.tolist(), V_full.tolist()
-    kinds = [0 if Vb == V_star else (1 if Vb >= Vf else 2) for Vb, Vf in zip(V_best_l, V_full_l)]
+    V_full_l = V_full.tolist()
     between = [i for i, kind in enumerate(kinds) if kind == 2]
-    best_V = [(V_star, V_full_l[i], V_best_l[i])[kind] for i, kind in enumerate(kinds)]
-    best_reason = [LIMITED_BY_CHAMBERS if kind == 1 else LIMITED_BY_OPTIMUM for kind in kinds]
     ends = [family.end_volume(end, best_V[i], V_full_l[i]) for i in range(n)]
     redo = [i for i, (V_end, reason) in enumerate(ends) if not (V_end == best_V[i] and reason == best_reason[i])]
     picks = list(range(n)) * 2 + between + redo  # thickness of each cycle worked out
@@ -971,6 +963,22 @@ def compare_thicknesses(
     return out
 
 
+def _best_volumes(family: CycleFamily, press: Press, Ls: np.ndarray):
+    """Every thickness's chambers-full volume and best cycle's end volume, known before any
+    cycle is worked out (the curve and the optimum are the same for all): (V_full array,
+    V_best array, kind per thickness: 0 the optimum, 1 full chambers, 2 a lower peak inside
+    them (steps, pumps), the best cycle's end volume and what limits it, as lists)."""
+    V_full = np.asarray(chambers_full_volume(press.filter_area, Ls, family.filtration.cake_volume_ratio,
+                                             press.fill_fraction), dtype=float)
+    V_star = float(family.V_star)
+    V_best = np.broadcast_to(np.asarray(family.best_volume(V_full), dtype=float), V_full.shape)
+    V_best_l, V_full_l = V_best.tolist(), V_full.tolist()
+    kinds = [0 if Vb == V_star else (1 if Vb >= Vf else 2) for Vb, Vf in zip(V_best_l, V_full_l)]
+    best_V = [(V_star, V_full_l[i], V_best_l[i])[kind] for i, kind in enumerate(kinds)]
+    best_reason = [LIMITED_BY_CHAMBERS if kind == 1 else LIMITED_BY_OPTIMUM for kind in kinds]
+    return V_full, V_best, kinds, best_V, best_reason
+
+
 def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None = None
                    ) -> list[tuple[float, CycleResult, CycleResult]]:
     """(chamber thickness [m], best cycle, chambers-full cycle) at each thickness: what a
@@ -985,9 +993,20 @@ def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None 
     if not thicknesses:
         return []
     family = family or cycle_family_for(system, thicknesses)
-    if family.scan is not None or family.treatment is not None or system.cycle.fill_flow is not None:
+    if system.cycle.fill_flow is not None:  # the filling time differs per thickness
         return [(L, s.best, s.chambers_full) for L, s in compare_thicknesses(system, thicknesses, None, family)]
     press, v = system.press, system.filtration.cake_volume_ratio
+    if family.scan is not None or family.treatment is not None:
+        # a table or stages: the chambers-full cycles and the other best cycles in one go
+        Ls = np.asarray(thicknesses)
+        n = Ls.size
+        V_full, _, kinds, best_V, best_reason = _best_volumes(family, press, Ls)
+        others = [i for i, kind in enumerate(kinds) if kind != 1]
+        cycles = family.results(press, np.concatenate((V_full, [best_V[i] for i in others])),
+                                Ls[list(range(n)) + others],
+                                [LIMITED_BY_CHAMBERS] * n + [best_reason[i] for i in others])
+        full, best = cycles[:n], dict(zip(others, cycles[n:]))
+        return [(L, best.get(i, full[i]), full[i]) for i, L in enumerate(thicknesses)]
     V_star = float(family.V_star)
     optimum = family.result(press, V_star, LIMITED_BY_OPTIMUM).__dict__
     rows = []

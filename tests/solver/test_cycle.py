@@ -275,7 +275,8 @@ def test_the_comparison_at_once_equals_one_solve_per_thickness(feed_kind, end):
 
 
 
-@pytest.mark.parametrize("feed_kind", ["constant_pressure", "incompressible", "pump", "steps", "filling"])
+@pytest.mark.parametrize("feed_kind", ["constant_pressure", "incompressible", "pump", "steps", "filling", "squeeze",
+                                       "squeeze_free"])
 def test_the_rows_a_comparison_shows_are_its_best_and_chambers_full_cycles(feed_kind):
     # thickness_rows (what the API's thickness_comparison shows) shares the closed-form
     # optimum's cycle between thicknesses (issue 12): each row must be exactly the best and
@@ -293,6 +294,14 @@ def test_the_rows_a_comparison_shows_are_its_best_and_chambers_full_cycles(feed_
         feed = PressureSteps(((1e5, 600.0), (3e5, 900.0), (7e5, 1e6)))
     elif feed_kind == "filling":
         cycle = replace(cycle, fill_time=300.0)
+    elif feed_kind.startswith("squeeze"):  # stages after filtration (a membrane squeeze, its time given or free)
+        from server.solver.expression import Squeeze
+        from server.solver.stages import Specs
+
+        squeeze = Squeeze(pressure=1.5e6, consolidation_coefficient=2e-7, final_void_ratio=0.55,
+                          time=None if feed_kind == "squeeze_free" else 300.0)
+        cycle = replace(cycle, squeeze=squeeze, specs=Specs(max_moisture=0.34) if feed_kind == "squeeze_free" else None)
+        base = replace(base, filtration=replace(base.filtration, porosity=0.5))
     system = PressSystem(base.filtration, base.press, feed, cycle)
     L_match = solve_cycle(system).matched_chamber_thickness
     # thicknesses below, at and above the optimum's match: the best is the optimum or full chambers
