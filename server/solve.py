@@ -9,6 +9,9 @@ import math
 from contextlib import contextmanager
 from dataclasses import dataclass, replace
 from functools import cached_property
+from itertools import chain
+from operator import itemgetter
+from typing import get_type_hints
 
 import numpy as np
 import orjson
@@ -341,7 +344,10 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
     }
-    if bad is None and _any_non_finite({k: v for k, v in answer.items() if k not in _TEXT_PARTS}):
+    # the cycles (most of the answer's numbers) checked at once, the rest walked
+    cycles = [sol.best, sol.unconstrained_optimum, sol.chambers_full, *(c for _, *pair in rows for c in pair)]
+    if bad is None and (not _cycles_finite(cycles) or _any_non_finite(
+            {k: v for k, v in answer.items() if k not in _TEXT_PARTS and k not in _CYCLE_PARTS})):
         bad = first_non_finite(_plain(answer))
     if bad is None and series is not None:
         bad = next((f"chart_series.{name}" for name, values in _series_arrays(series)
@@ -477,8 +483,32 @@ def tested_range_warning(inputs: CycleRequest, feed) -> list[str]:
             f"with the compressibility; a test at the press pressure would confirm it."]
 
 
-#: parts of the results that hold no numbers computed for the request
-_TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings", "stage_order")
+#: parts of the results that hold no numbers computed for the request (the curves are
+#: checked as arrays, and input_warnings holds field names and messages)
+_TEXT_PARTS = ("curves", "units", "cautions", "solver_version", "warnings", "stage_order", "input_warnings")
+#: parts of the results that are cycles (checked by _cycles_finite)
+_CYCLE_PARTS = ("best", "unconstrained_optimum", "chambers_full", "thickness_comparison")
+
+#: a cycle's fields that are always numbers, and those that are numbers or None
+_CYCLE_NUMBERS = {name: kind for name, kind in get_type_hints(solver.CycleResult).items()
+                  if kind in (float, float | None)}
+_ALWAYS_NUMBERS = itemgetter(*(name for name, kind in _CYCLE_NUMBERS.items() if kind is float))
+_MAYBE_NUMBERS = itemgetter(*(name for name, kind in _CYCLE_NUMBERS.items() if kind is not float))
+
+
+def _cycles_finite(cycles) -> bool:
+    """Whether every number of these cycles (CycleResult) is finite: their numeric fields read
+    out and added up by the interpreter's own iterators, no Python step per number (issue 12).
+    NaN or an infinity carries through a sum; a sum that overflowed on finite numbers, or a
+    field that is not a number where one is expected, is left to the walk (:func:`_any_non_finite`)."""
+    fields = [c.__dict__ for c in cycles]
+    try:
+        # None (and 0, which adds nothing) left out of the fields that may be None
+        total = sum(chain.from_iterable(map(_ALWAYS_NUMBERS, fields)),
+                    sum(filter(None, chain.from_iterable(map(_MAYBE_NUMBERS, fields)))))
+    except TypeError:
+        total = math.nan
+    return math.isfinite(total) or not _any_non_finite(cycles)
 
 
 def _any_non_finite(data) -> bool:

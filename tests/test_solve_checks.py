@@ -152,3 +152,31 @@ def test_curves_of_huge_finite_numbers_are_not_refused(monkeypatch):
     monkeypatch.setattr(solve_module.solver, "solve_cycle", huge)
     request = CycleRequest.model_validate(json.loads(DEMOS[0].read_text())["inputs"])
     assert solve(request).results["curves"]["time"][0] == 1e308
+
+
+def test_cycles_are_checked_at_once_as_the_walk_checks_them():
+    # _cycles_finite adds each cycle's numeric fields up at once (issue 12): it must say what
+    # the walk says, for NaN and infinities in any numeric field, huge finite numbers, numpy
+    # floats and a field that is not a number
+    from dataclasses import fields as dc_fields
+
+    from server.solve import _cycles_finite
+    from server.solver.cycle import cycle_result
+
+    request = CycleRequest.model_validate(json.loads(DEMOS[0].read_text())["inputs"])
+    answer = solve(request).answer
+    cycles = [answer["best"], answer["chambers_full"], *(r["best"] for r in answer["thickness_comparison"])]
+    assert _cycles_finite(cycles)
+
+    def changed(cycle, **values):
+        return cycle_result({**cycle.__dict__, **values}.values())
+
+    numeric = [f.name for f in dc_fields(cycles[0]) if f.name not in ("limited_by", "feasible", "meets_specs")]
+    for name in numeric:
+        for bad in (math.nan, math.inf, -math.inf, np.float64("nan")):
+            spoiled = [*cycles[:-1], changed(cycles[-1], **{name: bad})]
+            assert not _cycles_finite(spoiled) and walked_non_finite([c.__dict__ for c in spoiled]), name
+        huge = [changed(c, **{name: 1e308}) for c in cycles]
+        assert _cycles_finite(huge)  # the sum overflows; the walk clears it
+    assert _cycles_finite([changed(cycles[0], cycle_time=np.float64(3.0), moisture=None)])
+    assert not _cycles_finite([changed(cycles[0], cycle_time="3", moisture=math.nan)])
