@@ -112,7 +112,7 @@ def _basis(target) -> Basis:
 def _ranges(req: PlanRequest) -> dict:
     """Each range as (low, high, shape) in SI, each end checked as the inputs would check it."""
     out = {}
-    raw = req.inputs._raw or req.inputs.model_dump()
+    raw = req.inputs.raw or req.inputs.model_dump()
     for path, given in req.ranges.items():
         loc = ("body", "ranges", path)
         if path not in RANGE_KINDS:

@@ -326,7 +326,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     answer = {
-        "input_warnings": input_warnings(si_inputs, inputs._raw) + derived_warnings(built.derived, si_inputs),
+        "input_warnings": input_warnings(si_inputs, inputs.raw) + derived_warnings(built.derived, si_inputs),
         "derived": derived,
         "uncertainty": uncertainty(inputs, built, sol),
         "target": target_check(inputs, sol),
@@ -472,7 +472,8 @@ def tested_range_warning(inputs: CycleRequest, feed) -> list[str]:
     top = feed.pressure_cap
     if lo * (1 - 1e-9) <= top <= hi * (1 + 1e-9):
         return []
-    feed_raw = inputs._raw.get("feed", {}) if isinstance(inputs._raw, dict) else {}
+    raw = inputs.raw
+    feed_raw = raw.get("feed", {}) if isinstance(raw, dict) else {}
     typed = next((feed_raw.get(n) for n in ("pressure", "max_pressure") if isinstance(feed_raw, dict)
                   and feed_raw.get(n) is not None), None)
     given = user_unit(typed, "pressure")

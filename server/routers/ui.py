@@ -26,7 +26,7 @@ router = APIRouter(prefix="/ui", tags=["ui"], include_in_schema=False)
 async def post_results(request: Request, inputs: CycleRequest, units: UnitSystem = "si") -> dict:
     solved = await within_budget(request, solve, inputs, with_chart_series=True)
     html, figures = render_results(request.app.state.templates, solved.results, solved.chart_series, Units(units),
-                                   inputs=inputs._raw)
+                                   inputs=inputs.raw)
     # encoded once, fast: the figures are most of the answer
     return Response(orjson.dumps({"html": html, "figures": figures, "results": solved.results},
                                  option=orjson.OPT_SERIALIZE_NUMPY),

@@ -471,7 +471,7 @@ class CycleIn(Strict):
                 stage = _STAGE_KEYS.get(key)
                 if stage and stage not in seen:
                     seen.append(stage)
-            model._given_order = tuple(seen)
+            model.__pydantic_private__["_given_order"] = tuple(seen)
         return model
 
     @model_validator(mode="before")
@@ -505,7 +505,9 @@ class CycleIn(Strict):
         """The stages after filtration in their order: as listed, else as given in the request."""
         if self.stages is not None:
             return tuple(self.stages)
-        given = self._given_order  # a private attribute: each look-up goes through pydantic's __getattr__
+        # read from the private store itself: pydantic's own look-up of a private attribute
+        # raises and catches an AttributeError on the way (microseconds; issue 12)
+        given = self.__pydantic_private__["_given_order"]
         return given + tuple(s for s in solver_stages.STAGES if s not in given)
 
     def to_solver(self, downtime: float | None = None, porosity: float = 0.5, wet_to_dry_ratio: float = 2.0,
@@ -575,8 +577,14 @@ class CycleRequest(Strict):
     def _keep_raw(cls, data, handler):
         model = handler(data)
         if isinstance(data, dict):
-            model._raw = data
+            model.__pydantic_private__["_raw"] = data
         return model
+
+    @property
+    def raw(self) -> dict:
+        """The request as sent (for the units a person typed), read from the private store
+        itself: pydantic's look-up of a private attribute costs microseconds (issue 12)."""
+        return self.__pydantic_private__["_raw"]
 
     slurry: SlurryIn
     cake: CakeIn
