@@ -9,6 +9,8 @@ editor's hints (common practice, no source).
 
 from dataclasses import dataclass
 
+from pydantic import BaseModel
+
 from .schemas.quantities import user_unit
 
 #: usual range per request field, in SI (the editor's hints show it in the unit chosen)
@@ -112,17 +114,21 @@ class InputWarning:
 _USUAL_PARTS = [(key, tuple(key.split(".")), low, high) for key, (low, high) in USUAL.items()]
 
 
-def input_warnings(si: dict, raw: dict) -> list[dict]:
+def input_warnings(si, raw: dict) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
-    validated request as a dict), ``raw`` the request as sent (for the units typed).
+    validated request, as a model or as a dict), ``raw`` the request as sent (for the units
+    typed).
 
     Most requests have no unusual value: the SI values are looked up along each key's path
-    first, and the request as sent is walked (for the unit typed) only for a key whose values
-    include one outside its range."""
+    first (on a model, its attributes: no dict of the whole request is made), and the request as
+    sent is walked (for the unit typed) only for a key whose values include one outside its
+    range."""
     out = []
     for key, parts, low, high in _USUAL_PARTS:
         if not _any_unusual(si, parts, low, high, key in ZERO_ALLOWED):
             continue
+        if isinstance(si, BaseModel):
+            si = si.model_dump()
         for path, value, typed in _entries(si, raw, key):
             if not isinstance(value, float | int) or (value == 0 and key in ZERO_ALLOWED) or low <= value <= high:
                 continue
@@ -144,6 +150,8 @@ def _any_unusual(si, parts: tuple, low: float, high: float, zero_allowed: bool) 
                        else _outside(item, low, high, zero_allowed) for item in node)
         if isinstance(node, dict):
             node = node.get(head)
+        elif isinstance(node, BaseModel):
+            node = getattr(node, head, None)
         elif isinstance(node, list | tuple) and head.isdigit() and int(head) < len(node):
             node = node[int(head)]
         else:
@@ -240,12 +248,17 @@ def _slip(typed, value: float, low: float, high: float) -> str | None:
     return None
 
 
-def derived_warnings(derived: dict, si: dict) -> list[dict]:
+def derived_warnings(derived: dict, si) -> list[dict]:
     """Flags for figures the inputs fix together: a solids density fixed by the cake's dry bulk
-    density and moisture, outside the usual range of solids."""
+    density and moisture, outside the usual range of solids. ``si``: the request (a model or a
+    dict)."""
     out = []
-    cake, slurry = si.get("cake") or {}, si.get("slurry") or {}
-    if cake.get("dry_bulk_density") is not None and slurry.get("solids_density") is None:
+    if isinstance(si, BaseModel):
+        dry_bulk, solids = si.cake.dry_bulk_density, si.slurry.solids_density
+    else:
+        dry_bulk = (si.get("cake") or {}).get("dry_bulk_density")
+        solids = (si.get("slurry") or {}).get("solids_density")
+    if dry_bulk is not None and solids is None:
         rho_s = derived.get("solids_density")
         low, high = USUAL["slurry.solids_density"]
         if rho_s is not None and not low <= rho_s <= high:

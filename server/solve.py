@@ -322,11 +322,10 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     if spoiled:
         bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in curves.items()
                     if not np.isfinite(v).all()), None)
-    si_inputs = inputs.model_dump()
     at_end = _cycle_dict(sol.at_end.cycle)
     at_end.update(end_reason=sol.at_end.end_reason, throughput_ratio_to_best=sol.at_end.throughput_ratio_to_best)
     answer = {
-        "input_warnings": input_warnings(si_inputs, inputs.raw) + derived_warnings(built.derived, si_inputs),
+        "input_warnings": input_warnings(inputs, inputs.raw) + derived_warnings(built.derived, inputs),
         "derived": derived,
         "uncertainty": uncertainty(inputs, built, sol),
         "target": target_check(inputs, sol),

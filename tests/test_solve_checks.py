@@ -180,3 +180,32 @@ def test_cycles_are_checked_at_once_as_the_walk_checks_them():
         assert _cycles_finite(huge)  # the sum overflows; the walk clears it
     assert _cycles_finite([changed(cycles[0], cycle_time=np.float64(3.0), moisture=None)])
     assert not _cycles_finite([changed(cycles[0], cycle_time="3", moisture=math.nan)])
+
+
+@pytest.mark.parametrize("demo", DEMOS, ids=lambda p: p.stem)
+def test_input_warnings_from_the_model_are_those_from_its_dict(demo):
+    # solve passes the validated request itself (no model_dump per request, issue 12): the
+    # flags must be those the request's dict gives, for usual and unusual values alike
+    from pydantic import ValidationError
+
+    from server.plausibility import derived_warnings
+
+    request = CycleRequest.model_validate(json.loads(demo.read_text())["inputs"])
+    raw = request.raw
+    si = request.model_dump(exclude_none=True)
+    if "temperature" in si["slurry"]:  # SI kelvin would be read back as degC: as a quantity
+        si["slurry"]["temperature"] = f"{si['slurry']['temperature']} K"
+    checked = 0
+    for path in [p for p in _paths(si) if p != ("slurry", "temperature")]:
+        for factor in (1e3, 1e-3):
+            scaled = json.loads(json.dumps(si))
+            _set(scaled, path, _get(scaled, path) * factor)
+            try:
+                model = CycleRequest.model_validate(scaled)
+            except ValidationError:
+                continue
+            assert input_warnings(model, raw) == input_warnings(model.model_dump(), raw), path
+            assert derived_warnings({"solids_density": 9e3}, model) == derived_warnings(
+                {"solids_density": 9e3}, model.model_dump()), path
+            checked += 1
+    assert checked > 10
