@@ -6,6 +6,7 @@ database.
 """
 
 import json
+import logging
 
 from fastapi import FastAPI
 from fastapi.staticfiles import StaticFiles
@@ -19,6 +20,8 @@ from .solver import SOLVER_VERSION
 from .store import StorageError, open_store
 from .units import warm_up
 from .views import PageCache, register_filters
+
+log = logging.getLogger("presscycle")
 
 
 class CachedStatic(StaticFiles):
@@ -104,17 +107,22 @@ def _warm(app: FastAPI, templates) -> None:
         templates.get_template(name)
     host = (app.state.settings.allowed_hosts or ["localhost"])[0].encode()
     body = json.dumps(_WARM_UP).encode()
+    # a compressible cake at constant pressure on the cake basis too (the default): its own path
+    held = json.dumps({**_WARM_UP, "cake": {**_WARM_UP["cake"], "compressibility": 0.3, "reference_pressure": 6e5},
+                       "feed": {"mode": "constant_pressure", "pressure": 6e5}}).encode()
 
     async def warm_request():
         # once the server runs: the two calculating routes once each through the whole app
         # (worker thread, routing, validation, solve, chart series, rendering), answered to nobody
-        for path in ("/api/v1/cycle", "/ui/results"):
-            await _asgi_request(app, "POST", path, body, host)
+        for path, payload in (("/api/v1/cycle", body), ("/ui/results", body), ("/api/v1/cycle", held)):
+            status = await _asgi_request(app, "POST", path, payload, host)
+            if status != 200:  # a warm-up that stopped working says so (the app still serves)
+                log.warning("warm-up request to %s answered %s", path, status)
 
     app.router.on_startup.append(warm_request)
 
 
-async def _asgi_request(app, method: str, path: str, body: bytes, host: bytes) -> None:
+async def _asgi_request(app, method: str, path: str, body: bytes, host: bytes) -> int | None:
     scope = {"type": "http", "asgi": {"version": "3.0"}, "http_version": "1.1", "method": method,
              "scheme": "http", "path": path, "raw_path": path.encode(), "query_string": b"", "root_path": "",
              "headers": [(b"host", host), (b"content-type", b"application/json"),
@@ -123,10 +131,14 @@ async def _asgi_request(app, method: str, path: str, body: bytes, host: bytes) -
     async def disconnected():
         return {"type": "http.disconnect"}
 
+    status = []
+
     async def send(message):
-        return None
+        if message["type"] == "http.response.start":
+            status.append(message["status"])
 
     await app(scope, one_shot_receive(body, disconnected), send)
+    return status[0] if status else None
 
 
 def __getattr__(name: str):

@@ -85,3 +85,19 @@ def test_a_changed_demo_file_shows_its_new_results(tmp_path):
         os.utime(path, ns=(path.stat().st_atime_ns, path.stat().st_mtime_ns + 10**9))
         again = c.get("/demo/one").text
         assert again != first and 'value="90"' in again
+
+
+def test_the_start_up_warm_up_requests_are_answered(tmp_path, caplog):
+    # the app solves a few invented requests once at start-up so that the first engineer's
+    # request pays no first-use costs (issue 12): each must still be answered 200, else the
+    # warm-up warns (it would silently warm nothing)
+    import logging
+
+    from fastapi.testclient import TestClient
+
+    from server.app import create_app
+    from tests.conftest import app_settings
+
+    with caplog.at_level(logging.WARNING, logger="presscycle"), TestClient(create_app(app_settings(tmp_path))):
+        pass
+    assert not [r for r in caplog.records if "warm-up" in r.getMessage()]
