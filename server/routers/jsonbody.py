@@ -59,10 +59,16 @@ def parse_body(model: type[BaseModel], body: bytes) -> BaseModel:
         raise RequestValidationError([{"type": "missing", "loc": ("body",), "msg": "Field required", "input": None}])
     try:
         data = json.loads(body)
-    except (json.JSONDecodeError, UnicodeDecodeError) as exc:
+    except (ValueError, RecursionError) as exc:  # JSONDecodeError and UnicodeDecodeError are ValueErrors
         # where, in words (FastAPI put the character's index in the path, shown as a field "11")
-        where = (f"{exc.msg.lower()} at line {exc.lineno}, column {exc.colno}" if isinstance(exc, json.JSONDecodeError)
-                 else f"byte {exc.start + 1} is not UTF-8 text")
+        if isinstance(exc, json.JSONDecodeError):
+            where = f"{exc.msg.lower().removesuffix(' at')} at line {exc.lineno}, column {exc.colno}"
+        elif isinstance(exc, UnicodeDecodeError):
+            where = f"byte {exc.start + 1} is not UTF-8 text"
+        elif isinstance(exc, RecursionError):
+            where = "nested too deeply"
+        else:  # an integer of thousands of digits, or another number Python will not read
+            where = "a number too long to read"
         raise RequestValidationError(
             [{"type": "json_invalid", "loc": ("body",), "msg": "JSON decode error", "input": {},
               "ctx": {"error": where}}], body=body) from None

@@ -26,7 +26,7 @@ from .feeds import ConstantPressure, ConstantRate, Filtration, PressureSteps, Pu
 from .press import Press, filter_area_from_plates
 from .sweeps import chart_series
 
-SOLVER_VERSION = "0.2.0"  # 0.2.0: the cake pressure basis by default
+SOLVER_VERSION = "0.2.1"  # 0.2.0: the cake pressure basis by default; 0.2.1: a pump's exact supply (issue 12)
 
 __all__ = [
     "SOLVER_VERSION",

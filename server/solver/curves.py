@@ -599,6 +599,7 @@ class GeneralisedInverse:
             inside = (self.P > 0.0) & (self.P < key)
             p = np.concatenate(([0.0], self.P[inside], [key]))
             q = np.concatenate(([self.Q[0]], self.Q[inside], [self(key)]))  # (a node's own flow there)
+            p.flags.writeable = q.flags.writeable = False  # kept and shared between requests: never edited
             cached = (p, q)
             if len(self._nodes) < 16:
                 self._nodes[key] = cached
