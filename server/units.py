@@ -173,7 +173,10 @@ def parse_quantity(value, kind: str) -> float:
     if isinstance(value, bool):
         raise UnitError(f"expected a number or a quantity such as {example(kind)}")
     if isinstance(value, int | float):
-        number, unit = float(value), None
+        try:
+            number, unit = float(value), None
+        except OverflowError:  # an integer beyond any float (309 digits and more)
+            raise UnitError("must be a finite number") from None
     elif isinstance(value, str):
         return _parse_text(value, kind)  # the same strings come again and again: cached
     else:

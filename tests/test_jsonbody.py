@@ -94,3 +94,13 @@ def test_only_a_request_and_one_model_are_served():
     app = FastAPI()
     app.include_router(router)
     assert TestClient(app).post("/z", json=DEMO["inputs"]).json() == {"area": 150.0}  # parsed to SI
+
+
+def test_an_integer_beyond_any_float_is_a_plain_422(client):
+    # found by review: a quantity given as an integer of 309+ digits was a 500 (OverflowError)
+    inputs = json.loads(json.dumps(DEMO["inputs"]))
+    body = json.dumps(inputs).replace('"150 m^2"', "1" + "0" * 400).encode()
+    r = client.post("/api/v1/cycle", content=body, headers={"content-type": "application/json"})
+    assert r.status_code == 422, r.text
+    assert r.json()["detail"][0]["field"] == "press.filter_area"
+    assert r.json()["detail"][0]["msg"] == "must be a finite number"
