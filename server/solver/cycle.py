@@ -486,6 +486,14 @@ class CycleFamily:
             return V_full, LIMITED_BY_CHAMBERS
         if end.criterion == "time":
             V = float(self.curve.volume(end.time))
+            starts = getattr(self.curve, "starts", None)  # pressure steps: each step's start [s]
+            if starts is not None and len(starts) > 1:
+                # ended where a step starts: the step in progress is the one ending there (its
+                # pressure and rate are the final ones), whichever side of the start rounding
+                # put the volume (review finding: the final pressure flipped with the last bit)
+                at = np.flatnonzero(np.abs(np.asarray(starts[1:]) - end.time) <= 1e-9 * max(abs(end.time), 1.0))
+                if at.size:
+                    V = float(np.nextafter(self.curve.V_starts[at[0] + 1], -np.inf))
             return (V, "time") if V < V_full else (V_full, LIMITED_BY_CHAMBERS)
         span = max(self.V_needed, V_full)
         known = self._crossings.get(end)

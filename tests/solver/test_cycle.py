@@ -351,3 +351,24 @@ def test_a_press_at_another_thickness_is_the_press_built_with_it():
     for bad in (0.0, -0.01, math.nan):
         with pytest.raises(SolverInputError, match="chamber_thickness"):
             p.with_thickness(bad)
+
+
+@pytest.mark.parametrize("s", [0.0, 0.3])
+@pytest.mark.parametrize("basis", ["total", "cake"])
+def test_filtration_ended_where_a_step_starts_ends_on_the_step_in_progress(s, basis):
+    # review finding: an end time on a step's start gave the next step's pressure or the
+    # current one's depending on the last bit of rounding; the step in progress (ending
+    # there) is the final one, whichever way the time is rounded
+    from dataclasses import replace
+
+    from server.solver import EndCriterion, PressureSteps
+
+    base = make_system(wash_ratio=0.5, s=s)
+    system = PressSystem(replace(base.filtration, pressure_basis=basis), replace(base.press, chamber_thickness=0.2),
+                         PressureSteps(((2e5, 300.0), (4e5, 600.0), (7e5, 1e5))), base.cycle)
+    for t in (900.0, 900.0 * (1 + 2e-16), 900.0 * (1 - 2e-16), 899.9999999999999, 900.0000000000001):
+        end = solve_cycle(system, EndCriterion("time", time=t)).at_end.cycle
+        assert end.final_pressure == 4e5, t
+        assert end.filtration_time == pytest.approx(900.0, rel=1e-12)
+    just_after = solve_cycle(system, EndCriterion("time", time=900.01)).at_end.cycle
+    assert just_after.final_pressure == 7e5  # past the start: the next step
