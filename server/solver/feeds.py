@@ -512,7 +512,12 @@ def _newton_cloth_share(u, k, p, steps):
 
 #: Gauss nodes of each quadrature of the time's incomplete beta part (error ~ 34^-n: below
 #: round-off from 11; see :func:`_cake_basis_rules`)
-CAKE_BASIS_GAUSS_NODES = 14
+CAKE_BASIS_GAUSS_NODES = 11
+#: below this share (the cloth's beyond phi = 1/2, the cake's before) a float's J is summed as a
+#: power series of that share (:func:`_cake_basis_rules`): CAKE_BASIS_SERIES_TERMS terms leave
+#: less than 0.05^14 = 6e-19 of the sum
+CAKE_BASIS_SERIES_BELOW = 0.05
+CAKE_BASIS_SERIES_TERMS = 14
 #: Newton steps at most (each solve converges in well under ten; the bracket keeps it safe)
 CAKE_BASIS_NEWTON_STEPS = 100
 #: a Newton step in z below this is the last one taken (quadratic convergence: the next error
@@ -529,7 +534,13 @@ def _cake_basis_rules(r: float) -> tuple:
     J = -ln(psi) - H_r + psi \int_0^1 g(psi m) dm, g(q) = (1 - (1 - q)^r)/q (analytic on [0, 1],
     its branch point at m = 1/psi >= 2), Gauss–Legendre; H_r = digamma(r + 1) + euler_gamma
     = \int_0^1 (1 - u^r)/(1 - u) du. Both converge as (3 + 2 sqrt 2)^(-2n) (Bernstein ellipse).
-    Returns (Jacobi nodes, weights, Legendre nodes, weights, H_r) as tuples and arrays.
+    For a small share both are power series (Horner's rule on floats is cheaper than the rule's
+    logarithms): int_0^1 g(psi m) dm = sum_k a_k psi^k/(k + 1), a_0 = r,
+    a_(k+1) = a_k (k + 1 - r)/(k + 2) (the binomial series of (1 - q)^r; every term positive),
+    and int_0^1 w^r/(1 - phi w) dw = sum_k phi^k/(k + r + 1).
+
+    Returns the two rules as tuples of (node, weight) pairs, then as arrays (the Legendre nodes
+    negated: -m), H_r, and the two series' coefficients, highest power first.
     """
     from scipy.special import digamma, roots_jacobi
 
@@ -538,9 +549,17 @@ def _cake_basis_rules(r: float) -> tuple:
     wj, Wj = 0.5 * (1.0 + x), w / 2.0 ** (r + 1.0)
     x, w = np.polynomial.legendre.leggauss(n)
     ml, Wl = 0.5 * (1.0 - x), 0.5 * w
+    neg_ml = -ml
+    for shared in (wj, Wj, neg_ml, Wl):
+        shared.flags.writeable = False
     H = float(digamma(r + 1.0)) + float(np.euler_gamma)
+    a, cloth = r, []
+    for k in range(CAKE_BASIS_SERIES_TERMS):
+        cloth.append(a / (k + 1.0))
+        a *= (k + 1.0 - r) / (k + 2.0)
+    cake = [1.0 / (k + r + 1.0) for k in range(CAKE_BASIS_SERIES_TERMS)]
     return (tuple(zip(wj.tolist(), Wj.tolist(), strict=True)), tuple(zip(ml.tolist(), Wl.tolist(), strict=True)),
-            wj, Wj, ml, Wl, H)
+            wj, Wj, neg_ml, Wl, H, tuple(reversed(cloth)), tuple(reversed(cake)))
 
 
 def _split(z, m):
@@ -620,8 +639,9 @@ class CakeBasisPressureCurve:
         chart's few hundred volumes). Both starts lie right of the root (G > 0 there), so the
         steps fall to it, each positive."""
         s, r = self.s, self.r
-        z = np.where(ly < 0.0, ly / r, ly)
-        tol = CAKE_BASIS_Z_TOL * (1.0 + float(np.max(np.abs(z), initial=0.0)))
+        z = ly / r
+        np.minimum(z, ly, out=z)  # ly/r below 0, ly above
+        tol = CAKE_BASIS_Z_TOL * (1.0 + max(-float(z.min(initial=0.0)), float(z.max(initial=0.0))))
         G, ez = np.empty_like(z), np.empty_like(z)
         for _ in range(CAKE_BASIS_NEWTON_STEPS):
             np.exp(z, out=ez)
@@ -633,7 +653,7 @@ class CakeBasisPressureCurve:
             ez += r
             G /= ez
             z -= G
-            if not np.max(G, initial=0.0) > tol:
+            if not G.max(initial=0.0) > tol:
                 break
         return z
 
@@ -671,18 +691,29 @@ class CakeBasisPressureCurve:
     # -- the time at a share -----------------------------------------------------------------
     def _J(self, phi: float, psi: float) -> float:
         """J(phi) = \\int_0^phi u^r/(1 - u) du (see :func:`_cake_basis_rules`), a float."""
-        jacobi, legendre, *_, H = self._rules
+        jacobi, legendre, _, _, _, _, H, cloth, cake = self._rules
         r = self.r
         if phi < 0.5:
-            return phi ** (r + 1.0) * sum(W / (1.0 - phi * w) for w, W in jacobi)
-        return -math.log(psi) - H + psi * sum(W * -math.expm1(r * math.log1p(-psi * q)) / (psi * q)
-                                                 for q, W in legendre)
+            if phi < CAKE_BASIS_SERIES_BELOW:
+                total = 0.0
+                for c in cake:
+                    total = total * phi + c
+            else:
+                total = sum(W / (1.0 - phi * w) for w, W in jacobi)
+            return phi ** (r + 1.0) * total
+        if psi < CAKE_BASIS_SERIES_BELOW:
+            total = 0.0
+            for c in cloth:
+                total = total * psi + c
+        else:
+            total = sum(W * -math.expm1(r * math.log1p(-psi * q)) / (psi * q) for q, W in legendre)
+        return -math.log(psi) - H + psi * total
 
     def _J_array(self, phi, psi):
         """:meth:`_J` on arrays: each rule's sum as a matrix product."""
         if phi.ndim != 1:
             return self._J_array(phi.ravel(), psi.ravel()).reshape(phi.shape)
-        _, _, wj, Wj, ml, Wl, H = self._rules
+        _, _, wj, Wj, neg_ml, Wl, H, _, _ = self._rules
         r = self.r
         out = np.empty_like(phi)
         low = phi < 0.5
@@ -691,8 +722,7 @@ class CakeBasisPressureCurve:
         else:
             p = phi[low]
             ps = psi[~low]
-            q = ps[:, None] * ml
-            np.negative(q, out=q)
+            q = ps[:, None] * neg_ml  # -q
             g = np.log1p(q)
             g *= r
             np.expm1(g, out=g)
