@@ -260,8 +260,10 @@ class ConstantPressure:
 
 
 class HeldPressureCurve(TabulatedCurve):
-    """Constant pressure on the cake pressure basis: 1/Q tabulated on a volume grid (no closed
-    form). The pressure is held from the start, so the throughput has one peak at most.
+    """A held pressure on the cake pressure basis: 1/Q tabulated on a volume grid (a cake with
+    local laws, and each step of a pressure-steps feed; a power-law cake at constant pressure has
+    the closed form, :class:`CakeBasisPressureCurve`). The pressure is held from the start, so
+    the throughput has one peak at most.
 
     ``convex``: the table's 1/Q is known to be convex in V (its nodes lie exactly on a convex
     1/Q, as :func:`held_pressure_curve` makes them for a power-law cake); the throughput's one
