@@ -522,6 +522,8 @@ CAKE_BASIS_SERIES_BELOW = 0.05
 CAKE_BASIS_SERIES_TERMS = 14
 #: Newton steps at most (each solve converges in well under ten; the bracket keeps it safe)
 CAKE_BASIS_NEWTON_STEPS = 100
+#: z = ln(phi/psi) at most (psi > e^-350: the time, ~ e^(2z), stays finite)
+CAKE_BASIS_Z_MAX = 350.0
 #: a Newton step in z below this is the last one taken (quadratic convergence: the next error
 #: is of its square)
 CAKE_BASIS_Z_TOL = 1e-10
@@ -803,7 +805,7 @@ class CakeBasisPressureCurve:
                 return 0.0
             F = t / scale
             y = 2.0 * F / (math.sqrt(1.0 + 2.0 * F) + 1.0)
-            z = _bracketed_newton(lambda z: self._log_time_step(z, F, math), self._z_of(math.log(y)))
+            z = _bracketed_newton(lambda z: self._log_time_step(z, F, math), self._z_of(math.log(y)), -700.0 / self.r)
             return self.V0 * self._time_in_z(z, math)[2]
         t = np.asarray(t, dtype=float)
         if t.ndim == 0:
@@ -811,7 +813,8 @@ class CakeBasisPressureCurve:
         started = t > 0.0
         F = np.where(started, t, scale) / scale
         y = 2.0 * F / (np.sqrt(1.0 + 2.0 * F) + 1.0)
-        z = _bracketed_newton_array(lambda z: self._log_time_step(z, F, np), self._z_of_array(np.log(y)))
+        z = _bracketed_newton_array(lambda z: self._log_time_step(z, F, np), self._z_of_array(np.log(y)),
+                                    -700.0 / self.r)
         return np.where(started, self.V0 * self._time_in_z(z, np)[2], 0.0)
 
     def _log_time_step(self, z, F, m):
@@ -846,7 +849,7 @@ class CakeBasisPressureCurve:
             dD = sigma + phi + a * r * phi * psi / (sigma * sigma * extra) - dF / (F + tau)
             return D, dD
 
-        z = _bracketed_newton(step, self._z_of(math.log(y)))
+        z = _bracketed_newton(step, self._z_of(math.log(y)), -700.0 / r)
         return self.V0 * self._time_in_z(z, math)[2]
 
     def first_volume_where(self, quantity: str, level: float, V_limit: float) -> float | None:
@@ -864,9 +867,10 @@ class CakeBasisPressureCurve:
         return V if V <= V_limit else None
 
 
-def _bracketed_newton(step, z: float) -> float:
+def _bracketed_newton(step, z: float, floor: float) -> float:
     """The root of an increasing D(z) by Newton's method, bisecting in the bracket found so far
-    when a step leaves it; ``step(z)`` gives (D, dD/dz). Floats."""
+    when a step leaves it; ``step(z)`` gives (D, dD/dz). Floats. Each z is kept within
+    [floor, CAKE_BASIS_Z_MAX] (floor = -700/r: V below e^-700 V_0), where every quantity is finite."""
     lo, hi = -math.inf, math.inf
     for _ in range(CAKE_BASIS_NEWTON_STEPS):
         D, dD = step(z)
@@ -881,11 +885,11 @@ def _bracketed_newton(step, z: float) -> float:
             return new
         if not lo < new < hi:  # out of the bracket (or no slope): halve it, or walk out of one side
             new = 0.5 * (lo + hi) if math.isfinite(lo + hi) else (z + 4.0 if D < 0.0 else z - 4.0)
-        z = new
+        z = min(max(new, floor), CAKE_BASIS_Z_MAX)
     return z
 
 
-def _bracketed_newton_array(step, z):
+def _bracketed_newton_array(step, z, floor: float):
     """:func:`_bracketed_newton` on arrays, element by element."""
     lo, hi = np.full_like(z, -np.inf), np.full_like(z, np.inf)
     active = np.ones(z.shape, dtype=bool)
@@ -902,6 +906,7 @@ def _bracketed_newton_array(step, z):
                 mid = 0.5 * (lo + hi)
             walk = np.where(D < 0.0, z + 4.0, z - 4.0)
             new = np.where(out, np.where(np.isfinite(mid), mid, walk), new)
+        np.clip(new, floor, CAKE_BASIS_Z_MAX, out=new)
         z = np.where(active & (D != 0.0), new, z)
         active &= ~done & (D != 0.0)
         if not np.any(active):

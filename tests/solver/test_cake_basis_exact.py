@@ -21,7 +21,7 @@ from server.solver.feeds import (
 )
 
 P, B = 6e5, 2.5e3  # Pa, s/m^3
-COMPRESSIBILITIES = [0.05, 0.3, 0.6, 0.9, 0.99]
+COMPRESSIBILITIES = [0.05, 0.3, 0.6, 0.9, 0.99, 0.999]
 #: V_0 as a multiple of the largest volume asked about: 1e-9 (cake-dominated at once) to 1e3
 #: (cloth-dominated throughout)
 V0_RATIOS = [1e-9, 1e-4, 1e-2, 1.0, 1e3]
