@@ -12,6 +12,7 @@ To add a feed mode, write a dataclass with ``mode``, ``pressure_varies``, ``pres
 largest filtrate volume the cycle will ask about; closed-form curves ignore it.
 """
 
+import math
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -242,6 +243,11 @@ class ConstantPressure:
 
     def curve(self, filtration: Filtration, filter_area: float, V_max: float = 0.0):
         if filtration.on_cake_basis:
+            f = filtration
+            if f.local is None:  # a power-law cake: closed form
+                V0 = f.medium_resistance * filter_area / (f.specific_resistance(self.pressure) * f.solids_per_filtrate)
+                B = f.viscosity * f.medium_resistance / (filter_area * self.pressure)
+                return CakeBasisPressureCurve(self.pressure, V0, B, f.compressibility)
             return held_pressure_curve(filtration, filter_area, self.pressure, V_max)
         alpha = filtration.specific_resistance(self.pressure)
         K_p = cp.cake_constant(
@@ -254,8 +260,10 @@ class ConstantPressure:
 
 
 class HeldPressureCurve(TabulatedCurve):
-    """Constant pressure on the cake pressure basis: 1/Q tabulated on a volume grid (no closed
-    form). The pressure is held from the start, so the throughput has one peak at most.
+    """A held pressure on the cake pressure basis: 1/Q tabulated on a volume grid (a cake with
+    local laws, and each step of a pressure-steps feed; a power-law cake at constant pressure has
+    the closed form, :class:`CakeBasisPressureCurve`). The pressure is held from the start, so
+    the throughput has one peak at most.
 
     ``convex``: the table's 1/Q is known to be convex in V (its nodes lie exactly on a convex
     1/Q, as :func:`held_pressure_curve` makes them for a power-law cake); the throughput's one
@@ -500,6 +508,410 @@ def _newton_cloth_share(u, k, p, steps):
         u += step
         if steps is None and not np.any(np.abs(step) > 1e-4 * u):
             break
+
+
+# ---- constant pressure on the cake basis, power-law cake: closed form (issue 12) ---------------
+
+#: Gauss nodes of each quadrature of the time's incomplete beta part (error ~ 34^-n: below
+#: round-off from 11; see :func:`_cake_basis_rules`)
+CAKE_BASIS_GAUSS_NODES = 11
+#: below this share (the cloth's beyond phi = 1/2, the cake's before) a float's J is summed as a
+#: power series of that share (:func:`_cake_basis_rules`): CAKE_BASIS_SERIES_TERMS terms leave
+#: less than 0.05^14 = 6e-19 of the sum
+CAKE_BASIS_SERIES_BELOW = 0.05
+CAKE_BASIS_SERIES_TERMS = 14
+#: Newton steps at most (each solve converges in well under ten; the bracket keeps it safe)
+CAKE_BASIS_NEWTON_STEPS = 100
+#: z = ln(phi/psi) at most (psi > e^-350: the time, ~ e^(2z), stays finite)
+CAKE_BASIS_Z_MAX = 350.0
+#: a Newton step in z below this is the last one taken (quadratic convergence: the next error
+#: is of its square)
+CAKE_BASIS_Z_TOL = 1e-10
+
+
+@lru_cache(maxsize=64)
+def _cake_basis_rules(r: float) -> tuple:
+    r"""Gauss rules for the integral J(phi) = \int_0^phi u^r/(1 - u) du, constants of r.
+
+    For phi < 1/2: J = phi^(r+1) \int_0^1 w^r / (1 - phi w) dw, Gauss–Jacobi with weight w^r
+    (the integrand's pole at w = 1/phi >= 2). For phi >= 1/2:
+    J = -ln(psi) - H_r + psi \int_0^1 g(psi m) dm, g(q) = (1 - (1 - q)^r)/q (analytic on [0, 1],
+    its branch point at m = 1/psi >= 2), Gauss–Legendre; H_r = digamma(r + 1) + euler_gamma
+    = \int_0^1 (1 - u^r)/(1 - u) du. Both converge as (3 + 2 sqrt 2)^(-2n) (Bernstein ellipse).
+    For a small share both are power series (Horner's rule on floats is cheaper than the rule's
+    logarithms): int_0^1 g(psi m) dm = sum_k a_k psi^k/(k + 1), a_0 = r,
+    a_(k+1) = a_k (k + 1 - r)/(k + 2) (the binomial series of (1 - q)^r; every term positive),
+    and int_0^1 w^r/(1 - phi w) dw = sum_k phi^k/(k + r + 1).
+
+    Returns the two rules as tuples of (node, weight) pairs, then as arrays (the Legendre nodes
+    negated: -m), H_r, and the two series' coefficients, highest power first.
+    """
+    from scipy.special import digamma, roots_jacobi
+
+    n = CAKE_BASIS_GAUSS_NODES
+    x, w = roots_jacobi(n, 0.0, r)  # weight (1 + x)^r on [-1, 1]
+    wj, Wj = 0.5 * (1.0 + x), w / 2.0 ** (r + 1.0)
+    x, w = np.polynomial.legendre.leggauss(n)
+    ml, Wl = 0.5 * (1.0 - x), 0.5 * w
+    neg_ml = -ml
+    for shared in (wj, Wj, neg_ml, Wl):
+        shared.flags.writeable = False
+    H = float(digamma(r + 1.0)) + float(np.euler_gamma)
+    a, cloth = r, []
+    for k in range(CAKE_BASIS_SERIES_TERMS):
+        cloth.append(a / (k + 1.0))
+        a *= (k + 1.0 - r) / (k + 2.0)
+    cake = [1.0 / (k + r + 1.0) for k in range(CAKE_BASIS_SERIES_TERMS)]
+    return (tuple(zip(wj.tolist(), Wj.tolist(), strict=True)), tuple(zip(ml.tolist(), Wl.tolist(), strict=True)),
+            wj, Wj, neg_ml, Wl, H, tuple(reversed(cloth)), tuple(reversed(cake)))
+
+
+def _split(z, m):
+    """phi = 1/(1 + e^-z), psi = 1/(1 + e^z) and ln phi, each to round-off for any z (math or
+    numpy as ``m``): z = ln(phi/psi) carries the shares where 1 - phi would lose them."""
+    a = abs(z)
+    e = m.exp(-a)
+    d = 1.0 + e
+    low = 0.5 * (a - z)  # -ln(phi (1 + e)): 0 for z >= 0, |z| below
+    phi = m.exp(-low) / d
+    psi = m.exp(-(a - low)) / d
+    return phi, psi, -(low + m.log1p(e))
+
+
+class CakeBasisPressureCurve:
+    r"""Constant pressure on the cake pressure basis with a power-law cake, in closed form.
+
+    With alpha = alpha_P (dp_c/dP)^s (alpha_P at the whole drop dP), r = 1 - s, the cake's share
+    of the drop phi = dp_c/dP and the cloth's psi = 1 - phi, the cake's and the cloth's Darcy
+    laws in series give the volume and the rate explicitly in the share (derived here; as in
+    :func:`held_pressure_nodes`):
+
+    .. math:: V = V_0 \frac{\phi^r}{\psi},\quad V_0 = \frac{A R_m}{\alpha_P c},\qquad
+              \frac{1}{Q} = \frac{B}{\psi},\quad B = \frac{\mu R_m}{A \Delta P}
+
+    and t = \int B/psi dV in closed form but for an incomplete beta function (derived here,
+    checked by differentiation and against quadrature in tests/solver/test_cake_basis_exact.py):
+
+    .. math:: t = B V \left(\frac{1}{2\psi} + \frac{r + s\psi}{2}\right)
+                  + \frac{r s}{2} B V_0 J(\phi),\qquad J(\phi) = \int_0^\phi \frac{u^r}{1-u} du
+
+    (s = 0: t = B V + B V^2/(2 V_0), Ruth's equation with K_p = B/V_0). Every equation is
+    solved in z = ln(phi/psi), where phi and psi are both exact to round-off: the share at a
+    volume from z + s ln(1 + e^-z) = ln(V/V_0) (rising, slope 1 - s psi in [r, 1], convex),
+    the volume at a time and the optimum by Newton's method in a shrinking bracket. Plain
+    floats take plain Python arithmetic (the cycle search asks one volume at a time), arrays
+    numpy. 1/Q is convex in V, so a cycle's throughput has one peak (:meth:`optimum_volume`).
+    """
+
+    knots = np.empty(0)  # no change of form: the global search, if asked, scans a plain grid
+    held_from = 0.0  # the pressure is held from the start
+
+    def __init__(self, pressure: float, V0: float, medium_constant: float, compressibility: float):
+        self.pressure = float(pressure)  # [Pa]
+        self.V0 = float(V0)  # [m^3]
+        # not called B: solve.py reports a curve's K_p and B as Ruth's constants, which this has not
+        self.medium_constant = float(medium_constant)  # B [s/m^3]
+        self.s = float(compressibility)
+        self.r = 1.0 - self.s
+        self._rules = _cake_basis_rules(self.r)
+        self._last = (None, 0.0, 1.0)  # (V, phi, psi) of the last scalar volume
+        self._last_array = (None, None, None)  # the same of the last read-only array
+
+    # -- the share at a volume -------------------------------------------------------------
+    def _z_of(self, ly: float) -> float:
+        """z = ln(phi/psi) at ln(V/V_0) = ``ly`` (a float): Newton's method on
+        G = z - s ln(phi) - ln(V/V_0) (G' = 1 - s psi in [r, 1], G convex), from the root's
+        asymptotes z = ln(V/V_0) for V >> V_0 and ln(V/V_0)/r for V << V_0."""
+        s, r = self.s, self.r
+        z = ly / r if ly < 0.0 else ly
+        for _ in range(CAKE_BASIS_NEWTON_STEPS):
+            if z < 0.0:  # G = r z + s ln(1 + e^z) - ln(V/V_0): no cancellation of z against s z
+                e = math.exp(z)
+                step = (r * z + s * math.log1p(e) - ly) * (1.0 + e) / (r + e)
+            else:  # G = z + s ln(1 + e^-z) - ln(V/V_0)
+                e = math.exp(-z)
+                step = (z + s * math.log1p(e) - ly) * (1.0 + e) / (1.0 + r * e)
+            z -= step
+            if abs(step) <= CAKE_BASIS_Z_TOL * (1.0 + abs(z)):
+                break
+        return z
+
+    def _z_of_array(self, ly):
+        """:meth:`_z_of` on an array (ln(V/V_0) in [-690, 600]), as G = r z + s ln(1 + e^z)
+        - ln(V/V_0), G' = (r + e^z)/(1 + e^z): numpy's exp and log1p (SIMD) rather than
+        logaddexp and expit, in place (numpy's calls cost more than their arithmetic on a
+        chart's few hundred volumes). Both starts lie right of the root (G > 0 there), so the
+        steps fall to it, each positive."""
+        s, r = self.s, self.r
+        z = ly / r
+        np.minimum(z, ly, out=z)  # ly/r below 0, ly above
+        tol = CAKE_BASIS_Z_TOL * (1.0 + max(-float(z.min(initial=0.0)), float(z.max(initial=0.0))))
+        G, ez = np.empty_like(z), np.empty_like(z)
+        for _ in range(CAKE_BASIS_NEWTON_STEPS):
+            np.exp(z, out=ez)
+            np.log1p(ez, out=G)
+            G *= s
+            G -= ly
+            G += r * z
+            G *= 1.0 + ez
+            ez += r
+            G /= ez
+            z -= G
+            if not G.max(initial=0.0) > tol:
+                break
+        return z
+
+    def _shares(self, V):
+        """(phi, psi) at volumes V [m^3] (array) [-]. A read-only array's shares are kept for
+        the next call with the same array (a cycle's curves ask the time and then the rate)."""
+        last = self._last_array
+        if V is last[0]:
+            return last[1], last[2]
+        # below 1e-300 V_0 the shares are 0 and 1 to round-off (phi < 1e-300^(1/r)); beyond
+        # e^600 V_0 the cloth's share is below 1e-260
+        ly = V * (1.0 / self.V0)
+        np.clip(ly, 1e-300, 1e260, out=ly)
+        np.log(ly, out=ly)
+        z = self._z_of_array(ly)
+        np.exp(z, out=z)
+        psi = 1.0 + z  # 1 + e^z
+        np.reciprocal(psi, out=psi)
+        phi = z * psi
+        if not V.flags.writeable:
+            self._last_array = (V, phi, psi)
+        return phi, psi
+
+    def _share(self, V: float) -> tuple[float, float]:
+        last = self._last
+        if last[0] == V:
+            return last[1], last[2]
+        if V > 0.0:
+            phi, psi, _ = _split(self._z_of(math.log(V / self.V0)), math)
+        else:
+            phi, psi = 0.0, 1.0
+        self._last = (V, phi, psi)
+        return phi, psi
+
+    # -- the time at a share -----------------------------------------------------------------
+    def _J(self, phi: float, psi: float) -> float:
+        """J(phi) = \\int_0^phi u^r/(1 - u) du (see :func:`_cake_basis_rules`), a float."""
+        jacobi, legendre, _, _, _, _, H, cloth, cake = self._rules
+        r = self.r
+        if phi < 0.5:
+            if phi < CAKE_BASIS_SERIES_BELOW:
+                total = 0.0
+                for c in cake:
+                    total = total * phi + c
+            else:
+                total = sum(W / (1.0 - phi * w) for w, W in jacobi)
+            return phi ** (r + 1.0) * total
+        if psi < CAKE_BASIS_SERIES_BELOW:
+            total = 0.0
+            for c in cloth:
+                total = total * psi + c
+        else:
+            total = sum(W * -math.expm1(r * math.log1p(-psi * q)) / (psi * q) for q, W in legendre)
+        return -math.log(psi) - H + psi * total
+
+    def _J_array(self, phi, psi):
+        """:meth:`_J` on arrays: each rule's sum as a matrix product."""
+        if phi.ndim != 1:
+            return self._J_array(phi.ravel(), psi.ravel()).reshape(phi.shape)
+        _, _, wj, Wj, neg_ml, Wl, H, _, _ = self._rules
+        r = self.r
+        out = np.empty_like(phi)
+        low = phi < 0.5
+        if low.all():
+            p = phi
+        else:
+            p = phi[low]
+            ps = psi[~low]
+            q = ps[:, None] * neg_ml  # -q
+            g = np.log1p(q)
+            g *= r
+            np.expm1(g, out=g)
+            g /= q  # (1 - (1 - q)^r)/q
+            high = g @ Wl
+            high *= ps
+            high -= np.log(ps)
+            high -= H
+            out[~low] = high
+        m = p[:, None] * wj
+        np.subtract(1.0, m, out=m)
+        np.reciprocal(m, out=m)
+        lowJ = m @ Wj
+        lowJ *= p ** (r + 1.0)
+        if low.all():
+            return lowJ
+        out[low] = lowJ
+        return out
+
+    def _reduced_time(self, y, phi, psi, J):
+        """t / (B V_0) at V = V_0 y and its shares [-] (float or array)."""
+        r, s = self.r, self.s
+        return y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * J
+
+    # -- the curve -------------------------------------------------------------------------------
+    def time(self, V):
+        """Filtration time to collect V [m^3] [s], vectorised."""
+        if isinstance(V, float | int):
+            V = float(V)
+            if not V > 0.0:
+                return 0.0
+            phi, psi = self._share(V)
+            return self.medium_constant * self.V0 * self._reduced_time(V / self.V0, phi, psi, self._J(phi, psi))
+        V = np.asarray(V, dtype=float)
+        if V.ndim == 0:
+            return self.time(float(V))
+        phi, psi = self._shares(V)
+        out = self._reduced_time(V / self.V0, phi, psi, self._J_array(phi, psi))
+        return self.medium_constant * self.V0 * out
+
+    def rate(self, V):
+        """Filtrate flow at V [m^3/s]: Q = psi / B, vectorised."""
+        if isinstance(V, float | int):
+            return self._share(float(V))[1] / self.medium_constant
+        V = np.asarray(V, dtype=float)
+        if V.ndim == 0:
+            return self.rate(float(V))
+        return self._shares(V)[1] / self.medium_constant
+
+    def pressure_at(self, V):
+        """The held pressure drop at every volume [Pa]."""
+        if isinstance(V, float) or np.ndim(V) == 0:
+            return self.pressure
+        return np.full(np.shape(V), self.pressure)
+
+    def _time_in_z(self, z, m):
+        """(t/(B V_0), its derivative in z, y = V/V_0) at z (float or array)."""
+        s = self.s
+        phi, psi, _ = _split(z, m)
+        # ln(V/V_0) = z - s ln(phi), as r z + s ln(1 + e^z) where z < 0 (no cancellation)
+        if m is math:
+            y = math.exp(self.r * z + s * math.log1p(math.exp(z)) if z < 0.0 else z + s * math.log1p(math.exp(-z)))
+            J = self._J(phi, psi)
+        else:
+            y = np.exp(self.r * z + s * np.logaddexp(0.0, z))
+            J = self._J_array(phi, psi)
+        return self._reduced_time(y, phi, psi, J), y * (1.0 - s * psi) / psi, y
+
+    def volume(self, t):
+        """Filtrate volume at time t [s] [m^3], vectorised: Newton's method on ln t in z, from
+        Ruth's equation's volume at t (exact for s = 0, and at both ends for any s)."""
+        scale = self.medium_constant * self.V0
+        if isinstance(t, float | int):
+            t = float(t)
+            if not t > 0.0:
+                return 0.0
+            F = t / scale
+            y = 2.0 * F / (math.sqrt(1.0 + 2.0 * F) + 1.0)
+            z = _bracketed_newton(lambda z: self._log_time_step(z, F, math), self._z_of(math.log(y)), -700.0 / self.r)
+            return self.V0 * self._time_in_z(z, math)[2]
+        t = np.asarray(t, dtype=float)
+        if t.ndim == 0:
+            return self.volume(float(t))
+        started = t > 0.0
+        F = np.where(started, t, scale) / scale
+        y = 2.0 * F / (np.sqrt(1.0 + 2.0 * F) + 1.0)
+        z = _bracketed_newton_array(lambda z: self._log_time_step(z, F, np), self._z_of_array(np.log(y)),
+                                    -700.0 / self.r)
+        return np.where(started, self.V0 * self._time_in_z(z, np)[2], 0.0)
+
+    def _log_time_step(self, z, F, m):
+        Fz, dF, _ = self._time_in_z(z, m)
+        return m.log(Fz / F), dF / Fz
+
+    def optimum_volume(self, downtime: float, wash_coefficient: float) -> float:
+        r"""The end volume of the highest throughput V / (t + a V/Q + t_d) [m^3].
+
+        The throughput rises while g = T - V dT/dV = t + t_d - V/Q - a V^2 (1/Q)' > 0, falling
+        in V because 1/Q is convex; in the shares (derived here)
+
+        .. math:: g = t + t_d - \frac{B V}{\psi}\left(1 + \frac{a \phi}{1 - s\psi}\right)
+
+        (s = 0: V^* = sqrt(t_d/(K_p (1/2 + a))), the closed form). Solved as
+        ln(B V (1 + a phi/(1 - s psi))/psi) = ln(t + t_d) by Newton's method in z in a shrinking
+        bracket, from the s = 0 optimum. Tested against a brute-force grid.
+        """
+        if not downtime > 0.0:
+            return 0.0
+        a = float(wash_coefficient)
+        tau = downtime / (self.medium_constant * self.V0)
+        y = math.sqrt(tau / (0.5 + a))
+        r, s = self.r, self.s
+
+        def step(z):
+            F, dF, y = self._time_in_z(z, math)
+            phi, psi, _ = _split(z, math)
+            sigma = 1.0 - s * psi
+            extra = 1.0 + a * phi / sigma
+            D = math.log(y / psi * extra) - math.log(F + tau)
+            dD = sigma + phi + a * r * phi * psi / (sigma * sigma * extra) - dF / (F + tau)
+            return D, dD
+
+        z = _bracketed_newton(step, self._z_of(math.log(y)), -700.0 / r)
+        return self.V0 * self._time_in_z(z, math)[2]
+
+    def first_volume_where(self, quantity: str, level: float, V_limit: float) -> float | None:
+        """The first volume in [0, V_limit] [m^3] where 1/Q ("reciprocal_rate" [s/m^3]) reaches
+        ``level`` (psi = B/level: V explicit) or the pressure ("pressure" [Pa]) does (held: at
+        once or never), else None."""
+        if quantity == "pressure":
+            return 0.0 if self.pressure >= level else None
+        B = self.medium_constant
+        if B >= level:
+            return 0.0
+        psi = B / level
+        phi = (level - B) / level
+        V = self.V0 * phi ** self.r / psi
+        return V if V <= V_limit else None
+
+
+def _bracketed_newton(step, z: float, floor: float) -> float:
+    """The root of an increasing D(z) by Newton's method, bisecting in the bracket found so far
+    when a step leaves it; ``step(z)`` gives (D, dD/dz). Floats. Each z is kept within
+    [floor, CAKE_BASIS_Z_MAX] (floor = -700/r: V below e^-700 V_0), where every quantity is finite."""
+    lo, hi = -math.inf, math.inf
+    for _ in range(CAKE_BASIS_NEWTON_STEPS):
+        D, dD = step(z)
+        if D == 0.0:
+            return z
+        if D < 0.0:
+            lo = z
+        else:
+            hi = z
+        new = z - D / dD if dD > 0.0 else math.nan
+        if abs(new - z) <= CAKE_BASIS_Z_TOL * (1.0 + abs(z)):  # converged (quadratically): this step the last
+            return new
+        if not lo < new < hi:  # out of the bracket (or no slope): halve it, or walk out of one side
+            new = 0.5 * (lo + hi) if math.isfinite(lo + hi) else (z + 4.0 if D < 0.0 else z - 4.0)
+        z = min(max(new, floor), CAKE_BASIS_Z_MAX)
+    return z
+
+
+def _bracketed_newton_array(step, z, floor: float):
+    """:func:`_bracketed_newton` on arrays, element by element."""
+    lo, hi = np.full_like(z, -np.inf), np.full_like(z, np.inf)
+    active = np.ones(z.shape, dtype=bool)
+    for _ in range(CAKE_BASIS_NEWTON_STEPS):
+        D, dD = step(z)
+        lo = np.where(D < 0.0, z, lo)
+        hi = np.where(D > 0.0, z, hi)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            new = np.where(dD > 0.0, z - D / dD, np.nan)
+        done = np.abs(new - z) <= CAKE_BASIS_Z_TOL * (1.0 + np.abs(z))  # this step the last
+        out = ~((lo < new) & (new < hi) | done)
+        if np.any(out):
+            with np.errstate(invalid="ignore"):
+                mid = 0.5 * (lo + hi)
+            walk = np.where(D < 0.0, z + 4.0, z - 4.0)
+            new = np.where(out, np.where(np.isfinite(mid), mid, walk), new)
+        np.clip(new, floor, CAKE_BASIS_Z_MAX, out=new)
+        z = np.where(active & (D != 0.0), new, z)
+        active &= ~done & (D != 0.0)
+        if not np.any(active):
+            break
+    return z
 
 
 def kink_volume(filtration: Filtration, filter_area: float, pressure: float, flow: float) -> float:

@@ -83,8 +83,12 @@ def test_pressure_steps_on_the_cake_basis_follow_each_held_pressure():
     curve = steps.curve(filtration(), A, 3.0)
     V1 = float(curve.volume(600.0))
     assert float(ode_time(np.array([V1]), P_cap=3e5)[0]) == pytest.approx(600.0, rel=1e-4)
-    # after the step: t(V) - t(V1) is the 7 bar curve's time from V1 to V
-    held = ConstantPressure(7e5).curve(filtration(), A, 3.0)
+    # after the step: t(V) - t(V1) is the 7 bar curve's time from V1 to V, on the same table
+    # as each step's (feeds.held_pressure_curve; V1 * 3 is past it, where both continue their
+    # last segment; the closed-form ConstantPressure curve: tests/solver/test_cake_basis_exact.py)
+    from server.solver.feeds import held_pressure_curve
+
+    held = held_pressure_curve(filtration(), A, 7e5, 3.0)
     V = np.array([V1 * 1.5, V1 * 3])
     np.testing.assert_allclose(curve.time(V) - 600.0, held.time(V) - held.time(V1), rtol=1e-9)
 
@@ -237,7 +241,7 @@ def test_demo_results_on_the_cake_basis_agree_with_the_scanned_optimum(monkeypat
     from server.schemas.cycle import CycleRequest
     from server.solve import solve
     from server.solver.curves import TabulatedCurve
-    from server.solver.feeds import HeldPressureCurve
+    from server.solver.feeds import CakeBasisPressureCurve, HeldPressureCurve
 
     def numbers(x, path=""):
         if isinstance(x, dict):
@@ -255,6 +259,7 @@ def test_demo_results_on_the_cake_basis_agree_with_the_scanned_optimum(monkeypat
         new = dict(numbers(json.loads(solve(request).results_json)))
         with monkeypatch.context() as m:
             m.setattr(HeldPressureCurve, "optimum_volume", None)
+            m.setattr(CakeBasisPressureCurve, "optimum_volume", None)  # (its closed form: scanned too)
             m.setattr(TabulatedCurve, "has_peak", False)  # every table scanned, as before
             old = dict(numbers(json.loads(solve(request).results_json)))
         assert new.keys() == old.keys()

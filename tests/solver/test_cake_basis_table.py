@@ -13,7 +13,6 @@ from scipy.optimize import brentq
 
 from server.solver.curves import TabulatedCurve, volume_grid
 from server.solver.feeds import (
-    ConstantPressure,
     Filtration,
     HeldPressureCurve,
     held_pressure_curve,
@@ -134,7 +133,7 @@ def test_time_at_the_nodes_matches_the_quadrature_of_the_exact_rate(s, alpha_ref
 def test_the_volume_at_a_time_matches_the_ode_of_the_rate_equation():
     # exact solution constructed here: solve_ivp of dV/dt = q(V), q from brentq at each step
     f = filtration(0.6, 2e11, 5e11)
-    curve = ConstantPressure(P).curve(f, A, 6.0)
+    curve = held_pressure_curve(f, A, P, 6.0)  # the table (ConstantPressure's closed form: test_cake_basis_exact.py)
     times = np.array([1.0, 30.0, 300.0, 1500.0, 4000.0])
     sol = solve_ivp(lambda t, V: [1.0 / exact_reciprocal_rate(f, max(float(V[0]), 0.0))], (0.0, times[-1]),
                     [0.0], t_eval=times, method="DOP853", rtol=1e-12, atol=1e-14)
