@@ -148,10 +148,13 @@ def _any_unusual(si, parts: tuple, low: float, high: float, zero_allowed: bool) 
             rest = parts[i + 1:]
             return any(_any_unusual(item, rest, low, high, zero_allowed) if rest
                        else _outside(item, low, high, zero_allowed) for item in node)
-        if isinstance(node, dict):
+        kind = type(node)  # exact types first: isinstance against a model class costs more
+        if kind is dict:
             node = node.get(head)
-        elif isinstance(node, BaseModel):
+        elif _is_model(kind):
             node = getattr(node, head, None)
+        elif isinstance(node, dict):
+            node = node.get(head)
         elif isinstance(node, list | tuple) and head.isdigit() and int(head) < len(node):
             node = node[int(head)]
         else:
@@ -162,7 +165,19 @@ def _any_unusual(si, parts: tuple, low: float, high: float, zero_allowed: bool) 
 
 
 def _outside(value, low: float, high: float, zero_allowed: bool) -> bool:
-    return isinstance(value, float | int) and not (value == 0 and zero_allowed) and not low <= value <= high
+    kind = type(value)
+    return ((kind is float or kind is int or isinstance(value, float | int))
+            and not (value == 0 and zero_allowed) and not low <= value <= high)
+
+
+_MODEL_TYPES: dict = {}  # type -> whether it is a pydantic model (worked out once per type)
+
+
+def _is_model(kind: type) -> bool:
+    known = _MODEL_TYPES.get(kind)
+    if known is None:
+        known = _MODEL_TYPES[kind] = issubclass(kind, BaseModel)
+    return known
 
 
 def _unusual(key: str, value: float, typed, low: float, high: float) -> str:
