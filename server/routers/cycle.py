@@ -13,9 +13,10 @@ router = APIRouter(prefix="/api/v1", tags=["cycle"], responses=ERROR_RESPONSES, 
 
 
 def solves_quickly(inputs: CycleRequest) -> bool:
-    """A constant-pressure feed solves in a bounded few milliseconds on either pressure basis:
-    in closed form, or on the cake basis from one held-pressure table of fixed size (2,000
-    volumes, its optimum worked out on the table). Such a request runs at once on the event
+    """A constant-pressure feed solves in well under a millisecond on either pressure basis:
+    in closed form (on the cake basis a power-law cake's too, with an incomplete beta part), or
+    with local laws from one held-pressure table of fixed size (2,000 volumes, its optimum
+    worked out on the table). Such a request runs at once on the event
     loop: the hop to a worker thread costs a good part of the request, the time budget cannot
     be reached, and the solver holds the interpreter in a thread as much as on the loop. A cycle
     with stages after filtration (squeeze, blow, wash quality, specifications) searches their
@@ -25,7 +26,7 @@ def solves_quickly(inputs: CycleRequest) -> bool:
 
 
 #: a pump curve of at most this many points, compared at at most this many thicknesses, solves
-#: on its table in about 2-3 ms (one core); the longest the schema allows take several times that
+#: on its table in about 1 ms (one core); the longest the schema allows take several times that
 PUMP_POINTS_AT_ONCE = 200
 THICKNESSES_AT_ONCE = 12
 
