@@ -6,7 +6,7 @@ The field table is the editor's (forms.GROUPS), so labels never drift apart.
 """
 
 from .forms import GROUPS, Choice, value_at
-from .units import KINDS
+from .units import KINDS, UnitError, split_number
 from .views import power_of_ten
 
 #: the SI unit a bare number of each form kind is in, as people write it
@@ -32,6 +32,12 @@ def _value(raw, kind: str) -> str:
         number = f"{raw:g}"
         return f"{power_of_ten(raw, None) if 'e' in number else number} {unit}".strip()
     text = " ".join(str(raw).split())
+    try:
+        bare = not split_number(text)[1]
+    except UnitError:
+        bare = False
+    if bare and _BARE.get(kind):  # a number typed without its unit is in the bare unit: say which
+        return f"{text} {_BARE[kind]}"
     return _unit(text)
 
 

@@ -44,3 +44,16 @@ def test_compare_rows_mark_what_differs_in_editor_order():
     assert labels.index("Solids in the slurry") < labels.index("Chamber thickness") < labels.index("Feed pressure")
     differ = {label: values for label, values, d in rows if d}
     assert differ == {"Chamber thickness": ["40 mm", "60 mm"]}
+
+
+def test_numbers_typed_without_a_unit_say_their_unit_too():
+    # the editor sends what was typed: "22" for the running hours (a plant-engineer check
+    # found "22" with no unit on the saved page); a bare number is in the field's bare unit
+    inputs = demo("copper_concentrate")
+    inputs["target"]["hours_per_day"] = "22"
+    inputs["cycle"]["downtime"] = " 1080 "
+    inputs["press"]["chamber_thickness"] = "40 mm"
+    rows = dict(input_rows(inputs))
+    assert rows["Press running hours per day"] == "22 h"
+    assert rows["Downtime per cycle"] == "1080 s"
+    assert rows["Chamber thickness"] == "40 mm"
