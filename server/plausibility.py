@@ -110,8 +110,20 @@ class InputWarning:
     message: str
 
 
-#: USUAL's keys split at their dots, with their ranges (worked out once)
-_USUAL_PARTS = [(key, tuple(key.split(".")), low, high) for key, (low, high) in USUAL.items()]
+def _usual_tree() -> dict:
+    """USUAL's keys as a tree of their dotted parts ("*": every item of a list, a digit: that
+    item of a pair), each leaf (low, high, whether 0 is allowed)."""
+    tree: dict = {}
+    for key, (low, high) in USUAL.items():
+        *heads, last = key.split(".")
+        node = tree
+        for head in heads:
+            node = node.setdefault(head, {})
+        node[last] = (low, high, key in ZERO_ALLOWED)
+    return tree
+
+
+_USUAL_TREE = _usual_tree()
 
 
 def input_warnings(si, raw: dict) -> list[dict]:
@@ -119,16 +131,15 @@ def input_warnings(si, raw: dict) -> list[dict]:
     validated request, as a model or as a dict), ``raw`` the request as sent (for the units
     typed).
 
-    Most requests have no unusual value: the SI values are looked up along each key's path
-    first (on a model, its attributes: no dict of the whole request is made), and the request as
-    sent is walked (for the unit typed) only for a key whose values include one outside its
-    range."""
+    Most requests have no unusual value: the SI values are looked at once, along the tree of
+    USUAL's keys (on a model, its fields: no dict of the whole request is made), and only if one
+    lies outside its range is the request as sent walked, key by key, for the units typed."""
+    if not _any_unusual(si, _USUAL_TREE):
+        return []
+    if isinstance(si, BaseModel):
+        si = si.model_dump()
     out = []
-    for key, parts, low, high in _USUAL_PARTS:
-        if not _any_unusual(si, parts, low, high, key in ZERO_ALLOWED):
-            continue
-        if isinstance(si, BaseModel):
-            si = si.model_dump()
+    for key, (low, high) in USUAL.items():
         for path, value, typed in _entries(si, raw, key):
             if not isinstance(value, float | int) or (value == 0 and key in ZERO_ALLOWED) or low <= value <= high:
                 continue
@@ -136,32 +147,39 @@ def input_warnings(si, raw: dict) -> list[dict]:
     return out
 
 
-def _any_unusual(si, parts: tuple, low: float, high: float, zero_allowed: bool) -> bool:
-    """Whether any value the key's parts name lies outside [low, high] (what :func:`_entries`
-    would find, without the request as sent): may say yes where the full walk finds nothing
-    to flag, never no where it finds something."""
-    node = si
-    for i, head in enumerate(parts):
+def _any_unusual(node, tree: dict) -> bool:
+    """Whether any value under ``node`` that ``tree`` names lies outside its range (what
+    :func:`_entries` would find, without the request as sent): may say yes where the full walk
+    finds nothing to flag, never no where it finds something."""
+    kind = type(node)  # exact types first: isinstance against a model class costs more
+    if kind is dict:
+        fields = node
+    elif _is_model(kind):
+        fields = node.__dict__  # a model's field values (getattr of a missing one costs pydantic an exception)
+    elif isinstance(node, dict):
+        fields = node
+    elif isinstance(node, list | tuple):
+        fields = None
+    else:
+        return False
+    for head, sub in tree.items():
         if head == "*":
-            if not isinstance(node, list):
-                return False
-            rest = parts[i + 1:]
-            return any(_any_unusual(item, rest, low, high, zero_allowed) if rest
-                       else _outside(item, low, high, zero_allowed) for item in node)
-        kind = type(node)  # exact types first: isinstance against a model class costs more
-        if kind is dict:
-            node = node.get(head)
-        elif _is_model(kind):
-            node = getattr(node, head, None)
-        elif isinstance(node, dict):
-            node = node.get(head)
-        elif isinstance(node, list | tuple) and head.isdigit() and int(head) < len(node):
-            node = node[int(head)]
+            if fields is not None:
+                continue
+            items = node
+        elif fields is None:  # an item of a pair, by its index
+            if not head.isdigit() or int(head) >= len(node):
+                continue
+            items = (node[int(head)],)
         else:
-            return False
-        if node is None:
-            return False
-    return _outside(node, low, high, zero_allowed)
+            value = fields.get(head)
+            if value is None:
+                continue
+            items = (value,)
+        for value in items:
+            if _outside(value, *sub) if type(sub) is tuple else _any_unusual(value, sub):
+                return True
+    return False
 
 
 def _outside(value, low: float, high: float, zero_allowed: bool) -> bool:

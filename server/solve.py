@@ -316,9 +316,8 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     # the curves are checked finite as arrays (and sent as arrays)
     curves = {k: np.asarray(v, dtype=float) for k, v in sol.curves.items()}
     bad = None
-    # one sum for all of them: NaN or inf carries through it (a finite overflow is looked into)
-    with np.errstate(over="ignore", invalid="ignore"):
-        spoiled = bool(curves) and not math.isfinite(np.concatenate(tuple(curves.values())).sum())
+    # all of them at once (np.isfinite warns of nothing: no error-state context to set up)
+    spoiled = bool(curves) and not np.isfinite(np.concatenate(tuple(curves.values()))).all()
     if spoiled:
         bad = next((f"curves.{k}.{int(np.flatnonzero(~np.isfinite(v))[0])}" for k, v in curves.items()
                     if not np.isfinite(v).all()), None)
