@@ -6,7 +6,7 @@ The field table is the editor's (forms.GROUPS), so labels never drift apart.
 """
 
 from .forms import GROUPS, Choice, value_at
-from .units import KINDS, UnitError, split_number
+from .units import KINDS, UnitError, parse_quantity, split_number
 from .views import power_of_ten
 
 #: the SI unit a bare number of each form kind is in, as people write it
@@ -53,10 +53,34 @@ def _pairs(raw, kinds: tuple[str, str], joiner: str) -> str:
     return "; ".join(out)
 
 
+#: how the cake is washed: the editor sends these choices with every request (their first
+#: option), so they say nothing unless a wash is given
+_WASH_CHOICES = ("cycle.washing", "cycle.wash_basis")
+#: what only a wash uses: shown, if typed, as not used when no wash is given
+_WASH_ONLY = ("cycle.wash_pressure", "cycle.wash_viscosity", "cycle.wash_model.")
+
+
+def _washes(inputs: dict) -> bool:
+    """Whether the inputs wash the cake: a wash ratio above 0, or a wash target."""
+    cycle = inputs.get("cycle") if isinstance(inputs.get("cycle"), dict) else {}
+    if cycle.get("wash_target") is not None:
+        return True
+    ratio = cycle.get("wash_ratio")
+    if ratio is None:
+        return False
+    try:
+        return parse_quantity(ratio, "fraction") > 0.0
+    except UnitError:  # not readable (saved as typed): shown as it is
+        return True
+
+
 def input_rows(inputs: dict) -> list[tuple[str, str]]:
-    """(label, value as entered) for every input given, in the editor's order."""
+    """(label, value as entered) for every input given, in the editor's order. Without a wash
+    the washing choices the editor always sends are left out, and a wash setting typed anyway
+    is shown as not used."""
     rows: list[tuple[str, str]] = []
-    seen: set[str] = set()
+    seen: set[str] = set(() if _washes(inputs) else _WASH_CHOICES)
+    unused = () if _washes(inputs) else _WASH_ONLY
     for group in GROUPS:
         for item in group.items:
             fields = []
@@ -76,7 +100,8 @@ def input_rows(inputs: dict) -> list[tuple[str, str]]:
                 if raw is None or f.path in seen:
                     continue
                 seen.add(f.path)
-                rows.append((f.full_label, _shown(raw, f.kind)))
+                shown = _shown(raw, f.kind)
+                rows.append((f.full_label, f"{shown} (not used: no wash given)" if f.path.startswith(unused) else shown))
     return rows
 
 

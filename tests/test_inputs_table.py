@@ -57,3 +57,23 @@ def test_numbers_typed_without_a_unit_say_their_unit_too():
     assert rows["Press running hours per day"] == "22 h"
     assert rows["Downtime per cycle"] == "1080 s"
     assert rows["Chamber thickness"] == "40 mm"
+
+
+def test_washing_choices_are_left_out_without_a_wash():
+    # the editor sends its washing choices with every request; without a wash they said
+    # "through-washing" on the saved page of a case that washes nothing (a plant-engineer check)
+    inputs = demo("gypsum_chamber_limited")
+    inputs["cycle"].update(washing="through", wash_basis="filtrate", wash_pressure="4 bar")
+    rows = dict(input_rows(inputs))
+    assert "Washing" not in rows and "… counted per" not in " ".join(rows)
+    assert rows["Wash pressure"] == "4 bar (not used: no wash given)"
+    for no_wash in (0, "0", "0 %"):
+        inputs["cycle"]["wash_ratio"] = no_wash
+        assert "Washing" not in dict(input_rows(inputs))
+    # with a wash, as entered
+    inputs["cycle"]["wash_ratio"] = "1.5"
+    rows = dict(input_rows(inputs))
+    assert rows["Washing"] == "through-washing (wash plates)" and rows["Wash pressure"] == "4 bar"
+    washed = dict(input_rows(demo("hydroxide_membrane_wash")))  # a wash target, no ratio
+    assert washed["Washing"] == "simple washing (filtrate path)"
+    assert not any("not used" in v for v in washed.values())
