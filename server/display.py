@@ -5,6 +5,7 @@ in and min). Each displayed quantity has a unit per system; values are converted
 the same pint registry as the input parser.
 """
 
+import re
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Literal
@@ -58,6 +59,14 @@ def _factor(quantity: str, system: str) -> float:
     return float(ureg.Quantity(1.0, SI_OF[quantity]).to(DISPLAY[quantity][system].pint).magnitude)
 
 
+#: the metric units the solver writes quantities in within its warnings ("80 m³/h", "7 bar"),
+#: with the quantity each is (its metric display unit above); the longer spellings first
+_TEXT_UNITS = {"m³/h": "flow", "kg/m³": "density", "m/kg": "specific_resistance", "1/m": "medium_resistance",
+               "bar": "pressure", "mm": "thickness", "m²": "area", "m³": "volume", "kg": "mass"}
+_TEXT_QUANTITY = re.compile(
+    r"(?<![\w.])(-?\d+(?:\.\d+)?(?:e[+-]?\d+)?) (" + "|".join(map(re.escape, _TEXT_UNITS)) + r")(?![\w/²³·])")
+
+
 class Units:
     """Converts SI values for display in one unit system."""
 
@@ -66,6 +75,19 @@ class Units:
 
     def label(self, quantity: str) -> str:
         return DISPLAY[quantity][self.system].label
+
+    def text(self, message: str) -> str:
+        """A solver's message (written in metric units) with its quantities in this system:
+        "below 80 m³/h" reads "below 352.2 US gpm" in US units. Other text is left as it is."""
+        if self.system == "si":
+            return message
+
+        def shown(match):
+            quantity = _TEXT_UNITS[match.group(2)]
+            value = float(match.group(1)) / _factor(quantity, "si") * _factor(quantity, self.system)
+            return f"{value:.4g} {self.label(quantity)}"
+
+        return _TEXT_QUANTITY.sub(shown, message)
 
     def __call__(self, quantity: str, value):
         """SI value (or list of values) in the display unit of ``quantity``."""

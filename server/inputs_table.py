@@ -101,7 +101,9 @@ def input_rows(inputs: dict) -> list[tuple[str, str]]:
                     continue
                 seen.add(f.path)
                 shown = _shown(raw, f.kind)
-                rows.append((f.full_label, f"{shown} (not used: no wash given)" if f.path.startswith(unused) else shown))
+                if f.path.startswith(unused):
+                    shown += " (not used: no wash given)"
+                rows.append((f.full_label, shown))
     return rows
 
 

@@ -57,3 +57,20 @@ def test_every_quantity_has_a_label_in_each_system_and_an_si_unit():
 
 def test_an_unknown_system_shows_si():
     assert Units("xx").system == "si"
+
+
+def test_a_solvers_message_reads_in_the_pages_units():
+    # the solver writes its warnings in metric; a page in US units showed "(80 m³/h)" (a
+    # plant-engineer check). psi = lbf/in², lbf = lb x standard gravity 9.80665 m/s² (NIST SP 811)
+    gpm = 80 / 3600 / GALLON * 60  # 80 m³/h in US gal/min
+    message = "The pump curve starts at 80 m³/h: below that flow the pump is taken to run at 7 bar (0.02222 m³/s)."
+    us = Units("us").text(message)
+    assert us == (f"The pump curve starts at {gpm:.4g} US gpm: below that flow the pump is taken to run at "
+                  f"{7e5 / (POUND * 9.80665 / INCH**2):.4g} psi (0.02222 m³/s)."), us
+    assert Units("si").text(message) == message
+    # each unit the solver writes, longer spellings first; words and other units untouched
+    assert Units("us").text("a cake of 25 mm, 1.2e+11 m/kg, 1.5e10 1/m, 4150 kg/m³, 150 m², 3.2 m³, 500 kg") == (
+        f"a cake of {0.025 / INCH:.4g} in, {1.2e11 * POUND / FOOT:.4g} ft/lb, {1.5e10 * FOOT:.4g} 1/ft, "
+        f"{4150 * FOOT**3 / POUND:.4g} lb/ft³, {150 / FOOT**2:.4g} ft², {3.2 / FOOT**3:.4g} ft³, "
+        f"{500 / POUND:.4g} lb")
+    assert Units("us").text("8 barrels, 3 mmol, 2 kgf, v2.5 bar, 40 min, 12 %") == "8 barrels, 3 mmol, 2 kgf, v2.5 bar, 40 min, 12 %"

@@ -1,7 +1,9 @@
 """The pages' partial updates in-process: POST /ui/results (editor) and POST /ui/lab-fit (lab page)."""
 
 import html
+import json
 import re
+from pathlib import Path
 
 from tests.test_api_labfit import EXAMPLE
 
@@ -92,3 +94,13 @@ def test_a_range_too_narrow_to_show_says_so(client):
     html = _pane(client, body)
     assert "the standard errors move it by less than the last digit shown" in html
     assert " to " not in html.split('data-testid="uncertainty"')[1].split("</p>")[0].split("filtration time of")[0]
+
+
+def test_the_solvers_warnings_read_in_us_units(client):
+    # the pump note said "(80 m³/h)" on a page in US units (a plant-engineer check)
+    inputs = json.loads((Path(__file__).resolve().parents[1] / "demo_cases" / "kaolin_pump_fed.json").read_text())["inputs"]
+    html = client.post("/ui/results?units=us", json=inputs).json()["html"]
+    notes = [p.split("</p>")[0] for p in html.split('<p class="warning" role="status">')[1:] if "highest flow" in p]
+    assert len(notes) == 1 and "(352.2 US gpm)" in notes[0] and "m³/h" not in notes[0], notes
+    html = client.post("/ui/results?units=si", json=inputs).json()["html"]
+    assert "(80 m³/h)" in html
