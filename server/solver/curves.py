@@ -135,8 +135,9 @@ FIRST_RATIO = 1.02
 
 
 @lru_cache(maxsize=16)
-def _unit_steps(n: int) -> np.ndarray:
-    """0, 1/(n-1), ..., 1 (kept: geometric nodes are an exponential of them)."""
+def unit_steps(n: int) -> np.ndarray:
+    """0, 1/(n-1), ..., 1, read-only (made once per n: geometric nodes are an exponential of
+    them, a cycle's curves scaled copies)."""
     steps = np.linspace(0.0, 1.0, n)
     steps.flags.writeable = False
     return steps
@@ -182,7 +183,7 @@ def _operating_point_on_nodes(p, q, V, filtration, filter_area):
         floor = mu * q[0] * medium
         if floor < p[1]:
             n = int(min(600, np.ceil(np.log(p[1] / floor) / np.log(FIRST_RATIO)))) + 1
-            extra = floor * np.exp(np.log(p[1] / floor) * _unit_steps(n)[:-1])
+            extra = floor * np.exp(np.log(p[1] / floor) * unit_steps(n)[:-1])
             p = np.concatenate(([0.0], extra, p[1:]))
             q = np.concatenate((np.full(extra.size + 1, q[0]), q[1:]))
     # The last segment ends at no flow: held at the cap (a node (cap, 0) added), or a pump's

@@ -14,12 +14,12 @@ Vol. 2, 5th ed., section 7.3 and Example 7.2.
 
 import math
 from dataclasses import dataclass, field
-from functools import lru_cache
 
 import numpy as np
 from scipy.optimize import minimize_scalar
 
 from .blowing import Blow
+from .curves import unit_steps
 from .errors import SolverInputError, in_bar, inputs_of
 from .expression import Squeeze
 from .feeds import Filtration
@@ -579,7 +579,7 @@ class CycleFamily:
         """Equal-length arrays from the start of filtration to the chambers-full point (SI)."""
         with np.errstate(divide="ignore"):
             unbounded = not math.isfinite(self.curve.rate(0.0))  # no cloth: the first instant's flow
-        V = V_full * (_unit_steps(n + 1)[1:] if unbounded else _unit_steps(n))
+        V = V_full * (unit_steps(n + 1)[1:] if unbounded else unit_steps(n))
         V.flags.writeable = False  # a table then finds the segments once for all the curves
         pressure = self.curve.pressure_at(V)
         return {
@@ -589,14 +589,6 @@ class CycleFamily:
             "flow": self.curve.rate(V),
             "cake_thickness": press.cake_thickness(V, self.filtration.cake_volume_ratio),
         }
-
-
-@lru_cache(maxsize=8)
-def _unit_steps(n: int) -> np.ndarray:
-    """n equal steps from 0 to 1 inclusive (np.linspace(0, 1, n), made once per n)."""
-    steps = np.linspace(0.0, 1.0, n)
-    steps.flags.writeable = False  # shared: scaled copies only
-    return steps
 
 
 #: The best local peaks of a throughput scan that are refined (a flat tail can hold many).
