@@ -63,8 +63,12 @@ def _factor(quantity: str, system: str) -> float:
 #: with the quantity each is (its metric display unit above); the longer spellings first
 _TEXT_UNITS = {"m³/h": "flow", "kg/m³": "density", "m/kg": "specific_resistance", "1/m": "medium_resistance",
                "bar": "pressure", "mm": "thickness", "m²": "area", "m³": "volume", "kg": "mass"}
+_NUMBER = r"(-?\d+(?:\.\d+)?(?:[eE][+-]?\d+)?)"
+#: a number, or a range ("3 to 4 bar", "3–20 bar"), and its unit; a number grouped in thousands
+#: ("1,500", "19 000") is left as written (the solver writes none)
 _TEXT_QUANTITY = re.compile(
-    r"(?<![\w.])(-?\d+(?:\.\d+)?(?:e[+-]?\d+)?) (" + "|".join(map(re.escape, _TEXT_UNITS)) + r")(?![\w/²³·])")
+    r"(?<![\w.,])(?<!\d )" + _NUMBER + r"(?:( to |–)" + _NUMBER + r")? (" + "|".join(map(re.escape, _TEXT_UNITS))
+    + r")(?![\w/²³·])")
 
 
 class Units:
@@ -78,14 +82,22 @@ class Units:
 
     def text(self, message: str) -> str:
         """A solver's message (written in metric units) with its quantities in this system:
-        "below 80 m³/h" reads "below 352.2 US gpm" in US units. Other text is left as it is."""
+        "below 80 m³/h" reads "below 352.2 US gpm" in US units, "(3 to 4 bar)" "(43.51 to 58.02
+        psi)"; figures written as the pages write them (views.fmt, 4 significant figures). Other
+        text is left as it is."""
         if self.system == "si":
             return message
 
+        from .views import fmt  # written as every figure on the pages is
+
         def shown(match):
-            quantity = _TEXT_UNITS[match.group(2)]
-            value = float(match.group(1)) / _factor(quantity, "si") * _factor(quantity, self.system)
-            return f"{value:.4g} {self.label(quantity)}"
+            first, joiner, second, unit = match.groups()
+            quantity = _TEXT_UNITS[unit]
+            scale = _factor(quantity, self.system) / _factor(quantity, "si")
+            values = fmt(float(first) * scale, 4)
+            if second is not None:  # a range: both ends converted
+                values += joiner + fmt(float(second) * scale, 4)
+            return f"{values} {self.label(quantity)}"
 
         return _TEXT_QUANTITY.sub(shown, message)
 

@@ -61,9 +61,11 @@ _WASH_ONLY = ("cycle.wash_pressure", "cycle.wash_viscosity", "cycle.wash_model."
 
 
 def _washes(inputs: dict) -> bool:
-    """Whether the inputs wash the cake: a wash ratio above 0, or a wash target."""
+    """Whether the inputs wash the cake: a wash ratio above 0, a wash target, or a solute
+    removal specification (which sets the wash when no ratio is given: solver/stages.py)."""
     cycle = inputs.get("cycle") if isinstance(inputs.get("cycle"), dict) else {}
-    if cycle.get("wash_target") is not None:
+    specs = cycle.get("specs") if isinstance(cycle.get("specs"), dict) else {}
+    if cycle.get("wash_target") is not None or specs.get("min_solute_removal") is not None:
         return True
     ratio = cycle.get("wash_ratio")
     if ratio is None:

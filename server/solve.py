@@ -6,7 +6,6 @@ only module that knows both the request's field paths and the solver's (:data:`A
 """
 
 import math
-from contextlib import contextmanager
 from dataclasses import dataclass, replace
 from functools import cached_property
 from itertools import chain
@@ -76,13 +75,19 @@ def api_path(solver_path: str) -> tuple:
     return ("body",)
 
 
-@contextmanager
-def solver_errors():
-    """Solver input errors in the block become a 422 at the field they concern."""
-    try:
-        yield
-    except solver.SolverInputError as exc:
-        raise InputError([(api_path(p), exc.message) for p in exc.parameters]) from None
+class solver_errors:
+    """Solver input errors in the block become a 422 at the field they concern (a class: a
+    generator context manager costs more, and every request enters this twice)."""
+
+    __slots__ = ()
+
+    def __enter__(self):
+        return None
+
+    def __exit__(self, kind, exc, traceback):
+        if kind is not None and issubclass(kind, solver.SolverInputError):
+            raise InputError([(api_path(p), exc.message) for p in exc.parameters]) from None
+        return False
 
 
 #: the solids densities the API accepts (schemas.common.Density): a density fixed by the cake must
@@ -304,7 +309,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     with solver_errors():
         family = solver.cycle_family_for(system, inputs.compare_thicknesses)
         sol = solver.solve_cycle(system, end, family)
-        rows = solver.thickness_rows(system, inputs.compare_thicknesses, family)
+        rows = solver.thickness_rows(system, inputs.compare_thicknesses, family, sol.unconstrained_optimum)
         series = solver.chart_series(family, system, sol) if with_chart_series else None
     derived = dict(built.derived)
     derived.update(

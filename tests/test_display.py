@@ -62,15 +62,25 @@ def test_an_unknown_system_shows_si():
 def test_a_solvers_message_reads_in_the_pages_units():
     # the solver writes its warnings in metric; a page in US units showed "(80 m³/h)" (a
     # plant-engineer check). psi = lbf/in², lbf = lb x standard gravity 9.80665 m/s² (NIST SP 811)
+    from server.views import fmt
+
+    PSI = POUND * 9.80665 / INCH**2
     gpm = 80 / 3600 / GALLON * 60  # 80 m³/h in US gal/min
     message = "The pump curve starts at 80 m³/h: below that flow the pump is taken to run at 7 bar (0.02222 m³/s)."
     us = Units("us").text(message)
     assert us == (f"The pump curve starts at {gpm:.4g} US gpm: below that flow the pump is taken to run at "
-                  f"{7e5 / (POUND * 9.80665 / INCH**2):.4g} psi (0.02222 m³/s)."), us
+                  f"{7e5 / PSI:.4g} psi (0.02222 m³/s)."), us
     assert Units("si").text(message) == message
-    # each unit the solver writes, longer spellings first; words and other units untouched
-    assert Units("us").text("a cake of 25 mm, 1.2e+11 m/kg, 1.5e10 1/m, 4150 kg/m³, 150 m², 3.2 m³, 500 kg") == (
-        f"a cake of {0.025 / INCH:.4g} in, {1.2e11 * POUND / FOOT:.4g} ft/lb, {1.5e10 * FOOT:.4g} 1/ft, "
-        f"{4150 * FOOT**3 / POUND:.4g} lb/ft³, {150 / FOOT**2:.4g} ft², {3.2 / FOOT**3:.4g} ft³, "
-        f"{500 / POUND:.4g} lb")
-    assert Units("us").text("8 barrels, 3 mmol, 2 kgf, v2.5 bar, 40 min, 12 %") == "8 barrels, 3 mmol, 2 kgf, v2.5 bar, 40 min, 12 %"
+    # each unit the solver writes, longer spellings first, figures written as the pages write them
+    assert Units("us").text("a cake of 25 mm, 1.2e+11 m/kg, 1.5e10 1/m, 4150 kg/m³, 150 m², 3.2 m³, 12000 kg") == (
+        f"a cake of {fmt(0.025 / INCH, 4)} in, {fmt(1.2e11 * POUND / FOOT, 4)} ft/lb, {fmt(1.5e10 * FOOT, 4)} 1/ft, "
+        f"{fmt(4150 * FOOT**3 / POUND, 4)} lb/ft³, {fmt(150 / FOOT**2, 4)} ft², {fmt(3.2 / FOOT**3, 4)} ft³, "
+        f"{fmt(12000 / POUND, 4)} lb")
+    assert "×10¹¹ ft/lb" in Units("us").text("1.2E+11 m/kg") and "26,455 lb" in Units("us").text("12000 kg")
+    # a range converts at both ends (the tested-pressure warning wrote "3 to 58.02 psi": a review)
+    assert Units("us").text("the lab tests' pressures (3 to 4 bar)") == (
+        f"the lab tests' pressures ({3e5 / PSI:.4g} to {4e5 / PSI:.4g} psi)")
+    assert Units("us").text("3–20 bar") == f"{3e5 / PSI:.4g}–{fmt(20e5 / PSI, 4)} psi"
+    # words, other units and numbers grouped in thousands are left as written, never half-converted
+    for text in ("8 barrels, 3 mmol, 2 kgf, v2.5 bar, 40 min, 12 %", "1,500 kg/m³", "19 000 kg", "5 m³/s"):
+        assert Units("us").text(text) == text

@@ -77,3 +77,11 @@ def test_washing_choices_are_left_out_without_a_wash():
     washed = dict(input_rows(demo("hydroxide_membrane_wash")))  # a wash target, no ratio
     assert washed["Washing"] == "simple washing (filtrate path)"
     assert not any("not used" in v for v in washed.values())
+    # a solute removal specification sets the wash when no ratio is given (a review found
+    # its settings marked "not used" while the wash it set was calculated)
+    specified = demo("hydroxide_membrane_wash")
+    del specified["cycle"]["wash_target"]
+    specified["cycle"].update(specs={"min_solute_removal": "95 %"}, wash_pressure="6 bar")
+    rows = dict(input_rows(specified))
+    assert rows["Washing"] == "simple washing (filtrate path)" and rows["Wash pressure"] == "6 bar"
+    assert not any("not used" in v for v in rows.values())

@@ -979,15 +979,17 @@ def _best_volumes(family: CycleFamily, press: Press, Ls: np.ndarray):
     return V_full, V_best, kinds, best_V, best_reason
 
 
-def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None = None
-                   ) -> list[tuple[float, CycleResult, CycleResult]]:
+def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None = None,
+                   optimum: CycleResult | None = None) -> list[tuple[float, CycleResult, CycleResult]]:
     """(chamber thickness [m], best cycle, chambers-full cycle) at each thickness: what a
     thickness comparison shows. The same cycles as :func:`compare_thicknesses` gives (tested in
     tests/solver/test_cycle.py), without each thickness's end criterion and warnings.
 
     On a closed-form curve with no stages and a fixed filling time, the optimum's cycle is the
     same at every thickness but for how full its chambers are: it is worked out once and its
-    fill set per thickness (issue 12: a comparison of six thicknesses in a few microseconds).
+    fill set per thickness (issue 12: a comparison of six thicknesses in a few microseconds);
+    ``optimum``, the system's unconstrained optimum from :func:`solve_cycle` with this family,
+    saves working it out again.
     """
     thicknesses = [float(L) for L in thicknesses]
     if not thicknesses:
@@ -1008,7 +1010,7 @@ def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None 
         full, best = cycles[:n], dict(zip(others, cycles[n:]))
         return [(L, best.get(i, full[i]), full[i]) for i, L in enumerate(thicknesses)]
     V_star = float(family.V_star)
-    optimum = family.result(press, V_star, LIMITED_BY_OPTIMUM).__dict__
+    optimum = (optimum or family.result(press, V_star, LIMITED_BY_OPTIMUM)).__dict__
     rows = []
     for L in thicknesses:
         at_L = press.with_thickness(L)

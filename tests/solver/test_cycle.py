@@ -310,6 +310,8 @@ def test_the_rows_a_comparison_shows_are_its_best_and_chambers_full_cycles(feed_
     rows = thickness_rows(system, Ls, family)
     full = compare_thicknesses(system, Ls, family=family)
     assert [r[0] for r in rows] == [L for L, _ in full] == Ls
+    # given the optimum solve_cycle found (as the API's solve passes it), the same rows
+    assert thickness_rows(system, Ls, family, solve_cycle(system, None, family).unconstrained_optimum) == rows
     kinds = set()
     for (_, best, chambers_full), (_, sol) in zip(rows, full, strict=True):
         assert best == sol.best and chambers_full == sol.chambers_full  # every field, exactly
