@@ -190,3 +190,15 @@ def test_list_entries_are_flagged_each_at_its_index(client):
     assert w["compare_thicknesses.1"].startswith("200 mm is outside the usual 10–100 mm")
     assert w["feed.steps.1.0"].startswith("70 bar is outside the usual 0.3–20 bar")
     assert "compare_thicknesses.0" not in w and "feed.steps.0.0" not in w
+
+
+def test_a_bare_number_refused_as_si_says_the_unit_it_fits_in(client):
+    # a client sending 7 for 7 bar got "got 7 Pa" and had to guess why (a plant-engineer check):
+    # the refusal now says a bare number is SI and names the unit it would fit in
+    msg = _msg(client, lambda b: b["feed"].update(pressure=7), "feed.pressure")
+    assert msg.endswith('got 7 Pa (a number without a unit is in Pa: for 7 bar, send "7 bar")'), msg
+    msg = _msg(client, lambda b: b["press"].update(chamber_thickness="25"), "press.chamber_thickness")
+    assert 'for 25 mm, send "25 mm"' in msg, msg
+    # no hint where no such unit fits, or where a unit was typed
+    assert "without a unit" not in _msg(client, lambda b: b["feed"].update(pressure=1e12), "feed.pressure")
+    assert "without a unit" not in _msg(client, lambda b: b["feed"].update(pressure="7 Pa"), "feed.pressure")

@@ -42,11 +42,33 @@ def range_text(kind, gt=None, ge=None, lt=None, le=None) -> str:
 TOLERANCE = 1e-9
 
 
-def _out_of_range(value, si: float, kind: str, allowed: str, gt, ge, lt, le) -> str:
-    """The refusal in the unit the person used (4 significant figures), with SI beside it."""
+#: the units a person most likely meant by a bare number refused as SI ("7" for a pressure: 7 bar)
+_MEANT = {"pressure": ("bar", "kPa"), "length": ("mm",), "time": ("min", "h"), "flow": ("m^3/h",),
+          "volume": ("L",), "viscosity": ("mPa*s",), "flux": ("L/(m^2*h)",)}
+
+
+def _meant(value, kind: str, inside) -> str:
+    """For a number sent without a unit and refused: the unit it fits in, as a hint, or ""."""
+    if isinstance(value, bool) or not isinstance(value, int | float | str):
+        return ""
+    text = f"{value:g}" if isinstance(value, int | float) else value.strip()
+    for unit in _MEANT.get(kind, ()):
+        try:
+            if inside(parse_quantity(f"{text} {unit}", kind)):
+                return (f" (a number without a unit is in {KINDS[kind].label}: for {text} {unit.replace('^3', '³')}"
+                        f", send \"{text} {unit}\")")
+        except UnitError:
+            return ""
+    return ""
+
+
+def _out_of_range(value, si: float, kind: str, allowed: str, gt, ge, lt, le, inside=None) -> str:
+    """The refusal in the unit the person used (4 significant figures), with SI beside it; for a
+    number sent without a unit, the unit it would fit in (``inside``: the range check)."""
     given = user_unit(value, kind)
     if given is None or (given[1](0.0) == 0.0 and given[1](1.0) == 1.0):  # SI as written: said once
-        return f"must be {allowed}; got {_fmt(si, kind)}"
+        hint = _meant(value, kind, inside) if given is None and inside is not None else ""
+        return f"must be {allowed}; got {_fmt(si, kind)}{hint}"
     unit, to_user = given
     bounds = [(word, to_user(b)) for word, b in (("above", gt), ("at least", ge), ("below", lt), ("at most", le))
               if b is not None]
@@ -84,6 +106,10 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
     """An Annotated float field type for one kind of quantity with an allowed range (SI)."""
     allowed = range_text(kind, gt, ge, lt, le)
 
+    def inside(si: float) -> bool:
+        return ((gt is None or si > gt) and (ge is None or si >= ge - TOLERANCE * abs(ge))
+                and (lt is None or si < lt) and (le is None or si <= le + TOLERANCE * abs(le)))
+
     def parse(value):
         try:
             si = parse_quantity(value, kind)
@@ -91,12 +117,8 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
             raise ValueError(str(exc)) from None
         # an inclusive bound given exactly in another unit may come out one rounding step past
         # it ("0.001 g/L" -> 0.0009999999999999998 kg/m^3): within 1e-9 it is the bound
-        ok = (
-            (gt is None or si > gt) and (ge is None or si >= ge - TOLERANCE * abs(ge))
-            and (lt is None or si < lt) and (le is None or si <= le + TOLERANCE * abs(le))
-        )
-        if not ok:
-            raise ValueError(_out_of_range(value, si, kind, allowed, gt, ge, lt, le))
+        if not inside(si):
+            raise ValueError(_out_of_range(value, si, kind, allowed, gt, ge, lt, le, inside))
         # within the tolerance past an inclusive bound it is the bound, for every later check too
         if ge is not None and si < ge:
             return ge
