@@ -342,7 +342,7 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
                                  for L, best, full in rows],
         "stage_order": ["fill", "filtration", *sol.stage_order, "downtime"],
         "specs": sol.specs,
-        "warnings": list(sol.warnings) + tested_range_warning(inputs, system.feed),
+        "warnings": list(sol.warnings) + tested_range_warning(inputs, system.feed) + stage_order_warning(inputs, sol),
         "cautions": CAUTIONS,
         "units": RESULT_UNITS,
         "solver_version": solver.SOLVER_VERSION,
@@ -464,6 +464,20 @@ def uncertainty(inputs: CycleRequest, built: BuiltSystem, sol) -> dict | None:
              + " (delta method)")
     out["basis"] = basis + ("; " + "; ".join(notes) if notes else "")
     return out
+
+
+def stage_order_warning(inputs: CycleRequest, sol) -> list[str]:
+    """A stage order (``cycle.stages``) naming stages the cycle does not have: they are left out,
+    and the engineer is told (a demo listed a blow it had no settings for)."""
+    order = inputs.cycle.stages
+    if not order:
+        return []
+    unused = [s for s in order if s not in sol.stage_order]
+    if not unused:
+        return []
+    names = " and ".join(unused)
+    return [f"The stage order lists {names}, but the cycle has no {names} settings: "
+            f"{'it is' if len(unused) == 1 else 'they are'} left out of the cycle."]
 
 
 def tested_range_warning(inputs: CycleRequest, feed) -> list[str]:

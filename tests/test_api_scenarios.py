@@ -42,6 +42,17 @@ def test_invalid_inputs_are_refused_and_nothing_is_stored(client):
     assert r.json()["detail"][0]["field"] == "inputs.slurry.solids_mass_fraction"
     r = client.post("/api/v1/scenarios", json={"name": "", "inputs": COPPER})
     assert r.status_code == 422 and r.json()["detail"][0]["field"] == "name"
+    # spaces only were saved as an empty name the list could not link to (a plant-engineer check)
+    r = client.post("/api/v1/scenarios", json={"name": "  \t ", "inputs": COPPER})
+    assert r.status_code == 422 and r.json()["detail"] == [
+        {"loc": ["body", "name"], "field": "name", "msg": "must not be blank: give the scenario a short name",
+         "type": "value_error"}], r.text
+    assert count(client) == before
+    # an import is lenient: a blank name becomes the default name, as a missing one does
+    r = client.post("/api/v1/scenarios/import", files={"file": ("x.json", json.dumps({"name": " ", "inputs": COPPER}))})
+    assert r.status_code == 201 and client.get(f"/api/v1/scenarios/{r.json()['id']}").json()["name"] == \
+        "Imported scenario"
+    before += 1
     r = client.post("/api/v1/scenarios", json={"name": "orphan", "inputs": COPPER, "parent": "nope"})
     assert r.status_code == 422
     assert count(client) == before

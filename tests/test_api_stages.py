@@ -34,6 +34,7 @@ def test_the_membrane_demo_meets_its_specification_at_the_best_cycle(client):
     r = post(client, DEMO)
     b = r["best"]
     assert r["stage_order"] == ["fill", "filtration", "wash", "squeeze", "downtime"]
+    assert not any("stage order" in w for w in r["warnings"])
     assert b["solute_removal"] == pytest.approx(0.95, abs=1e-6)  # the wash target, met to 1e-6 (issue 15)
     assert b["moisture"] == pytest.approx(0.34, rel=1e-9)  # the moisture spec binds
     assert r["specs"]["max_moisture"] == {"required": 0.34, "achieved": pytest.approx(0.34), "met": True,
@@ -228,3 +229,18 @@ def test_random_stage_inputs_give_an_answer_or_a_plain_422(client, cycle):
         best = r.json()["best"]
         assert all(math.isfinite(v) for v in best.values() if isinstance(v, float))
         assert best["moisture"] <= r.json()["derived"]["moisture"] * (1 + 1e-9)  # stages never wet the cake
+
+
+def test_a_stage_order_naming_a_stage_the_cycle_lacks_says_it_is_left_out(client):
+    # the membrane demo listed ["wash", "squeeze", "blow"] with no blow settings: the blow was
+    # dropped without a word (a plant-engineer check)
+    b = copy.deepcopy(DEMO)
+    b["cycle"]["stages"] = ["wash", "squeeze", "blow"]
+    r = post(client, b)
+    assert r["stage_order"] == ["fill", "filtration", "wash", "squeeze", "downtime"]
+    assert [w for w in r["warnings"] if "stage order" in w] == [
+        "The stage order lists blow, but the cycle has no blow settings: it is left out of the cycle."]
+    del b["cycle"]["squeeze"], b["cycle"]["specs"]
+    r = post(client, b)
+    assert "The stage order lists squeeze and blow, but the cycle has no squeeze and blow settings: they are " \
+           "left out of the cycle." in r["warnings"]

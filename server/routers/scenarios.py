@@ -166,7 +166,7 @@ async def import_scenario(request: Request, file: UploadFile | None = None) -> d
         raise InputError([(("body",), f"the file is not JSON: {exc.__class__.__name__}")]) from None
     if not isinstance(data, dict) or not isinstance(data.get("inputs"), dict):
         raise InputError([(("body", "inputs"), "a scenario file needs an inputs object (an /api/v1/cycle request)")])
-    name = str(data.get("name") or "Imported scenario")[:120]
+    name = str(data.get("name") or "").strip()[:120] or "Imported scenario"  # a blank name too: one to link to
     note = str(data.get("note") or "")[:2000]
     plan = data.get("plan") if isinstance(data.get("plan"), dict) else None
     s = await within_budget(request, save, _store(request), name, note, data["inputs"], None, plan)

@@ -1,6 +1,6 @@
 """Schemas of /api/v1/scenarios: saved, immutable scenarios."""
 
-from pydantic import BaseModel, Field
+from pydantic import BaseModel, Field, field_validator
 
 from .cycle import Strict
 
@@ -12,6 +12,14 @@ class ScenarioIn(Strict):
     parent: str | None = Field(None, max_length=40, description="The scenario this one was copied from")
     plan: dict | None = Field(None, description="Plan inputs saved with the scenario: a /api/v1/plan request "
                                                 "without its inputs (target, spares, shift, temperatures, ...)")
+
+    @field_validator("name")
+    @classmethod
+    def _named(cls, name: str) -> str:
+        """A name of spaces only would be saved empty, and the list could not link to it."""
+        if not name.strip():
+            raise ValueError("must not be blank: give the scenario a short name")
+        return name
 
 
 class ScenarioCreated(BaseModel):
