@@ -291,3 +291,26 @@ def test_a_search_past_its_count_limit_says_more_than(client):
     html = client.get("/scenarios", params={"q": "overlimit"}).text
     place = " ".join(html.split('data-testid="list-place">')[1].split("</p>")[0].split())
     assert place.startswith("6 shown of more than 4 scenarios matching “overlimit”")
+
+
+def test_compare_shows_the_stages_a_scenario_has_so_its_times_add_up(client):
+    # the membrane demo's column read filtration + wash and a cycle time 2.26 min longer, with
+    # no squeeze row and no discharge moisture (a plant-engineer check)
+    from server.routers.scenarios import _figure_rows
+
+    membrane = json.loads((PROJECT_ROOT / "demo_cases" / "hydroxide_membrane_wash.json").read_text())["inputs"]
+    a, b = save(client, name="membrane", inputs=membrane), save(client, name="plain")
+    html = client.get(f"/compare?ids={a['id']},{b['id']}").text
+    for label in ("Squeeze time", "Downtime", "Cake moisture at discharge", "Solute removed by the wash"):
+        assert f'<th scope="row">{label}</th>' in html, label
+    assert '<th scope="row">Blow time</th>' not in html and '<th scope="row">Filling time</th>' not in html
+    saved = [client.get(f"/api/v1/scenarios/{x['id']}").json() for x in (a, b)]
+    membrane_best = saved[0]["results"]["best"]
+    assert f"<td>{membrane_best['squeeze_time'] / 60:.3g} min</td><td>0 min</td>" in html
+    # each column's times, as the rows show them, add up to its cycle time
+    rows = _figure_rows([type("S", (), {"results": s["results"]})() for s in saved])
+    times = [key for _, q, key in rows if q == "time" and key != "cycle_time"]
+    for s in saved:
+        best = s["results"]["best"]
+        assert sum(best[k] for k in times) == pytest.approx(best["cycle_time"], rel=1e-12), times
+    assert html.split("Solute removed by the wash")[1].split("</tr>")[0].endswith("<td>–</td>")  # no wash: none

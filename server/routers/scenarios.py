@@ -274,6 +274,7 @@ def compare_page(request: Request, ids: str = Query("", max_length=400), units: 
     rows = _input_rows(scenarios)
     return _templates(request).TemplateResponse(request, "compare.html", {
         "scenarios": scenarios, "rows": rows, "u": u, "units": units, "ids": ",".join(wanted),
+        "figure_rows": _figure_rows(scenarios),
         "figures": request.app.state.pages.get(
             ("compare", tuple(wanted), units, solver.SOLVER_VERSION),
             lambda: page_json(compact(overlay(_drawable(request, scenarios), u)))),
@@ -289,6 +290,32 @@ def _drawable(request: Request, scenarios: list[Scenario]) -> list[tuple[str, di
         if drawn.chart_results is not None:
             out.append((s.name, {**drawn.chart_results, "chart_series": drawn.results["chart_series"]}))
     return out
+
+
+#: the best cycle's figures a comparison shows: (label, display quantity, results key); the
+#: stages after filtration and the discharge figures only when a compared scenario has them, the
+#: downtime always, so each column's times add up to its cycle time
+_FIGURE_ROWS = [("Filling time", "time", "fill_time", "any"), ("Filtration time", "time", "filtration_time", None),
+                ("Wash time", "time", "wash_time", None), ("Squeeze time", "time", "squeeze_time", "any"),
+                ("Blow time", "time", "blow_time", "any"), ("Downtime", "time", "downtime", None),
+                ("Cycle time", "time", "cycle_time", None), ("Filtrate per cycle", "volume", "filtrate_volume", None),
+                ("Dry cake per cycle", "mass", "dry_cake_mass", None),
+                ("Cake thickness per face", "thickness", "cake_thickness", None),
+                ("Cake moisture at discharge", "percent", "moisture", "given"),
+                ("Solute removed by the wash", "percent", "solute_removal", "given"),
+                ("Filtrate throughput", "flow", "filtrate_throughput", None),
+                ("Dry solids throughput", "mass_rate", "solids_throughput", None)]
+
+
+def _figure_rows(scenarios) -> list[tuple[str, str, str]]:
+    bests = [s.results.get("best") or {} for s in scenarios]
+    shown = []
+    for label, quantity, key, when in _FIGURE_ROWS:
+        if (when == "any" and not any(b.get(key) for b in bests)) or (
+                when == "given" and all(b.get(key) is None for b in bests)):
+            continue
+        shown.append((label, quantity, key))
+    return shown
 
 
 def _input_rows(scenarios):
