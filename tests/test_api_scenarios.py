@@ -314,3 +314,14 @@ def test_compare_shows_the_stages_a_scenario_has_so_its_times_add_up(client):
         best = s["results"]["best"]
         assert sum(best[k] for k in times) == pytest.approx(best["cycle_time"], rel=1e-12), times
     assert html.split("Solute removed by the wash")[1].split("</tr>")[0].endswith("<td>–</td>")  # no wash: none
+
+
+def test_a_search_of_several_words_that_finds_nothing_says_how_searches_match(client):
+    # "membrane wash" found nothing while "membrane" did, with no word why (a plant-engineer check)
+    save(client, name="Membrane press 2", note="wash trial")
+    html = " ".join(client.get("/scenarios", params={"q": "membrane wash"}).text.split())
+    assert "No saved scenarios match. The words are looked for together, as typed: search for one of them" in html
+    assert "(“membrane”)" in html
+    html = client.get("/scenarios", params={"q": "zzzz"}).text
+    assert "No saved scenarios match." in html and "looked for together" not in html
+    assert "Membrane press 2" in client.get("/scenarios", params={"q": "membrane"}).text
