@@ -101,6 +101,15 @@ class Units:
 
         return _TEXT_QUANTITY.sub(shown, message)
 
+    @property
+    def temperature_label(self) -> str:
+        return "°F" if self.system == "us" else "°C"
+
+    def temperature(self, kelvin: float) -> float:
+        """A temperature [K] in this system's scale: °C, or °F in US customary units."""
+        celsius = kelvin - 273.15
+        return celsius * 1.8 + 32.0 if self.system == "us" else celsius
+
     def __call__(self, quantity: str, value):
         """SI value (or list of values) in the display unit of ``quantity``."""
         f = _factor(quantity, self.system)

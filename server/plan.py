@@ -31,6 +31,9 @@ MAX_SLOW_SAMPLES = 400
 Z90 = 1.2815515655446004
 #: The most chambers a press of the scenario's plate size may have.
 MAX_CHAMBERS = 1000
+#: More presses of one kind than a plant plans for: a plan needing more is flagged (a likely
+#: slip in the target or its unit), not refused.
+PLAUSIBLE_PRESSES = 20
 #: Inputs whose samples reach the closed form without rebuilding the system.
 DIRECT = {"cake.resistance", "medium_resistance", "cake.compressibility", "feed.pressure", "cycle.downtime"}
 
@@ -337,6 +340,10 @@ def make_plan(req: PlanRequest) -> dict:
     with plan_errors():
         energy = planning.feed_energy(family, best.filtrate_volume, t.pump_efficiency)
     warnings = []
+    if presses > PLAUSIBLE_PRESSES:
+        warnings.append(f"{presses:,} presses like this one are needed: far more than a plant installs of one kind "
+                        f"(usually at most {PLAUSIBLE_PRESSES}). Check the target and its unit (a number without a "
+                        "unit is in kg/s of dry solids or m³/s of slurry or filtrate), or plan with a larger press.")
     plan = {
         "basis": basis.name, "required": required, "throughput": Q_plan, "best_throughput": Q_best,
         "presses_needed": presses, "presses_with_spare": presses + req.spares,

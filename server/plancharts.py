@@ -71,15 +71,16 @@ def seasons(plan: dict, u: Units) -> dict | None:
         return None
     q = BASIS_QUANTITY[plan["basis"]]
     unit = u.label(q)
-    t = [r["temperature"] - 273.15 for r in rows]
+    t = [u.temperature(r["temperature"]) for r in rows]
+    deg = u.temperature_label
     data = [{"type": "scatter", "mode": "lines+markers", "name": "best throughput", "x": t,
              "y": [u(q, r["throughput"]) for r in rows], "line": {"color": COLORS["main"]},
-             "hovertemplate": f"%{{x:.3g}} °C: %{{y:.4g}} {unit}<extra></extra>"},
+             "hovertemplate": f"%{{x:.3g}} {deg}: %{{y:.4g}} {unit}<extra></extra>"},
             {"type": "scatter", "mode": "lines", "name": "needed per press", "x": [min(t), max(t)],
              "y": [u(q, plan["needed_per_press"])] * 2, "line": {"color": COLORS["best"], "dash": "dash"},
              "hovertemplate": f"needed: %{{y:.4g}} {unit}<extra></extra>"}]
     return {"data": data, "layout": _layout("Best throughput of one press through the seasons",
-                                            "Slurry temperature [°C]", f"Best throughput [{unit}]")}
+                                            f"Slurry temperature [{deg}]", f"Best throughput [{unit}]")}
 
 
 def cloth(plan: dict, u: Units) -> dict | None:

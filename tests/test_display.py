@@ -84,3 +84,13 @@ def test_a_solvers_message_reads_in_the_pages_units():
     # words, other units and numbers grouped in thousands are left as written, never half-converted
     for text in ("8 barrels, 3 mmol, 2 kgf, v2.5 bar, 40 min, 12 %", "1,500 kg/m³", "19 000 kg", "5 m³/s"):
         assert Units("us").text(text) == text
+
+
+def test_temperatures_show_in_celsius_or_fahrenheit():
+    """°F = 1.8 × °C + 32 (NIST SP 811, B.9): water freezes at 32 °F and boils at 212 °F; −40 is both."""
+    from server.display import Units
+
+    kelvin = [273.15, 373.15, 233.15]
+    assert [Units("si").temperature(k) for k in kelvin] == pytest.approx([0.0, 100.0, -40.0], abs=1e-12)
+    assert [Units("us").temperature(k) for k in kelvin] == pytest.approx([32.0, 212.0, -40.0], abs=1e-12)
+    assert (Units("si").temperature_label, Units("us").temperature_label) == ("°C", "°F")

@@ -135,3 +135,34 @@ def test_typed_numbers_reach_si_through_parse_quantity():
     assert parse_quantity("0,58 %", "fraction") == pytest.approx(0.0058)
     with pytest.raises(UnitError, match="reads two ways"):
         parse_quantity("19,000 cm^2", "area")
+
+
+@pytest.mark.parametrize("text, kind, si", [
+    # NIST SP 811 (2008), B.9: short ton = 2000 lb = 907.184 74 kg; gallon (U.S.) = 231 in³ = 3.785 411 784 L
+    ("80 short ton/day", "mass_rate", 80 * 907.18474 / 86400),
+    ("2 long ton/day", "mass_rate", 2 * 2240 * 0.45359237 / 86400),
+    ("120 US gpm", "flow", 120 * 3.785411784e-3 / 60),
+    ("3 US gal", "volume", 3 * 3.785411784e-3),
+    ("36 US gal/(ft²·h)", "flux", 36 * 3.785411784e-3 / 0.3048**2 / 3600),
+])
+def test_us_units_as_the_pages_write_them_are_read(text, kind, si):
+    assert parse_quantity(text, kind) == pytest.approx(si, rel=1e-12)
+
+
+#: the input kind of each displayed quantity (display.DISPLAY) that people also type
+TYPED_AS = {"time": "time", "volume": "volume", "volume_small": "volume", "flow": "flow", "flux": "flux",
+            "mass": "mass", "mass_rate": "mass_rate", "mass_per_day": "mass_rate", "thickness": "length",
+            "pressure": "pressure", "area": "area", "density": "density", "viscosity": "viscosity",
+            "specific_resistance": "specific_resistance", "medium_resistance": "medium_resistance",
+            "percent": "fraction"}
+
+
+@pytest.mark.parametrize("system", ["si", "us"])
+@pytest.mark.parametrize("quantity", sorted(TYPED_AS))
+def test_every_unit_the_pages_show_can_be_typed_back(quantity, system):
+    """A figure copied from a results page with its unit reads back as the SI value shown."""
+    from server.display import DISPLAY, Units
+
+    shown = Units(system)(quantity, 1.0)  # 1 SI unit in the page's unit
+    text = f"{shown!r} {DISPLAY[quantity][system].label}"
+    assert parse_quantity(text, TYPED_AS[quantity]) == pytest.approx(1.0, rel=1e-12)

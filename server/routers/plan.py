@@ -14,9 +14,10 @@ from ..errors import InputError
 from ..plan import make_plan
 from ..plancharts import plan_figures
 from ..schemas.common import ERROR_RESPONSES
-from ..schemas.plan import PlanRequest, PlanResponse
+from ..schemas.plan import MAX_FLOW, MAX_SOLIDS_RATE, PlanRequest, PlanResponse
 from ..solve import CAUTIONS
-from ..views import page_json
+from ..units import UnitError, parse_quantity, split_number
+from ..views import fmt, page_json
 
 router = APIRouter(prefix="/api/v1", tags=["plan"], responses=ERROR_RESPONSES)
 
@@ -42,7 +43,7 @@ FORM_FIELDS = [
     ("margin", "Design margin", "extra capacity, e.g. 10 %"),
     ("spares", "Spare presses", "whole presses on top of those needed"),
     ("shift", "Shift length", 'e.g. "8 h"; empty: no shifts'),
-    ("temperatures", "Season temperatures", "°C, separated by ; (e.g. 8; 20; 32)"),
+    ("temperatures", "Season temperatures", 'separated by ; (e.g. 8; 20; 32 in °C, or "46 °F; 68 °F")'),
     ("pump_efficiency", "Feed pump efficiency", "e.g. 50 %"),
     ("samples", "Monte Carlo samples", "0 to 100,000"),
     ("seed", "Seed", "the same seed gives the same answer"),
@@ -53,6 +54,31 @@ DEFAULT_FORM = {"basis": "dry_solids_per_day", "amount": "", "hours_per_day": "2
 CHART_LABELS = {"histogram": "Best throughput over the samples", "tornado": "Sensitivity", "seasons": "Seasons",
                 "cloth": "Cloth-wash interval", "cycle_growth": "Cycle time as the cloth blinds"}
 BASES = [("dry_solids_per_day", "dry solids"), ("slurry_per_day", "slurry"), ("filtrate_per_day", "filtrate")]
+#: how people write a target of each basis, per unit system (the page's own units)
+TARGET_UNITS = {"dry_solids_per_day": {"si": "t/day", "us": "short ton/day"},
+                "slurry_per_day": {"si": "m³/day", "us": "US gal/day"},
+                "filtrate_per_day": {"si": "m³/day", "us": "US gal/day"}}
+
+
+def amount_without_unit(form: dict, units: str = "si") -> tuple[str, str] | None:
+    """(field, message) when the page's target amount is a bare number. The API reads a bare
+    number as SI (kg/s, m³/s), which a person typing "150" never means: the page asks for the
+    unit instead of planning for 150 kg/s. None when the amount has a unit (or is no number:
+    the schema says why)."""
+    amount = form["amount"].strip()
+    try:
+        unit = split_number(amount)[1]
+    except UnitError:
+        return None
+    if unit:
+        return None
+    key = form["basis"]
+    written = TARGET_UNITS[key]["us" if units == "us" else "si"]
+    kind, top = ("mass_rate", MAX_SOLIDS_RATE) if key == "dry_solids_per_day" else ("flow", MAX_FLOW)
+    most = top / parse_quantity(f"1 {written}", kind)
+    return (f"target.{key}",
+            f'{amount} has no unit: write the target with its unit, such as "{amount} {written}" of '
+            f"{dict(BASES)[key]} per calendar day (allowed: above 0 and at most {fmt(most, 4)} {written})")
 
 
 def form_from_plan(plan: dict) -> dict:
@@ -137,7 +163,10 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
     if form["amount"].strip() and (given or saved_plan):
         plan_inputs = plan_from_form(form)
         context["plan_json"] = json.dumps(plan_inputs)
+        bare = amount_without_unit(form, units) if given else None  # a saved plan was read as SI
         try:
+            if bare is not None:
+                raise InputError([(("body", *bare[0].split(".")), bare[1])])
             req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
             result = await within_budget(request, make_plan, req)
         except ValidationError as exc:

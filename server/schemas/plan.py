@@ -29,15 +29,19 @@ RANGE_KINDS = {
 }
 
 
+#: The largest targets a plan takes: dry solids [kg/s], slurry or filtrate [m^3/s].
+MAX_SOLIDS_RATE, MAX_FLOW = 1e5, 100.0
+
+
 class PlanTargetIn(Strict):
     dry_solids_per_day: quantity(
-        "mass_rate", gt=0.0, le=1e5, description="Dry solids to process, averaged over every calendar day"
+        "mass_rate", gt=0.0, le=MAX_SOLIDS_RATE, description="Dry solids to process, averaged over every calendar day"
     ) | None = None
     slurry_per_day: quantity(
-        "flow", gt=0.0, le=100.0, description="Slurry to process, averaged over every calendar day"
+        "flow", gt=0.0, le=MAX_FLOW, description="Slurry to process, averaged over every calendar day"
     ) | None = None
     filtrate_per_day: quantity(
-        "flow", gt=0.0, le=100.0, description="Filtrate to produce, averaged over every calendar day"
+        "flow", gt=0.0, le=MAX_FLOW, description="Filtrate to produce, averaged over every calendar day"
     ) | None = None
     hours_per_day: float = Field(24.0, ge=0.1, le=24.0, description="Hours a working day the presses run [h]")
     days_per_week: float = Field(7.0, ge=1.0, le=7.0, description="Working days a week [-]")

@@ -167,6 +167,18 @@
 
   let edits = 0; // counts edits, so an answer to earlier inputs is never shown as current
   let asked = 0; // counts calculations, so only the latest answer is shown
+  // the page's Plan link (a demo's or a saved scenario's) is drawn by the server with the first
+  // results; results recalculated for the same inputs (another "Results in") keep it, with the units
+  const planLink = results.querySelector("[data-testid=plan-link] a");
+  const planHref = planLink ? planLink.getAttribute("href") : null;
+  function keepPlanLink(units) {
+    const slot = results.querySelector("[data-testid=plan-link]");
+    if (!planHref || !slot || edits !== 0 || slot.querySelector("a")) return;
+    const a = planLink.cloneNode(true);
+    a.setAttribute("href", units === "si" ? planHref : `${planHref}?units=${units}`);
+    slot.replaceChildren(a);
+  }
+
   async function calculate() {
     clearErrors();
     status.textContent = "Calculating…";
@@ -199,6 +211,7 @@
     }
     lastBody = body;
     results.innerHTML = data.html;
+    keepPlanLink(units);
     clearStale();
     figures = data.figures || {};
     plotAll();

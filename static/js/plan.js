@@ -1,7 +1,12 @@
-// The Plan page: save the scenario again, as a new scenario, with the plan's inputs (saved
+// The Plan page: its units switch; save the scenario again, as a new scenario, with the plan's inputs (saved
 // scenarios never change). No inline handlers: the page's CSP allows only our scripts.
 (function () {
   "use strict";
+  // the units of the plan: the form is sent again with the other choice (a plan is drawn only
+  // when the form has a target, as with the Plan button)
+  document.querySelectorAll('[data-testid=plan-units] input[name=units]').forEach((radio) => {
+    radio.addEventListener("change", () => { if (radio.form.querySelector("#f-amount").value.trim()) radio.form.requestSubmit(); });
+  });
   const button = document.getElementById("save-plan");
   if (!button) return;
   button.addEventListener("click", async () => {

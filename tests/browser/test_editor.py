@@ -83,6 +83,24 @@ def test_switch_results_to_us_customary_units(page):
     clean(page)
 
 
+def test_the_plan_link_stays_in_us_units_until_an_edit(page):
+    page.goto(page.base + "/demo/hydroxide_membrane_wash")
+    link = page.locator("[data-testid=plan-link] a")
+    assert link.get_attribute("href") == "/demo/hydroxide_membrane_wash/plan"
+    page.check("input[name='@display'][value='us']")
+    wait_results(page)
+    page.wait_for_function("document.querySelector('#results .headline').textContent.includes('US gpm')")
+    assert link.get_attribute("href") == "/demo/hydroxide_membrane_wash/plan?units=us"
+    page.check("input[name='@display'][value='si']")
+    page.wait_for_function("!document.querySelector('#results .headline').textContent.includes('US gpm')")
+    assert link.get_attribute("href") == "/demo/hydroxide_membrane_wash/plan"
+    page.fill("#f-cycle-downtime", "80 min")  # edited: the plan would not be of what is shown
+    page.click("#calculate")
+    page.wait_for_function("!document.querySelector('[data-testid=plan-link] a')")
+    assert "Save the scenario" in page.inner_text("[data-testid=plan-link]")
+    clean(page)
+
+
 def test_a_validation_error_is_shown_at_the_field(page):
     page.goto(page.base + "/demo/iron_oxide_pigment")
     page.wait_for_selector("[data-testid=headline]")

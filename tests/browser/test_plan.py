@@ -115,3 +115,22 @@ def test_the_editor_calculates_with_downtime_from_its_parts(page, saved):
     # the 422 above was the point
     page.watch.console_errors[:] = [e for e in page.watch.console_errors if "422" not in e]
     clean(page)
+
+
+def test_the_seasons_table_fits_a_phone_and_the_units_switch_redraws_in_us(page):
+    page.set_viewport_size({"width": 390, "height": 900})
+    page.goto(page.base + "/demo/hydroxide_membrane_wash/plan?amount=150+t%2Fday&availability=85+%25&margin=10+%25"
+              "&temperatures=12%3B+25%3B+38&samples=400")
+    table = page.locator("[data-testid=plan-seasons]")
+    table.wait_for()
+    scroll, viewport = page_width(page)
+    assert scroll <= viewport
+    for cell in table.locator("th, td").all():
+        assert cell.evaluate("(c) => c.getBoundingClientRect().right") <= viewport + 0.5, cell.inner_text()
+    assert table.evaluate("(t) => t.scrollWidth <= t.clientWidth + 1")
+    page.check("[data-testid=plan-units] input[value=us]")
+    page.wait_for_url("**units=us*")
+    page.wait_for_selector("[data-testid=plan-results]")
+    assert "53.6 and 77.0 °F" in page.locator("[data-testid=plan-verdict]").inner_text()
+    assert "short ton/day" in page.locator("[data-testid=plan-seasons]").inner_text()
+    clean(page)
