@@ -451,3 +451,20 @@ def test_a_calibrated_copy_from_a_log_with_a_bad_cycle_says_so_in_its_note(clien
     saved = client.get(f"/api/v1/scenarios/{r.json()['saved']['id']}").json()
     assert "8 of 9 cycles, 1 left out as invalid fits" in saved["note"] and "(median)" in saved["note"]
     assert saved["inputs"]["cake"]["resistance"] == pytest.approx(ALPHA, rel=0.01)
+
+
+def test_the_cycle_number_axes_tick_whole_cycles_only(answer):
+    # a plant engineer saw ticks at 0.5, 1.5, 2.5 on a 3-cycle log: a cycle number is a count
+    from server.presslogcharts import presslog_figures
+
+    figs = presslog_figures(answer)
+    for name in ("alpha", "cloth", "throughput"):
+        axis = figs[name]["layout"]["xaxis"]
+        assert axis["title"]["text"] == "Cycle number"
+        assert axis["tickmode"] == "linear" and axis["tick0"] == 0 and axis["tickformat"] == "d", name
+        assert isinstance(axis["dtick"], int) and axis["dtick"] >= 1, name
+    # three cycles: a tick at every cycle; 500 cycles: whole steps of 1, 2 or 5 times a power of ten, at most 9 ticks
+    few = {**answer, "cycles": [c for c in answer["cycles"] if c["number"] <= 3]}
+    assert presslog_figures(few)["alpha"]["layout"]["xaxis"]["dtick"] == 1
+    many = {**answer, "cycles": [{**answer["cycles"][0], "number": k} for k in range(1, 501)]}
+    assert presslog_figures(many)["throughput"]["layout"]["xaxis"]["dtick"] == 100
