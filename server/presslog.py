@@ -20,6 +20,7 @@ import numpy as np
 from . import solver
 from .errors import InputError
 from .labdata import _HEADER, CsvError, _sep_name, _separator
+from .plausibility import SLIP_MARGIN, USUAL, _slip, usual_range
 from .scenarios import save, validate_inputs
 from .schemas.presslog import PressLogRequest
 from .solve import CAUTIONS, build_system, first_non_finite, solve
@@ -335,6 +336,120 @@ def _trend(tr: logfit.Trend) -> dict:
             "scatter": tr.scatter}
 
 
+#: A cycle's filtrate above this many times what the chambers hold (the scenario's cake volume
+#: ratio) is taken for a unit slip: the cake volume ratio may be off by tens of per cent, a
+#: press cannot hold three times its chambers, and a unit slip is a factor of 16.7 (L/min read as
+#: m³/h), 60 or 1000.
+FULL_MARGIN = 3.0
+#: The units a log column's values may really be in, to name a likely slip (a volume, mass or flow).
+SLIP_UNITS = {"flow": ("L/s", "L/min", "L/h", "m^3/min", "m^3/h", "gal/min"), "volume": ("L", "m^3", "gal"),
+              "mass": ("kg", "t", "g", "lb"), "pressure": ("bar", "kPa", "MPa", "psi", "Pa")}
+
+
+def _header_unit(cell: str) -> str:
+    m = _HEADER.match(cell)
+    return m.group(2) if m else ""
+
+
+def _reread(value_si: float, key: str, cell: str, fits_si) -> tuple | None:
+    """The unit the column's values most likely are in: (unit, value re-read in SI) for the unit
+    that brings ``value_si`` into ``fits_si(v)`` (a callable: the distance from what fits, 0 inside),
+    the nearest of SLIP_UNITS; None when none does."""
+    kind = LOG_COLUMNS[key][1]
+    unit = _header_unit(cell)
+    try:
+        factor = parse_quantity(f"1 {unit}", kind)
+    except UnitError:
+        return None
+    best = None
+    for cand in SLIP_UNITS[key]:
+        f = parse_quantity(f"1 {cand}", kind)
+        if math.isclose(f, factor, rel_tol=1e-9):
+            continue
+        v = value_si * f / factor
+        d = fits_si(v)
+        if d == 0.0 and (best is None or abs(math.log(f / factor)) < best[2]):
+            best = (cand.replace("^3", "³"), v, abs(math.log(f / factor)))
+    return best[:2] if best else None
+
+
+def _log_checks(log: Log, fits, sel, used_numbers, inputs, V_full: float, v: float) -> dict:
+    """Unit slips in the log's columns, judged against the press and the trade: a cycle's filtrate
+    far beyond what the chambers hold, a pressure far outside press pressures or far above the
+    scenario's feed. Each names the cycles, the column and the likely unit; when the log's values
+    cannot be what they say, the calibrated copy is withheld."""
+    warnings, withhold = [], False
+    numbers = used_numbers[sel]
+    V = fits.filtrate_volume[sel]
+    over = V > FULL_MARGIN * V_full
+    if over.any():
+        withhold = True
+        key = log.signal
+        cell = log.units[key]
+        V_med = float(np.median(V[over]))
+        slip = _reread(V_med, key, cell, lambda v: 0.0 if 0.1 * V_full <= v <= 1.2 * V_full else 1.0)
+        named = _cycles_phrase(numbers[over].tolist(), capital=True)
+        each = "" if over.sum() == 1 else " each (median)"
+        why = (f"read as {slip[0]}, {'it' if over.sum() == 1 else 'they'} would collect {slip[1]:.3g} m³"
+               f"{each}, {slip[1] / V_full:.0%} of chambers full" if slip else "check the column's unit")
+        warnings.append(
+            f"{named} {'collects' if over.sum() == 1 else 'collect'} {V_med:.3g} m³ of filtrate{each}, "
+            f"{V_med / V_full:.3g} times what the press's chambers hold: with the scenario's cake volume ratio "
+            f"({v:.3g} m³ of cake per m³ of filtrate), the chambers are full at {V_full:.3g} m³ of filtrate. "
+            f"No cycle of this press can do that: the column '{cell}' is most likely in another unit ({why}). "
+            "Every value below follows the log as read and is wrong by the same factor; no calibrated copy is "
+            "offered from this log. "
+            "Fix the header's unit and evaluate the log again.")
+    p_top = fits.max_pressure[sel]
+    cell = log.units["pressure"]
+    unit = _header_unit(cell)
+    try:
+        per_unit = parse_quantity(f"1 {unit}", "pressure")
+    except UnitError:
+        per_unit, unit = 1e5, "bar"
+    low, high = USUAL["feed.pressure"]
+    p_max = float(np.max(p_top))
+    p_med = float(np.median(p_top))
+    feed = _feed_pressure(inputs.feed)
+    if p_max > SLIP_MARGIN * high or p_med < low / SLIP_MARGIN:
+        withhold = True
+        far = p_top > SLIP_MARGIN * high if p_max > SLIP_MARGIN * high else p_top < low / SLIP_MARGIN
+        shown = p_max if p_max > SLIP_MARGIN * high else p_med
+        slip = _slip(None, shown, low, high) or "check the column's unit."
+        again = _reread(shown, "pressure", cell, lambda p: 0.0 if low / 3 <= p <= high else 1.0)
+        reread = f" Read as {again[0]}, it would be {again[1] / 1e5:.3g} bar." if again else ""
+        warnings.append(
+            f"The feed pressure in {_cycles_phrase(numbers[far].tolist())} reaches {shown / per_unit:.4g} {unit}"
+            f"{'' if unit == 'bar' else f' ({shown / 1e5:.4g} bar)'} as the column '{cell}' reads, far outside the "
+            f"usual {usual_range('feed.pressure', unit)} of filter presses: {slip[0].lower()}{slip[1:]}{reread}"
+            " The cake and cloth resistances scale with the pressure, so every value "
+            "below is wrong by the same factor; no calibrated copy is offered from this log. A press is pressure "
+            "equipment: never run it above its plates' rated pressure.")
+    elif feed is not None and p_max > 1.5 * feed:
+        warnings.append(
+            f"The feed pressure in the log reaches {p_max / per_unit:.4g} {unit} ({p_max / 1e5:.4g} bar), "
+            f"well above the scenario's {feed / 1e5:.4g} bar: check the column's unit and that this log belongs "
+            "to this scenario. A press is pressure equipment: never run it above its plates' rated pressure.")
+    return {"chambers_full_volume": V_full, "cycles_beyond_chambers": numbers[over].astype(int).tolist(),
+            "max_pressure": p_max, "scenario_feed_pressure": feed, "calibration_withheld": withhold,
+            "warnings": warnings}
+
+
+def _feed_pressure(feed) -> float | None:
+    """The highest pressure the scenario's feed reaches [Pa], or None."""
+    for name in ("pressure", "max_pressure"):
+        value = getattr(feed, name, None)
+        if value:
+            return float(value)
+    steps = getattr(feed, "steps", None)
+    if steps:
+        return float(max(s[0] for s in steps))
+    points = getattr(feed, "points", None)
+    if points:
+        return float(max(p[1] for p in points))
+    return None
+
+
 def _calibrated_inputs(raw: dict, plant: dict, growth: float | None, keep_cloth: bool = False) -> dict:
     """The scenario with the plant's alpha and, unless ``keep_cloth`` (an R_m the log does not
     resolve), its clean cloth and the cloth's growth."""
@@ -452,6 +567,9 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     sel = np.flatnonzero(valid)
     sum_numbers = used_numbers[sel]
     alpha_v, rm_v = fits.resistance[sel], fits.medium_resistance[sel]
+    V_full = float(built.system.press.chambers_full_volume(f.cake_volume_ratio))
+    checks = _log_checks(log, fits, sel, used_numbers, inputs, V_full, f.cake_volume_ratio)
+    warnings[:0] = checks["warnings"]  # first: everything below depends on them
     patterned = used_numbers[fits.patterned]
     if patterned.size:
         warnings.append(f"In {_cycles_phrase(patterned.tolist())} the residuals of the fit follow a pattern, not "
@@ -544,7 +662,7 @@ def analyse(req: PressLogRequest, store=None) -> dict:
     }
     calibrated = calibrated_system = None
     usable = len(left_out) < fits.resistance.size  # some cycle gave a physically valid fit
-    if usable and blinding.clean > 0 and alpha_plant > 0:
+    if usable and blinding.clean > 0 and alpha_plant > 0 and not checks["calibration_withheld"]:
         calibrated = _calibrated_inputs(raw, plant, growth if growth > 0 else None, keep_cloth=not res.resolved)
         try:
             calibrated_system = build_system(validate_inputs(calibrated, prefix)).system
@@ -636,6 +754,7 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         "alpha_drift": {"flagged": drift.flagged, "change": drift.change, "note": drift.note},
         "cloth": cloth, "plant": plant, "calibration": calibration, "model": model,
         "chart_cycle": chart, "calibrated_inputs": calibrated, "saved": None,
+        "log_checks": {k2: v for k2, v in checks.items() if k2 != "warnings"},
         "warnings": warnings, "cautions": CAUTIONS, "units": UNITS,
     }
     bad = first_non_finite({k2: v for k2, v in out.items() if k2 not in ("cycles", "calibrated_inputs")})

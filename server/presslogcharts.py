@@ -17,6 +17,14 @@ def _valid(result: dict) -> list[dict]:
     return [c for c in _fits(result) if not c.get("left_out")]
 
 
+def _cycle_axis(numbers) -> dict:
+    """The cycle-number axis: a count, so ticks at whole cycles only (1, 2, 5, 10, 20, ... apart,
+    about eight ticks across the cycles drawn), never at 0.5 or 2.5."""
+    span = (max(numbers) - min(numbers)) if numbers else 0
+    step = next(m * 10**k for k in range(9) for m in (1, 2, 5) if span <= 8 * m * 10**k)
+    return _axis("Cycle number", rangemode="tozero", tickmode="linear", tick0=0, dtick=step, tickformat="d")
+
+
 def _left_out_note(result: dict) -> str:
     n = [str(c["number"]) for c in _fits(result) if c.get("left_out")]
     if not n:
@@ -108,7 +116,7 @@ def _trend_figure(result, key, title, y_title, unit, washes=()):
                          "showlegend": w == washes[0], "hoverinfo": "skip"})
     return {"data": data, "layout": {
         **BASE_LAYOUT, "title": {"text": title},
-        "xaxis": _axis("Cycle number", rangemode="tozero"), "yaxis": _axis(y_title),
+        "xaxis": _cycle_axis(n), "yaxis": _axis(y_title),
     }}
 
 
@@ -129,8 +137,7 @@ def throughput_figure(result: dict) -> dict:
                          "hovertemplate": "%{y:.4g} m³/h<extra>" + name + "</extra>"})
     return {"data": data, "layout": {
         **BASE_LAYOUT, "title": {"text": "Filtrate throughput per cycle"},
-        "xaxis": _axis("Cycle number", rangemode="tozero"), "yaxis": _axis("Filtrate throughput (m³/h)",
-                                                                           rangemode="tozero"),
+        "xaxis": _cycle_axis(n), "yaxis": _axis("Filtrate throughput (m³/h)", rangemode="tozero"),
     }}
 
 

@@ -1,8 +1,10 @@
 """POST /api/v1/press-log: synthetic plant logs from the exact model (tests/synthetic_logs.py),
 bad files named by row and column, the calibrated copy, and the size limit."""
 
+import json
 import re
 import time
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -451,3 +453,59 @@ def test_a_calibrated_copy_from_a_log_with_a_bad_cycle_says_so_in_its_note(clien
     saved = client.get(f"/api/v1/scenarios/{r.json()['saved']['id']}").json()
     assert "8 of 9 cycles, 1 left out as invalid fits" in saved["note"] and "(median)" in saved["note"]
     assert saved["inputs"]["cake"]["resistance"] == pytest.approx(ALPHA, rel=0.01)
+
+
+def test_the_cycle_number_axes_tick_whole_cycles_only(answer):
+    # a plant engineer saw ticks at 0.5, 1.5, 2.5 on a 3-cycle log: a cycle number is a count
+    from server.presslogcharts import presslog_figures
+
+    figs = presslog_figures(answer)
+    for name in ("alpha", "cloth", "throughput"):
+        axis = figs[name]["layout"]["xaxis"]
+        assert axis["title"]["text"] == "Cycle number"
+        assert axis["tickmode"] == "linear" and axis["tick0"] == 0 and axis["tickformat"] == "d", name
+        assert isinstance(axis["dtick"], int) and axis["dtick"] >= 1, name
+    # three cycles: a tick at every cycle; 500 cycles: whole steps of 1, 2 or 5 times a power of ten, at most 9 ticks
+    few = {**answer, "cycles": [c for c in answer["cycles"] if c["number"] <= 3]}
+    assert presslog_figures(few)["alpha"]["layout"]["xaxis"]["dtick"] == 1
+    many = {**answer, "cycles": [{**answer["cycles"][0], "number": k} for k in range(1, 501)]}
+    assert presslog_figures(many)["throughput"]["layout"]["xaxis"]["dtick"] == 100
+
+
+HYDROXIDE = json.loads((Path(__file__).resolve().parent.parent / "demo_cases" / "hydroxide_sludge.json").read_text())
+
+
+def test_a_flow_or_pressure_in_the_wrong_unit_is_said_loudly_and_not_calibrated(client):
+    """A plant engineer's log of the hydroxide demo (chambers full at 12.5 m³) with L/min values
+    under an [m3/h] header gave cycles of 108 m³ each, and one in kPa under [bar] 600 bar, both
+    with a calibrated copy and no word. Three cycles of the exact model (synthetic), well within the chambers."""
+    log = synthetic_log(cycles=3, alpha=2.1e12, growth=0.0, noise=0.005, seed=5)
+    csv = to_csv(log)
+    body = {"inputs": HYDROXIDE["inputs"]}
+    good = client.post("/api/v1/press-log", json={**body, "csv": csv}).json()
+    assert good["log_checks"]["chambers_full_volume"] == pytest.approx(12.4778, rel=1e-4)
+    assert good["log_checks"]["cycles_beyond_chambers"] == [] and not good["log_checks"]["calibration_withheld"]
+    assert good["calibrated_inputs"] is not None
+    # 1 L/min is 0.06 m³/h: read as m³/h the filtrate is 1/0.06 = 16.7 times too much
+    r = client.post("/api/v1/press-log", json={**body, "csv": csv.replace("[L/min]", "[m3/h]")})
+    assert r.status_code == 200, r.text[:300]
+    a = r.json()
+    assert a["cycles"][0]["filtrate_volume"] == pytest.approx(good["cycles"][0]["filtrate_volume"] / 0.06, rel=1e-9)
+    assert a["log_checks"]["cycles_beyond_chambers"] == [1, 2, 3] and a["log_checks"]["calibration_withheld"]
+    assert a["calibrated_inputs"] is None and a["model"].get("calibrated_filtrate_throughput") is None
+    w = a["warnings"][0]
+    V = np.median([c["filtrate_volume"] for c in a["cycles"]])
+    assert V > 3 * 12.4778  # far beyond the chambers
+    assert w.startswith(f"Cycles 1, 2 and 3 collect {V:.3g} m³ of filtrate") and "chambers are full at 12.5 m³" in w
+    assert "'filtrate flow [m3/h]'" in w and "read as L/min" in w
+    assert error_of(client.post("/api/v1/press-log", json={**body, "csv": csv.replace("[L/min]", "[m3/h]"),
+                                                           "save": {"name": "x"}}))[0] == "save"
+    # kPa under [bar]: 100 times the pressure
+    lines = csv.strip().split("\n")
+    kpa = "\n".join([lines[0]] + [f"{t},{float(p) * 100:.9g},{q}" for t, p, q in (x.split(",") for x in lines[1:])])
+    a = client.post("/api/v1/press-log", json={**body, "csv": kpa}).json()
+    assert a["log_checks"]["max_pressure"] == pytest.approx(100 * good["log_checks"]["max_pressure"], rel=1e-9)
+    assert a["calibrated_inputs"] is None and a["log_checks"]["calibration_withheld"]
+    w = a["warnings"][0]
+    assert w.startswith("The feed pressure in cycles 1, 2 and 3 reaches 6") and "usual 3–20 bar" in w
+    assert "factor of 100 too large" in w and "Read as kPa" in w and "rated pressure" in w

@@ -200,3 +200,29 @@ def test_the_route_is_in_the_api_schema(client):
     props = schema["components"]["schemas"]["SqueezeFitRequest"]["properties"]
     assert props["pressure"]["x-si-unit"] == "Pa"
     assert "Allowed" in props["dry_solids_mass"]["description"]
+
+
+# a plant engineer's test: 150 g of 2400 kg/m^3 solids on 80 cm^2 at 6 bar, 30.04 -> 22.08 mm,
+# the reading at 600 s typed as 355 instead of 22.53 (mm)
+TYPO_TIMES = [0, 5, 10, 15, 20, 30, 45, 60, 90, 120, 180, 240, 300, 420, 600, 900, 1200, 1500, 1800]
+TYPO_MM = [30.04, 29.04, 28.63, 28.30, 28.03, 27.57, 27.00, 26.52, 25.73, 25.11, 24.21, 23.64, 23.26, 22.83, 355,
+           22.32, 22.20, 22.13, 22.08]
+TYPO = {"name": "typo", "pressure": "6 bar", "dry_solids_mass": "150 g", "solids_density": "2400 kg/m^3",
+        "area": "80 cm^2", "csv": "time [s], thickness [mm]\n" + "\n".join(
+            f"{t}, {v:g}" for t, v in zip(TYPO_TIMES, TYPO_MM))}
+
+
+def test_one_thickness_typo_is_refused_naming_the_reading(client):
+    # it gave HTTP 200 with a cake swelling to 173 mm and 95.5 % porosity, and the scenario button
+    errors = errors_of(post(client, TYPO))
+    assert errors["csv"].startswith("reading 15: 355 mm lies further outside the first and last readings "
+                                    "(30.04 mm to 22.08 mm)")
+    body = {k: v for k, v in TYPO.items() if k != "csv"}
+    body["thickness_readings"] = [[t, f"{v:g} mm"] for t, v in zip(TYPO_TIMES, TYPO_MM)]
+    assert "355 mm" in errors_of(post(client, body))["thickness_readings.14.1"]
+    # the page twin: the same refusal, so no results and no "Open a new scenario" button
+    r = client.post("/ui/squeeze-fit", json=TYPO)
+    assert r.status_code == 422 and "Open a new scenario" not in r.text and "reading 15" in r.text
+    # with the reading as meant, the test fits, shrinking the cake
+    d = post(client, {**TYPO, "csv": TYPO["csv"].replace("600, 355", "600, 22.53")}).json()
+    assert d["final_thickness"] < d["initial_thickness"] and d["final_porosity"] < d["initial_porosity"]

@@ -143,6 +143,16 @@ class CalibrationOut(BaseModel):
     medium_resistance_ratio_stderr: float | None = Field(description="[-]")
 
 
+class LogChecksOut(BaseModel):
+    chambers_full_volume: float = Field(description="Filtrate at which the scenario's chambers are full [m^3]")
+    cycles_beyond_chambers: list[int] = Field(description="Cycles whose filtrate is more than 3 times that: a unit "
+                                                          "slip in the flow, volume or mass column")
+    max_pressure: float = Field(description="The highest feed pressure of the cycles in the summaries [Pa]")
+    scenario_feed_pressure: float | None = Field(description="The scenario's highest feed pressure [Pa]")
+    calibration_withheld: bool = Field(description="The log's values cannot be what their headers say: no "
+                                                   "calibrated_inputs and nothing saved")
+
+
 class PressLogResponse(BaseModel):
     cycles_found: int
     how_found: str
@@ -161,6 +171,7 @@ class PressLogResponse(BaseModel):
     model: dict
     chart_cycle: dict
     calibrated_inputs: dict | None
+    log_checks: LogChecksOut | None = None
     saved: dict | None
     warnings: list[str]
     cautions: list[str]

@@ -201,3 +201,41 @@ def test_readings_that_go_backwards_or_pin_nothing_down_are_warned():
     L[len(L) // 2] += 0.1 * (L[0] - L[-1])  # one reading well above the one before it
     bent = fit_squeeze(test(L))
     assert any("thickness rises" in w for w in bent.warnings)
+
+
+def test_a_reading_far_outside_the_squeeze_is_refused_at_that_reading():
+    """A plant engineer's 30 -> 22 mm series with one thickness typed as 355 (mm) was fitted to a
+    cake that swells (173 mm at equilibrium, 95.5 % porosity), after 8 s. No reading of a
+    squeeze lies further outside its first and last readings than the whole squeeze spans."""
+    L = np.array(exact_thickness(TIMES, 2e-7, 0.1, 2e-3))
+    span = L[0] - L[-1]
+    for k, value in ((20, L[0] + 1.01 * span), (20, L[-1] - 1.01 * span), (7, 10 * L[7])):
+        bad = L.copy()
+        bad[k] = value
+        with pytest.raises(SolverInputError) as err:
+            test(bad)
+        assert err.value.parameter == f"readings.{k}.1"
+        assert f"{value * 1e3:.4g} mm" in err.value.message and "decimal point" in err.value.message
+    # within the span (and scatter of a few per cent of it) a reading is fitted, as before
+    near = L.copy()
+    near[20] = L[19] + 0.05 * span
+    assert fit_squeeze(test(near)).final_thickness == pytest.approx(L_INF, rel=0.02)
+    # expressed liquid the same way: a reading above the last by more than all the liquid out
+    v = AREA * (L0 - L)
+    v[30] = v[-1] + 1.5 * (v[-1] - v[0])
+    with pytest.raises(SolverInputError) as err:
+        test(v, quantity="filtrate", initial_thickness=L0)
+    assert err.value.parameter == "readings.30.1" and " mL " in err.value.message
+
+
+@pytest.mark.parametrize("creep", [False, True])
+def test_a_fit_that_would_swell_the_cake_is_refused(creep):
+    # readings within the squeeze's span that rise after the first and fall only at the last
+    # (constructed here): least squares follows the rise, to an equilibrium thicker than the
+    # start, which is not a squeeze: refused, no porosity or C_e for the cycle
+    y = np.concatenate([[L0], np.linspace(L0 + 0.1 * (L0 - L_INF), L0 + 0.95 * (L0 - L_INF), TIMES.size - 2),
+                        [L_INF]])
+    with pytest.raises(SolverInputError) as err:
+        fit_squeeze(test(y, creep=creep))
+    assert err.value.parameter.startswith("readings.") and err.value.parameter.endswith(".1")
+    assert "would swell" in err.value.message
