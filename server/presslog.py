@@ -626,8 +626,9 @@ def analyse(req: PressLogRequest, store=None) -> dict:
             f"The log's step of {res.step:.3g} s is too coarse to resolve the cloth resistance: a feed started up to "
             "one step before the first row under pressure filtrates a volume the log does not see, and the cake "
             f"resistance of that volume can reach {res.share:.0%} of the fitted R_m (which may be too high by as much; "
-            f"at most {limit} resolves it).{needed} No cloth-wash interval is recommended from this R_m, and the "
-            "calibrated copy keeps the scenario's cloth resistance.")
+            f"at most {limit} resolves it).{needed} No cloth-wash interval is recommended from this R_m"
+            + (" (and no calibrated copy is made from this log: see above)." if checks["calibration_withheld"]
+               else ", and the calibrated copy keeps the scenario's cloth resistance."))
     if not blinding.clean > 0:
         warnings.append("The cloth resistance from the log is not above zero: the calibrated copy needs a cloth "
                         "resistance above 0, so it cannot be saved from this log.")

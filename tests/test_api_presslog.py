@@ -509,3 +509,5 @@ def test_a_flow_or_pressure_in_the_wrong_unit_is_said_loudly_and_not_calibrated(
     w = a["warnings"][0]
     assert w.startswith("The feed pressure in cycles 1, 2 and 3 reaches 6") and "usual 3–20 bar" in w
     assert "factor of 100 too large" in w and "Read as kPa" in w and "rated pressure" in w
+    # nothing below contradicts it (the coarse-step warning spoke of a calibrated copy)
+    assert not any("calibrated copy keeps" in x for x in a["warnings"]), a["warnings"]
