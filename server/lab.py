@@ -153,7 +153,7 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         basis = "total"  # alpha was evaluated on the total basis: the cycle must use it the same way
         warnings.append(
             "No compressibility consistent with the cake pressure basis was found for these tests: the "
-            "resistances are evaluated on the total basis (and for_cycle says so).")
+            "resistances are evaluated on the total basis (and the values for a scenario use that basis too).")
     elif basis == "cake" and s is None and combined.medium_resistance > 0:
         warnings.append(
             "The cake pressure basis needs the compressibility from tests at two or more pressures; with one "
@@ -176,9 +176,11 @@ def fit_request(lab_request: LabFitRequest) -> dict:
     if combined.resistance_medium_correlation is not None:
         for_cycle["resistance_medium_correlation"] = combined.resistance_medium_correlation
     if s is not None and not usable_s:
-        warnings.append("for_cycle takes the compressibility as 0 because the fitted value is outside [0, 1).")
+        warnings.append("The values for a scenario take the compressibility as 0 because the fitted value is outside "
+                        "0 ≤ s < 1.")
     if combined.medium_resistance < 0:
-        warnings.append("for_cycle takes the medium resistance as 0 because the fitted value is negative.")
+        warnings.append("The values for a scenario take the cloth resistance as 0 because the fitted value is "
+                        "negative.")
     out = {
         "tests": tests_out,
         "compressibility": s, "compressibility_stderr": combined.compressibility_stderr,

@@ -2,6 +2,7 @@
 
 import json
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -106,7 +107,7 @@ def test_start_offset_is_accepted(client):
 @pytest.mark.parametrize(
     "change,field,fragment",
     [
-        (lambda t: t.update(c=None), "tests.0", "give c in exactly one way"),
+        (lambda t: t.update(c=None), "tests.0", "c in exactly one way: c itself"),
         (lambda t: t.update(dry_cake_mass="1 kg"), "tests.0", "exactly one way"),
         (lambda t: t.update(temperature=20), "tests.0", "only one of viscosity or temperature"),
         (lambda t: t.update(points=[[1, 1e-4]] * 3), "tests.0", "only one of points or csv"),
@@ -331,3 +332,26 @@ def test_the_uncertainty_of_c_widens_alpha_only(client):
     a, b = plain["for_cycle"]["cake"], with_c["for_cycle"]["cake"]
     assert b["resistance_stderr"] == pytest.approx(math.hypot(a["resistance_stderr"], 0.05 * a["resistance"]),
                                                    rel=1e-9)
+
+
+def test_c_given_twice_is_said_in_the_lab_pages_words(client):
+    # c = 200 g/L and a dry cake mass of 45 g: the message names what the page calls them, no field names
+    errs = errors_of(post(client, {"tests": [{**EXAMPLE, "c": "200 g/L", "dry_cake_mass": "45 g"}]}))
+    msg = errs["tests.0"]
+    assert "got both c and the dry cake mass" in msg
+    assert "dry solids per filtrate volume c" in msg
+    assert not re.search(r"[a-z]_[a-z]", msg), msg  # no API names such as dry_cake_mass
+
+
+def test_what_the_scenario_values_take_is_said_without_api_names(client):
+    # exact readings (derived here): alpha falling with pressure (s < 0) and a negative cloth resistance
+    # are both set to 0 for a scenario, and the warnings say so in words
+    data = post(client, {"tests": [synthetic_points(1e5, alpha=2e11, R_m=-2e10),
+                                   synthetic_points(4e5, alpha=1e11, R_m=-2e10)], **TEXTBOOK}).json()
+    assert data["compressibility"] < 0 and data["medium_resistance"] < 0
+    assert data["for_cycle"]["cake"]["compressibility"] == 0.0 and data["for_cycle"]["medium_resistance"] == 0.0
+    said = [w for w in data["warnings"] if "as 0" in w]
+    assert len(said) == 2, data["warnings"]
+    assert any("compressibility" in w for w in said) and any("cloth resistance" in w for w in said)
+    for w in data["warnings"]:
+        assert "for_cycle" not in w and not re.search(r"[a-z]_[a-z]", w), w

@@ -68,17 +68,21 @@ class LabTestIn(Strict):
     def _alternatives(self):
         exactly_one(self, ("viscosity", "temperature"))
         exactly_one(self, ("points", "csv"))
+        # in words (the lab page's labels), not field names: the page shows it above the test
         ways = {
             "c": self.c is not None,
-            "slurry and cake data": self.solids_mass_fraction is not None or self.solids_concentration is not None,
-            "dry_cake_mass": self.dry_cake_mass is not None,
+            "the slurry and cake data": self.solids_mass_fraction is not None
+            or self.solids_concentration is not None,
+            "the dry cake mass": self.dry_cake_mass is not None,
         }
         given = [k for k, v in ways.items() if v]
         if len(given) != 1:
             raise ValueError(
-                "give c in exactly one way: c, or slurry and cake data (solids_mass_fraction or "
-                "solids_concentration with moisture, wet_to_dry_ratio or porosity), or dry_cake_mass"
-                + (f"; got {' and '.join(given)}" if given else "")
+                "give the dry solids per filtrate volume c in exactly one way: c itself, the dry cake mass of "
+                "the test, or the slurry and cake data (the slurry's solids as a mass fraction or as solids per "
+                "slurry volume, with the cake's moisture, wet-to-dry ratio or porosity)"
+                + (f"; got both {' and '.join(given)}" if len(given) == 2 else f"; got {', '.join(given)}"
+                   if given else "; got none of them")
             )
         if given == ["slurry and cake data"]:
             exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
