@@ -117,6 +117,8 @@ def test_start_offset_is_accepted(client):
         (lambda t: t.update(csv="time [s], filtrate [L]\n1, 2\n2, x\n"), "tests.0.csv", "line 3"),
         (lambda t: t.update(csv="time [s], filtrate [L]\n1, 2\n2, 1\n3, 3\n"), "tests.0.csv", "volumes must increase"),
         (lambda t: t.update(use=[5, 20]), "tests.0.use", "first < last"),
+        (lambda t: t.update(use="1-5"), "tests.0.use", "write the first and last readings to fit, e.g. 1, 5"),
+        (lambda t: t.update(use=[1, 3, 5]), "tests.0.use", "e.g. 1, 5"),
     ],
 )
 def test_bad_lab_input_is_a_422_naming_the_field(client, change, field, fragment):

@@ -57,6 +57,13 @@ class LabTestIn(Strict):
         None, description="0-based [first, last] readings to fit (inclusive); default: chosen automatically"
     )
 
+    @field_validator("use", mode="before")
+    @classmethod
+    def _use_as_a_pair(cls, use):
+        if use is not None and not (isinstance(use, list | tuple) and len(use) == 2):
+            raise ValueError(f"write the first and last readings to fit, e.g. 1, 5; got {use!r}")
+        return use
+
     @field_validator("points")
     @classmethod
     def _same_row_length(cls, points):
