@@ -357,3 +357,64 @@ def test_what_the_scenario_values_take_is_said_without_api_names(client):
     assert any("compressibility" in w for w in said) and any("cloth resistance" in w for w in said)
     for w in data["warnings"]:
         assert "for_cycle" not in w and not re.search(r"[a-z]_[a-z]", w), w
+
+
+# ---- inputs outside the trade's usual range (plausibility.LAB_USUAL; common practice, no source) ----
+
+def input_flags(data):
+    return {w["field"]: w for w in data["input_warnings"]}
+
+
+@pytest.mark.parametrize("change,field,words", [
+    # a bare number is SI: 100 is 100 m² (meant cm²), 3 is 3 Pa (meant bar)
+    ({"area": 100}, "tests.0.area", ["100 m² (a bare number is in SI units) is outside the usual 0.001–0.05 m²",
+                                     'for 100 cm², send "100 cm^2"']),
+    ({"pressure": 3}, "tests.0.pressure", ["3 Pa (a bare number is in SI units) is outside the usual 20000–2e6 Pa",
+                                           'for 3 bar, send "3 bar"']),
+    # kPa typed where bar was meant: said in the unit typed, with the factor
+    ({"pressure": "3 kPa"}, "tests.0.pressure", ["3 kPa is outside the usual 20–2000 kPa",
+                                                 "factor of 10 too small for the usual range: check the unit"]),
+    ({"viscosity": "0.8937 Pa*s"}, "tests.0.viscosity", ["factor of 1000 too large"]),
+])
+def test_lab_inputs_outside_the_usual_range_are_flagged_and_calculated_as_given(client, change, field, words):
+    r = post(client, {"tests": [{**EXAMPLE, **change}], **TEXTBOOK})
+    assert r.status_code == 200, r.text
+    flags = input_flags(r.json())
+    assert list(flags) == [field], flags
+    for w in words:
+        assert w in flags[field]["message"], flags[field]["message"]
+    assert flags[field]["label"].startswith("Test 1 (Geankoplis Example 14.2-1), ")
+
+
+def test_a_reference_pressure_outside_the_usual_range_is_flagged(client):
+    r = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "3 kPa", **TEXTBOOK})
+    assert input_flags(r.json())["reference_pressure"]["message"].startswith("3 kPa is outside the usual 20–2000 kPa")
+
+
+def test_the_textbook_tests_raise_no_flag(client):
+    data = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "1 bar", **TEXTBOOK}).json()
+    assert data["input_warnings"] == []
+    assert not any("usual" in w for w in data["warnings"])
+
+
+def test_a_fitted_resistance_outside_the_usual_range_is_a_warning(client):
+    # alpha = 2 A² dP (K_p/2) / (mu c): the same readings with the area read as 100 m² instead of
+    # 0.0439 m² give alpha (100 / 0.0439)² times the book's, far above the usual 1e9–1e14 m/kg
+    book = post(client, {"tests": [EXAMPLE], **TEXTBOOK}).json()["resistance_ref"]
+    data = post(client, {"tests": [{**EXAMPLE, "area": 100}], **TEXTBOOK}).json()
+    assert data["resistance_ref"] == pytest.approx(book * (100 / 0.0439) ** 2, rel=1e-9)
+    said = [w for w in data["warnings"] if "specific cake resistance" in w]
+    assert len(said) == 1 and "outside the usual 1e9–1e14 m/kg" in said[0], data["warnings"]
+    assert f"{data['resistance_ref']:.3g}".replace("e+", "e") in said[0]
+    # one slip among several tests is named
+    data = post(client, {"tests": [{**EXAMPLE, "area": 100}, PROBLEM], **TEXTBOOK}).json()
+    said = [w for w in data["warnings"] if "specific cake resistance" in w]
+    assert len(said) == 1 and "test 1 (Geankoplis Example 14.2-1) gives" in said[0], data["warnings"]
+
+
+def test_the_lab_page_shows_the_flags_in_its_words(client):
+    r = client.post("/ui/lab-fit", json={"tests": [{**EXAMPLE, "pressure": "3 kPa"}], **TEXTBOOK})
+    assert r.status_code == 200, r.text
+    html = r.json()["html"]
+    assert "Test 1 (Geankoplis Example 14.2-1), pressure drop:" in html
+    assert "3 kPa is outside the usual 20–2000 kPa" in html

@@ -4,7 +4,17 @@ from typing import Literal
 
 from pydantic import BaseModel, Field, field_validator, model_validator
 
-from .common import Density, Fraction01, LabPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
+from .common import (
+    Density,
+    Fraction01,
+    KeepsRaw,
+    LabPressure,
+    SolidsFraction,
+    Strict,
+    Temperature,
+    Viscosity,
+    exactly_one,
+)
 from .quantities import quantity
 
 Time = quantity("time", ge=0.0, le=1e7, description="Time since the start of filtration")
@@ -99,7 +109,7 @@ class LabTestIn(Strict):
         return self
 
 
-class LabFitRequest(Strict):
+class LabFitRequest(KeepsRaw):
     tests: list[LabTestIn] = Field(min_length=1, max_length=50)
     reference_pressure: LabPressure | None = Field(
         None, description="Pressure at which resistance_ref is given [Pa]; default: the geometric mean of the "
@@ -144,7 +154,15 @@ class TestOut(BaseModel):
     pressures: list[float] | None = Field(description="Pressure at each reading, when given [Pa]")
 
 
+class LabInputWarningOut(BaseModel):
+    field: str = Field(description="Path of the input, as in the request (tests.0.area)")
+    label: str = Field(description="The input in words, as the lab page labels it")
+    message: str = Field(description="The value in the unit typed, the usual range, and a likely slip if any")
+
+
 class LabFitResponse(BaseModel):
+    input_warnings: list[LabInputWarningOut] = Field(
+        default_factory=list, description="Inputs outside the trade's usual range (calculated as given)")
     tests: list[TestOut]
     compressibility: float | None = Field(description="s [-]; null with one pressure")
     compressibility_stderr: float | None
