@@ -69,6 +69,14 @@ LAB_USUAL = {
     "tests.*.porosity": USUAL["cake.porosity"],
     "reference_pressure": (0.2e5, 20e5),
 }
+#: usual range per /api/v1/squeeze-fit request field, in SI: a piston test at the press's squeeze
+#: pressure (the cycle's range), on a lab cake of 10-500 cm² (the lab page's hint)
+SQUEEZE_USUAL = {
+    "pressure": USUAL["cycle.squeeze.pressure"],
+    "area": LAB_USUAL["tests.*.area"],
+    "solids_density": USUAL["slurry.solids_density"],
+    "liquid_density": USUAL["slurry.liquid_density"],
+}
 #: fields where 0 has its own meaning (0 neglects the cloth): never flagged
 ZERO_ALLOWED = {"medium_resistance"}
 KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration": "density",
@@ -86,7 +94,8 @@ KINDS.update({"tests.*.pressure": "pressure", "tests.*.area": "area", "tests.*.v
               "tests.*.temperature": "temperature", "tests.*.c": "density", "tests.*.solids_mass_fraction": "fraction",
               "tests.*.solids_concentration": "density", "tests.*.solids_density": "density",
               "tests.*.liquid_density": "density", "tests.*.moisture": "fraction",
-              "tests.*.wet_to_dry_ratio": "fraction", "tests.*.porosity": "fraction", "reference_pressure": "pressure"})
+              "tests.*.wet_to_dry_ratio": "fraction", "tests.*.porosity": "fraction", "reference_pressure": "pressure",
+              "pressure": "pressure", "area": "area", "solids_density": "density", "liquid_density": "density"})
 #: the unit a range is written in when none was typed (the editor's first choice)
 DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
                  "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2",
@@ -96,7 +105,7 @@ PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility", "cyc
          "cycle.wash_model.dispersion_number", "tests.*.wet_to_dry_ratio"}
 #: a field's own unit for its range and for what a bare number may have meant, where the kind's
 #: is not the one people use (a lab cell's area in cm², not m²)
-KEY_UNITS = {"tests.*.area": "cm^2"}
+KEY_UNITS = {"tests.*.area": "cm^2", "area": "cm^2"}
 #: how far outside the usual range a value must be before a unit slip is suspected
 SLIP_MARGIN = 3.0
 
@@ -117,7 +126,7 @@ def usual_range(path: str, unit: str | None = None) -> str:
     from .forms import pretty_unit
     from .units import parse_quantity
 
-    low, high = USUAL[path] if path in USUAL else LAB_USUAL[path]
+    low, high = next(table[path] for table in (USUAL, LAB_USUAL, SQUEEZE_USUAL) if path in table)
     kind = KINDS[path]
     if path in PLAIN:
         return f"{_nice(low)}–{_nice(high)}"
@@ -149,14 +158,14 @@ def _usual_tree(usual: dict) -> dict:
     return tree
 
 
-_TREES = {id(USUAL): _usual_tree(USUAL), id(LAB_USUAL): _usual_tree(LAB_USUAL)}
+_TREES = {id(table): _usual_tree(table) for table in (USUAL, LAB_USUAL, SQUEEZE_USUAL)}
 
 
 def input_warnings(si, raw: dict, usual: dict = USUAL) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
     validated request, as a model or as a dict), ``raw`` the request as sent (for the units
     typed); ``usual``: the usual ranges of the request's fields (USUAL: a cycle request;
-    LAB_USUAL: a lab fit).
+    LAB_USUAL: a lab fit; SQUEEZE_USUAL: a squeeze fit).
 
     Most requests have no unusual value: the SI values are looked at once, along the tree of
     USUAL's keys (on a model, its fields: no dict of the whole request is made), and only if one
@@ -235,7 +244,8 @@ def _unusual(key: str, value: float, typed, low: float, high: float) -> str:
     else:  # a bare number: the range as the API reads bare numbers (SI, fractions as fractions)
         usual = usual_range(key, "" if kind == "fraction" else _SI_SPELLING.get(kind))
     message = f"{shown} is outside the usual {usual}; it was calculated as given."
-    slip = _slip(typed, value, low, high) or (None if given else _bare_meant(key, typed, low, high))
+    # a bare number: the unit it would be usual in says more than a factor of ten
+    slip = (None if given else _bare_meant(key, typed, low, high)) or _slip(typed, value, low, high)
     return message + (" " + slip if slip else "")
 
 
@@ -334,6 +344,17 @@ def fitted_resistance_warnings(resistance_ref: float, tests: list[tuple[str, flo
         return [f"The specific cake resistance is outside the usual {usual_range('cake.resistance')} of cakes in "
                 f"some tests ({'; '.join(off)}); {check} of those tests."]
     return []
+
+
+def fitted_consolidation_warnings(consolidation_coefficient: float) -> list[str]:
+    """A warning when a squeeze fit's C_e lies outside the usual range of cakes
+    (USUAL["cycle.squeeze.consolidation_coefficient"])."""
+    low, high = USUAL["cycle.squeeze.consolidation_coefficient"]
+    if low <= consolidation_coefficient <= high:
+        return []
+    return [f"The fitted consolidation coefficient, {_nice(consolidation_coefficient)} m²/s, is outside the usual "
+            f"{usual_range('cycle.squeeze.consolidation_coefficient')} of cakes; it was calculated as given: check "
+            "the units of the readings, the dry solids, the solids density and the area."]
 
 
 def derived_warnings(derived: dict, si) -> list[dict]:
