@@ -8,6 +8,7 @@ import numpy as np
 from . import solver
 from .errors import InputError
 from .labdata import CsvError, parse_compression, parse_readings
+from .plausibility import LAB_USUAL, fitted_resistance_warnings, input_warnings
 from .schemas.labfit import CompressionFitRequest, LabFitRequest, LabTestIn
 from .solve import first_non_finite, liquid_density
 from .solver import labfit, locallaws, water
@@ -20,6 +21,30 @@ LAB_UNITS = {
     "time_offset": "s", "filling.volume": "m^3", "filling.time": "s", "pressures": "Pa",
     "tested_pressure_range": "Pa", "medium_resistance_stderr": "1/m", "resistance_medium_correlation": "1",
 }
+
+
+#: a lab fit's inputs in the lab page's words (for the flags of unusual values)
+LAB_LABELS = {
+    "pressure": "pressure drop", "area": "filter area of the cell", "temperature": "filtrate temperature",
+    "viscosity": "filtrate viscosity", "c": "dry solids per filtrate volume c",
+    "solids_mass_fraction": "solids mass fraction of the slurry", "solids_concentration": "solids per slurry volume",
+    "solids_density": "solids density", "liquid_density": "liquid density", "moisture": "cake moisture",
+    "wet_to_dry_ratio": "wet-to-dry ratio of the cake", "porosity": "cake porosity",
+}
+
+
+def _test_label(t: LabTestIn, i: int) -> str:
+    return f"test {i + 1}" + (f" ({t.name})" if t.name else "")
+
+
+def _flag_label(field: str, tests) -> str:
+    """'Test 1 (leaf 3 bar), filter area of the cell' for 'tests.0.area'."""
+    parts = field.split(".")
+    if parts[0] == "tests" and len(parts) == 3 and parts[1].isdigit():
+        text = f"{_test_label(tests[int(parts[1])], int(parts[1]))}, {LAB_LABELS.get(parts[2], parts[2])}"
+    else:
+        text = {"reference_pressure": "reference pressure of α"}.get(field, field)
+    return text[:1].upper() + text[1:]
 
 
 def _loc(i: int, *rest) -> tuple:
@@ -146,6 +171,9 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         label = t.name or f"test {i + 1}"
         warnings.extend(f"{label}: {w}" for w in fit.warnings)
     warnings.extend(combined.warnings)
+    warnings.extend(fitted_resistance_warnings(
+        combined.resistance_ref, [(_test_label(t, i), fit.resistance)
+                                  for i, ((t, _, _), fit) in enumerate(zip(inputs, fits))]))
     s = combined.compressibility
     basis = lab_request.pressure_basis
     applied = any(f.compressibility > 0.0 for f in fits)
@@ -153,7 +181,7 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         basis = "total"  # alpha was evaluated on the total basis: the cycle must use it the same way
         warnings.append(
             "No compressibility consistent with the cake pressure basis was found for these tests: the "
-            "resistances are evaluated on the total basis (and for_cycle says so).")
+            "resistances are evaluated on the total basis (and the values for a scenario use that basis too).")
     elif basis == "cake" and s is None and combined.medium_resistance > 0:
         warnings.append(
             "The cake pressure basis needs the compressibility from tests at two or more pressures; with one "
@@ -176,10 +204,14 @@ def fit_request(lab_request: LabFitRequest) -> dict:
     if combined.resistance_medium_correlation is not None:
         for_cycle["resistance_medium_correlation"] = combined.resistance_medium_correlation
     if s is not None and not usable_s:
-        warnings.append("for_cycle takes the compressibility as 0 because the fitted value is outside [0, 1).")
+        warnings.append("The values for a scenario take the compressibility as 0 because the fitted value is outside "
+                        "0 ≤ s < 1.")
     if combined.medium_resistance < 0:
-        warnings.append("for_cycle takes the medium resistance as 0 because the fitted value is negative.")
+        warnings.append("The values for a scenario take the cloth resistance as 0 because the fitted value is "
+                        "negative.")
+    flags = input_warnings(lab_request, lab_request.raw, LAB_USUAL)
     out = {
+        "input_warnings": [{**w, "label": _flag_label(w["field"], lab_request.tests)} for w in flags],
         "tests": tests_out,
         "compressibility": s, "compressibility_stderr": combined.compressibility_stderr,
         "resistance_ref": combined.resistance_ref, "resistance_ref_stderr": combined.resistance_ref_stderr,

@@ -64,6 +64,11 @@ COMPRESSION_COLUMNS = {
 }
 
 
+#: a unit of each kind of column, for the example in a "no unit" message
+EXAMPLE_UNITS = {"time": "s", "volume": "mL", "pressure": "bar", "specific_resistance": "m/kg", "fraction": "-",
+                 "length": "mm"}
+
+
 @dataclass(frozen=True)
 class Table:
     columns: dict  # key -> list of SI values
@@ -98,7 +103,8 @@ def read_table(text: str, spec: dict, required: tuple, example: str) -> Table:
             ignored.append(cell)
             continue
         if not m:
-            raise CsvError(header_line, f"column {cell!r} has no unit: write it as, for example, '{cell} [s]'")
+            unit = EXAMPLE_UNITS[spec[kind][1]]
+            raise CsvError(header_line, f"column {cell!r} has no unit: write it as, for example, '{cell} [{unit}]'")
         if kind in columns:
             raise CsvError(header_line, f"two columns give the {spec[kind][2]}")
         columns[kind] = (pos, m.group(2))

@@ -51,6 +51,32 @@ USUAL = {
     "cycle.squeeze.consolidation_coefficient": (1e-9, 1e-5),
     "cycle.wash_model.dispersion_number": (2.0, 100.0),
 }
+#: usual range per /api/v1/lab-fit request field, in SI ("*": each test). Lab filtration cells and
+#: leaf tests: 10-500 cm² (the lab page's hint), vacuum leaf tests from about 0.2 bar to pressure cells
+#: at 20 bar; the slurry's and cake's data as in a cycle (common practice, no source)
+LAB_USUAL = {
+    "tests.*.pressure": (0.2e5, 20e5),
+    "tests.*.area": (10e-4, 500e-4),
+    "tests.*.viscosity": USUAL["slurry.viscosity"],
+    "tests.*.temperature": USUAL["slurry.temperature"],
+    "tests.*.c": USUAL["slurry.solids_per_liquid"],
+    "tests.*.solids_mass_fraction": USUAL["slurry.solids_mass_fraction"],
+    "tests.*.solids_concentration": USUAL["slurry.solids_concentration"],
+    "tests.*.solids_density": USUAL["slurry.solids_density"],
+    "tests.*.liquid_density": USUAL["slurry.liquid_density"],
+    "tests.*.moisture": USUAL["cake.moisture"],
+    "tests.*.wet_to_dry_ratio": USUAL["cake.wet_to_dry_ratio"],
+    "tests.*.porosity": USUAL["cake.porosity"],
+    "reference_pressure": (0.2e5, 20e5),
+}
+#: usual range per /api/v1/squeeze-fit request field, in SI: a piston test at the press's squeeze
+#: pressure (the cycle's range), on a lab cake of 10-500 cm² (the lab page's hint)
+SQUEEZE_USUAL = {
+    "pressure": USUAL["cycle.squeeze.pressure"],
+    "area": LAB_USUAL["tests.*.area"],
+    "solids_density": USUAL["slurry.solids_density"],
+    "liquid_density": USUAL["slurry.liquid_density"],
+}
 #: fields where 0 has its own meaning (0 neglects the cloth): never flagged
 ZERO_ALLOWED = {"medium_resistance"}
 KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration": "density",
@@ -64,13 +90,22 @@ KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration
          "cycle.wash_ratio": "fraction", "cycle.end.flow_per_area": "flux", "compare_thicknesses.*": "length",
          "feed.steps.*.0": "pressure", "feed.points.*.1": "pressure", "cycle.squeeze.pressure": "pressure",
          "cycle.squeeze.consolidation_coefficient": "diffusivity", "cycle.wash_model.dispersion_number": "fraction"}
+KINDS.update({"tests.*.pressure": "pressure", "tests.*.area": "area", "tests.*.viscosity": "viscosity",
+              "tests.*.temperature": "temperature", "tests.*.c": "density", "tests.*.solids_mass_fraction": "fraction",
+              "tests.*.solids_concentration": "density", "tests.*.solids_density": "density",
+              "tests.*.liquid_density": "density", "tests.*.moisture": "fraction",
+              "tests.*.wet_to_dry_ratio": "fraction", "tests.*.porosity": "fraction", "reference_pressure": "pressure",
+              "pressure": "pressure", "area": "area", "solids_density": "density", "liquid_density": "density"})
 #: the unit a range is written in when none was typed (the editor's first choice)
 DEFAULT_UNITS = {"fraction": "%", "density": "kg/m^3", "viscosity": "mPa*s", "specific_resistance": "m/kg",
                  "medium_resistance": "1/m", "length": "mm", "pressure": "bar", "time": "min", "area": "m^2",
                  "temperature": "degC", "flux": "L/(m^2*h)", "diffusivity": "m^2/s"}
 #: plain numbers, never percent
 PLAIN = {"cake.wet_to_dry_ratio", "press.chambers", "cake.compressibility", "cycle.wash_ratio",
-         "cycle.wash_model.dispersion_number"}
+         "cycle.wash_model.dispersion_number", "tests.*.wet_to_dry_ratio"}
+#: a field's own unit for its range and for what a bare number may have meant, where the kind's
+#: is not the one people use (a lab cell's area in cm², not m²)
+KEY_UNITS = {"tests.*.area": "cm^2", "area": "cm^2"}
 #: how far outside the usual range a value must be before a unit slip is suspected
 SLIP_MARGIN = 3.0
 
@@ -91,12 +126,12 @@ def usual_range(path: str, unit: str | None = None) -> str:
     from .forms import pretty_unit
     from .units import parse_quantity
 
-    low, high = USUAL[path]
+    low, high = next(table[path] for table in (USUAL, LAB_USUAL, SQUEEZE_USUAL) if path in table)
     kind = KINDS[path]
     if path in PLAIN:
         return f"{_nice(low)}–{_nice(high)}"
     if unit is None:
-        unit = DEFAULT_UNITS[kind]
+        unit = KEY_UNITS.get(path) or DEFAULT_UNITS[kind]
     if unit == "":
         return f"{_nice(low)}–{_nice(high)}" + ("" if kind == "fraction" else f" {pretty_unit(kind, '')}")
     zero, one = parse_quantity(f"0 {unit}", kind), parse_quantity(f"1 {unit}", kind)
@@ -110,11 +145,11 @@ class InputWarning:
     message: str
 
 
-def _usual_tree() -> dict:
+def _usual_tree(usual: dict) -> dict:
     """USUAL's keys as a tree of their dotted parts ("*": every item of a list, a digit: that
     item of a pair), each leaf (low, high, whether 0 is allowed)."""
     tree: dict = {}
-    for key, (low, high) in USUAL.items():
+    for key, (low, high) in usual.items():
         *heads, last = key.split(".")
         node = tree
         for head in heads:
@@ -123,23 +158,24 @@ def _usual_tree() -> dict:
     return tree
 
 
-_USUAL_TREE = _usual_tree()
+_TREES = {id(table): _usual_tree(table) for table in (USUAL, LAB_USUAL, SQUEEZE_USUAL)}
 
 
-def input_warnings(si, raw: dict) -> list[dict]:
+def input_warnings(si, raw: dict, usual: dict = USUAL) -> list[dict]:
     """Flags for values outside the usual range. ``si`` holds the request's values in SI (the
     validated request, as a model or as a dict), ``raw`` the request as sent (for the units
-    typed).
+    typed); ``usual``: the usual ranges of the request's fields (USUAL: a cycle request;
+    LAB_USUAL: a lab fit; SQUEEZE_USUAL: a squeeze fit).
 
     Most requests have no unusual value: the SI values are looked at once, along the tree of
     USUAL's keys (on a model, its fields: no dict of the whole request is made), and only if one
     lies outside its range is the request as sent walked, key by key, for the units typed."""
-    if not _any_unusual(si, _USUAL_TREE):
+    if not _any_unusual(si, _TREES[id(usual)]):
         return []
     if isinstance(si, BaseModel):
         si = si.model_dump()
     out = []
-    for key, (low, high) in USUAL.items():
+    for key, (low, high) in usual.items():
         for path, value, typed in _entries(si, raw, key):
             if not isinstance(value, float | int) or (value == 0 and key in ZERO_ALLOWED) or low <= value <= high:
                 continue
@@ -208,8 +244,20 @@ def _unusual(key: str, value: float, typed, low: float, high: float) -> str:
     else:  # a bare number: the range as the API reads bare numbers (SI, fractions as fractions)
         usual = usual_range(key, "" if kind == "fraction" else _SI_SPELLING.get(kind))
     message = f"{shown} is outside the usual {usual}; it was calculated as given."
-    slip = _slip(typed, value, low, high)
+    # a bare number: the unit it would be usual in says more than a factor of ten
+    slip = (None if given else _bare_meant(key, typed, low, high)) or _slip(typed, value, low, high)
     return message + (" " + slip if slip else "")
+
+
+def _bare_meant(key: str, typed, low: float, high: float) -> str | None:
+    """For a number sent without a unit: the unit in which it would be usual, as the schema's
+    refusals say it (quantities._meant), e.g. 'for 3 bar, send "3 bar"'."""
+    from .schemas.quantities import meant
+
+    units = (KEY_UNITS[key],) if key in KEY_UNITS else None
+    hint = meant(typed, KINDS[key], lambda si: low <= si <= high, units)
+    hint = hint.strip().removeprefix("(").removesuffix(")")
+    return hint[:1].upper() + hint[1:] + "." if hint else None
 
 
 def _entries(si, raw, key: str, done: str = ""):
@@ -279,6 +327,34 @@ def _slip(typed, value: float, low: float, high: float) -> str | None:
             if low <= scaled <= high:
                 return f"It is a factor of {factor} too {word} for the usual range: check the unit."
     return None
+
+
+def fitted_resistance_warnings(resistance_ref: float, tests: list[tuple[str, float]]) -> list[str]:
+    """A warning when a lab fit's specific cake resistance lies outside the usual range of
+    cakes (USUAL["cake.resistance"]): most often a unit slip in a test's pressure or area.
+    ``tests``: (label, fitted resistance [m/kg]) of each test."""
+    low, high = USUAL["cake.resistance"]
+    off = [f"{label} gives {_nice(alpha)} m/kg" for label, alpha in tests if not low <= alpha <= high]
+    check = "it was calculated as given: check the units of the pressure drop, the filter area, c and the viscosity"
+    if not low <= resistance_ref <= high:
+        return [f"The fitted specific cake resistance, {_nice(resistance_ref)} m/kg, is outside the usual "
+                f"{usual_range('cake.resistance')} of cakes; {check}"
+                + (f" ({'; '.join(off)})." if len(tests) > 1 and off else ".")]
+    if off:
+        return [f"The specific cake resistance is outside the usual {usual_range('cake.resistance')} of cakes in "
+                f"some tests ({'; '.join(off)}); {check} of those tests."]
+    return []
+
+
+def fitted_consolidation_warnings(consolidation_coefficient: float) -> list[str]:
+    """A warning when a squeeze fit's C_e lies outside the usual range of cakes
+    (USUAL["cycle.squeeze.consolidation_coefficient"])."""
+    low, high = USUAL["cycle.squeeze.consolidation_coefficient"]
+    if low <= consolidation_coefficient <= high:
+        return []
+    return [f"The fitted consolidation coefficient, {_nice(consolidation_coefficient)} m²/s, is outside the usual "
+            f"{usual_range('cycle.squeeze.consolidation_coefficient')} of cakes; it was calculated as given: check "
+            "the units of the readings, the dry solids, the solids density and the area."]
 
 
 def derived_warnings(derived: dict, si) -> list[dict]:

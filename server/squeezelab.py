@@ -5,6 +5,7 @@ import numpy as np
 from . import solver
 from .errors import InputError
 from .labdata import CsvError, parse_squeeze_readings
+from .plausibility import SQUEEZE_USUAL, fitted_consolidation_warnings, input_warnings
 from .schemas.squeezefit import SqueezeFitRequest
 from .solve import first_non_finite
 from .solver.squeezefit import SqueezeTest, fit_squeeze
@@ -16,6 +17,9 @@ SQUEEZE_UNITS = {
     "consolidation_at_last": "1", "readings": "[s, m] or [s, m^3]", "fitted": "m or m^3", "residuals": "m or m^3",
     "curve.time": "s", "curve.value": "m or m^3",
 }
+#: the squeeze fit's inputs in the lab page's words (for the flags of unusual values)
+SQUEEZE_LABELS = {"pressure": "Squeeze pressure", "area": "Piston (cake) area", "solids_density": "Solids density",
+                  "liquid_density": "Liquid density"}
 #: Solver fields that are request fields of the same name.
 _SAME = ("dry_solids_mass", "solids_density", "area", "drained_faces", "initial_thickness", "liquid_density")
 
@@ -89,7 +93,9 @@ def squeeze_request(req: SqueezeFitRequest) -> dict:
     }
     if fit.creep_fraction > 0.0:
         squeeze["creep_rate"] = fit.creep_rate
+    flags = input_warnings(req, req.raw, SQUEEZE_USUAL)
     out = {
+        "input_warnings": [{**w, "label": SQUEEZE_LABELS.get(w["field"], w["field"])} for w in flags],
         "name": req.name, "pressure": req.pressure, "measured": measured,
         "consolidation_coefficient": fit.consolidation_coefficient,
         "consolidation_coefficient_stderr": fit.consolidation_coefficient_stderr,
@@ -108,7 +114,8 @@ def squeeze_request(req: SqueezeFitRequest) -> dict:
         "residuals": np.asarray(fit.residuals, dtype=float).tolist(),
         "curve": {"time": grid.tolist(), "value": np.asarray(fit.curve(test, grid), dtype=float).tolist()},
         "for_cycle": {"squeeze": squeeze},
-        "warnings": list(fit.warnings), "units": SQUEEZE_UNITS,
+        "warnings": list(fit.warnings) + fitted_consolidation_warnings(fit.consolidation_coefficient),
+        "units": SQUEEZE_UNITS,
     }
     bad = first_non_finite(out)
     if bad is not None:

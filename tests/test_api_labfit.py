@@ -2,6 +2,7 @@
 
 import json
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -106,7 +107,7 @@ def test_start_offset_is_accepted(client):
 @pytest.mark.parametrize(
     "change,field,fragment",
     [
-        (lambda t: t.update(c=None), "tests.0", "give c in exactly one way"),
+        (lambda t: t.update(c=None), "tests.0", "c in exactly one way: c itself"),
         (lambda t: t.update(dry_cake_mass="1 kg"), "tests.0", "exactly one way"),
         (lambda t: t.update(temperature=20), "tests.0", "only one of viscosity or temperature"),
         (lambda t: t.update(points=[[1, 1e-4]] * 3), "tests.0", "only one of points or csv"),
@@ -116,6 +117,8 @@ def test_start_offset_is_accepted(client):
         (lambda t: t.update(csv="time [s], filtrate [L]\n1, 2\n2, x\n"), "tests.0.csv", "line 3"),
         (lambda t: t.update(csv="time [s], filtrate [L]\n1, 2\n2, 1\n3, 3\n"), "tests.0.csv", "volumes must increase"),
         (lambda t: t.update(use=[5, 20]), "tests.0.use", "first < last"),
+        (lambda t: t.update(use="1-5"), "tests.0.use", "write the first and last readings to fit, e.g. 1, 5"),
+        (lambda t: t.update(use=[1, 3, 5]), "tests.0.use", "e.g. 1, 5"),
     ],
 )
 def test_bad_lab_input_is_a_422_naming_the_field(client, change, field, fragment):
@@ -331,3 +334,87 @@ def test_the_uncertainty_of_c_widens_alpha_only(client):
     a, b = plain["for_cycle"]["cake"], with_c["for_cycle"]["cake"]
     assert b["resistance_stderr"] == pytest.approx(math.hypot(a["resistance_stderr"], 0.05 * a["resistance"]),
                                                    rel=1e-9)
+
+
+def test_c_given_twice_is_said_in_the_lab_pages_words(client):
+    # c = 200 g/L and a dry cake mass of 45 g: the message names what the page calls them, no field names
+    errs = errors_of(post(client, {"tests": [{**EXAMPLE, "c": "200 g/L", "dry_cake_mass": "45 g"}]}))
+    msg = errs["tests.0"]
+    assert "got both c and the dry cake mass" in msg
+    assert "dry solids per filtrate volume c" in msg
+    assert not re.search(r"[a-z]_[a-z]", msg), msg  # no API names such as dry_cake_mass
+
+
+def test_what_the_scenario_values_take_is_said_without_api_names(client):
+    # exact readings (derived here): alpha falling with pressure (s < 0) and a negative cloth resistance
+    # are both set to 0 for a scenario, and the warnings say so in words
+    data = post(client, {"tests": [synthetic_points(1e5, alpha=2e11, R_m=-2e10),
+                                   synthetic_points(4e5, alpha=1e11, R_m=-2e10)], **TEXTBOOK}).json()
+    assert data["compressibility"] < 0 and data["medium_resistance"] < 0
+    assert data["for_cycle"]["cake"]["compressibility"] == 0.0 and data["for_cycle"]["medium_resistance"] == 0.0
+    said = [w for w in data["warnings"] if "as 0" in w]
+    assert len(said) == 2, data["warnings"]
+    assert any("compressibility" in w for w in said) and any("cloth resistance" in w for w in said)
+    for w in data["warnings"]:
+        assert "for_cycle" not in w and not re.search(r"[a-z]_[a-z]", w), w
+
+
+# ---- inputs outside the trade's usual range (plausibility.LAB_USUAL; common practice, no source) ----
+
+def input_flags(data):
+    return {w["field"]: w for w in data["input_warnings"]}
+
+
+@pytest.mark.parametrize("change,field,words", [
+    # a bare number is SI: 100 is 100 m² (meant cm²), 3 is 3 Pa (meant bar)
+    ({"area": 100}, "tests.0.area", ["100 m² (a bare number is in SI units) is outside the usual 0.001–0.05 m²",
+                                     'for 100 cm², send "100 cm^2"']),
+    ({"pressure": 3}, "tests.0.pressure", ["3 Pa (a bare number is in SI units) is outside the usual 20000–2e6 Pa",
+                                           'for 3 bar, send "3 bar"']),
+    # kPa typed where bar was meant: said in the unit typed, with the factor
+    ({"pressure": "3 kPa"}, "tests.0.pressure", ["3 kPa is outside the usual 20–2000 kPa",
+                                                 "factor of 10 too small for the usual range: check the unit"]),
+    ({"viscosity": "0.8937 Pa*s"}, "tests.0.viscosity", ["factor of 1000 too large"]),
+])
+def test_lab_inputs_outside_the_usual_range_are_flagged_and_calculated_as_given(client, change, field, words):
+    r = post(client, {"tests": [{**EXAMPLE, **change}], **TEXTBOOK})
+    assert r.status_code == 200, r.text
+    flags = input_flags(r.json())
+    assert list(flags) == [field], flags
+    for w in words:
+        assert w in flags[field]["message"], flags[field]["message"]
+    assert flags[field]["label"].startswith("Test 1 (Geankoplis Example 14.2-1), ")
+
+
+def test_a_reference_pressure_outside_the_usual_range_is_flagged(client):
+    r = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "3 kPa", **TEXTBOOK})
+    assert input_flags(r.json())["reference_pressure"]["message"].startswith("3 kPa is outside the usual 20–2000 kPa")
+
+
+def test_the_textbook_tests_raise_no_flag(client):
+    data = post(client, {"tests": [EXAMPLE, PROBLEM], "reference_pressure": "1 bar", **TEXTBOOK}).json()
+    assert data["input_warnings"] == []
+    assert not any("usual" in w for w in data["warnings"])
+
+
+def test_a_fitted_resistance_outside_the_usual_range_is_a_warning(client):
+    # alpha = 2 A² dP (K_p/2) / (mu c): the same readings with the area read as 100 m² instead of
+    # 0.0439 m² give alpha (100 / 0.0439)² times the book's, far above the usual 1e9–1e14 m/kg
+    book = post(client, {"tests": [EXAMPLE], **TEXTBOOK}).json()["resistance_ref"]
+    data = post(client, {"tests": [{**EXAMPLE, "area": 100}], **TEXTBOOK}).json()
+    assert data["resistance_ref"] == pytest.approx(book * (100 / 0.0439) ** 2, rel=1e-9)
+    said = [w for w in data["warnings"] if "specific cake resistance" in w]
+    assert len(said) == 1 and "outside the usual 1e9–1e14 m/kg" in said[0], data["warnings"]
+    assert f"{data['resistance_ref']:.3g}".replace("e+", "e") in said[0]
+    # one slip among several tests is named
+    data = post(client, {"tests": [{**EXAMPLE, "area": 100}, PROBLEM], **TEXTBOOK}).json()
+    said = [w for w in data["warnings"] if "specific cake resistance" in w]
+    assert len(said) == 1 and "test 1 (Geankoplis Example 14.2-1) gives" in said[0], data["warnings"]
+
+
+def test_the_lab_page_shows_the_flags_in_its_words(client):
+    r = client.post("/ui/lab-fit", json={"tests": [{**EXAMPLE, "pressure": "3 kPa"}], **TEXTBOOK})
+    assert r.status_code == 200, r.text
+    html = r.json()["html"]
+    assert "Test 1 (Geankoplis Example 14.2-1), pressure drop:" in html
+    assert "3 kPa is outside the usual 20–2000 kPa" in html

@@ -226,3 +226,34 @@ def test_one_thickness_typo_is_refused_naming_the_reading(client):
     # with the reading as meant, the test fits, shrinking the cake
     d = post(client, {**TYPO, "csv": TYPO["csv"].replace("600, 355", "600, 22.53")}).json()
     assert d["final_thickness"] < d["initial_thickness"] and d["final_porosity"] < d["initial_porosity"]
+
+
+# ---- inputs outside the trade's usual range (plausibility.SQUEEZE_USUAL; common practice, no source) ----
+
+def test_squeeze_inputs_outside_the_usual_range_are_flagged_and_calculated_as_given(client):
+    r = post(client, {**DEMO, "area": 50, "pressure": "6 kPa"})  # 50 meant cm², kPa meant bar
+    assert r.status_code == 200, r.text
+    flags = {w["field"]: w for w in r.json()["input_warnings"]}
+    assert set(flags) == {"area", "pressure"}
+    assert flags["area"]["message"].startswith("50 m² (a bare number is in SI units) is outside the usual 0.001–0.05 m²")
+    assert 'for 50 cm², send "50 cm^2"' in flags["area"]["message"]
+    assert flags["pressure"]["message"].startswith("6 kPa is outside the usual 500–1600 kPa")
+    assert "factor of 100 too small" in flags["pressure"]["message"]
+    assert flags["area"]["label"] == "Piston (cake) area"
+    assert post(client, DEMO).json()["input_warnings"] == []
+
+
+def test_a_fitted_consolidation_coefficient_outside_the_usual_range_is_a_warning(client):
+    # the readings fix C_e / ω² (the model's time scale): the area read as 50 m² instead of 50 cm²
+    # makes ω 10⁴ times smaller and C_e 10⁸ times, far below the usual 1e-9–1e-5 m²/s (derived here)
+    demo = post(client, DEMO).json()
+    assert not any("consolidation coefficient" in w for w in demo["warnings"])
+    d = post(client, {**DEMO, "area": 50}).json()
+    assert d["consolidation_coefficient"] == pytest.approx(demo["consolidation_coefficient"] * 1e-8, rel=1e-3)
+    said = [w for w in d["warnings"] if "consolidation coefficient" in w]
+    assert len(said) == 1 and "outside the usual 1e-9–1e-5 m²/s" in said[0], d["warnings"]
+
+
+def test_the_page_twin_shows_the_flags(client):
+    html = client.post("/ui/squeeze-fit", json={**DEMO, "pressure": "6 kPa"}).json()["html"]
+    assert "Squeeze pressure:" in html and "6 kPa is outside the usual 500–1600 kPa" in html

@@ -1,9 +1,11 @@
 """CSV readings: units in headers, separators, decimal commas, bad rows by line number."""
 
+import re
+
 import numpy as np
 import pytest
 
-from server.labdata import CsvError, parse_readings
+from server.labdata import CsvError, parse_compression, parse_readings, parse_squeeze_readings
 
 
 def test_units_in_headers_are_converted_to_si():
@@ -55,3 +57,20 @@ def test_empty_text_and_header_only_are_refused():
         parse_readings("\n\n")
     with pytest.raises(CsvError, match="no readings"):
         parse_readings("time [s], filtrate [L]\n")
+
+
+@pytest.mark.parametrize("parse,text,column", [
+    (parse_readings, "time [min], filtrate\n1, 2\n2, 3\n", "filtrate"),
+    (parse_readings, "time, filtrate [mL]\n1, 2\n2, 3\n", "time"),
+    (parse_readings, "time [s], filtrate [mL], pressure\n1, 2, 3\n2, 3, 3\n", "pressure"),
+    (parse_compression, "stress, alpha [m/kg], solidosity [-]\n1, 1e11, 0.3\n", "stress"),
+    (parse_compression, "stress [kPa], alpha, solidosity [-]\n1, 1e11, 0.3\n", "alpha"),
+    (parse_compression, "stress [kPa], alpha [m/kg], solidosity\n1, 1e11, 0.3\n", "solidosity"),
+    (parse_squeeze_readings, "time [s], thickness\n0, 10\n1, 9\n", "thickness"),
+])
+def test_a_column_without_a_unit_is_shown_with_a_unit_of_its_kind_that_then_reads(parse, text, column):
+    with pytest.raises(CsvError, match="no unit") as err:
+        parse(text)
+    suggested = re.search(r"for example, '([^']+)'", err.value.message).group(1)
+    assert suggested.startswith(f"{column} [")
+    parse(text.replace(column, suggested, 1))  # following the advice reads the table

@@ -23,6 +23,7 @@ from ..solver.washquality import WashModel
 from .common import (
     Density,
     Fraction01,
+    KeepsRaw,
     LabPressure,
     PressPressure,
     SolidsFraction,
@@ -559,7 +560,7 @@ class ClothIn(Strict):
     ) = Field(description="[1/m]")
 
 
-class CycleRequest(Strict):
+class CycleRequest(KeepsRaw):
     @property
     def solves_in_closed_form(self) -> bool:
         """Its cycles are in closed form (a constant-pressure feed on a basis where the closed
@@ -568,23 +569,6 @@ class CycleRequest(Strict):
         incompressible = k.local.resistance_exponent == 0.0 if k.local is not None else k.compressibility == 0.0
         return self.feed.closed_form and not self.cycle.adds_stages and not solver_feeds.cake_basis_applies(
             k.pressure_basis, self.medium_resistance, incompressible)
-
-    #: the request as sent (for the units a person typed); not a field
-    _raw: dict = PrivateAttr(default_factory=dict)
-
-    @model_validator(mode="wrap")
-    @classmethod
-    def _keep_raw(cls, data, handler):
-        model = handler(data)
-        if isinstance(data, dict):
-            model.__pydantic_private__["_raw"] = data
-        return model
-
-    @property
-    def raw(self) -> dict:
-        """The request as sent (for the units a person typed), read from the private store
-        itself: pydantic's look-up of a private attribute costs microseconds (issue 12)."""
-        return self.__pydantic_private__["_raw"]
 
     slurry: SlurryIn
     cake: CakeIn

@@ -4,7 +4,17 @@ from typing import Literal
 
 from pydantic import BaseModel, Field, field_validator, model_validator
 
-from .common import Density, Fraction01, LabPressure, SolidsFraction, Strict, Temperature, Viscosity, exactly_one
+from .common import (
+    Density,
+    Fraction01,
+    KeepsRaw,
+    LabPressure,
+    SolidsFraction,
+    Strict,
+    Temperature,
+    Viscosity,
+    exactly_one,
+)
 from .quantities import quantity
 
 Time = quantity("time", ge=0.0, le=1e7, description="Time since the start of filtration")
@@ -57,6 +67,13 @@ class LabTestIn(Strict):
         None, description="0-based [first, last] readings to fit (inclusive); default: chosen automatically"
     )
 
+    @field_validator("use", mode="before")
+    @classmethod
+    def _use_as_a_pair(cls, use):
+        if use is not None and not (isinstance(use, list | tuple) and len(use) == 2):
+            raise ValueError(f"write the first and last readings to fit, e.g. 1, 5; got {use!r}")
+        return use
+
     @field_validator("points")
     @classmethod
     def _same_row_length(cls, points):
@@ -68,17 +85,21 @@ class LabTestIn(Strict):
     def _alternatives(self):
         exactly_one(self, ("viscosity", "temperature"))
         exactly_one(self, ("points", "csv"))
+        # in words (the lab page's labels), not field names: the page shows it above the test
         ways = {
             "c": self.c is not None,
-            "slurry and cake data": self.solids_mass_fraction is not None or self.solids_concentration is not None,
-            "dry_cake_mass": self.dry_cake_mass is not None,
+            "the slurry and cake data": self.solids_mass_fraction is not None
+            or self.solids_concentration is not None,
+            "the dry cake mass": self.dry_cake_mass is not None,
         }
         given = [k for k, v in ways.items() if v]
         if len(given) != 1:
             raise ValueError(
-                "give c in exactly one way: c, or slurry and cake data (solids_mass_fraction or "
-                "solids_concentration with moisture, wet_to_dry_ratio or porosity), or dry_cake_mass"
-                + (f"; got {' and '.join(given)}" if given else "")
+                "give the dry solids per filtrate volume c in exactly one way: c itself, the dry cake mass of "
+                "the test, or the slurry and cake data (the slurry's solids as a mass fraction or as solids per "
+                "slurry volume, with the cake's moisture, wet-to-dry ratio or porosity)"
+                + (f"; got both {' and '.join(given)}" if len(given) == 2 else f"; got {', '.join(given)}"
+                   if given else "; got none of them")
             )
         if given == ["slurry and cake data"]:
             exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
@@ -88,7 +109,7 @@ class LabTestIn(Strict):
         return self
 
 
-class LabFitRequest(Strict):
+class LabFitRequest(KeepsRaw):
     tests: list[LabTestIn] = Field(min_length=1, max_length=50)
     reference_pressure: LabPressure | None = Field(
         None, description="Pressure at which resistance_ref is given [Pa]; default: the geometric mean of the "
@@ -133,7 +154,15 @@ class TestOut(BaseModel):
     pressures: list[float] | None = Field(description="Pressure at each reading, when given [Pa]")
 
 
+class LabInputWarningOut(BaseModel):
+    field: str = Field(description="Path of the input, as in the request (tests.0.area)")
+    label: str = Field(description="The input in words, as the lab page labels it")
+    message: str = Field(description="The value in the unit typed, the usual range, and a likely slip if any")
+
+
 class LabFitResponse(BaseModel):
+    input_warnings: list[LabInputWarningOut] = Field(
+        default_factory=list, description="Inputs outside the trade's usual range (calculated as given)")
     tests: list[TestOut]
     compressibility: float | None = Field(description="s [-]; null with one pressure")
     compressibility_stderr: float | None

@@ -47,15 +47,17 @@ _MEANT = {"pressure": ("bar", "kPa"), "length": ("mm",), "time": ("min", "h"), "
           "volume": ("L",), "viscosity": ("mPa*s",), "flux": ("L/(m^2*h)",)}
 
 
-def _meant(value, kind: str, inside) -> str:
-    """For a number sent without a unit and refused: the unit it fits in, as a hint, or ""."""
+def meant(value, kind: str, inside, units: tuple | None = None) -> str:
+    """For a number sent without a unit and refused (or unusual): the unit it fits in, as a hint,
+    or "". ``units``: the units to try (default: the kind's, _MEANT)."""
     if isinstance(value, bool) or not isinstance(value, int | float | str):
         return ""
     text = f"{value:g}" if isinstance(value, int | float) else value.strip()
-    for unit in _MEANT.get(kind, ()):
+    for unit in _MEANT.get(kind, ()) if units is None else units:
         try:
             if inside(parse_quantity(f"{text} {unit}", kind)):
-                return (f" (a number without a unit is in {KINDS[kind].label}: for {text} {unit.replace('^3', '³')}"
+                shown = unit.replace("^3", "³").replace("^2", "²")
+                return (f" (a number without a unit is in {KINDS[kind].label}: for {text} {shown}"
                         f", send \"{text} {unit}\")")
         except UnitError:
             return ""
@@ -67,7 +69,7 @@ def _out_of_range(value, si: float, kind: str, allowed: str, gt, ge, lt, le, ins
     number sent without a unit, the unit it would fit in (``inside``: the range check)."""
     given = user_unit(value, kind)
     if given is None or (given[1](0.0) == 0.0 and given[1](1.0) == 1.0):  # SI as written: said once
-        hint = _meant(value, kind, inside) if given is None and inside is not None else ""
+        hint = meant(value, kind, inside) if given is None and inside is not None else ""
         return f"must be {allowed}; got {_fmt(si, kind)}{hint}"
     unit, to_user = given
     bounds = [(word, to_user(b)) for word, b in (("above", gt), ("at least", ge), ("below", lt), ("at most", le))

@@ -5,7 +5,8 @@ from typing import Literal
 
 from pydantic import BaseModel, Field, model_validator
 
-from .common import Density, PressPressure, Strict, exactly_one
+from .common import Density, KeepsRaw, PressPressure, exactly_one
+from .labfit import LabInputWarningOut
 from .quantities import quantity
 
 Time = quantity("time", ge=0.0, le=1e7, description="Time since the squeeze pressure was applied")
@@ -13,7 +14,7 @@ Thickness = quantity("length", gt=0.0, le=1.0, description="Cake thickness")
 Expressed = quantity("volume", ge=0.0, le=10.0, description="Cumulative liquid expressed since the squeeze began")
 
 
-class SqueezeFitRequest(Strict):
+class SqueezeFitRequest(KeepsRaw):
     name: str | None = Field(None, max_length=120, description="A label for the test")
     pressure: PressPressure = Field(description="Squeeze (piston or membrane) pressure of the test [Pa]; carried to "
                                                 "the scenario, where the press must squeeze at the same pressure")
@@ -46,6 +47,8 @@ class SqueezeFitRequest(Strict):
 
 
 class SqueezeFitResponse(BaseModel):
+    input_warnings: list[LabInputWarningOut] = Field(
+        default_factory=list, description="Inputs outside the trade's usual range (calculated as given)")
     name: str | None
     pressure: float = Field(description="[Pa]")
     measured: Literal["thickness", "filtrate"] = Field(description="What the readings are")

@@ -39,6 +39,13 @@
     return window.presscycleEntry.withUnit(raw, unit ? unit.value : "");
   }
 
+  // "1, 5", "1 5", "1-5", "1–5" or "1 to 5" (1-based, as the page counts) -> the API's 0-based pair;
+  // anything else goes as typed, and the server says how to write it
+  function readingsToFit(typed) {
+    const m = typed.match(/^(\d+)\s*(?:[,;\-–—]|\s|\bto\b)\s*(\d+)$/i);
+    return m ? [Number(m[1]) - 1, Number(m[2]) - 1] : typed;
+  }
+
   function collect() {
     const body = { tests: [], model: document.getElementById("model").value,
                    pressure_basis: document.getElementById("pressure-basis").value };
@@ -54,7 +61,7 @@
       const st = value(block, "start.time"), sv = value(block, "start.volume");
       if (st !== undefined || sv !== undefined) t.start = { time: st, volume: sv };
       const use = block.querySelector('[data-name="use"]').value.trim();
-      if (use) t.use = use.split(/[\s,;]+/).map((x) => Number(x) - 1);
+      if (use) t.use = readingsToFit(use);
       body.tests.push(t);
     });
     return body;

@@ -69,3 +69,26 @@ def test_a_compression_permeability_table_draws_both_laws(page):
     assert "0.7" in page.locator("[data-testid=local-laws]").inner_text()
     page.wait_for_function("document.querySelectorAll('#compression-results .chart .plot .main-svg').length >= 2")
     clean(page)
+
+
+def test_readings_to_fit_are_read_as_first_and_last_or_sent_as_typed(page):
+    # the page counts from 1, the API from 0
+    page.goto(page.base + "/lab")
+    field = page.locator("#tests > fieldset").nth(0).locator('[data-name="use"]')
+    sent = {}
+    for typed in ("2, 9", "2 9", "2-9", "2–9", "2 to 9", "first 2"):
+        field.fill(typed)
+        sent[typed] = page.evaluate("window.presscycleLab.collect().tests[0].use")
+    assert sent == {"2, 9": [1, 8], "2 9": [1, 8], "2-9": [1, 8], "2–9": [1, 8], "2 to 9": [1, 8],
+                    "first 2": "first 2"}
+
+
+def test_readings_to_fit_the_server_cannot_read_are_said_at_the_field(page):
+    page.goto(page.base + "/lab")
+    block = page.locator("#tests > fieldset").nth(0)
+    fill_test(block, "Example 14.2-1", "338", (DATA / "geankoplis_14_2_1.csv").read_text())
+    block.locator('[data-name="use"]').fill("2 until 9")
+    page.click("#fit")
+    err = block.locator(".field[data-path='use'] .error")
+    err.wait_for(state="visible")
+    assert "e.g. 1, 5" in err.inner_text() and "required" not in err.inner_text()
