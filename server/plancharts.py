@@ -24,8 +24,8 @@ def _vline(x: float, name: str, color: str, dash: str = "dash") -> dict:
 
 def histogram(plan: dict, u: Units) -> dict | None:
     mc = plan.get("uncertainty")
-    if not mc:
-        return None
+    if not mc or not (plan.get("sensitivity") or {}).get("tornado"):
+        return None  # no input uncertain: every sample the same, no spread to draw
     q = BASIS_QUANTITY[plan["basis"]]
     edges = u(q, mc["histogram_edges"])
     centres = [0.5 * (a + b) for a, b in zip(edges[:-1], edges[1:], strict=True)]

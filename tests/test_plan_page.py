@@ -195,9 +195,15 @@ def test_the_headline_names_a_season_shortfall_and_no_probability_without_uncert
     assert ("Not in every season: at 12.0 and 25.0 °C the slurry needs 4 presses, more than the 3 planned: "
             "the spare would have to run then (see Seasons).") in verdict
     assert "samples" not in verdict and "No input is uncertain" in r.text
+    # nor percentiles and a histogram of samples that do not spread (all P10 = P50 = P90)
+    assert 'data-testid="plan-no-spread"' in r.text and 'data-testid="plan-percentiles"' not in r.text
+    assert "Best throughput of one press over" not in r.text
     # with an uncertain input (the saved scenario's lab-fit error) the probability stays
-    verdict = _text(client.get(f"/s/{saved}/plan").text, "plan-verdict")
+    page = client.get(f"/s/{saved}/plan").text
+    verdict = _text(page, "plan-verdict")
     assert "The planned presses meet the target in" in verdict and "of 500 samples" in verdict
+    assert 'data-testid="plan-percentiles"' in page and "Best throughput of one press over 500 samples" in page
+    assert 'data-testid="plan-no-spread"' not in page
 
 
 def test_us_units_show_season_temperatures_in_fahrenheit_and_the_page_switches_units(client):
