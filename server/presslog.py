@@ -427,7 +427,8 @@ def _log_checks(log: Log, fits, sel, used_numbers, inputs, V_full: float, v: flo
             "equipment: never run it above its plates' rated pressure.")
     elif feed is not None and p_max > 1.5 * feed:
         warnings.append(
-            f"The feed pressure in the log reaches {p_max / per_unit:.4g} {unit} ({p_max / 1e5:.4g} bar), "
+            f"The feed pressure in the log reaches {p_max / per_unit:.4g} {unit}"
+            f"{'' if unit == 'bar' else f' ({p_max / 1e5:.4g} bar)'}, "
             f"well above the scenario's {feed / 1e5:.4g} bar: check the column's unit and that this log belongs "
             "to this scenario. A press is pressure equipment: never run it above its plates' rated pressure.")
     return {"chambers_full_volume": V_full, "cycles_beyond_chambers": numbers[over].astype(int).tolist(),

@@ -58,7 +58,8 @@ _REPLACEMENTS = [
     ("µ", "u"), ("μ", "u"), ("°C", "degC"), ("°F", "degF"), ("℃", "degC"), ("wt%", "%"),
     ("wt.%", "%"),
     # as the pages write US customary units (display.DISPLAY): "short ton/day", "US gpm", "US gal"
-    ("short ton", "short_ton"), ("long ton", "long_ton"), ("US gpm", "gpm"), ("US gal", "gallon"),
+    ("short ton", "short_ton"), ("long ton", "long_ton"), ("US gpm", "gpm"),
+    ("US gallon", "gallon"), ("US gal", "gallon"),
 ]
 _POWER_SUFFIX = re.compile(r"\b(m|cm|mm|dm|ft|in)([23])\b")
 MAX_LENGTH = 64

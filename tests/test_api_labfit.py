@@ -418,3 +418,18 @@ def test_the_lab_page_shows_the_flags_in_its_words(client):
     html = r.json()["html"]
     assert "Test 1 (Geankoplis Example 14.2-1), pressure drop:" in html
     assert "3 kPa is outside the usual 20–2000 kPa" in html
+
+
+def test_slurry_and_cake_data_given_two_ways_at_once_are_refused(client):
+    # a review found these accepted in silence after the c message was reworded (the check
+    # compared against the old wording): the solver then picked one of the two values
+    base = {k: v for k, v in EXAMPLE.items() if k != "c"}
+    test = {**base, "solids_density": "2000 kg/m^3"}
+    both_solids = {**test, "solids_mass_fraction": 0.1, "solids_concentration": "100 kg/m^3", "wet_to_dry_ratio": 2}
+    msgs = errors_of(post(client, {"tests": [both_solids], **TEXTBOOK}))
+    assert any("solids_mass_fraction" in m and "solids_concentration" in m for m in msgs.values()), msgs
+    both_liquid = {**test, "solids_mass_fraction": 0.1, "moisture": "50 %", "wet_to_dry_ratio": 2.5}
+    msgs = errors_of(post(client, {"tests": [both_liquid], **TEXTBOOK}))
+    assert any("moisture" in m and "wet_to_dry_ratio" in m for m in msgs.values()), msgs
+    one_each = {**test, "solids_mass_fraction": 0.1, "wet_to_dry_ratio": 2.5}
+    assert post(client, {"tests": [one_each], **TEXTBOOK}).status_code == 200

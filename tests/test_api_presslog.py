@@ -511,3 +511,15 @@ def test_a_flow_or_pressure_in_the_wrong_unit_is_said_loudly_and_not_calibrated(
     assert "factor of 100 too large" in w and "Read as kPa" in w and "rated pressure" in w
     # nothing below contradicts it (the coarse-step warning spoke of a calibrated copy)
     assert not any("calibrated copy keeps" in x for x in a["warnings"]), a["warnings"]
+
+
+def test_a_pressure_well_above_the_scenarios_is_said_once_in_bar(client):
+    # within the usual range of presses but twice the scenario's feed: a warning, its bar value
+    # written once (a review saw "6.098 bar (6.098 bar)")
+    log = synthetic_log(cycles=3, alpha=2.1e12, growth=0.0, noise=0.005, seed=5)
+    lines = to_csv(log).strip().split("\n")
+    doubled = "\n".join([lines[0]] + [f"{t},{float(p) * 2:.9g},{q}" for t, p, q in (x.split(",") for x in lines[1:])])
+    a = client.post("/api/v1/press-log", json={"inputs": HYDROXIDE["inputs"], "csv": doubled}).json()
+    said = [w for w in a["warnings"] if "well above the scenario's" in w]
+    assert len(said) == 1 and said[0].count(" bar") == 2, said  # the log's figure and the scenario's
+    assert not a["log_checks"]["calibration_withheld"]

@@ -144,6 +144,9 @@ def test_typed_numbers_reach_si_through_parse_quantity():
     ("120 US gpm", "flow", 120 * 3.785411784e-3 / 60),
     ("3 US gal", "volume", 3 * 3.785411784e-3),
     ("36 US gal/(ft²·h)", "flux", 36 * 3.785411784e-3 / 0.3048**2 / 3600),
+    # written out in full too ("US gallon" was read as "gallonlon": a review)
+    ("2 US gallons/day", "flow", 2 * 3.785411784e-3 / 86400),
+    ("1 US gallon/min", "flow", 3.785411784e-3 / 60),
 ])
 def test_us_units_as_the_pages_write_them_are_read(text, kind, si):
     assert parse_quantity(text, kind) == pytest.approx(si, rel=1e-12)

@@ -81,13 +81,37 @@ def amount_without_unit(form: dict, units: str = "si") -> tuple[str, str] | None
             f"{dict(BASES)[key]} per calendar day (allowed: above 0 and at most {fmt(most, 4)} {written})")
 
 
+#: the unit the API reads a bare target number in (SI), written out when a saved plan refills the form
+SI_TARGET_UNITS = {"dry_solids_per_day": "kg/s", "slurry_per_day": "m^3/s", "filtrate_per_day": "m^3/s"}
+
+
+def temperatures_without_unit(form: dict, units: str) -> tuple[str, str] | None:
+    """(field, message) when a page in US units has a season temperature typed as a bare
+    number: the API reads it in °C, which a person on a page showing °F may not mean."""
+    if units != "us":
+        return None
+    for text in (t.strip() for t in re.split(r";|,\s+", form["temperatures"]) if t.strip()):
+        try:
+            bare = not split_number(text)[1]
+        except UnitError:
+            continue  # not a number: the schema says why
+        if bare:
+            return ("temperatures", f'{text} has no unit: on a page in US units write each season temperature '
+                                    f'with its unit, such as "{text} °F" (or "{text} °C")')
+    return None
+
+
 def form_from_plan(plan: dict) -> dict:
-    """The form's values from saved plan inputs (a plan request without its inputs)."""
+    """The form's values from saved plan inputs (a plan request without its inputs). A target
+    saved as a bare number (the API's SI) is written with its SI unit, and a bare season
+    temperature with °C, so the form sent again means what was saved."""
     form = dict(DEFAULT_FORM)
     target = plan.get("target", {})
     for key, _ in BASES:
         if key in target:
-            form["basis"], form["amount"] = key, str(target[key])
+            value = target[key]
+            bare = isinstance(value, int | float) and not isinstance(value, bool)
+            form["basis"], form["amount"] = key, f"{value} {SI_TARGET_UNITS[key]}" if bare else str(value)
     for key in ("hours_per_day", "days_per_week", "availability", "margin", "pump_efficiency"):
         if key in target:
             form[key] = str(target[key])
@@ -97,7 +121,8 @@ def form_from_plan(plan: dict) -> dict:
     shift = plan.get("shift") or {}
     form["shift"] = str(shift.get("length", ""))
     form["whole_cycles"] = "on" if shift.get("whole_cycles", True) else ""
-    form["temperatures"] = "; ".join(str(t) for t in plan.get("temperatures", []))
+    form["temperatures"] = "; ".join(f"{t} °C" if isinstance(t, int | float) and not isinstance(t, bool) else str(t)
+                                     for t in plan.get("temperatures", []))
     return form
 
 
@@ -163,7 +188,7 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
     if form["amount"].strip() and (given or saved_plan):
         plan_inputs = plan_from_form(form)
         context["plan_json"] = json.dumps(plan_inputs)
-        bare = amount_without_unit(form, units) if given else None  # a saved plan was read as SI
+        bare = (amount_without_unit(form, units) or temperatures_without_unit(form, units)) if given else None
         try:
             if bare is not None:
                 raise InputError([(("body", *bare[0].split(".")), bare[1])])

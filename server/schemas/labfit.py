@@ -101,7 +101,7 @@ class LabTestIn(Strict):
                 + (f"; got both {' and '.join(given)}" if len(given) == 2 else f"; got {', '.join(given)}"
                    if given else "; got none of them")
             )
-        if given == ["slurry and cake data"]:
+        if given == ["the slurry and cake data"]:
             exactly_one(self, ("solids_mass_fraction", "solids_concentration"))
             exactly_one(self, ("moisture", "wet_to_dry_ratio", "porosity"))
             if self.solids_density is None and (self.porosity is not None or self.solids_concentration is not None):

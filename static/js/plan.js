@@ -5,7 +5,16 @@
   // the units of the plan: the form is sent again with the other choice (a plan is drawn only
   // when the form has a target, as with the Plan button)
   document.querySelectorAll('[data-testid=plan-units] input[name=units]').forEach((radio) => {
-    radio.addEventListener("change", () => { if (radio.form.querySelector("#f-amount").value.trim()) radio.form.requestSubmit(); });
+    radio.addEventListener("change", () => {
+      // season temperatures typed as bare numbers are in °C (the SI page's hint): say so before
+      // the US page reads them, which asks for a unit
+      const temps = radio.form.querySelector("#f-temperatures");
+      if (temps && radio.value === "us") {
+        temps.value = temps.value.split(";").map((t) => t.trim()).filter(Boolean)
+          .map((t) => (/^[-+]?\d+([.,]\d+)?$/.test(t) ? `${t} °C` : t)).join("; ");
+      }
+      if (radio.form.querySelector("#f-amount").value.trim()) radio.form.requestSubmit();
+    });
   });
   const button = document.getElementById("save-plan");
   if (!button) return;

@@ -239,3 +239,12 @@ def test_a_fit_that_would_swell_the_cake_is_refused(creep):
         fit_squeeze(test(y, creep=creep))
     assert err.value.parameter.startswith("readings.") and err.value.parameter.endswith(".1")
     assert "would swell" in err.value.message
+
+
+def test_an_early_stopping_start_does_not_hide_the_exact_fit():
+    # a review's case: 12 readings to 1800 s on a geometric grid, with creep; when only the best
+    # short search carried on, a start that had converged early to a worse fit won
+    # (C_e 3.66e-10 m²/s for the exact 1e-9). Exact readings (Terzaghi–Voigt written out here)
+    t = np.concatenate(([0.0], np.geomspace(2.0, 1800.0, 11)))
+    f = fit_squeeze(SqueezeTest(tuple(t), tuple(exact_thickness(t, 1e-9, 0.2, 2e-3)), "thickness", MS, RHO_S, AREA))
+    assert f.consolidation_coefficient == pytest.approx(1e-9, rel=1e-4)
