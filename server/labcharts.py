@@ -53,6 +53,24 @@ def _curved(line: dict) -> bool:
     return bool(np.max(np.abs(np.polyval(coef, x) - f)) > 1e-6 * np.max(np.abs(f)))
 
 
+#: round mantissas for ticks on a log axis, coarse to fine
+_TICK_MANTISSAS = ((1, 2, 5), (1, 2, 3, 5), (1, 1.5, 2, 3, 4, 5, 7))
+
+
+def log_ticks(low: float, high: float, wanted: int = 4) -> list[float]:
+    """Round values (1, 2, 5 x 10^k, or finer) between ``low`` and ``high`` (> 0): the coarsest
+    set that gives ``wanted`` ticks, else the finest; never fewer than two."""
+    ticks: list[float] = []
+    for mantissas in _TICK_MANTISSAS:
+        decades = range(math.floor(math.log10(low)), math.ceil(math.log10(high)) + 1)
+        ticks = [float(f"{m * 10.0 ** k:.12g}") for k in decades for m in mantissas if low <= m * 10.0 ** k <= high]
+        if len(ticks) >= wanted:
+            break
+    if len(ticks) < 2:  # a narrow range: its ends too, to 3 figures
+        ticks = sorted({*ticks, float(f"{low:.3g}"), float(f"{high:.3g}")})
+    return ticks
+
+
 def compressibility(result: dict) -> dict | None:
     """Specific cake resistance against pressure on log axes, with the fitted power law."""
     tests = result["tests"]
@@ -72,9 +90,11 @@ def compressibility(result: dict) -> dict | None:
          "hovertemplate": "%{x:.3g} bar: %{y:.3g} m/kg<extra>power law</extra>"},
     ], "layout": {
         **BASE_LAYOUT, "title": {"text": "Specific cake resistance against pressure"},
-        # ticks at 1 bar times powers of 2 (0.25, 0.5, 1, 2, 4 ...), labelled in full: plotly's
-        # own log ticks over less than a decade label only the first digit
-        "xaxis": _axis("Pressure drop (bar)", type="log", tick0=0, dtick=math.log10(2), tickformat=".3~g"),
+        # ticks on round pressures, at least four where the range allows, labelled in full: plotly's
+        # own log ticks over less than a decade label only the first digit, and powers of two
+        # left tests at 2, 3 and 5 bar with ticks at 2 and 4 only (a plant-engineer check)
+        "xaxis": _axis("Pressure drop (bar)", type="log", tickmode="array",
+                       tickvals=log_ticks(float(Ps[0]), float(Ps[-1])), tickformat=".3~g"),
         "yaxis": _axis("Specific cake resistance α (m/kg)", type="log"),
     }}
 

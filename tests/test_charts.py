@@ -215,10 +215,19 @@ def test_percent_axes_stop_at_100(solved_demos):
 def test_the_lab_resistance_axis_is_in_powers_of_ten(lab_figs):
     axis = lab_figs["compressibility"]["layout"]["yaxis"]
     assert axis["type"] == "log" and "m/kg" in axis["title"]["text"] and axis["exponentformat"] == "power"
-    # pressures over less than a decade: ticks at 1 bar times powers of two, written out in full
+    # pressures over less than a decade: round ticks, at least four, written out in full
     p_axis = lab_figs["compressibility"]["layout"]["xaxis"]
-    assert p_axis["type"] == "log" and p_axis["tick0"] == 0 and p_axis["dtick"] == pytest.approx(math.log10(2))
-    assert p_axis["tickformat"] == ".3~g"
+    assert p_axis["type"] == "log" and p_axis["tickmode"] == "array" and p_axis["tickformat"] == ".3~g"
+    assert len(p_axis["tickvals"]) >= 4
+
+
+def test_log_ticks_are_round_and_at_least_four_where_the_range_allows():
+    from server.labcharts import log_ticks
+
+    # tests at 2, 3 and 5 bar (the chart's range is theirs / 1.3 to x 1.3): powers of two gave 2 and 4 only
+    assert log_ticks(2 / 1.3, 5 * 1.3) == [2.0, 3.0, 4.0, 5.0]
+    assert log_ticks(0.2, 20) == [0.2, 0.5, 1.0, 2.0, 5.0, 10.0, 20.0]
+    assert log_ticks(1.05, 1.2) == [1.05, 1.2]  # no round value inside: the range's ends
 
 
 @pytest.mark.parametrize("slug", [d.slug for d in DEMOS])
