@@ -756,7 +756,7 @@ def analyse(req: PressLogRequest, store=None) -> dict:
         "alpha_drift": {"flagged": drift.flagged, "change": drift.change, "note": drift.note},
         "cloth": cloth, "plant": plant, "calibration": calibration, "model": model,
         "chart_cycle": chart, "calibrated_inputs": calibrated, "saved": None,
-        "log_checks": {k2: v for k2, v in checks.items() if k2 != "warnings"},
+        "log_checks": checks,
         "warnings": warnings, "cautions": CAUTIONS, "units": UNITS,
     }
     bad = first_non_finite({k2: v for k2, v in out.items() if k2 not in ("cycles", "calibrated_inputs")})

@@ -511,6 +511,13 @@ def test_a_flow_or_pressure_in_the_wrong_unit_is_said_loudly_and_not_calibrated(
     assert "factor of 100 too large" in w and "Read as kPa" in w and "rated pressure" in w
     # nothing below contradicts it (the coarse-step warning spoke of a calibrated copy)
     assert not any("calibrated copy keeps" in x for x in a["warnings"]), a["warnings"]
+    # the checks' own words, and the page shows them in a box above the results, once
+    assert a["log_checks"]["warnings"] == [w]
+    html = client.post("/ui/press-log", json={**body, "csv": kpa}).json()["html"]
+    box = html.split('data-testid="log-checks"')[1].split("</div>")[0]
+    assert "factor of 100 too large" in box and "rated pressure" in box
+    assert html.count("factor of 100 too large") == 1
+    assert 'data-testid="log-checks"' not in client.post("/ui/press-log", json={**body, "csv": csv}).json()["html"]
 
 
 def test_a_pressure_well_above_the_scenarios_is_said_once_in_bar(client):

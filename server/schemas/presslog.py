@@ -151,6 +151,8 @@ class LogChecksOut(BaseModel):
     scenario_feed_pressure: float | None = Field(description="The scenario's highest feed pressure [Pa]")
     calibration_withheld: bool = Field(description="The log's values cannot be what their headers say: no "
                                                    "calibrated_inputs and nothing saved")
+    warnings: list[str] = Field([], description="What these checks found, in words (also first in the answer's "
+                                                "warnings); the page shows them above the results")
 
 
 class PressLogResponse(BaseModel):
