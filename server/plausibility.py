@@ -44,6 +44,8 @@ USUAL = {
     "feed.pressure": (3e5, 20e5),
     "feed.max_pressure": (3e5, 20e5),
     "cycle.downtime": (600.0, 3600.0),
+    # where α was measured: a lab test's pressure (LAB_USUAL's range)
+    "cake.reference_pressure": (0.2e5, 20e5),
     # the whole cycle's stages (issue 15): membrane plates are rated for about 7-16 bar; C_e of
     # mineral and sludge cakes spans about 1e-9 to 1e-5 m^2/s; dispersion numbers of real cakes
     # 2 to 100 (all from memory, broad on purpose)
@@ -89,7 +91,8 @@ KINDS = {"slurry.solids_mass_fraction": "fraction", "slurry.solids_concentration
          "cycle.wash_pressure": "pressure", "slurry.liquid_density": "density", "slurry.temperature": "temperature",
          "cycle.wash_ratio": "fraction", "cycle.end.flow_per_area": "flux", "compare_thicknesses.*": "length",
          "feed.steps.*.0": "pressure", "feed.points.*.1": "pressure", "cycle.squeeze.pressure": "pressure",
-         "cycle.squeeze.consolidation_coefficient": "diffusivity", "cycle.wash_model.dispersion_number": "fraction"}
+         "cycle.squeeze.consolidation_coefficient": "diffusivity", "cycle.wash_model.dispersion_number": "fraction",
+         "cake.reference_pressure": "pressure"}
 KINDS.update({"tests.*.pressure": "pressure", "tests.*.area": "area", "tests.*.viscosity": "viscosity",
               "tests.*.temperature": "temperature", "tests.*.c": "density", "tests.*.solids_mass_fraction": "fraction",
               "tests.*.solids_concentration": "density", "tests.*.solids_density": "density",

@@ -202,3 +202,32 @@ def test_a_bare_number_refused_as_si_says_the_unit_it_fits_in(client):
     # no hint where no such unit fits, or where a unit was typed
     assert "without a unit" not in _msg(client, lambda b: b["feed"].update(pressure=1e12), "feed.pressure")
     assert "without a unit" not in _msg(client, lambda b: b["feed"].update(pressure="7 Pa"), "feed.pressure")
+
+
+@pytest.mark.parametrize("where, field, value, hint", [
+    (("slurry",), "solids_mass_fraction", 20, 'a number without a unit is a fraction: for 20 %, send "20 %"'),
+    (("slurry",), "solids_density", 4, 'for 4 g/cm³, send "4 g/cm^3"'),
+    (("press",), "plate_face_area", 15000, 'for 15000 cm², send "15000 cm^2"'),
+])
+def test_more_bare_numbers_refused_as_si_say_the_unit_they_fit_in(client, where, field, value, hint):
+    # a second plant-engineer check: fractions, densities and areas had no hint
+    def change(b):
+        target = b
+        for key in where:
+            target = target.setdefault(key, {})
+        target[field] = value
+    msg = _msg(client, change, ".".join((*where, field)))
+    assert hint in msg, msg
+
+
+def test_a_bare_reference_pressure_is_flagged_with_the_unit_it_was_likely_meant_in(client):
+    # "reference_pressure": 6 (meant as bar) was read as 6 Pa with no word, and moved every figure
+    body = copy.deepcopy(BASE_REQUEST)
+    body["cake"].update(compressibility=0.3, reference_pressure=6)
+    r = client.post("/api/v1/cycle", json=body)
+    assert r.status_code == 200, r.text
+    flags = {w["field"]: w["message"] for w in r.json()["input_warnings"]}
+    assert 'for 6 bar, send "6 bar"' in flags["cake.reference_pressure"], flags
+    body["cake"]["reference_pressure"] = "6 bar"
+    assert "cake.reference_pressure" not in {w["field"] for w in client.post("/api/v1/cycle", json=body).json()[
+        "input_warnings"]}

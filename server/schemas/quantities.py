@@ -43,8 +43,9 @@ TOLERANCE = 1e-9
 
 
 #: the units a person most likely meant by a bare number refused as SI ("7" for a pressure: 7 bar)
-_MEANT = {"pressure": ("bar", "kPa"), "length": ("mm",), "time": ("min", "h"), "flow": ("m^3/h",),
-          "volume": ("L",), "viscosity": ("mPa*s",), "flux": ("L/(m^2*h)",)}
+_MEANT = {"pressure": ("bar", "kPa"), "length": ("mm", "cm"), "time": ("min", "h"), "flow": ("m^3/h",),
+          "volume": ("L",), "viscosity": ("mPa*s",), "flux": ("L/(m^2*h)",), "fraction": ("%",),
+          "density": ("g/cm^3",), "area": ("cm^2",)}
 
 
 def meant(value, kind: str, inside, units: tuple | None = None) -> str:
@@ -57,8 +58,9 @@ def meant(value, kind: str, inside, units: tuple | None = None) -> str:
         try:
             if inside(parse_quantity(f"{text} {unit}", kind)):
                 shown = unit.replace("^3", "³").replace("^2", "²")
-                return (f" (a number without a unit is in {KINDS[kind].label}: for {text} {shown}"
-                        f", send \"{text} {unit}\")")
+                bare = "a fraction" if KINDS[kind].label == "-" else f"in {KINDS[kind].label}"
+                return f' (a number without a unit is {bare}: for {text} {shown}, send "{text} {unit}")'
+
         except UnitError:
             return ""
     return ""
