@@ -61,8 +61,9 @@ def _factor(quantity: str, system: str) -> float:
 
 #: the metric units the solver writes quantities in within its warnings ("80 m³/h", "7 bar"),
 #: with the quantity each is (its metric display unit above); the longer spellings first
-_TEXT_UNITS = {"m³/h": "flow", "kg/m³": "density", "m/kg": "specific_resistance", "1/m": "medium_resistance",
-               "bar": "pressure", "mm": "thickness", "m²": "area", "m³": "volume", "kg": "mass"}
+_TEXT_UNITS = {"L/(m²·h)": "flux", "m³/h": "flow", "kg/m³": "density", "m/kg": "specific_resistance",
+               "1/m": "medium_resistance", "bar": "pressure", "mm": "thickness", "m²": "area", "m³": "volume",
+               "kg": "mass"}
 _NUMBER = r"(-?\d+(?:\.\d+)?(?:[eE][+-]?\d+)?)"
 #: a number, or a range ("3 to 4 bar", "3–20 bar"), and its unit; a number grouped in thousands
 #: ("1,500", "19 000") is left as written (the solver writes none)

@@ -339,3 +339,28 @@ def test_wash_ratio_by_cake_pore_volumes(client, base_request):
     assert b["wash_volume"] == pytest.approx(2.0 * d["porosity"] * d["cake_volume_ratio"] * b["filtrate_volume"])
     base_request["cycle"]["wash_basis"] = "bed volumes"
     assert "cycle.wash_basis" in errors_of(post(client, base_request))
+
+
+def test_an_end_criterion_the_chambers_reach_first_is_said(client):
+    # a flow end point the filtrate never falls to before the chambers fill was relabelled
+    # "chambers full" without a word (a second plant-engineer check)
+    import json as _json
+
+    from server.settings import PROJECT_ROOT
+
+    body = _json.loads((PROJECT_ROOT / "demo_cases" / "kaolin_pump_fed.json").read_text())["inputs"]
+    r = client.post("/api/v1/cycle", json=body).json()
+    assert r["at_end"]["end_reason"] == "flow" and not any("fill first" in w for w in r["warnings"])
+    body["cycle"]["end"] = {"criterion": "flow", "flow_per_area": "5 L/(m^2*h)"}
+    r = client.post("/api/v1/cycle", json=body).json()
+    assert r["at_end"]["end_reason"] == "chambers_full"
+    said = [w for w in r["warnings"] if "fill first" in w]
+    q = r["at_end"]["final_rate"]
+    assert said == [f"Filtration would end when the filtrate flow falls to 5 L/(m²·h) of filter area, but the "
+                    f"chambers fill first, with the filtrate still flowing at {q * 3600:.4g} m³/h "
+                    f"({q / r['derived']['filter_area'] * 3.6e6:.4g} L/(m²·h)): the cycle at your end criterion is "
+                    "the chambers-full cycle."], said
+    body["cycle"]["end"] = {"criterion": "time", "time": "10 h"}
+    r = client.post("/api/v1/cycle", json=body).json()
+    assert any(w.startswith("Filtration would end after 600 min of filtration, but the chambers fill first")
+               for w in r["warnings"])

@@ -774,7 +774,7 @@ def solve_cycle(
 
     feed_warnings = getattr(system.feed, "warnings", None)
     warnings = list(feed_warnings(system.filtration, press.filter_area)) if feed_warnings else []
-    warnings += _fill_warnings(best, press.fill_fraction, matched)
+    warnings += _fill_warnings(best, press.fill_fraction, matched) + _end_not_reached(end, reason, end_cycle, press)
     specs, spec_warnings = spec_report(family, best)
     warnings += spec_warnings + _through_wash_warning(family, best, press) + _squeeze_warning(system)
     return CycleSolution(
@@ -808,6 +808,28 @@ def _through_wash_warning(family: CycleFamily, best: CycleResult, press: Press) 
     return [f"Through-washing with chambers {100 * best.chamber_fill:.0f} % full: the wash plates wash a partly "
             "filled chamber unevenly (the wash short-cuts through the gap), so the wash time and solute "
             "removal shown are optimistic. Fill the chambers before washing, or wash the simple way."]
+
+
+def _end_not_reached(end: EndCriterion, reason: str, cycle: CycleResult, press: Press) -> list[str]:
+    """An end criterion (a time, a flow, a pressure) the cycle never reaches: the chambers fill
+    first, and the cycle "at your end criterion" is the chambers-full one, which says so."""
+    if end.criterion not in ("time", "flow", "pressure") or reason != LIMITED_BY_CHAMBERS:
+        return []
+    if end.criterion == "time":
+        what, there = f"after {end.time / 60:.4g} min of filtration", f"after {cycle.filtration_time / 60:.4g} min"
+    elif end.criterion == "pressure":
+        what, there = f"at a feed pressure of {in_bar(end.pressure)}", f"at {in_bar(cycle.final_pressure)}"
+    else:
+        if end.flow is not None:
+            what = f"when the filtrate flow falls to {end.flow * 3600:.4g} m³/h"
+        elif end.flow_per_area is not None:
+            what = f"when the filtrate flow falls to {end.flow_per_area * 3.6e6:.4g} L/(m²·h) of filter area"
+        else:
+            what = f"when the filtrate flow falls to {100 * end.flow_fraction:.3g} % of the first flow"
+        there = (f"with the filtrate still flowing at {cycle.final_rate * 3600:.4g} m³/h "
+                 f"({cycle.final_rate / press.filter_area * 3.6e6:.4g} L/(m²·h))")
+    return [f"Filtration would end {what}, but the chambers fill first, {there}: the cycle at your end "
+            "criterion is the chambers-full cycle."]
 
 
 def _squeeze_warning(system: PressSystem) -> list[str]:
@@ -955,7 +977,8 @@ def compare_thicknesses(
             chambers_full_volume=float(V_full[i]), matched_chamber_thickness=matched,
             throughput_gain_unconstrained=unconstrained[i].filtrate_throughput / best[i].filtrate_throughput - 1.0,
             curves={}, K_p=K_p, B=B, specs=specs,
-            warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched) + spec_warnings
+            warnings=shared + _fill_warnings(best[i], press.fill_fraction, matched)
+            + _end_not_reached(end, ends[i][1], end_cycle, press) + spec_warnings
             + _through_wash_warning(family, best[i], press),
             stage_order=family.treatment.order if family.treatment is not None else (
                 ("wash",) if family.wash_per_filtrate else ()),
