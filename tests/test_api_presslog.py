@@ -517,7 +517,11 @@ def test_a_flow_or_pressure_in_the_wrong_unit_is_said_loudly_and_not_calibrated(
     box = html.split('data-testid="log-checks"')[1].split("</div>")[0]
     assert "factor of 100 too large" in box and "rated pressure" in box
     assert html.count("factor of 100 too large") == 1
-    assert 'data-testid="log-checks"' not in client.post("/ui/press-log", json={**body, "csv": csv}).json()["html"]
+    good_page = client.post("/ui/press-log", json={**body, "csv": csv}).json()
+    assert 'data-testid="log-checks"' not in good_page["html"] and good_page["calibrated"] is True
+    # nothing to save from the slipped log: the page hides its save button (it answered "nothing to save")
+    page = client.post("/ui/press-log", json={**body, "csv": kpa}).json()
+    assert page["calibrated"] is False and "(the log as its headers read: see above)" in page["html"]
 
 
 def test_a_pressure_well_above_the_scenarios_is_said_once_in_bar(client):

@@ -35,7 +35,9 @@ async def post_press_log_ui(request: Request, log_request: PressLogRequest) -> d
     figs = presslog_figures(results)
     html = request.app.state.templates.get_template("_presslog_results.html").render(
         {"results": results, "cautions": CAUTIONS, "figure_keys": list(figs)})
-    return {"html": html, "figures": figs, "saved": results["saved"]}
+    # the page offers to save a calibrated copy only when the log gives one
+    return {"html": html, "figures": figs, "saved": results["saved"],
+            "calibrated": results["calibrated_inputs"] is not None}
 
 
 @pages.get("/press-log", response_class=HTMLResponse)

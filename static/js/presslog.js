@@ -157,7 +157,7 @@
     results.innerHTML = data.html;
     staleness.clear();
     window.presscycleCharts.plot(results, data.figures || {});
-    saveGroup.hidden = false;
+    saveGroup.hidden = data.calibrated === false; // nothing to save from a log whose units were slipped
     const secs = ((Date.now() - started) / 1000).toFixed(1);
     if (save && data.saved) {
       saveStatus.innerHTML = "";
