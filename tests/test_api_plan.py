@@ -276,3 +276,20 @@ def test_a_scenario_file_with_a_plan_imports_with_it(client):
     r = client.post("/api/v1/scenarios/import", json=body)
     assert r.status_code == 201, r.text
     assert client.get(f"/api/v1/scenarios/{r.json()['id']}").json()["plan"] == body["plan"]
+
+
+def test_a_shift_shorter_than_the_shortest_cycle_fits_none(client):
+    # a 30-min shift with a 3-min filling, a squeeze and the downtime was said to hold "1 cycle of
+    # 33.0 min" (a second plant-engineer check): the shortest cycle (no filtrate) is longer
+    inputs = copy.deepcopy(BASE_REQUEST)
+    inputs["cycle"].update(downtime="20 min", fill_time="12 min")
+    r = client.post("/api/v1/plan", json=plan_body(inputs=inputs, shift={"length": "30 min"}))
+    assert r.status_code == 422, r.text
+    detail = r.json()["detail"]
+    assert detail[0]["field"] == "shift.length" and detail[0]["msg"].startswith(
+        "a shift of 30 min is not longer than the shortest cycle (32 min: its filling, the stages after filtration "
+        "and the downtime): no cycle fits"), detail
+    # a shift that holds the shortest cycle: whole cycles, none longer than the shift
+    got = post_plan(client, plan_body(inputs=inputs, shift={"length": "40 min"}))
+    s = got["schedule"]
+    assert s["cycles_per_shift"] >= 1 and s["cycles_per_shift"] * s["cycle_time"] <= s["shift_length"] * (1 + 1e-9)

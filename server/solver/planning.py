@@ -145,7 +145,14 @@ def whole_cycle_schedule(family: CycleFamily, V_full: float, V_best: float, shif
     if not shift > t_d:
         raise SolverInputError("shift.length", f"a shift of {shift / 3600:.4g} h is not longer than the downtime "
                                f"of one cycle ({t_d / 60:.4g} min): no cycle fits")
-    n = np.arange(1, min(int(math.ceil(shift / t_d)), 100_000) + 1)
+    # the shortest cycle: no filtrate, but its filling, the stages after filtration and the
+    # downtime (a shift shorter than that fits no cycle: it was said to fit one longer than itself)
+    T_0 = float(np.asarray(family.cycle_time(np.zeros(1)), dtype=float).ravel()[0])
+    if not shift > T_0:
+        raise SolverInputError("shift.length", f"a shift of {shift / 60:.4g} min is not longer than the shortest "
+                               f"cycle ({T_0 / 60:.4g} min: its filling, the stages after filtration and the "
+                               "downtime): no cycle fits")
+    n = np.arange(1, min(int(math.ceil(shift / max(t_d, T_0))), 100_000) + 1)
     T_allowed = shift / n
     lo, hi = np.zeros(n.size), np.full(n.size, float(V_full))
     fits_full = family.cycle_time(hi) <= T_allowed
