@@ -15,6 +15,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from . import constant_pressure as cp
+from .curves import unit_steps
 from .cycle import CycleFamily, PressSystem, solve_cycle
 from .errors import SolverInputError
 from .washing import wash_rate_divisor, wash_time
@@ -145,14 +146,7 @@ def whole_cycle_schedule(family: CycleFamily, V_full: float, V_best: float, shif
     if not shift > t_d:
         raise SolverInputError("shift.length", f"a shift of {shift / 3600:.4g} h is not longer than the downtime "
                                f"of one cycle ({t_d / 60:.4g} min): no cycle fits")
-    # the shortest cycle: no filtrate, but its filling, the stages after filtration and the
-    # downtime (a shift shorter than that fits no cycle: it was said to fit one longer than itself)
-    T_0 = float(np.asarray(family.cycle_time(np.zeros(1)), dtype=float).ravel()[0])
-    if not shift > T_0:
-        raise SolverInputError("shift.length", f"a shift of {shift / 60:.4g} min is not longer than the shortest "
-                               f"cycle ({T_0 / 60:.4g} min: its filling, the stages after filtration and the "
-                               "downtime): no cycle fits")
-    n = np.arange(1, min(int(math.ceil(shift / max(t_d, T_0))), 100_000) + 1)
+    n = np.arange(1, min(int(math.ceil(shift / t_d)), 100_000) + 1)
     T_allowed = shift / n
     lo, hi = np.zeros(n.size), np.full(n.size, float(V_full))
     fits_full = family.cycle_time(hi) <= T_allowed
@@ -163,7 +157,16 @@ def whole_cycle_schedule(family: CycleFamily, V_full: float, V_best: float, shif
         if np.all(hi - lo <= 1e-13 * V_full):
             break
     V = np.where(fits_full, V_full, lo)
-    per_shift = n * V
+    # a count of cycles none of which fits (even the smallest cycle, with its filling, stages and
+    # downtime, is longer than S/n) is no schedule: a 30-min shift was said to hold one 33-min cycle
+    fits = fits_full | (lo > 0.0)
+    if not fits.any():
+        V_grid = float(V_full) * unit_steps(201)[1:]
+        shortest = float(np.min(family.cycle_time(V_grid)))
+        raise SolverInputError("shift.length", f"no cycle fits a shift of {shift / 60:.4g} min: the shortest "
+                               f"cycle this press runs takes about {shortest / 60:.3g} min (its filling, the "
+                               "stages after filtration and the downtime with it)")
+    per_shift = np.where(fits, n * V, -np.inf)
     k = int(np.argmax(per_shift))
     T_best = float(family.cycle_time(V_best))
     return ShiftSchedule(int(n[k]), float(V[k]), float(family.cycle_time(V[k])), float(per_shift[k] / shift),
