@@ -94,10 +94,20 @@ _WORDED = {
 }
 
 
+#: optional groups of inputs whose own fields are required once the group is given: a missing
+#: one says why ("required with an air blow"), not a bare "required" under a field marked optional
+_GROUPS = {"blow": "an air blow", "squeeze": "a membrane squeeze", "wash_model": "a wash model",
+           "wash_target": "a wash target", "cloth_wash": "a cloth wash", "cloth": "cloth wear",
+           "downtime_parts": "the downtime from its parts"}
+
+
 def clean(err: dict) -> dict:
     """One pydantic error in the app's words, with the path a person would write."""
     worded = _WORDED.get(err.get("type"))
     msg = _PLAIN.get(err.get("type")) or (worded(err.get("ctx") or {}) if worded else err.get("msg", "invalid"))
+    loc_in = err.get("loc", ())
+    if err.get("type") == "missing" and len(loc_in) >= 2 and loc_in[-2] in _GROUPS:
+        msg = f"required with {_GROUPS[loc_in[-2]]}"
     if msg.startswith("Value error, "):
         msg = msg[len("Value error, ") :]
     # Validators and the feed union add their own names to the path; people want fields.

@@ -231,3 +231,16 @@ def test_a_bare_reference_pressure_is_flagged_with_the_unit_it_was_likely_meant_
     body["cake"]["reference_pressure"] = "6 bar"
     assert "cake.reference_pressure" not in {w["field"] for w in client.post("/api/v1/cycle", json=body).json()[
         "input_warnings"]}
+
+
+def test_a_field_missing_from_an_optional_group_says_the_group_needs_it(client):
+    # a blow time alone showed a bare "required" under fields marked optional (a second
+    # plant-engineer check)
+    body = copy.deepcopy(BASE_REQUEST)
+    body["cycle"]["blow"] = {"time": "5 min"}
+    r = client.post("/api/v1/cycle", json=body)
+    assert r.status_code == 422
+    assert {d["field"]: d["msg"] for d in r.json()["detail"]} == {
+        "cycle.blow.curve": "required with an air blow", "cycle.blow.lab_thickness": "required with an air blow"}
+    # a top-level field is plainly required
+    assert _msg(client, lambda b: b.pop("medium_resistance"), "medium_resistance") == "required"

@@ -248,3 +248,11 @@ def test_a_bare_season_temperature_on_a_us_page_is_refused_asking_for_its_unit(c
     assert 'data-testid="plan-verdict"' in ok and "has no unit" not in ok
     si = client.get(HYDROXIDE, params={**params, "units": "si", "amount": "150 t/day"}).text  # bare = °C, as the hint says
     assert 'data-testid="plan-verdict"' in si
+
+
+def test_one_press_is_said_in_the_singular(client):
+    # "1 press like this one meet" and "Presses needed 1 presses" (a second plant-engineer check)
+    page = client.get(HYDROXIDE, params={"amount": "200 kg/h", "samples": "0", "spares": "0"}).text
+    assert _text(page, "plan-verdict").startswith("1 press like this one meets ")
+    tiles = " ".join(page.split('data-key="presses_needed"')[1].split("</div>")[0].split())
+    assert '<span class="num">1</span> <span class="unit">press</span>' in tiles, tiles
