@@ -173,7 +173,10 @@ def input_warnings(si, raw: dict, usual: dict = USUAL) -> list[dict]:
     Most requests have no unusual value: the SI values are looked at once, along the tree of
     USUAL's keys (on a model, its fields: no dict of the whole request is made), and only if one
     lies outside its range is the request as sent walked, key by key, for the units typed."""
-    if not _any_unusual(si, _TREES[id(usual)]):
+    tree = _TREES.get(id(usual))
+    if tree is None:  # a table other than the three above (built each time: tests, tools)
+        tree = _usual_tree(usual)
+    if not _any_unusual(si, tree):
         return []
     if isinstance(si, BaseModel):
         si = si.model_dump()
