@@ -309,7 +309,8 @@ def solve(inputs: CycleRequest, with_chart_series: bool = False) -> SolvedScenar
     with solver_errors():
         family = solver.cycle_family_for(system, inputs.compare_thicknesses)
         sol = solver.solve_cycle(system, end, family)
-        rows = solver.thickness_rows(system, inputs.compare_thicknesses, family, sol.unconstrained_optimum)
+        rows = solver.thickness_rows(system, inputs.compare_thicknesses, family, sol.unconstrained_optimum,
+                                     (sol.best, sol.chambers_full))
         series = solver.chart_series(family, system, sol) if with_chart_series else None
     derived = dict(built.derived)
     derived.update(

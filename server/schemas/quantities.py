@@ -5,6 +5,7 @@
 the allowed range in the field's units (never silently clamps).
 """
 
+from functools import lru_cache
 from typing import Annotated
 
 from pydantic import BeforeValidator, WithJsonSchema
@@ -114,7 +115,16 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
         return ((gt is None or si > gt) and (ge is None or si >= ge - TOLERANCE * abs(ge))
                 and (lt is None or si < lt) and (le is None or si <= le + TOLERANCE * abs(le)))
 
+    @lru_cache(maxsize=1024)
+    def parse_text(value: str) -> float:
+        return checked(value)  # a refusal raises, and is not kept
+
     def parse(value):
+        # the same strings ("7 bar", "58 %") come in request after request: each is read and
+        # range-checked once (issue 12: a request holds about twenty)
+        return parse_text(value) if type(value) is str else checked(value)
+
+    def checked(value):
         try:
             si = parse_quantity(value, kind)
         except UnitError as exc:

@@ -1003,7 +1003,8 @@ def _best_volumes(family: CycleFamily, press: Press, Ls: np.ndarray):
 
 
 def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None = None,
-                   optimum: CycleResult | None = None) -> list[tuple[float, CycleResult, CycleResult]]:
+                   optimum: CycleResult | None = None,
+                   own: tuple[CycleResult, CycleResult] | None = None) -> list[tuple[float, CycleResult, CycleResult]]:
     """(chamber thickness [m], best cycle, chambers-full cycle) at each thickness: what a
     thickness comparison shows. The same cycles as :func:`compare_thicknesses` gives (tested in
     tests/solver/test_cycle.py), without each thickness's end criterion and warnings.
@@ -1012,7 +1013,8 @@ def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None 
     same at every thickness but for how full its chambers are: it is worked out once and its
     fill set per thickness (issue 12: a comparison of six thicknesses in a few microseconds);
     ``optimum``, the system's unconstrained optimum from :func:`solve_cycle` with this family,
-    saves working it out again.
+    saves working it out again, and ``own``, its best and chambers-full cycles, the row of the
+    press's own thickness (the same press, so the same cycles).
     """
     thicknesses = [float(L) for L in thicknesses]
     if not thicknesses:
@@ -1036,6 +1038,9 @@ def thickness_rows(system: PressSystem, thicknesses, family: CycleFamily | None 
     optimum = (optimum or family.result(press, V_star, LIMITED_BY_OPTIMUM)).__dict__
     rows = []
     for L in thicknesses:
+        if own is not None and L == press.chamber_thickness:
+            rows.append((L, *own))
+            continue
         at_L = press.with_thickness(L)
         full = family.result(at_L, at_L.chambers_full_volume(v), LIMITED_BY_CHAMBERS)
         if float(family.best_volume(full.filtrate_volume)) == V_star:  # as solve_cycle chooses

@@ -527,6 +527,8 @@ CAKE_BASIS_Z_MAX = 350.0
 #: a Newton step in z below this is the last one taken (quadratic convergence: the next error
 #: is of its square)
 CAKE_BASIS_Z_TOL = 1e-10
+#: an array's Newton steps stop once the next step's bound is below this share of z's scale
+CAKE_BASIS_Z_ROUND_OFF = 1e-16
 
 
 @lru_cache(maxsize=64)
@@ -614,6 +616,9 @@ class CakeBasisPressureCurve:
         self.s = float(compressibility)
         self.r = 1.0 - self.s
         self._rules = _cake_basis_rules(self.r)
+        # a Newton step in z of d leaves an error of at most s/(8 r) d^2: a step whose square is
+        # below this share of z's scale is the last one needed (see _z_of_array)
+        self._last_step = CAKE_BASIS_Z_ROUND_OFF * 8.0 * self.r / self.s if self.s > 0.0 else math.inf
         self._last = (None, 0.0, 1.0)  # (V, phi, psi) of the last scalar volume
         self._last_array = (None, None, None)  # the same of the last read-only array
 
@@ -632,7 +637,8 @@ class CakeBasisPressureCurve:
                 e = math.exp(-z)
                 step = (z + s * math.log1p(e) - ly) * (1.0 + e) / (1.0 + r * e)
             z -= step
-            if abs(step) <= CAKE_BASIS_Z_TOL * (1.0 + abs(z)):
+            # the next step would be at most s/(8 r) step^2 (see _z_of_array): below round-off
+            if abs(step) <= CAKE_BASIS_Z_TOL * (1.0 + abs(z)) or step * step <= self._last_step * (1.0 + abs(z)):
                 break
         return z
 
@@ -645,7 +651,10 @@ class CakeBasisPressureCurve:
         s, r = self.s, self.r
         z = ly / r
         np.minimum(z, ly, out=z)  # ly/r below 0, ly above
-        tol = CAKE_BASIS_Z_TOL * (1.0 + max(-float(z.min(initial=0.0)), float(z.max(initial=0.0))))
+        # Newton's error after a step d is at most G''/(2 G') d^2 <= s/(8 r) d^2 (G' >= r,
+        # G'' <= s/4): once that is below round-off of z the step just taken was the last needed
+        scale = 1.0 + max(-float(z.min(initial=0.0)), float(z.max(initial=0.0)))
+        tol = max(CAKE_BASIS_Z_TOL * scale, math.sqrt(self._last_step * scale))
         G, ez = np.empty_like(z), np.empty_like(z)
         for _ in range(CAKE_BASIS_NEWTON_STEPS):
             np.exp(z, out=ez)

@@ -266,7 +266,8 @@ def test_the_comparison_at_once_equals_one_solve_per_thickness(feed_kind, end):
     criterion = EndCriterion() if end is None else (
         EndCriterion(end[0]) if end[1] is None else EndCriterion(**{"criterion": end[0].split("_")[0], end[0]: end[1]}))
     L_match = solve_cycle(system).matched_chamber_thickness
-    Ls = [0.25 * L_match, 0.7 * L_match, L_match, 1.6 * L_match, 0.012, 0.05]
+    # (and the press's own thickness, whose row the API's solve takes from solve_cycle)
+    Ls = [0.25 * L_match, 0.7 * L_match, L_match, 1.6 * L_match, 0.012, 0.05, system.press.chamber_thickness]
     family = cycle_family_for(system, Ls)
     for L, sol in compare_thicknesses(system, Ls, criterion, family):
         alone = solve_cycle(PressSystem(system.filtration, system.press.with_thickness(L), feed, system.cycle),
@@ -305,13 +306,17 @@ def test_the_rows_a_comparison_shows_are_its_best_and_chambers_full_cycles(feed_
     system = PressSystem(base.filtration, base.press, feed, cycle)
     L_match = solve_cycle(system).matched_chamber_thickness
     # thicknesses below, at and above the optimum's match: the best is the optimum or full chambers
-    Ls = [0.25 * L_match, 0.7 * L_match, L_match, 1.6 * L_match, 0.012, 0.05]
+    # (and the press's own thickness, whose row the API's solve takes from solve_cycle)
+    Ls = [0.25 * L_match, 0.7 * L_match, L_match, 1.6 * L_match, 0.012, 0.05, system.press.chamber_thickness]
     family = cycle_family_for(system, Ls)
     rows = thickness_rows(system, Ls, family)
     full = compare_thicknesses(system, Ls, family=family)
     assert [r[0] for r in rows] == [L for L, _ in full] == Ls
     # given the optimum solve_cycle found (as the API's solve passes it), the same rows
-    assert thickness_rows(system, Ls, family, solve_cycle(system, None, family).unconstrained_optimum) == rows
+    sol = solve_cycle(system, None, family)
+    assert thickness_rows(system, Ls, family, sol.unconstrained_optimum) == rows
+    # and given its best and chambers-full cycles too: the own thickness's row is those cycles
+    assert thickness_rows(system, Ls, family, sol.unconstrained_optimum, (sol.best, sol.chambers_full)) == rows
     kinds = set()
     for (_, best, chambers_full), (_, sol) in zip(rows, full, strict=True):
         assert best == sol.best and chambers_full == sol.chambers_full  # every field, exactly
