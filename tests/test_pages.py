@@ -37,6 +37,14 @@ def test_each_demo_page_shows_figures_with_units_and_the_caution(client, demo):
     assert "Caution" in pane
 
 
+def test_the_wash_time_figure_shows_only_for_a_cycle_with_a_wash(client):
+    # a "Wash time 0 min" tile on an unwashed cake read as a wash of no length (common practice, no source)
+    washed = results_pane(client.get("/demo/iron_oxide_pigment").text)
+    unwashed = results_pane(client.get("/demo/copper_concentrate").text)
+    assert 'data-key="wash_time"' in washed and 'data-key="filtration_time"' in unwashed
+    assert 'data-key="wash_time"' not in unwashed
+
+
 def test_unknown_demo_is_a_404_page(client):
     r = client.get("/demo/no-such-case")
     assert r.status_code == 404

@@ -50,7 +50,28 @@ def test_plan_page_of_a_saved_plan_shows_the_api_answer(client, saved):
 def test_a_mistake_in_the_form_is_shown_in_words_at_its_field(client, saved):
     r = client.get(f"/s/{saved}/plan", params={"amount": "120 t/day", "availability": "140 %"})
     assert r.status_code == 200
-    assert 'data-testid="plan-error"' in r.text and "target.availability" in r.text and "at most" in r.text
+    # under its own field, named as the form names it (the API's path "target.availability" was shown
+    # under the Plan button: a plant-engineer check)
+    msg = _text(r.text, "plan-error")
+    assert msg.startswith("Availability: ") and "at most" in msg and "target.availability" not in r.text
+    field = r.text[r.text.index('id="f-availability"'):r.text.index('data-testid="plan-error"')]
+    assert 'aria-invalid="true"' in field and 'aria-describedby="e-availability"' in field
+    assert "</fieldset>" not in field  # inside the form, at the field
+    # a season temperature is named by its place in the list
+    r = client.get(f"/s/{saved}/plan", params={"amount": "120 t/day", "temperatures": "8; 20; 200"})
+    assert _text(r.text, "plan-error").startswith("Season temperatures (temperature 3 in the list): ")
+
+
+def test_a_refusal_of_the_scenarios_own_inputs_is_named_among_them():
+    from server.routers.plan import _place_errors, form_field
+
+    assert form_field(("body", "target", "slurry_per_day")) == ("amount", "")
+    assert form_field(("body", "shift", "length")) == ("shift", "")
+    assert form_field(("body", "inputs", "press", "chambers")) == (None, "")
+    context = {}
+    _place_errors(context, [(("body", "inputs", "press", "chambers"), "too many"), (("body", "seed"), "a number")])
+    assert context["errors"] == [("The scenario's press.chambers", "too many")]
+    assert context["field_errors"] == {"seed": [("Seed", "a number")]}
 
 
 def test_without_a_target_the_page_shows_the_form_only(client):
@@ -152,7 +173,7 @@ def test_a_target_typed_without_a_unit_is_refused_on_the_page_with_its_unit_aske
     assert r.status_code == 200 and "plan-results" not in r.text
     msg = _text(r.text, "plan-error")
     # 1e5 kg/s = 8.64e6 t/day; 100 m³/s = 8.64e6 m³/day (86,400 s a day)
-    assert msg == (f"target.{basis}: 150 has no unit: write the target with its unit, such as \"150 {unit}\" of "
+    assert msg == (f"Target per calendar day: 150 has no unit: write the target with its unit, such as \"150 {unit}\" of "
                    f"{'dry solids' if basis.startswith('dry') else 'slurry'} per calendar day (allowed: above 0 and "
                    f"at most 8.640×10⁶ {unit})")
     us = client.get(HYDROXIDE, params={"amount": "150", "samples": "0", "units": "us"})

@@ -181,7 +181,8 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
     else:
         form = form_from_scenario_target(inputs)
     context = {"title": title, "form": form, "fields": FORM_FIELDS, "bases": BASES, "back": back,
-               "plan": None, "errors": [], "figures": "{}", "u": Units(units), "inputs_json": json.dumps(inputs),
+               "plan": None, "errors": [], "field_errors": {}, "figures": "{}", "u": Units(units),
+               "inputs_json": json.dumps(inputs),
                "plan_json": "", "parent_id": parent_id or "", "saved_plan": saved_plan, "cautions": CAUTIONS}
     # a plan is worked out when asked for (the form sent) or saved; a scenario's own target
     # only fills the form
@@ -195,9 +196,9 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
             req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
             result = await within_budget(request, make_plan, req)
         except ValidationError as exc:
-            context["errors"] = [(_where(loc), msg) for loc, msg in InputError.from_validation(exc, ()).errors]
+            _place_errors(context, InputError.from_validation(exc, ()).errors)
         except InputError as exc:
-            context["errors"] = [(_where(loc), msg) for loc, msg in exc.errors]
+            _place_errors(context, exc.errors)
         else:
             context["plan"] = result
             figures = plan_figures(result, Units(units))
@@ -208,6 +209,47 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
 
 def _where(loc) -> str:
     return ".".join(str(p) for p in loc if p != "body") or "plan"
+
+
+#: the plan request's fields (under "body") that a form field of the page fills
+_FORM_OF = {("target", key): key for key in ("hours_per_day", "days_per_week", "availability", "margin",
+                                              "pump_efficiency")}
+_FORM_OF.update({("target", key): "amount" for key, _ in BASES})
+_FORM_OF.update({(key,): key for key in ("spares", "samples", "seed", "shift", "temperatures")})
+_FORM_OF[("target",)] = "amount"
+
+
+def form_field(loc) -> tuple[str | None, str]:
+    """The form field a refusal concerns (None: not one of the form's, such as the scenario's
+    own inputs) and the rest of its place in words (the temperature's number in the list)."""
+    path = tuple(p for p in loc if p != "body")
+    for k in (2, 1):
+        name = _FORM_OF.get(path[:k])
+        if name is not None:
+            rest = path[k:]
+            if name == "temperatures" and rest and isinstance(rest[0], int):
+                return name, f"temperature {rest[0] + 1} in the list"
+            if name == "shift" and rest and rest[0] == "whole_cycles":
+                return name, "whole cycles only"
+            return name, ""
+    return None, ""
+
+
+def _place_errors(context: dict, errors) -> None:
+    """A refusal at the form field it concerns, in the field's words (the page named the API's
+    path, "target.availability", under the Plan button: a plant-engineer check); one about the
+    scenario's own inputs under the form, with its path among them."""
+    labels = {name: label for name, label, _ in FORM_FIELDS}
+    at_fields, rest = {}, []
+    for loc, msg in errors:
+        name, detail = form_field(loc)
+        if name is None:
+            where = _where(loc)
+            rest.append(("The scenario's " + where.removeprefix("inputs.") if where.startswith("inputs.") else where,
+                         msg))
+        else:
+            at_fields.setdefault(name, []).append((labels[name] + (f" ({detail})" if detail else ""), msg))
+    context["errors"], context["field_errors"] = rest, at_fields
 
 
 @pages.get("/s/{sid}/plan", response_class=HTMLResponse)
