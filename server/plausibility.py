@@ -300,13 +300,15 @@ _SI_SPELLING = {"density": "kg/m^3", "viscosity": "Pa*s", "specific_resistance":
 
 
 def _in_typed_unit(typed, value: float, kind: str) -> str:
+    from .forms import pretty_unit
+
     given = user_unit(typed, kind)
     if given is not None:
         unit, to_user = given
-        return f"{to_user(value):.4g} {unit}"
+        # in the unit typed, written as the range beside it is ("m²", not "m^2": a plant-engineer check)
+        return f"{to_user(value):.4g} {pretty_unit(kind, unit)}"
     if kind == "fraction":
         return f"{value:.4g}"
-    from .forms import pretty_unit
     from .units import parse_quantity
 
     unit = _SI_SPELLING[kind]  # a bare number's unit: SI, or °C for a temperature

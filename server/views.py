@@ -40,6 +40,30 @@ def fmt(value, digits: int = 3) -> str:
     return f"{value:,.{decimals}f}"
 
 
+def fmt_error(value, digits: int = 2) -> str:
+    """A standard error (the "± x" beside a figure) to ``digits`` significant figures at any
+    size: "4.2×10⁵", not "424,809" (fmt writes every digit of a number below a million, right
+    for a figure, not for its uncertainty: a plant-engineer check).
+
+    >>> fmt_error(424809.3), fmt_error(0.01234), fmt_error(87.6), fmt_error(None)
+    ('4.2×10⁵', '0.012', '88', '–')
+    """
+    if not isinstance(value, int | float) or not math.isfinite(value) or value == 0:
+        return fmt(value, digits)
+    if abs(value) >= 10 ** digits:
+        return power_of_ten(value, digits)
+    return fmt(value, digits)
+
+
+def fmt_degrees(value) -> str:
+    """A temperature in degrees to a tenth, a whole one without its ".0": "8", "46.4" (fmt
+    wrote 8 °C as "8.00", three figures of a number below ten: a plant-engineer check)."""
+    if not isinstance(value, int | float) or not math.isfinite(value):
+        return fmt(value)
+    text = f"{round(value, 1):,.1f}".removesuffix(".0")
+    return "0" if text == "-0" else text
+
+
 PLOTLY_URL = "/vendor/plotly.min.js"
 
 
@@ -73,6 +97,8 @@ def when(iso: str) -> Markup:
 
 def register_filters(env, static_root) -> None:
     env.filters["fmt"] = fmt
+    env.filters["fmt_error"] = fmt_error
+    env.filters["fmt_degrees"] = fmt_degrees
     env.filters["when"] = when
     env.filters["page_json"] = page_json
     env.globals["static_url"] = StaticUrls(static_root)

@@ -375,6 +375,8 @@ def input_flags(data):
     ({"pressure": "3 kPa"}, "tests.0.pressure", ["3 kPa is outside the usual 20–2000 kPa",
                                                  "factor of 10 too small for the usual range: check the unit"]),
     ({"viscosity": "0.8937 Pa*s"}, "tests.0.viscosity", ["factor of 1000 too large"]),
+    # the unit typed is written as the range is (it read "2.5 m^2 is outside the usual 0.001–0.05 m²")
+    ({"area": "2.5 m^2"}, "tests.0.area", ["2.5 m² is outside the usual 0.001–0.05 m²"]),
 ])
 def test_lab_inputs_outside_the_usual_range_are_flagged_and_calculated_as_given(client, change, field, words):
     r = post(client, {"tests": [{**EXAMPLE, **change}], **TEXTBOOK})

@@ -94,3 +94,20 @@ def test_temperatures_show_in_celsius_or_fahrenheit():
     assert [Units("si").temperature(k) for k in kelvin] == pytest.approx([0.0, 100.0, -40.0], abs=1e-12)
     assert [Units("us").temperature(k) for k in kelvin] == pytest.approx([32.0, 212.0, -40.0], abs=1e-12)
     assert (Units("si").temperature_label, Units("us").temperature_label) == ("°C", "°F")
+
+
+def test_a_standard_error_is_written_to_two_figures_at_any_size():
+    # the press log's plant fit showed "2.00×10¹¹ ± 424,809 m/kg" (a plant-engineer check)
+    from server.views import fmt_error
+
+    assert fmt_error(424809.3) == "4.2×10⁵" and fmt_error(4.24e10) == "4.2×10¹⁰"
+    assert fmt_error(87.6) == "88" and fmt_error(0.01234) == "0.012" and fmt_error(3.0) == "3.0"
+    assert fmt_error(None) == "–" and fmt_error(0.0) == "0"
+
+
+def test_a_temperature_is_written_to_a_tenth_of_a_degree():
+    # the plan's seasons read "8.00 °C" (three figures of a number below ten: a plant-engineer check)
+    from server.views import fmt_degrees
+
+    assert fmt_degrees(281.15 - 273.15) == "8" and fmt_degrees(46.4) == "46.4" and fmt_degrees(-0.04) == "0"
+    assert fmt_degrees(-12.26) == "-12.3" and fmt_degrees(1832.0) == "1,832" and fmt_degrees(None) == "–"

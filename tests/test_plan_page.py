@@ -214,7 +214,8 @@ def test_the_headline_names_a_season_shortfall_and_no_probability_without_uncert
     verdict = _text(r.text, "plan-verdict")
     # the seasons table's own figures: 4 presses at 12 °C and 25 °C, 3 planned (+1 spare)
     assert verdict.startswith("3 presses like this one meet")
-    assert ("Not in every season: at 12.0 and 25.0 °C the slurry needs 4 presses, more than the 3 planned: "
+    # (whole degrees without ".0": "12.0" and "8.00" read as more precise than typed)
+    assert ("Not in every season: at 12 and 25 °C the slurry needs 4 presses, more than the 3 planned: "
             "the spare would have to run then (see Seasons).") in verdict
     assert "samples" not in verdict and "No input is uncertain" in r.text
     # nor percentiles and a histogram of samples that do not spread (all P10 = P50 = P90)
@@ -232,7 +233,7 @@ def test_us_units_show_season_temperatures_in_fahrenheit_and_the_page_switches_u
     # typed with their unit (a bare number on a US page is refused: see below)
     r = client.get(HYDROXIDE, params={**SEASONS, "temperatures": "12 °C; 25 °C; 38 °C", "units": "us"})
     verdict = _text(r.text, "plan-verdict")
-    assert "at 53.6 and 77.0 °F" in verdict  # 12 °C and 25 °C: °F = 1.8 °C + 32 (exact)
+    assert "at 53.6 and 77 °F" in verdict  # 12 °C and 25 °C: °F = 1.8 °C + 32 (exact)
     assert "°C" not in r.text.split('data-testid="plan-results"')[1].split("What to measure next")[0]
     assert '<input type="radio" name="units" value="us" checked>' in r.text
     si = client.get(HYDROXIDE, params=SEASONS).text

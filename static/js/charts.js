@@ -64,7 +64,14 @@
   function fit(el) {
     const w = el.clientWidth;
     if (!window.Plotly || !el._fullLayout || w <= 0 || Math.abs(el._fullLayout.width - w) < 1) return;
-    window.Plotly.newPlot(el, el.data, Object.assign({}, el.layout, { width: w }), { displaylogo: false });
+    window.Plotly.newPlot(el, el.data, Object.assign({}, el.layout, { width: w }), options(w));
+  }
+
+  /** plotly's options: on a phone-wide chart no tool bar, which it shows over the legend row at
+   *  the top right (a plant-engineer check at 390 px); a finger zooms and pans the chart itself,
+   *  and the CSV button below each chart stays. */
+  function options(width) {
+    return width < 600 ? { displaylogo: false, displayModeBar: false } : { displaylogo: false };
   }
 
   function fitAll() {
@@ -90,7 +97,7 @@
       showTitle(el, layout);
       delete layout.title;
       if (el.clientWidth > 0) layout.width = el.clientWidth;
-      window.Plotly.newPlot(el, fig.data, layout, { displaylogo: false });
+      window.Plotly.newPlot(el, fig.data, layout, options(el.clientWidth));
       if (observer) {
         observer.observe(el);
         observed.add(el);

@@ -169,6 +169,21 @@ def test_no_horizontal_scroll_and_no_chart_label_over_another(page, saved_ids, s
     clean(page)
 
 
+@pytest.mark.parametrize("width", [1280, 390])
+def test_a_phone_wide_chart_has_no_tool_bar_over_its_legend(page, width):
+    # plotly's tool bar sat over the press log's legend row at 390 px (a plant-engineer check): a
+    # phone-wide chart is drawn without it (a finger zooms and pans), a wide one keeps it
+    page.set_viewport_size({"width": width, "height": 900})
+    page.goto(page.base + "/demo/copper_concentrate")
+    wait_charts(page, 4)
+    chart = page.locator(".js-plotly-plot").first
+    chart.scroll_into_view_if_needed()
+    chart.hover()  # plotly builds its tool bar when the pointer first comes over a chart
+    page.wait_for_timeout(300)
+    assert chart.locator(".modebar").count() == (0 if width == 390 else 1)
+    clean(page)
+
+
 @pytest.mark.parametrize("kind,width", [("saved", 1280), ("editor", 1024), ("compare", 390), ("lab", 1024)])
 def test_print_shows_full_width_charts_and_no_controls(page, saved_ids, shots, kind, width):
     page.set_viewport_size({"width": width, "height": 900})

@@ -2,6 +2,7 @@
 the exact model), fitted, drawn, and saved as a calibrated copy whose parent is the scenario."""
 
 import json
+import re
 import urllib.request
 
 import pytest
@@ -35,7 +36,11 @@ def test_fit_a_log_draw_it_and_save_a_calibrated_copy(page):
     page.click("#analyse")
     page.wait_for_selector("[data-testid=presslog-results]")
     assert "30 cycles found" in page.locator("[data-testid=presslog-found]").inner_text()
-    assert page.locator("[data-testid=plant-alpha]").inner_text().startswith("2.00×10¹¹")  # alpha 2.00e11 m/kg
+    alpha = page.locator("[data-testid=plant-alpha]").inner_text()
+    assert alpha.startswith("2.00×10¹¹")  # alpha 2.00e11 m/kg
+    # its standard error to two figures, as the figure is written ("± 424,809 m/kg" read as a precise
+    # figure: a plant-engineer check)
+    assert re.search(r"± \d\.\d×10[⁰¹²³⁴⁵⁶⁷⁸⁹]+ m/kg", alpha), alpha
     assert page.locator("[data-testid=wash-interval] .num").inner_text().isdigit()
     assert "Caution" in page.locator(".results .caution").inner_text()
     page.wait_for_function("document.querySelectorAll('.chart .plot .main-svg').length >= 5")
