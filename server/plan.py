@@ -336,7 +336,7 @@ def make_plan(req: PlanRequest) -> dict:
                            "this one: check the target, its units and the press")])
     shift_factor = Q_plan / Q_best
     presses = planning.presses_needed(required, Q_plan)
-    seasons = [_season(req, basis, T, required, shift_factor, presses) for T in req.temperatures]
+    seasons = [_season(req, basis, T, i, required, shift_factor, presses) for i, T in enumerate(req.temperatures)]
     with plan_errors():
         energy = planning.feed_energy(family, best.filtrate_volume, t.pump_efficiency)
     warnings = []
@@ -363,12 +363,18 @@ def make_plan(req: PlanRequest) -> dict:
     return plan
 
 
-def _season(req, basis, T, required, shift_factor, presses) -> dict:
-    """The best cycle at a season's slurry temperature (viscosity and density of water there)."""
+def _season(req, basis, T, index, required, shift_factor, presses) -> dict:
+    """The best cycle at a season's slurry temperature (viscosity and density of water there).
+    A refusal there is the season's temperature's (the ``index``-th of the plan's list), not the
+    scenario's own temperature, which solved (a review)."""
     slurry = req.inputs.slurry.model_copy(update={"temperature": T, "viscosity": None})
-    b = _build(req.inputs.model_copy(update={"slurry": slurry}))
-    with plan_errors():
-        best = solver.solve_cycle(b.system, solver.EndCriterion(), with_curves=False).best
+    try:
+        b = _build(req.inputs.model_copy(update={"slurry": slurry}))
+        with plan_errors():
+            best = solver.solve_cycle(b.system, solver.EndCriterion(), with_curves=False).best
+    except InputError as exc:
+        raise InputError([(("body", "temperatures", index), f"at this slurry temperature: {msg}")
+                          for _, msg in exc.errors]) from None
     Q = basis.of(best.solids_throughput, best.filtrate_throughput, _slurry_solids(b.derived))
     n = planning.presses_needed(required, Q * shift_factor)
     return {"temperature": T, "viscosity": b.derived["viscosity"], "throughput": Q, "presses_needed": n,

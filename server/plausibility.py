@@ -251,7 +251,7 @@ def _unusual(key: str, value: float, typed, low: float, high: float) -> str:
         usual = usual_range(key, "" if kind == "fraction" else _SI_SPELLING.get(kind))
     message = f"{shown} is outside the usual {usual}; it was calculated as given."
     # a bare number: the unit it would be usual in says more than a factor of ten
-    slip = (None if given else _bare_meant(key, typed, low, high)) or _slip(typed, value, low, high)
+    slip = (None if given else _bare_meant(key, typed, low, high)) or slip_hint(typed, value, low, high)
     return message + (" " + slip if slip else "")
 
 
@@ -317,7 +317,7 @@ def _in_typed_unit(typed, value: float, kind: str) -> str:
     return f"{(value - zero) / (one - zero):.4g} {pretty_unit(kind, unit)} (a bare number is in {where})"
 
 
-def _slip(typed, value: float, low: float, high: float) -> str | None:
+def slip_hint(typed, value: float, low: float, high: float) -> str | None:
     """What the value would be if it were a common slip, when that lands in the usual range.
 
     Only a value well outside the range (SLIP_MARGIN) is suspected: 35 bar is unusual, not a slip.

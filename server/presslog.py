@@ -20,7 +20,7 @@ import numpy as np
 from . import solver
 from .errors import InputError
 from .labdata import _HEADER, CsvError, _sep_name, _separator
-from .plausibility import SLIP_MARGIN, USUAL, _slip, usual_range
+from .plausibility import SLIP_MARGIN, USUAL, slip_hint, usual_range
 from .scenarios import save, validate_inputs
 from .schemas.presslog import PressLogRequest
 from .solve import CAUTIONS, build_system, first_non_finite, solve
@@ -415,7 +415,7 @@ def _log_checks(log: Log, fits, sel, used_numbers, inputs, V_full: float, v: flo
         withhold = True
         far = p_top > SLIP_MARGIN * high if p_max > SLIP_MARGIN * high else p_top < low / SLIP_MARGIN
         shown = p_max if p_max > SLIP_MARGIN * high else p_med
-        slip = _slip(None, shown, low, high) or "check the column's unit."
+        slip = slip_hint(None, shown, low, high) or "check the column's unit."
         again = _reread(shown, "pressure", cell, lambda p: 0.0 if low / 3 <= p <= high else 1.0)
         reread = f" Read as {again[0]}, it would be {again[1] / 1e5:.3g} bar." if again else ""
         warnings.append(

@@ -45,11 +45,12 @@ def fmt_error(value, digits: int = 2) -> str:
     size: "4.2×10⁵", not "424,809" (fmt writes every digit of a number below a million, right
     for a figure, not for its uncertainty: a plant-engineer check).
 
-    >>> fmt_error(424809.3), fmt_error(0.01234), fmt_error(87.6), fmt_error(None)
-    ('4.2×10⁵', '0.012', '88', '–')
+    >>> fmt_error(424809.3), fmt_error(0.01234), fmt_error(87.6), fmt_error(99.6), fmt_error(None)
+    ('4.2×10⁵', '0.012', '88', '1.0×10²', '–')
     """
     if not isinstance(value, int | float) or not math.isfinite(value) or value == 0:
         return fmt(value, digits)
+    value = float(f"{value:.{digits - 1}e}")  # rounded first: 99.6 is "1.0×10²", like 100
     if abs(value) >= 10 ** digits:
         return power_of_ten(value, digits)
     return fmt(value, digits)

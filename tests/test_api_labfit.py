@@ -435,3 +435,12 @@ def test_slurry_and_cake_data_given_two_ways_at_once_are_refused(client):
     assert any("moisture" in m and "wet_to_dry_ratio" in m for m in msgs.values()), msgs
     one_each = {**test, "solids_mass_fraction": 0.1, "wet_to_dry_ratio": 2.5}
     assert post(client, {"tests": [one_each], **TEXTBOOK}).status_code == 200
+
+
+def test_the_lab_page_names_one_test_pressure_once(client):
+    # "tests from 3.00 to 3.00 bar" for tests at one pressure (a plant-engineer check)
+    one = client.post("/ui/lab-fit", json={"tests": [{**EXAMPLE, "pressure": "3 bar"}], **TEXTBOOK}).json()["html"]
+    two = client.post("/ui/lab-fit", json={"tests": [{**EXAMPLE, "pressure": "3 bar"},
+                                                     {**PROBLEM, "pressure": "6 bar"}], **TEXTBOOK}).json()["html"]
+    assert "tests at 3.00 bar." in one and "tests from" not in one
+    assert "tests from 3.00 to 6.00 bar." in two

@@ -293,3 +293,22 @@ def test_a_shift_shorter_than_the_shortest_cycle_fits_none(client):
     got = post_plan(client, plan_body(inputs=inputs, shift={"length": "40 min"}))
     s = got["schedule"]
     assert s["cycles_per_shift"] >= 1 and s["cycles_per_shift"] * s["cycle_time"] <= s["shift_length"] * (1 + 1e-9)
+
+
+def test_a_refusal_at_a_season_temperature_is_that_temperatures(client, monkeypatch):
+    # a season's temperature that the scenario cannot be solved at was refused at the scenario's
+    # own slurry temperature, which solved (a review): it is the plan's temperatures[i]
+    import server.plan as plan
+    from server.errors import InputError
+
+    build = plan._build
+
+    def refusing(inputs):
+        if inputs.slurry.temperature == pytest.approx(273.15 + 50):
+            raise InputError([(("body", "inputs", "slurry", "temperature"), "the solids would dissolve")])
+        return build(inputs)
+
+    monkeypatch.setattr(plan, "_build", refusing)
+    detail = post_plan(client, plan_body(temperatures=[8, 50, 30]), status=422)["detail"]
+    assert [(d["field"], d["msg"]) for d in detail] == [
+        ("temperatures.1", "at this slurry temperature: the solids would dissolve")]

@@ -103,6 +103,8 @@ def test_a_standard_error_is_written_to_two_figures_at_any_size():
     assert fmt_error(424809.3) == "4.2×10⁵" and fmt_error(4.24e10) == "4.2×10¹⁰"
     assert fmt_error(87.6) == "88" and fmt_error(0.01234) == "0.012" and fmt_error(3.0) == "3.0"
     assert fmt_error(None) == "–" and fmt_error(0.0) == "0"
+    # rounded before the form is chosen: 99.6 reads as 100 does, 9.96 as 10 (a review)
+    assert fmt_error(99.6) == fmt_error(100.0) == "1.0×10²" and fmt_error(9.96) == "10"
 
 
 def test_a_temperature_is_written_to_a_tenth_of_a_degree():

@@ -132,3 +132,13 @@ def test_api_page_describes_every_route_without_a_cdn(client):
         assert path in html
     assert "CycleRequest" in html and "medium_resistance" in html
     assert client.get("/docs").status_code == 404  # FastAPI's viewer would load from a CDN
+
+
+def test_the_lab_pages_name_boxes_bring_up_a_keyboard_for_words(client):
+    # a phone showed a number pad for a test's name (inputmode "decimal" on every box: a plant-engineer
+    # check); the boxes for figures keep it
+    page = client.get("/lab").text
+    names = re.findall(r'<input type="text" data-name="name"[^>]*>', page)
+    figures = re.findall(r'<input type="text" data-name="pressure"[^>]*>', page)
+    assert names and all("inputmode" not in box for box in names)
+    assert figures and all('inputmode="decimal"' in box for box in figures)

@@ -2,6 +2,7 @@
 read as the API reads it, mistakes shown in words, plan inputs saved with a scenario."""
 
 import copy
+import re
 
 import pytest
 
@@ -59,7 +60,17 @@ def test_a_mistake_in_the_form_is_shown_in_words_at_its_field(client, saved):
     assert "</fieldset>" not in field  # inside the form, at the field
     # a season temperature is named by its place in the list
     r = client.get(f"/s/{saved}/plan", params={"amount": "120 t/day", "temperatures": "8; 20; 200"})
-    assert _text(r.text, "plan-error").startswith("Season temperatures (temperature 3 in the list): ")
+    msg = _text(r.text, "plan-error")
+    assert msg.startswith("Season temperatures (temperature 3 in the list): ")
+    assert "200 °C" in msg and "degC" not in msg  # the page's spelling, not the parser's
+
+
+def test_a_target_without_its_unit_is_refused_with_the_forms_other_mistakes(client, saved):
+    # the missing unit was the only refusal shown, the others came one by one as the form was sent
+    # again (a plant-engineer check)
+    r = client.get(f"/s/{saved}/plan", params={"amount": "150", "availability": "140 %", "spares": "-1"})
+    fields = re.findall(r'data-testid="plan-error" data-field="(\w+)"', r.text)
+    assert sorted(fields) == ["amount", "availability", "spares"] and "plan-results" not in r.text
 
 
 def test_a_refusal_of_the_scenarios_own_inputs_is_named_among_them():
@@ -278,3 +289,20 @@ def test_one_press_is_said_in_the_singular(client):
     assert _text(page, "plan-verdict").startswith("1 press like this one meets ")
     tiles = " ".join(page.split('data-key="presses_needed"')[1].split("</div>")[0].split())
     assert '<span class="num">1</span> <span class="unit">press</span>' in tiles, tiles
+
+
+def test_the_seasons_note_agrees_in_number_with_one_planned_press(client):
+    # "whether the 1 planned press (without the spare) meet the target" (a plant-engineer check)
+    page = client.get("/demo/copper_concentrate/plan", params={"amount": "120 t/day", "temperatures": "8; 20; 32",
+                                                              "samples": "0"}).text
+    assert "whether the 1 planned press (without the spare) meets the target" in " ".join(page.split())
+
+
+def test_the_shift_sentence_gives_its_cost_to_two_figures_and_calls_a_tiny_one_the_same(client):
+    # "0.0297 % below the unrestricted best" gave more precision than a plan uses (a plant-engineer check)
+    def said(shift):
+        return _text(client.get("/demo/copper_concentrate/plan",
+                                params={"amount": "150 t/day", "shift": shift, "samples": "0"}).text, "plan-shift")
+
+    assert said("8 h").endswith("the same as the unrestricted best to within 0.05 %.")
+    assert re.search(r", \d\.\d % below the unrestricted best\.$", said("2 h"))

@@ -190,13 +190,19 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
         plan_inputs = plan_from_form(form)
         context["plan_json"] = json.dumps(plan_inputs)
         bare = (amount_without_unit(form, units) or temperatures_without_unit(form, units)) if given else None
+        # a number without its unit is refused with the form's other mistakes, not instead of
+        # them (one at a time made an engineer send the form again for each: a plant-engineer check)
+        refused = [(("body", *bare[0].split(".")), bare[1])] if bare is not None else []
         try:
-            if bare is not None:
-                raise InputError([(("body", *bare[0].split(".")), bare[1])])
-            req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
+            try:
+                req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
+            except ValidationError as exc:
+                raise InputError(refused + [(loc, msg) for loc, msg in InputError.from_validation(exc, ()).errors
+                                            if form_field(loc)[0] not in {form_field(r)[0] for r, _ in refused}]
+                                 ) from None
+            if refused:
+                raise InputError(refused)
             result = await within_budget(request, make_plan, req)
-        except ValidationError as exc:
-            _place_errors(context, InputError.from_validation(exc, ()).errors)
         except InputError as exc:
             _place_errors(context, exc.errors)
         else:
@@ -235,6 +241,12 @@ def form_field(loc) -> tuple[str | None, str]:
     return None, ""
 
 
+#: units in a refusal as the page writes them ("200 degC" read as a program's spelling: a
+#: plant-engineer check); the form reads both spellings
+_PAGE_SPELLING = {"degC": "°C", "degF": "°F", "m^2": "m²", "m^3": "m³"}
+_PAGE_UNITS = re.compile("|".join(map(re.escape, _PAGE_SPELLING)))
+
+
 def _place_errors(context: dict, errors) -> None:
     """A refusal at the form field it concerns, in the field's words (the page named the API's
     path, "target.availability", under the Plan button: a plant-engineer check); one about the
@@ -242,6 +254,7 @@ def _place_errors(context: dict, errors) -> None:
     labels = {name: label for name, label, _ in FORM_FIELDS}
     at_fields, rest = {}, []
     for loc, msg in errors:
+        msg = _PAGE_UNITS.sub(lambda m: _PAGE_SPELLING[m.group(0)], msg)
         name, detail = form_field(loc)
         if name is None:
             where = _where(loc)

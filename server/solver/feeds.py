@@ -652,9 +652,10 @@ class CakeBasisPressureCurve:
         z = ly / r
         np.minimum(z, ly, out=z)  # ly/r below 0, ly above
         # Newton's error after a step d is at most G''/(2 G') d^2 <= s/(8 r) d^2 (G' >= r,
-        # G'' <= s/4): once that is below round-off of z the step just taken was the last needed
-        scale = 1.0 + max(-float(z.min(initial=0.0)), float(z.max(initial=0.0)))
-        tol = max(CAKE_BASIS_Z_TOL * scale, math.sqrt(self._last_step * scale))
+        # G'' <= s/4): once that is below round-off of every z (1 + |z| at its smallest: not the
+        # largest, which a chart's volume 0, clipped, makes hundreds) the step just taken was
+        # the last needed
+        tol = math.sqrt(self._last_step * (1.0 + float(np.abs(z).min(initial=math.inf))))
         G, ez = np.empty_like(z), np.empty_like(z)
         for _ in range(CAKE_BASIS_NEWTON_STEPS):
             np.exp(z, out=ez)

@@ -64,14 +64,16 @@
   function fit(el) {
     const w = el.clientWidth;
     if (!window.Plotly || !el._fullLayout || w <= 0 || Math.abs(el._fullLayout.width - w) < 1) return;
-    window.Plotly.newPlot(el, el.data, Object.assign({}, el.layout, { width: w }), options(w));
+    window.Plotly.newPlot(el, el.data, Object.assign({}, el.layout, { width: w }), options());
   }
 
-  /** plotly's options: on a phone-wide chart no tool bar, which it shows over the legend row at
+  /** plotly's options: on a phone-wide screen no tool bar, which it shows over the legend row at
    *  the top right (a plant-engineer check at 390 px); a finger zooms and pans the chart itself,
-   *  and the CSV button below each chart stays. */
-  function options(width) {
-    return width < 600 ? { displaylogo: false, displayModeBar: false } : { displaylogo: false };
+   *  and the CSV button below each chart stays. The screen's width decides, not the chart's: two
+   *  charts side by side on a desktop are each narrower than a phone (a review). */
+  function options() {
+    return window.matchMedia("(max-width: 600px)").matches
+      ? { displaylogo: false, displayModeBar: false } : { displaylogo: false };
   }
 
   function fitAll() {
@@ -97,7 +99,7 @@
       showTitle(el, layout);
       delete layout.title;
       if (el.clientWidth > 0) layout.width = el.clientWidth;
-      window.Plotly.newPlot(el, fig.data, layout, options(el.clientWidth));
+      window.Plotly.newPlot(el, fig.data, layout, options());
       if (observer) {
         observer.observe(el);
         observed.add(el);
