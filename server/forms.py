@@ -7,6 +7,8 @@ are choices: only the chosen alternative's fields are sent.
 
 from dataclasses import dataclass, field
 
+from .units import written
+
 UNIT_CHOICES = {
     "pressure": [("bar", "bar"), ("kPa", "kPa"), ("MPa", "MPa"), ("psi (lbf/in²)", "psi"), ("atm", "atm"),
                  ("lbf/ft²", "lbf/ft^2"), ("Pa", "Pa")],
@@ -42,7 +44,7 @@ def pretty_unit(kind: str, unit: str) -> str:
     for label, value in UNIT_CHOICES.get(kind, []) + UNIT_CHOICES.get(_MENU_OF.get(kind, ""), []):
         if value == unit:
             return label
-    return unit.replace("**", "^").replace("^2", "²").replace("^3", "³").replace("*", "·")
+    return written(unit)
 
 
 _MENU_OF = {"density": "concentration", "concentration": "density"}

@@ -6,7 +6,7 @@ The field table is the editor's (forms.GROUPS), so labels never drift apart.
 """
 
 from .forms import GROUPS, Choice, value_at
-from .units import KINDS, UnitError, parse_quantity, split_number
+from .units import KINDS, UnitError, parse_quantity, split_number, written
 from .views import power_of_ten
 
 #: the SI unit a bare number of each form kind is in, as people write it
@@ -14,13 +14,8 @@ _BARE = {"pressure": "Pa", "length": "m", "area": "m²", "volume": "m³", "time"
          "density": "kg/m³", "concentration": "kg/m³", "specific_resistance": "m/kg",
          "medium_resistance": "1/m", "temperature": "°C", "flow": "m³/s", "flux": "m³/(m²·s)", "mass_rate": "kg/s",
          "hours": "h", "diffusivity": "m²/s", "rate": "1/s"}
-_PRETTY = [("**", "^"), ("^2", "²"), ("^3", "³"), ("*", "·"), ("degC", "°C"), ("degF", "°F"), ("gpm", "US gpm")]
-
-
 def _unit(text: str) -> str:
-    for old, new in _PRETTY:
-        text = text.replace(old, new)
-    return text
+    return written(text).replace("gpm", "US gpm")
 
 
 def _value(raw, kind: str) -> str:

@@ -267,6 +267,32 @@ _EXAMPLES = {
 }
 
 
+#: a unit in the parser's spelling -> as people write it (each is read back: _REPLACEMENTS)
+_WRITTEN = [("**", "^"), ("^2", "²"), ("^3", "³"), ("*", "·"), ("degC", "°C"), ("degF", "°F")]
+_WRITTEN_UNIT = re.compile(r"degC|degF|\^[23]|\*\*[23]")
+
+
+def written(unit: str) -> str:
+    """A unit as people write it: "m^2" -> "m²", "mPa*s" -> "mPa·s", "degC" -> "°C".
+
+    >>> written("kg/m**3"), written("mPa*s"), written("degF")
+    ('kg/m³', 'mPa·s', '°F')
+    """
+    for old, new in _WRITTEN:
+        unit = unit.replace(old, new)
+    return unit
+
+
+def written_in(text: str) -> str:
+    """A message with the units in it written as people write them ("200 degC" -> "200 °C",
+    "cm^2" -> "cm²"); other text, "*" included, as it is.
+
+    >>> written_in('got 200 degC; send "50 cm^2"')
+    'got 200 °C; send "50 cm²"'
+    """
+    return _WRITTEN_UNIT.sub(lambda m: written(m.group(0)), text)
+
+
 def example(kind: str) -> str:
     return _EXAMPLES[kind]
 

@@ -169,3 +169,16 @@ def test_every_unit_the_pages_show_can_be_typed_back(quantity, system):
     shown = Units(system)(quantity, 1.0)  # 1 SI unit in the page's unit
     text = f"{shown!r} {DISPLAY[quantity][system].label}"
     assert parse_quantity(text, TYPED_AS[quantity]) == pytest.approx(1.0, rel=1e-12)
+
+
+def test_units_are_written_as_people_write_them_and_read_back():
+    # one spelling for the pages (the plan page's refusals, the flags, the menus' fallback); every
+    # written form is read back by the parser to the same value
+    from server.units import parse_quantity, written, written_in
+
+    assert written("kg/m**3") == "kg/m³" and written("mPa*s") == "mPa·s" and written("degF") == "°F"
+    assert written_in('got 200 degC; send "50 cm^2", 3*4') == 'got 200 °C; send "50 cm²", 3*4'
+    for text, kind in (("1.5 kg/m**3", "density"), ("0.9 mPa*s", "viscosity"), ("68 degF", "temperature"),
+                       ("50 cm^2", "area")):
+        number, unit = text.split(" ")
+        assert parse_quantity(f"{number} {written(unit)}", kind) == parse_quantity(text, kind)

@@ -16,7 +16,7 @@ from ..plancharts import plan_figures
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.plan import MAX_FLOW, MAX_SOLIDS_RATE, PlanRequest, PlanResponse
 from ..solve import CAUTIONS
-from ..units import UnitError, parse_quantity, split_number
+from ..units import UnitError, parse_quantity, split_number, written_in
 from ..views import fmt, page_json
 
 router = APIRouter(prefix="/api/v1", tags=["plan"], responses=ERROR_RESPONSES)
@@ -197,9 +197,9 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
             try:
                 req = PlanRequest.model_validate({**plan_inputs, "inputs": inputs})
             except ValidationError as exc:
+                said = {form_field(loc)[0] for loc, _ in refused}
                 raise InputError(refused + [(loc, msg) for loc, msg in InputError.from_validation(exc, ()).errors
-                                            if form_field(loc)[0] not in {form_field(r)[0] for r, _ in refused}]
-                                 ) from None
+                                            if form_field(loc)[0] not in said]) from None
             if refused:
                 raise InputError(refused)
             result = await within_budget(request, make_plan, req)
@@ -241,12 +241,6 @@ def form_field(loc) -> tuple[str | None, str]:
     return None, ""
 
 
-#: units in a refusal as the page writes them ("200 degC" read as a program's spelling: a
-#: plant-engineer check); the form reads both spellings
-_PAGE_SPELLING = {"degC": "°C", "degF": "°F", "m^2": "m²", "m^3": "m³"}
-_PAGE_UNITS = re.compile("|".join(map(re.escape, _PAGE_SPELLING)))
-
-
 def _place_errors(context: dict, errors) -> None:
     """A refusal at the form field it concerns, in the field's words (the page named the API's
     path, "target.availability", under the Plan button: a plant-engineer check); one about the
@@ -254,7 +248,9 @@ def _place_errors(context: dict, errors) -> None:
     labels = {name: label for name, label, _ in FORM_FIELDS}
     at_fields, rest = {}, []
     for loc, msg in errors:
-        msg = _PAGE_UNITS.sub(lambda m: _PAGE_SPELLING[m.group(0)], msg)
+        # units as the page writes them ("200 degC" read as a program's spelling: a
+        # plant-engineer check); the form reads both spellings
+        msg = written_in(msg)
         name, detail = form_field(loc)
         if name is None:
             where = _where(loc)

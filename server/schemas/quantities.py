@@ -10,7 +10,7 @@ from typing import Annotated
 
 from pydantic import BeforeValidator, WithJsonSchema
 
-from ..units import KINDS, MAX_LENGTH, UnitError, example, parse_quantity, split_number
+from ..units import KINDS, MAX_LENGTH, UnitError, example, parse_quantity, split_number, written
 
 
 def _number(value: float, digits: int) -> str:
@@ -58,7 +58,7 @@ def meant(value, kind: str, inside, units: tuple | None = None) -> str:
     for unit in _MEANT.get(kind, ()) if units is None else units:
         try:
             if inside(parse_quantity(f"{text} {unit}", kind)):
-                shown = unit.replace("^3", "³").replace("^2", "²")
+                shown = written(unit)
                 bare = "a fraction" if KINDS[kind].label == "-" else f"in {KINDS[kind].label}"
                 return f' (a number without a unit is {bare}: for {text} {shown}, send "{text} {unit}")'
 
