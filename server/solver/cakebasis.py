@@ -18,12 +18,15 @@ from functools import lru_cache
 import numpy as np
 from numba import njit
 
-#: Gauss nodes of each quadrature of the time's incomplete beta part (error ~ 34^-n: below
-#: round-off from 11; see :func:`_cake_basis_rules`)
+#: Gauss–Jacobi nodes of the quadrature of the time's incomplete beta part below phi = 1/2 (error
+#: ~ 34^-n: below round-off from 11; see :func:`_cake_basis_rules`)
 CAKE_BASIS_GAUSS_NODES = 11
-#: below this share (the cloth's beyond phi = 1/2, the cake's before) J is summed as a power
-#: series of that share (:func:`_cake_basis_rules`): CAKE_BASIS_SERIES_TERMS terms leave less
-#: than 0.05^14 = 6e-19 of the sum
+#: beyond phi = 1/2 the incomplete beta part is a power series in the cloth's share psi <= 1/2,
+#: every term positive (:func:`_cake_basis_rules`): 48 terms leave less than 1e-18 of the sum at
+#: psi = 1/2 (each term below 0.5^k/k^2), and below CAKE_BASIS_SERIES_BELOW the first
+#: CAKE_BASIS_SERIES_TERMS leave less than 0.05^14 = 6e-19; below that share the cake's series
+#: of as many terms replaces the Gauss rule before phi = 1/2
+CAKE_BASIS_CLOTH_TERMS = 48
 CAKE_BASIS_SERIES_BELOW = 0.05
 CAKE_BASIS_SERIES_TERMS = 14
 #: Newton steps at most (each solve converges in well under ten; the bracket keeps it safe)
@@ -45,34 +48,31 @@ _compiled = njit(cache=True, nogil=True, error_model="numpy")
 
 @lru_cache(maxsize=64)
 def _cake_basis_rules(r: float) -> tuple:
-    r"""Gauss rules for the integral J(phi) = \int_0^phi u^r/(1 - u) du, constants of r.
+    r"""The constants of r that J(phi) = \int_0^phi u^r/(1 - u) du is summed with.
 
-    For phi < 1/2: J = phi^(r+1) \int_0^1 w^r / (1 - phi w) dw, Gauss–Jacobi with weight w^r
-    (the integrand's pole at w = 1/phi >= 2). For phi >= 1/2:
-    J = -ln(psi) - H_r + psi \int_0^1 g(psi m) dm, g(q) = (1 - (1 - q)^r)/q (analytic on [0, 1],
-    its branch point at m = 1/psi >= 2), Gauss–Legendre; H_r = digamma(r + 1) + euler_gamma
-    = \int_0^1 (1 - u^r)/(1 - u) du. Both converge as (3 + 2 sqrt 2)^(-2n) (Bernstein ellipse).
-    For a small share both are power series (Horner's rule is cheaper than the rule's
-    logarithms): int_0^1 g(psi m) dm = sum_k a_k psi^k/(k + 1), a_0 = r,
-    a_(k+1) = a_k (k + 1 - r)/(k + 2) (the binomial series of (1 - q)^r; every term positive),
-    and int_0^1 w^r/(1 - phi w) dw = sum_k phi^k/(k + r + 1).
+    For phi < 1/2: J = phi^(r+1) \int_0^1 w^r / (1 - phi w) dw, by Gauss–Jacobi with weight w^r
+    (the integrand's pole at w = 1/phi >= 2: converges as (3 + 2 sqrt 2)^(-2n), the Bernstein
+    ellipse), or below phi = 0.05 as the series sum_k phi^k/(k + r + 1). For phi >= 1/2:
+    J = -ln(psi) - H_r + psi \int_0^1 g(psi m) dm, g(q) = (1 - (1 - q)^r)/q, H_r = digamma(r + 1)
+    + euler_gamma = \int_0^1 (1 - u^r)/(1 - u) du, and \int_0^1 g(psi m) dm = sum_k a_k
+    psi^k/(k + 1), a_0 = r, a_(k+1) = a_k (k + 1 - r)/(k + 2) (the binomial series of
+    (1 - q)^r; every term positive, a_k below 1/k: Horner's rule, cheaper than a Gauss rule's
+    two logarithms per node). Checked against quadrature in tests/solver/test_cake_basis_exact.py.
 
-    Returns (Jacobi nodes, weights, Legendre nodes, weights, the two series' coefficients
-    highest power first, H_r): what the compiled :func:`_J` reads.
+    Returns (Jacobi nodes, weights, the cloth's series coefficients highest power first
+    (CAKE_BASIS_CLOTH_TERMS), the cake's (CAKE_BASIS_SERIES_TERMS), H_r): what the compiled
+    :func:`_J` reads.
     """
     from scipy.special import digamma, roots_jacobi
 
-    n = CAKE_BASIS_GAUSS_NODES
-    x, w = roots_jacobi(n, 0.0, r)  # weight (1 + x)^r on [-1, 1]
+    x, w = roots_jacobi(CAKE_BASIS_GAUSS_NODES, 0.0, r)  # weight (1 + x)^r on [-1, 1]
     wj, Wj = 0.5 * (1.0 + x), w / 2.0 ** (r + 1.0)
-    x, w = np.polynomial.legendre.leggauss(n)
-    ml, Wl = 0.5 * (1.0 - x), 0.5 * w
     a, cloth = r, []
-    for k in range(CAKE_BASIS_SERIES_TERMS):
+    for k in range(CAKE_BASIS_CLOTH_TERMS):
         cloth.append(a / (k + 1.0))
         a *= (k + 1.0 - r) / (k + 2.0)
     cake = [1.0 / (k + r + 1.0) for k in range(CAKE_BASIS_SERIES_TERMS)]
-    arrays = [np.ascontiguousarray(v, dtype=float) for v in (wj, Wj, ml, Wl, cloth[::-1], cake[::-1])]
+    arrays = [np.ascontiguousarray(v, dtype=float) for v in (wj, Wj, cloth[::-1], cake[::-1])]
     for shared in arrays:
         shared.flags.writeable = False
     return (*arrays, float(digamma(r + 1.0)) + float(np.euler_gamma))
@@ -113,8 +113,8 @@ def _split(z):
 
 
 @_compiled
-def _J(phi, psi, r, wj, Wj, ml, Wl, cloth, cake, H):
-    """J(phi) = \\int_0^phi u^r/(1 - u) du (see :func:`_cake_basis_rules`)."""
+def _J(phi, psi, r, wj, Wj, cloth, cake, H):
+    r"""J(phi) = \int_0^phi u^r/(1 - u) du (see :func:`_cake_basis_rules`)."""
     total = 0.0
     if phi < 0.5:
         if phi < CAKE_BASIS_SERIES_BELOW:
@@ -124,40 +124,37 @@ def _J(phi, psi, r, wj, Wj, ml, Wl, cloth, cake, H):
             for k in range(wj.size):
                 total += Wj[k] / (1.0 - phi * wj[k])
         return phi ** (r + 1.0) * total
-    if psi < CAKE_BASIS_SERIES_BELOW:
-        for c in cloth:
-            total = total * psi + c
-    else:
-        for k in range(ml.size):
-            q = psi * ml[k]
-            total += Wl[k] * -math.expm1(r * math.log1p(-q)) / q
+    # the lowest CAKE_BASIS_SERIES_TERMS powers where they suffice
+    first = CAKE_BASIS_CLOTH_TERMS - CAKE_BASIS_SERIES_TERMS if psi < CAKE_BASIS_SERIES_BELOW else 0
+    for k in range(first, CAKE_BASIS_CLOTH_TERMS):
+        total = total * psi + cloth[k]
     return -math.log(psi) - H + psi * total
 
 
 @_compiled
-def _at_volume(y, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H):
+def _at_volume(y, s, r, last_step, wj, Wj, cloth, cake, H):
     """(psi, t/(B V_0)) at V = V_0 y: the cloth's share of the drop and the reduced time,
     t/(B V_0) = y (1/(2 psi) + (r + s psi)/2) + r s J/2."""
     if not y > 0.0:
         return 1.0, 0.0
     z = _z_of(math.log(min(max(y, CAKE_BASIS_Y_RANGE[0]), CAKE_BASIS_Y_RANGE[1])), s, r, last_step)
     phi, psi, _ = _split(z)
-    J = _J(phi, psi, r, wj, Wj, ml, Wl, cloth, cake, H)
+    J = _J(phi, psi, r, wj, Wj, cloth, cake, H)
     return psi, y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * J
 
 
 @_compiled
-def _at_volumes(V, per_V0, scale, B, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H, rate_out, time_out):
+def _at_volumes(V, per_V0, scale, B, s, r, last_step, wj, Wj, cloth, cake, H, rate_out, time_out):
     """The rate psi/B [m^3/s] and the time ``scale`` t/(B V_0) [s] at every volume V [m^3]
     (y = V ``per_V0``), into ``rate_out`` and ``time_out``: the float path's operations, one by one."""
     for i in range(V.size):
-        psi, F = _at_volume(V[i] * per_V0, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H)
+        psi, F = _at_volume(V[i] * per_V0, s, r, last_step, wj, Wj, cloth, cake, H)
         rate_out[i] = psi / B
         time_out[i] = scale * F
 
 
 @_compiled
-def _time_in_z(z, s, r, wj, Wj, ml, Wl, cloth, cake, H):
+def _time_in_z(z, s, r, wj, Wj, cloth, cake, H):
     """(t/(B V_0), its derivative in z, y = V/V_0, phi, psi) at z."""
     phi, psi, _ = _split(z)
     # ln(V/V_0) = z - s ln(phi), as r z + s ln(1 + e^z) where z < 0 (no cancellation)
@@ -165,7 +162,7 @@ def _time_in_z(z, s, r, wj, Wj, ml, Wl, cloth, cake, H):
         y = math.exp(r * z + s * math.log1p(math.exp(z)))
     else:
         y = math.exp(z + s * math.log1p(math.exp(-z)))
-    F = y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * _J(phi, psi, r, wj, Wj, ml, Wl, cloth, cake, H)
+    F = y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * _J(phi, psi, r, wj, Wj, cloth, cake, H)
     return F, y * (1.0 - s * psi) / psi, y, phi, psi
 
 
@@ -174,7 +171,7 @@ _SOLVE_TIME, _SOLVE_PEAK = 0, 1
 
 
 @_compiled
-def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, ml, Wl, cloth, cake, H):
+def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, cloth, cake, H):
     """The root in z of an increasing D(z) by Newton's method, bisecting in the bracket found so
     far when a step leaves it; each z kept within [floor, CAKE_BASIS_Z_MAX] (floor = -700/r: V
     below e^-700 V_0), where every quantity is finite. ``kind`` _SOLVE_TIME: D = ln(F(z)/target),
@@ -182,7 +179,7 @@ def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, ml, Wl, cloth, ca
     downtime ``target`` (see :meth:`CakeBasisPressureCurve.optimum_volume`)."""
     lo, hi = -math.inf, math.inf
     for _ in range(CAKE_BASIS_NEWTON_STEPS):
-        F, dF, y, phi, psi = _time_in_z(z, s, r, wj, Wj, ml, Wl, cloth, cake, H)
+        F, dF, y, phi, psi = _time_in_z(z, s, r, wj, Wj, cloth, cake, H)
         if kind == _SOLVE_TIME:
             D, dD = math.log(F / target), dF / F
         else:
@@ -206,32 +203,32 @@ def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, ml, Wl, cloth, ca
 
 
 @_compiled
-def _volume_at(F, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H):
+def _volume_at(F, s, r, last_step, wj, Wj, cloth, cake, H):
     """V/V_0 at the reduced time F = t/(B V_0): Newton's method on ln F in z, from Ruth's
     equation's volume at F (exact for s = 0, and at both ends for any s)."""
     if not F > 0.0:
         return 0.0
     y = 2.0 * F / (math.sqrt(1.0 + 2.0 * F) + 1.0)
     z = _bracketed_newton(_SOLVE_TIME, F, 0.0, _z_of(math.log(y), s, r, last_step), -700.0 / r,
-                          s, r, wj, Wj, ml, Wl, cloth, cake, H)
-    return _time_in_z(z, s, r, wj, Wj, ml, Wl, cloth, cake, H)[2]
+                          s, r, wj, Wj, cloth, cake, H)
+    return _time_in_z(z, s, r, wj, Wj, cloth, cake, H)[2]
 
 
 @_compiled
-def _volumes_at(t, per_scale, V0, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H, out):
+def _volumes_at(t, per_scale, V0, s, r, last_step, wj, Wj, cloth, cake, H, out):
     """The volume V_0 y [m^3] at every time t [s] (F = t ``per_scale``), into ``out``."""
     for i in range(t.size):
-        out[i] = V0 * _volume_at(t[i] * per_scale, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H)
+        out[i] = V0 * _volume_at(t[i] * per_scale, s, r, last_step, wj, Wj, cloth, cake, H)
 
 
 @_compiled
-def _peak_volume(tau, a, s, r, last_step, wj, Wj, ml, Wl, cloth, cake, H):
+def _peak_volume(tau, a, s, r, last_step, wj, Wj, cloth, cake, H):
     """V/V_0 of the highest throughput at reduced downtime tau and wash coefficient a, from the
     s = 0 optimum (see :meth:`CakeBasisPressureCurve.optimum_volume`)."""
     y = math.sqrt(tau / (0.5 + a))
     z = _bracketed_newton(_SOLVE_PEAK, tau, a, _z_of(math.log(y), s, r, last_step), -700.0 / r,
-                          s, r, wj, Wj, ml, Wl, cloth, cake, H)
-    return _time_in_z(z, s, r, wj, Wj, ml, Wl, cloth, cake, H)[2]
+                          s, r, wj, Wj, cloth, cake, H)
+    return _time_in_z(z, s, r, wj, Wj, cloth, cake, H)[2]
 
 
 # ---- the curve ------------------------------------------------------------------------------
