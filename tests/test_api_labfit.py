@@ -368,7 +368,7 @@ def input_flags(data):
 @pytest.mark.parametrize("change,field,words", [
     # a bare number is SI: 100 is 100 m² (meant cm²), 3 is 3 Pa (meant bar)
     ({"area": 100}, "tests.0.area", ["100 m² (a bare number is in SI units) is outside the usual 0.001–0.05 m²",
-                                     'for 100 cm², send "100 cm^2"']),
+                                     'for 100 cm², send "100 cm²"']),
     ({"pressure": 3}, "tests.0.pressure", ["3 Pa (a bare number is in SI units) is outside the usual 20000–2e6 Pa",
                                            'for 3 bar, send "3 bar"']),
     # kPa typed where bar was meant: said in the unit typed, with the factor

@@ -183,10 +183,14 @@ def test_a_target_typed_without_a_unit_is_refused_on_the_page_with_its_unit_aske
     r = client.get(HYDROXIDE, params={"amount": "150", "basis": basis, "samples": "0"})
     assert r.status_code == 200 and "plan-results" not in r.text
     msg = _text(r.text, "plan-error")
-    # 1e5 kg/s = 8.64e6 t/day; 100 m³/s = 8.64e6 m³/day (86,400 s a day)
+    # 1e5 kg/s = 8.64e6 t/day; 100 m³/s = 8.64e6 m³/day (86,400 s a day); the bound written as every
+    # refusal writes it (it read "8.640×10⁶" here and "8.64e6" when the target was typed too big)
     assert msg == (f"Target per calendar day: 150 has no unit: write the target with its unit, such as \"150 {unit}\" of "
                    f"{'dry solids' if basis.startswith('dry') else 'slurry'} per calendar day (allowed: above 0 and "
-                   f"at most 8.640×10⁶ {unit})")
+                   f"at most 8.64e6 {unit})")
+    too_big = _text(client.get(HYDROXIDE, params={"amount": f"9e6 {unit}", "basis": basis, "samples": "0"}).text,
+                    "plan-error")
+    assert f"at most 8.64e6 {unit}" in too_big and "×10" not in too_big, too_big
     us = client.get(HYDROXIDE, params={"amount": "150", "samples": "0", "units": "us"})
     assert '"150 short ton/day"' in _text(us.text, "plan-error")
     # the API's documented contract stays: a bare number is SI (150 kg/s = 12,960 t/day of dry solids)
