@@ -208,6 +208,7 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
             _place_errors(context, exc.errors)
         else:
             context["plan"] = result
+            context["press_chambers"] = req.inputs.press.chambers
             figures = plan_figures(result, Units(units))
             context["figures"] = page_json(compact(figures))
             context["charts"] = [(key, CHART_LABELS[key]) for key in figures]
