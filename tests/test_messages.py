@@ -124,7 +124,9 @@ def test_a_fraction_typed_with_percent_chosen_is_flagged_as_a_slip(client):
 def test_a_pressure_a_hundred_times_too_high_is_flagged_in_the_unit_typed(client):
     w = _warnings(client, lambda b: b["feed"].update(pressure="1000 bar"))
     assert w["feed.pressure"].startswith("1000 bar is outside the usual 3–20 bar")
-    assert "factor of 100 too large" in w["feed.pressure"]
+    # how far off it is (1000 / 20), not the power of ten that would bring it in (it said "a factor
+    # of 100" of a value 50 times the top: a plant-engineer check)
+    assert "It is 50 times too large for the usual range: check the unit." in w["feed.pressure"]
 
 
 def test_an_unusual_value_that_is_no_slip_is_flagged_without_a_guess(client):
@@ -150,7 +152,7 @@ def test_flags_show_on_the_results_pane(client):
     body = copy.deepcopy(BASE_REQUEST)
     body["feed"]["pressure"] = "1000 bar"
     html = client.post("/ui/results", json=body).json()["html"]
-    assert "Feed pressure:" in html and "factor of 100 too large" in html
+    assert "Feed pressure:" in html and "50 times too large" in html
 
 
 def test_a_value_just_outside_the_usual_range_is_not_called_a_slip(client):
@@ -165,7 +167,8 @@ def test_a_dot_read_as_decimal_point_shows_as_a_factor_of_1000(client):
         b["press"] = {"plate_face_area": "19.000 cm^2", "chambers": 40, "chamber_thickness": "40 mm"}
     w = _warnings(client, change)
     assert w["press.plate_face_area"].startswith("19 cm² is outside the usual 500–60000 cm²")
-    assert "factor of 1000 too small" in w["press.plate_face_area"] and "19 000" in w["press.plate_face_area"]
+    # 500 / 19 = 26 times below the range's low end
+    assert "It is 26 times too small" in w["press.plate_face_area"] and "19 000" in w["press.plate_face_area"]
 
 
 def test_a_bare_number_is_shown_with_its_si_unit(client):
