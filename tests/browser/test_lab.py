@@ -136,3 +136,11 @@ def test_a_unit_typed_in_a_field_is_shown_by_its_menu_and_flagged_by_its_true_fa
     assert second.locator('[data-unit="pressure"]').input_value() == "kPa"
     clean(page)
 
+
+def test_the_dry_cake_mass_has_a_unit_menu(page):
+    # the field had no menu and "12" went as 12 kg (the API's bare mass), whatever "g" was meant
+    page.goto(page.base + "/lab")
+    block = page.locator("#tests > fieldset").nth(0)
+    assert block.locator('[data-unit="dry_cake_mass"]').input_value() == "g"
+    block.locator('[data-name="dry_cake_mass"]').fill("12")
+    assert page.evaluate("window.presscycleLab.collect().tests[0].dry_cake_mass") == "12 g"
