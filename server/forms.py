@@ -30,6 +30,7 @@ UNIT_CHOICES = {
     "flow": [("m³/h", "m^3/h"), ("L/min", "L/min"), ("US gpm", "gpm"), ("ft³/min", "ft^3/min"), ("m³/s", "m^3/s")],
     "flux": [("L/(m²·h)", "L/(m^2*h)"), ("US gal/(ft²·h)", "gal/(ft^2*h)")],
     "hours": [("h", "h")],
+    "mass": [("g", "g"), ("kg", "kg"), ("lb", "lb")],
     "mass_rate": [("t/day", "t/day"), ("t/h", "t/h"), ("kg/h", "kg/h"), ("short ton/day", "ton/day")],
     "diffusivity": [("m²/s", "m^2/s"), ("cm²/min", "cm^2/min"), ("ft²/h", "ft^2/h")],
     "rate": [("1/min", "1/min"), ("1/s", "1/s"), ("1/h", "1/h")],

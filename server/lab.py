@@ -260,7 +260,8 @@ def compression_request(req: CompressionFitRequest) -> dict:
     warnings = []
     spread = float(np.sqrt(np.mean(fit.residuals_resistance**2)))
     if spread > 0.2:
-        warnings.append(f"The resistances scatter by about {spread:.0%} about the fitted law: check the readings.")
+        warnings.append(f"The resistances scatter by about {100 * spread:.0f} % about the fitted law: "
+                        "check the readings.")
     dp = np.geomspace(max(float(p[p > 0].min()) if np.any(p > 0) else 1e3, 1.0), max(float(p.max()), 1e3), 40)
     out = {
         "local": local, "stderrs": fit.stderrs, "points": [list(r) for r in rows],

@@ -345,7 +345,11 @@ def make_plan(req: PlanRequest) -> dict:
                         f"(usually at most {PLAUSIBLE_PRESSES}). Check the target and its unit (a number without a "
                         "unit is in kg/s of dry solids or m³/s of slurry or filtrate), or plan with a larger press.")
     plan = {
-        "basis": basis.name, "required": required, "throughput": Q_plan, "best_throughput": Q_best,
+        "basis": basis.name,
+        # what the figures above the seasons are worked out at: the scenario's own slurry
+        # temperature (None when it gives the filtrate viscosity instead) and its viscosity
+        "temperature": req.inputs.slurry.temperature, "viscosity": derived["viscosity"],
+        "required": required, "throughput": Q_plan, "best_throughput": Q_best,
         "presses_needed": presses, "presses_with_spare": presses + req.spares,
         "utilisation": required / (presses * Q_plan),
         "needed_per_press": required / (presses * shift_factor),

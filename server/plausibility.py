@@ -3,8 +3,8 @@
 A value within the schema's allowed range may still be a slip: 0.58 typed with % chosen,
 a pressure in the wrong unit. Each flag names the field, gives the value in the unit the
 person typed and the usual range, and says when the value looks like a unit slip (a fraction
-where % was chosen; a factor of 10 to 100 off the usual range). The usual ranges are the
-editor's hints (common practice, no source).
+where % was chosen; a value that 10, 100 or 1000 would bring into the usual range, said with how
+many times it is off). The usual ranges are the editor's hints (common practice, no source).
 """
 
 from dataclasses import dataclass
@@ -328,13 +328,26 @@ def slip_hint(typed, value: float, low: float, high: float) -> str | None:
     if low / SLIP_MARGIN <= value <= high * SLIP_MARGIN:
         return None
     if isinstance(typed, str) and "." in typed and low <= value * 1000 <= high:
-        return ("It is a factor of 1000 too small for the usual range: a dot is read as the decimal point, "
-                "so for thousands write the digits without it or group them with a space (19 000).")
+        return (f"It is {times(low / value)} times too small for the usual range: a dot is read as the decimal "
+                "point, so for thousands write the digits without it or group them with a space (19 000).")
+    # a slip of a power of ten is suspected when undoing it lands in the range; the flag says how
+    # far off the value is (it said "a factor of 100" of a value 50 times the top: a plant-engineer check)
     for factor in (10, 100, 1000):
         for scaled, word in ((value * factor, "small"), (value / factor, "large")):
             if low <= scaled <= high:
-                return f"It is a factor of {factor} too {word} for the usual range: check the unit."
+                ratio = value / high if word == "large" else low / value
+                return f"It is {times(ratio)} times too {word} for the usual range: check the unit."
     return None
+
+
+def times(ratio: float) -> str:
+    """How many times, as people say it: two significant figures ("50", "3.5", "1,200").
+
+    >>> times(50.2), times(3.47), times(1234.0), times(26.3)
+    ('50', '3.5', '1,200', '26')
+    """
+    rounded = float(f"{ratio:.2g}")
+    return f"{rounded:,.0f}" if rounded >= 10 else f"{rounded:g}"
 
 
 def fitted_resistance_warnings(resistance_ref: float, tests: list[tuple[str, float]]) -> list[str]:

@@ -391,7 +391,7 @@ def _log_checks(log: Log, fits, sel, used_numbers, inputs, V_full: float, v: flo
         named = _cycles_phrase(numbers[over].tolist(), capital=True)
         each = "" if over.sum() == 1 else " each (median)"
         why = (f"read as {slip[0]}, {'it' if over.sum() == 1 else 'they'} would collect {slip[1]:.3g} m³"
-               f"{each}, {slip[1] / V_full:.0%} of chambers full" if slip else "check the column's unit")
+               f"{each}, {100 * slip[1] / V_full:.0f} % of chambers full" if slip else "check the column's unit")
         warnings.append(
             f"{named} {'collects' if over.sum() == 1 else 'collect'} {V_med:.3g} m³ of filtrate{each}, "
             f"{V_med / V_full:.3g} times what the press's chambers hold: with the scenario's cake volume ratio "
@@ -622,11 +622,12 @@ def analyse(req: PressLogRequest, store=None) -> dict:
                       "measured on the cloth itself (a clean-water test) or taken from the lab.")
         else:
             needed = " Log more often while the feed starts, or mark the start of feeding."
-        limit = f"{logfit.RESOLUTION_SHARE:.0%}"
+        limit = f"{100 * logfit.RESOLUTION_SHARE:.0f} %"
         warnings.append(
             f"The log's step of {res.step:.3g} s is too coarse to resolve the cloth resistance: a feed started up to "
             "one step before the first row under pressure filtrates a volume the log does not see, and the cake "
-            f"resistance of that volume can reach {res.share:.0%} of the fitted R_m (which may be too high by as much; "
+            f"resistance of that volume can reach {100 * res.share:.0f} % of the fitted R_m (which may be too high by "
+            "as much; "
             f"at most {limit} resolves it).{needed} No cloth-wash interval is recommended from this R_m"
             + (" (and no calibrated copy is made from this log: see above)." if checks["calibration_withheld"]
                else ", and the calibrated copy keeps the scenario's cloth resistance."))

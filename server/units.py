@@ -245,52 +245,43 @@ def _converter(unit: str, si_unit: str, kind: str):
     return lambda number: zero + scale * number
 
 
+#: examples of each kind in messages, units as people write them (each is read back: _REPLACEMENTS)
 _EXAMPLES = {
     "pressure": '"5 bar" or "70 psi"',
     "length": '"32 mm" or "1.25 in"',
-    "area": '"120 m^2" or "1300 ft^2"',
-    "volume": '"2.5 m^3" or "250 L"',
+    "area": '"120 m²" or "1300 ft²"',
+    "volume": '"2.5 m³" or "250 L"',
     "time": '"25 min" or "1.5 h"',
-    "viscosity": '"1.0 mPa*s" or "1 cP"',
-    "density": '"2650 kg/m^3" or "1.0 g/cm^3"',
+    "viscosity": '"1.0 mPa·s" or "1 cP"',
+    "density": '"2650 kg/m³" or "1.0 g/cm³"',
     "specific_resistance": '"1.5e11 m/kg" or "2.2e11 ft/lb"',
     "medium_resistance": '"1e10 1/m" or "3e9 1/ft"',
     "fraction": '"12 %" or 0.12',
-    "temperature": '"20 degC", "68 degF" or 20 (degC)',
-    "flow": '"30 m^3/h" or "120 gpm"',
-    "flux": '"150 L/(m^2*h)"',
+    "temperature": '"20 °C", "68 °F" or 20 (°C)',
+    "flow": '"30 m³/h" or "120 gpm"',
+    "flux": '"150 L/(m²·h)"',
     "mass": '"12 kg" or "25 lb"',
     "mass_rate": '"120 t/day" or "5 t/h"',
     "hours": '"22 h" or 22 (h)',
-    "diffusivity": '"2e-7 m^2/s" or "0.72 cm^2/h"',
+    "diffusivity": '"2e-7 m²/s" or "0.72 cm²/h"',
     "rate": '"1e-3 1/s" or "3.6 1/h"',
 }
 
 
 #: a unit in the parser's spelling -> as people write it (each is read back: _REPLACEMENTS)
 _WRITTEN = [("**", "^"), ("^2", "²"), ("^3", "³"), ("*", "·"), ("degC", "°C"), ("degF", "°F")]
-_WRITTEN_UNIT = re.compile(r"degC|degF|\^[23]|\*\*[23]")
 
 
 def written(unit: str) -> str:
-    """A unit as people write it: "m^2" -> "m²", "mPa*s" -> "mPa·s", "degC" -> "°C".
+    """A unit as people write it: "m^2" -> "m²", "mPa*s" -> "mPa·s", "degC" -> "°C", "cm2" -> "cm²".
 
-    >>> written("kg/m**3"), written("mPa*s"), written("degF")
-    ('kg/m³', 'mPa·s', '°F')
+    >>> written("kg/m**3"), written("mPa*s"), written("degF"), written("m2")
+    ('kg/m³', 'mPa·s', '°F', 'm²')
     """
+    unit = _POWER_SUFFIX.sub(r"\1^\2", unit)
     for old, new in _WRITTEN:
         unit = unit.replace(old, new)
     return unit
-
-
-def written_in(text: str) -> str:
-    """A message with the units in it written as people write them ("200 degC" -> "200 °C",
-    "cm^2" -> "cm²"); other text, "*" included, as it is.
-
-    >>> written_in('got 200 degC; send "50 cm^2"')
-    'got 200 °C; send "50 cm²"'
-    """
-    return _WRITTEN_UNIT.sub(lambda m: written(m.group(0)), text)
 
 
 def example(kind: str) -> str:

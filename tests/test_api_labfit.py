@@ -368,15 +368,17 @@ def input_flags(data):
 @pytest.mark.parametrize("change,field,words", [
     # a bare number is SI: 100 is 100 m² (meant cm²), 3 is 3 Pa (meant bar)
     ({"area": 100}, "tests.0.area", ["100 m² (a bare number is in SI units) is outside the usual 0.001–0.05 m²",
-                                     'for 100 cm², send "100 cm^2"']),
+                                     'for 100 cm², send "100 cm²"']),
     ({"pressure": 3}, "tests.0.pressure", ["3 Pa (a bare number is in SI units) is outside the usual 20000–2e6 Pa",
                                            'for 3 bar, send "3 bar"']),
-    # kPa typed where bar was meant: said in the unit typed, with the factor
+    # kPa typed where bar was meant: said in the unit typed, with how many times off it is (20 / 3)
     ({"pressure": "3 kPa"}, "tests.0.pressure", ["3 kPa is outside the usual 20–2000 kPa",
-                                                 "factor of 10 too small for the usual range: check the unit"]),
-    ({"viscosity": "0.8937 Pa*s"}, "tests.0.viscosity", ["factor of 1000 too large"]),
+                                                 "It is 6.7 times too small for the usual range: check the unit"]),
+    ({"viscosity": "0.8937 Pa*s"}, "tests.0.viscosity", ["It is 180 times too large"]),  # 0.8937 / 0.005
     # the unit typed is written as the range is (it read "2.5 m^2 is outside the usual 0.001–0.05 m²")
-    ({"area": "2.5 m^2"}, "tests.0.area", ["2.5 m² is outside the usual 0.001–0.05 m²"]),
+    # 2.5 m² is 50 times the top of the range: it said "a factor of 100" (a plant-engineer check)
+    ({"area": "2.5 m^2"}, "tests.0.area", ["2.5 m² is outside the usual 0.001–0.05 m²",
+                                           "It is 50 times too large for the usual range: check the unit."]),
 ])
 def test_lab_inputs_outside_the_usual_range_are_flagged_and_calculated_as_given(client, change, field, words):
     r = post(client, {"tests": [{**EXAMPLE, **change}], **TEXTBOOK})

@@ -26,6 +26,38 @@ def test_a_pressure_in_bar_is_answered_in_bar_with_si_beside(client):
     assert "at least 0.001 bar and at most 1000 bar" in msg and "got -3 bar" in msg and "(-300000 Pa)" in msg
 
 
+def _temperature(value):
+    def change(b):
+        b["slurry"].pop("viscosity")
+        b["slurry"]["temperature"] = value
+    return change
+
+
+@pytest.mark.parametrize("change, field, expected", [
+    # units as people write them, not as the parser spells them ("degC", "m^2", "kg/m^3": a
+    # plant-engineer check); a temperature typed in °C is said once, not again "(... degC)" beside it
+    (_temperature(200), "slurry.temperature", "must be above 0 °C and below 100 °C; got 200 °C"),
+    (_temperature("200 degC"), "slurry.temperature", "must be above 0 °C and below 100 °C; got 200 °C"),
+    (_temperature("392 degF"), "slurry.temperature",
+     "must be above 32 °F and below 212 °F (above 0 °C and below 100 °C); got 392 °F (200 °C)"),
+    (lambda b: b["press"].update(filter_area="1e9 cm^2"), "press.filter_area",
+     "must be at least 10 cm² and at most 1e8 cm² (at least 0.001 m² and at most 10000 m²); got 1e9 cm² (100000 m²)"),
+    (lambda b: b["slurry"].update(solids_density="30 g/cm^3"), "slurry.solids_density",
+     "must be at least 0.1 g/cm³ and at most 25 g/cm³ (at least 100 kg/m³ and at most 25000 kg/m³); "
+     "got 30 g/cm³ (30000 kg/m³)"),
+    (lambda b: b["slurry"].update(viscosity="20000 mPa*s"), "slurry.viscosity",
+     "must be at least 0.01 mPa·s and at most 1e4 mPa·s (at least 1e-5 Pa·s and at most 10 Pa·s); "
+     "got 2e4 mPa·s (20 Pa·s)"),
+])
+def test_a_refusal_writes_units_as_people_write_them(client, change, field, expected):
+    assert _msg(client, change, field) == expected
+
+
+def test_a_unit_error_gives_its_examples_as_people_write_them(client):
+    msg = _msg(client, lambda b: b["press"].update(filter_area="50 bar"), "press.filter_area")
+    assert msg == "'bar' is not a unit of area; use, for example, \"120 m²\" or \"1300 ft²\"", msg
+
+
 def test_numbers_in_messages_carry_no_rounding_noise(client):
     msg = _msg(client, lambda b: b["slurry"].update(solids_density="2.6000000000000001 kg/m^3"), "slurry.solids_density")
     assert "got 2.6 kg/m" in msg and "0000000" not in msg
@@ -92,7 +124,9 @@ def test_a_fraction_typed_with_percent_chosen_is_flagged_as_a_slip(client):
 def test_a_pressure_a_hundred_times_too_high_is_flagged_in_the_unit_typed(client):
     w = _warnings(client, lambda b: b["feed"].update(pressure="1000 bar"))
     assert w["feed.pressure"].startswith("1000 bar is outside the usual 3–20 bar")
-    assert "factor of 100 too large" in w["feed.pressure"]
+    # how far off it is (1000 / 20), not the power of ten that would bring it in (it said "a factor
+    # of 100" of a value 50 times the top: a plant-engineer check)
+    assert "It is 50 times too large for the usual range: check the unit." in w["feed.pressure"]
 
 
 def test_an_unusual_value_that_is_no_slip_is_flagged_without_a_guess(client):
@@ -118,7 +152,7 @@ def test_flags_show_on_the_results_pane(client):
     body = copy.deepcopy(BASE_REQUEST)
     body["feed"]["pressure"] = "1000 bar"
     html = client.post("/ui/results", json=body).json()["html"]
-    assert "Feed pressure:" in html and "factor of 100 too large" in html
+    assert "Feed pressure:" in html and "50 times too large" in html
 
 
 def test_a_value_just_outside_the_usual_range_is_not_called_a_slip(client):
@@ -133,7 +167,8 @@ def test_a_dot_read_as_decimal_point_shows_as_a_factor_of_1000(client):
         b["press"] = {"plate_face_area": "19.000 cm^2", "chambers": 40, "chamber_thickness": "40 mm"}
     w = _warnings(client, change)
     assert w["press.plate_face_area"].startswith("19 cm² is outside the usual 500–60000 cm²")
-    assert "factor of 1000 too small" in w["press.plate_face_area"] and "19 000" in w["press.plate_face_area"]
+    # 500 / 19 = 26 times below the range's low end
+    assert "It is 26 times too small" in w["press.plate_face_area"] and "19 000" in w["press.plate_face_area"]
 
 
 def test_a_bare_number_is_shown_with_its_si_unit(client):
@@ -207,8 +242,8 @@ def test_a_bare_number_refused_as_si_says_the_unit_it_fits_in(client):
 
 @pytest.mark.parametrize("where, field, value, hint", [
     (("slurry",), "solids_mass_fraction", 20, 'a number without a unit is a fraction: for 20 %, send "20 %"'),
-    (("slurry",), "solids_density", 4, 'for 4 g/cm³, send "4 g/cm^3"'),
-    (("press",), "plate_face_area", 15000, 'for 15000 cm², send "15000 cm^2"'),
+    (("slurry",), "solids_density", 4, 'for 4 g/cm³, send "4 g/cm³"'),
+    (("press",), "plate_face_area", 15000, 'for 15000 cm², send "15000 cm²"'),
 ])
 def test_more_bare_numbers_refused_as_si_say_the_unit_they_fit_in(client, where, field, value, hint):
     # a second plant-engineer check: fractions, densities and areas had no hint

@@ -183,10 +183,14 @@ def test_a_target_typed_without_a_unit_is_refused_on_the_page_with_its_unit_aske
     r = client.get(HYDROXIDE, params={"amount": "150", "basis": basis, "samples": "0"})
     assert r.status_code == 200 and "plan-results" not in r.text
     msg = _text(r.text, "plan-error")
-    # 1e5 kg/s = 8.64e6 t/day; 100 m³/s = 8.64e6 m³/day (86,400 s a day)
+    # 1e5 kg/s = 8.64e6 t/day; 100 m³/s = 8.64e6 m³/day (86,400 s a day); the bound written as every
+    # refusal writes it (it read "8.640×10⁶" here and "8.64e6" when the target was typed too big)
     assert msg == (f"Target per calendar day: 150 has no unit: write the target with its unit, such as \"150 {unit}\" of "
                    f"{'dry solids' if basis.startswith('dry') else 'slurry'} per calendar day (allowed: above 0 and "
-                   f"at most 8.640×10⁶ {unit})")
+                   f"at most 8.64e6 {unit})")
+    too_big = _text(client.get(HYDROXIDE, params={"amount": f"9e6 {unit}", "basis": basis, "samples": "0"}).text,
+                    "plan-error")
+    assert f"at most 8.64e6 {unit}" in too_big and "×10" not in too_big, too_big
     us = client.get(HYDROXIDE, params={"amount": "150", "samples": "0", "units": "us"})
     assert '"150 short ton/day"' in _text(us.text, "plan-error")
     # the API's documented contract stays: a bare number is SI (150 kg/s = 12,960 t/day of dry solids)
@@ -306,3 +310,54 @@ def test_the_shift_sentence_gives_its_cost_to_two_figures_and_calls_a_tiny_one_t
 
     assert said("8 h").endswith("the same as the unrestricted best to within 0.05 %.")
     assert re.search(r", \d\.\d % below the unrestricted best\.$", said("2 h"))
+
+
+def _tile(page: str, key: str) -> str:
+    return re.sub(r"\s+", " ", re.sub(r"<[^>]+>", " ", page.split(f'data-key="{key}">')[1].split("</div>")[0])).strip()
+
+
+@pytest.mark.parametrize("units, shown", [("si", "50 °C"), ("us", "122 °F")])
+def test_the_headline_says_the_slurry_temperature_it_is_worked_out_at(client, units, shown):
+    # the cards used the scenario's own 50 °C while the Seasons table below needed more presses
+    # at 12 and 25 °C, and the page never said which temperature the cards were at (a plant-engineer check)
+    amount = "150 t/day" if units == "si" else "165 short ton/day"
+    page = client.get(HYDROXIDE, params={**SEASONS, "amount": amount, "units": units,
+                                         "temperatures": "12 °C; 25 °C; 38 °C"}).text
+    said = _text(page, "plan-conditions")
+    assert said.startswith(f"Worked out at the scenario's own slurry temperature, {shown} (filtrate viscosity ")
+    assert said.endswith("the Seasons table below works them out at the season temperatures, some of which need "
+                         "more presses.")
+    assert page.index('data-testid="plan-conditions"') < page.index('data-testid="plan-headline"')
+    # the API says it too: the scenario's temperature and viscosity beside the figures
+    plan = client.post("/api/v1/plan", json={"inputs": _demo_inputs("hydroxide_membrane_wash"),
+                                             "target": {"dry_solids_per_day": "150 t/day"}, "samples": 0}).json()
+    assert plan["temperature"] == pytest.approx(323.15) and plan["units"]["temperature"] == "K"
+    from server.solver.water import water_viscosity
+
+    assert plan["viscosity"] == pytest.approx(water_viscosity(323.15), rel=1e-12)
+
+
+def test_a_scenario_given_its_viscosity_says_so_above_the_cards(client):
+    inputs = _demo_inputs("hydroxide_sludge")
+    assert "temperature" not in inputs["slurry"]
+    page = client.get("/demo/hydroxide_sludge/plan", params={"amount": "50 t/day", "samples": "0"}).text
+    assert _text(page, "plan-conditions") == ("Worked out at the scenario's own filtrate viscosity, 1.10 mPa·s (the "
+                                              "scenario gives no slurry temperature).")
+    plan = client.post("/api/v1/plan", json={"inputs": inputs, "target": {"dry_solids_per_day": "50 t/day"},
+                                             "samples": 0}).json()
+    assert plan["temperature"] is None and plan["viscosity"] == pytest.approx(1.1e-3)
+
+
+def test_the_chambers_card_says_it_is_one_press_alone_meeting_the_target(client):
+    # "Chambers for one press 64" on a 60-chamber press read as a fault of the press (a plant-engineer
+    # check): it is the fewest chambers of this plate size with which one press alone meets the target
+    page = client.get(HYDROXIDE, params={"amount": "150 t/day", "samples": "0"}).text
+    plan = client.post("/api/v1/plan", json={"inputs": _demo_inputs("hydroxide_membrane_wash"),
+                                             "target": {"dry_solids_per_day": "150 t/day"}, "samples": 0}).json()
+    n = plan["chambers_needed"]
+    assert n is not None and n > 60 and plan["presses_needed"] > 1
+    assert _tile(page, "chambers_needed") == (f"Chambers one press would need to meet the target alone {n} chambers "
+                                              "(this press has 60)")
+    # without a chamber count the card says why there is no figure
+    sludge = client.get("/demo/hydroxide_sludge/plan", params={"amount": "50 t/day", "samples": "0"}).text
+    assert _tile(sludge, "chambers_needed").endswith("— (the scenario gives no chamber count)")

@@ -3,7 +3,7 @@
 import pint
 import pytest
 
-from server.units import UnitError, parse_quantity
+from server.units import KINDS, UnitError, parse_quantity
 
 UREG = pint.UnitRegistry()
 
@@ -172,13 +172,28 @@ def test_every_unit_the_pages_show_can_be_typed_back(quantity, system):
 
 
 def test_units_are_written_as_people_write_them_and_read_back():
-    # one spelling for the pages (the plan page's refusals, the flags, the menus' fallback); every
-    # written form is read back by the parser to the same value
-    from server.units import parse_quantity, written, written_in
+    # one spelling for the pages and the API's messages (refusals, flags, the menus' fallback);
+    # every written form is read back by the parser to the same value
+    from server.units import parse_quantity, written
 
     assert written("kg/m**3") == "kg/m³" and written("mPa*s") == "mPa·s" and written("degF") == "°F"
-    assert written_in('got 200 degC; send "50 cm^2", 3*4') == 'got 200 °C; send "50 cm²", 3*4'
+    assert written("cm2") == "cm²" and written("L/(m^2*h)") == "L/(m²·h)"
     for text, kind in (("1.5 kg/m**3", "density"), ("0.9 mPa*s", "viscosity"), ("68 degF", "temperature"),
-                       ("50 cm^2", "area")):
+                       ("50 cm^2", "area"), ("2.5 m2", "area"), ("150 L/(m^2*h)", "flux")):
         number, unit = text.split(" ")
         assert parse_quantity(f"{number} {written(unit)}", kind) == parse_quantity(text, kind)
+
+
+@pytest.mark.parametrize("kind", sorted(KINDS))
+def test_the_examples_messages_give_are_written_as_people_write_them_and_read_back(kind):
+    # a refusal's "such as ..." is copied into a field or a request: each quoted example reads
+    import re
+
+    from server.units import example, parse_quantity
+
+    text = example(kind)
+    assert not re.search(r"degC|degF|\^|\*", text), text
+    quoted = re.findall(r'"([^"]+)"', text)
+    assert quoted
+    for q in quoted:
+        parse_quantity(q, kind)

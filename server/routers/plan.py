@@ -15,9 +15,10 @@ from ..plan import make_plan
 from ..plancharts import plan_figures
 from ..schemas.common import ERROR_RESPONSES
 from ..schemas.plan import MAX_FLOW, MAX_SOLIDS_RATE, PlanRequest, PlanResponse
+from ..schemas.quantities import bound_text
 from ..solve import CAUTIONS
-from ..units import UnitError, parse_quantity, split_number, written_in
-from ..views import fmt, page_json
+from ..units import UnitError, parse_quantity, split_number
+from ..views import page_json
 
 router = APIRouter(prefix="/api/v1", tags=["plan"], responses=ERROR_RESPONSES)
 
@@ -78,7 +79,7 @@ def amount_without_unit(form: dict, units: str = "si") -> tuple[str, str] | None
     most = top / parse_quantity(f"1 {written}", kind)
     return (f"target.{key}",
             f'{amount} has no unit: write the target with its unit, such as "{amount} {written}" of '
-            f"{dict(BASES)[key]} per calendar day (allowed: above 0 and at most {fmt(most, 4)} {written})")
+            f"{dict(BASES)[key]} per calendar day (allowed: above 0 and at most {bound_text(most, 4)} {written})")
 
 
 #: the unit the API reads a bare target number in (SI), written out when a saved plan refills the form
@@ -207,6 +208,7 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
             _place_errors(context, exc.errors)
         else:
             context["plan"] = result
+            context["press_chambers"] = req.inputs.press.chambers
             figures = plan_figures(result, Units(units))
             context["figures"] = page_json(compact(figures))
             context["charts"] = [(key, CHART_LABELS[key]) for key in figures]
@@ -248,9 +250,6 @@ def _place_errors(context: dict, errors) -> None:
     labels = {name: label for name, label, _ in FORM_FIELDS}
     at_fields, rest = {}, []
     for loc, msg in errors:
-        # units as the page writes them ("200 degC" read as a program's spelling: a
-        # plant-engineer check); the form reads both spellings
-        msg = written_in(msg)
         name, detail = form_field(loc)
         if name is None:
             where = _where(loc)

@@ -154,6 +154,11 @@ class UncertaintyPlanOut(BaseModel):
 
 class PlanResponse(BaseModel):
     basis: Literal["dry_solids", "slurry", "filtrate"]
+    temperature: float | None = Field(
+        description="The scenario's own slurry temperature, at which every figure but the seasons' is worked "
+                    "out [K]; null when the scenario gives the filtrate viscosity instead")
+    viscosity: float = Field(
+        description="The filtrate viscosity of those figures: the scenario's, or water's at its temperature [Pa·s]")
     required: float = Field(description="Throughput needed while cycling [kg/s or m³/s]")
     throughput: float = Field(description="One press, as planned (whole cycles when asked) [kg/s or m³/s]")
     best_throughput: float = Field(description="One press at its best cycle [kg/s or m³/s]")
@@ -162,7 +167,9 @@ class PlanResponse(BaseModel):
     utilisation: float = Field(description="Of each needed press [-]")
     needed_per_press: float = Field(
         description="Best throughput each needed press must reach (the charts' mark) [kg/s or m³/s]")
-    chambers_needed: int | None
+    chambers_needed: int | None = Field(
+        description="The fewest chambers of the scenario's plate size with which one press alone meets the target "
+                    "(downtime per chamber counted) [-]; null without plates or beyond 1,000")
     schedule: ScheduleOut | None
     seasons: list[SeasonOut]
     cloth: ClothOut | None

@@ -5,6 +5,7 @@
 the allowed range in the field's units (never silently clamps).
 """
 
+import math
 from functools import lru_cache
 from typing import Annotated
 
@@ -13,16 +14,32 @@ from pydantic import BeforeValidator, WithJsonSchema
 from ..units import KINDS, MAX_LENGTH, UnitError, example, parse_quantity, split_number, written
 
 
-def _number(value: float, digits: int) -> str:
+def bound_text(value: float, digits: int = 6) -> str:
+    """A number of a refusal (a bound, the value refused) in the one spelling every refusal uses:
+    ``digits`` significant figures, powers of ten as people type them ("8.64e6", "1e-3"), so the
+    same bound reads the same in every message and can be typed back.
+
+    >>> bound_text(8640000.000000001, 4), bound_text(1e-3), bound_text(100000.0)
+    ('8.64e6', '0.001', '100000')
+    """
     text = f"{value:.{digits}g}"
     return text.replace("e+0", "e").replace("e+", "e").replace("e-0", "e-")
 
 
+def _shown_si(value: float, kind: str) -> float:
+    """An SI value in the unit of a bare number, which refusals write: SI, or °C for a temperature."""
+    return value - 273.15 if KINDS[kind].bare_unit == "degC" else value
+
+
+def _bare_label(kind: str) -> str:
+    """The unit of a bare number as people write it ("°C", "m²"; "-": a fraction)."""
+    return "°C" if KINDS[kind].bare_unit == "degC" else KINDS[kind].label
+
+
 def _fmt(value: float, kind: str, digits: int = 6) -> str:
-    if kind == "temperature":
-        return f"{_number(value - 273.15, digits)} degC"
-    label = KINDS[kind].label
-    text = _number(value, digits)
+    """An SI value as a refusal writes it, its unit as people write it ("20 °C", "0.001 m²")."""
+    text = bound_text(_shown_si(value, kind), digits)
+    label = _bare_label(kind)
     return text if label == "-" else f"{text} {label}"
 
 
@@ -60,7 +77,7 @@ def meant(value, kind: str, inside, units: tuple | None = None) -> str:
             if inside(parse_quantity(f"{text} {unit}", kind)):
                 shown = written(unit)
                 bare = "a fraction" if KINDS[kind].label == "-" else f"in {KINDS[kind].label}"
-                return f' (a number without a unit is {bare}: for {text} {shown}, send "{text} {unit}")'
+                return f' (a number without a unit is {bare}: for {text} {shown}, send "{text} {shown}")'
 
         except UnitError:
             return ""
@@ -71,14 +88,16 @@ def _out_of_range(value, si: float, kind: str, allowed: str, gt, ge, lt, le, ins
     """The refusal in the unit the person used (4 significant figures), with SI beside it; for a
     number sent without a unit, the unit it would fit in (``inside``: the range check)."""
     given = user_unit(value, kind)
-    if given is None or (given[1](0.0) == 0.0 and given[1](1.0) == 1.0):  # SI as written: said once
+    if given is None or all(math.isclose(given[1](x), _shown_si(x, kind), rel_tol=1e-12, abs_tol=1e-9)
+                            for x in (0.0, 1.0)):  # in the unit refusals write (SI; °C): said once
         hint = meant(value, kind, inside) if given is None and inside is not None else ""
         return f"must be {allowed}; got {_fmt(si, kind)}{hint}"
-    unit, to_user = given
+    typed, to_user = given
+    unit = written(typed)
     bounds = [(word, to_user(b)) for word, b in (("above", gt), ("at least", ge), ("below", lt), ("at most", le))
               if b is not None]
-    in_user = " and ".join(f"{word} {_number(b, 4)} {unit}" for word, b in bounds)
-    return f"must be {in_user} ({allowed}); got {_number(to_user(si), 4)} {unit} ({_fmt(si, kind)})"
+    in_user = " and ".join(f"{word} {bound_text(b, 4)} {unit}" for word, b in bounds)
+    return f"must be {in_user} ({allowed}); got {bound_text(to_user(si), 4)} {unit} ({_fmt(si, kind)})"
 
 
 def user_unit(value, kind: str):
@@ -140,13 +159,13 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
             return le
         return si
 
+    bare = "a bare number is a fraction" if _bare_label(kind) == "-" else f"a bare number is in {_bare_label(kind)}"
     schema = {
         "anyOf": [{"type": "number", **_number_bounds(kind, gt, ge, lt, le)},
                   {"type": "string", "maxLength": MAX_LENGTH, "pattern": r"^\s*[-+]?(\d|[.,]\d)"}],
         "x-si-unit": KINDS[kind].label,
         "description": (
-            f"{description} [{KINDS[kind].label}]; a bare number is in "
-            f"{KINDS[kind].bare_unit or KINDS[kind].label}, or give a string with a unit "
+            f"{description} [{KINDS[kind].label}]; {bare}, or give a string with a unit "
             f"such as {example(kind)}. Allowed: {allowed}."
         ).strip(),
     }

@@ -213,7 +213,7 @@ def _region_note(first: int, last: int, n: int, drops, offset: int = 0) -> str:
         reasons.append(f"{which}, {zt} off the fit through the others, {why}")
     return (f"Automatic region: readings {first + 1 + offset} to {last + 1 + offset} of {n + offset}; left out "
             + "; ".join(reasons) + f" (the search over all end blocks drops a reading from clean data less than "
-            f"{SEARCH_FALSE_DROP:.1%} of the time).")
+            f"{100 * SEARCH_FALSE_DROP:.1f} % of the time).")
 
 
 def _positive_weights(y) -> np.ndarray:
@@ -409,7 +409,7 @@ def evaluate_test(test: LabTest, compressibility: float = 0.0) -> TestFit:
         if at.size == 0:
             raise SolverInputError(
                 "points", f"no reading reaches the set pressure ({test.pressure:.6g} Pa, within "
-                f"{PRESSURE_TOLERANCE:.0%}): give the set pressure the test held")
+                f"{100 * PRESSURE_TOLERANCE:.0f} %): give the set pressure the test held")
         fill_end = int(at[0])
         if test.model == "classic" and fill_end > 0 and start_t == 0.0 and start_V == 0.0:
             start_t, start_V = float(t[fill_end]), float(V[fill_end])

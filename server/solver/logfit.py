@@ -524,11 +524,12 @@ def alpha_drift(cycle_number, alpha, min_share: float = DRIFT_SHARE) -> Drift:
     note = ""
     start = abs(tr.intercept + tr.slope * float(x.min())) if x.size else 0.0
     if sloped:
-        note = (f"α moved by {change / start:+.1%} over the log, beyond its scatter (±{tr.scatter / level:.1%} "
-                f"from cycle to cycle) and beyond {min_share:.0%}: the feed may have changed")
-    elif stepped:
-        note = (f"{far.size} cycles lie beyond three times α's scatter and more than {min_share:.0%} from its trend: "
+        note = (f"α moved by {100 * change / start:+.1f} % over the log, beyond its scatter "
+                f"(±{100 * tr.scatter / level:.1f} % from cycle to cycle) and beyond {100 * min_share:.0f} %: "
                 "the feed may have changed")
+    elif stepped:
+        note = (f"{far.size} cycles lie beyond three times α's scatter and more than {100 * min_share:.0f} % from "
+                "its trend: the feed may have changed")
     return Drift(bool(sloped or stepped), tr, float(change), note)
 
 

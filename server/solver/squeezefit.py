@@ -352,8 +352,8 @@ def fit_squeeze(test: SqueezeTest) -> SqueezeFit:
         raise SolverInputError(
             f"readings.{k}.1", f"{_shown(y[k], test.quantity)} breaks the trend of the readings: fitted with it, the "
             f"cake would swell from {L0 * 1e3:.4g} mm at the start to {L_inf * 1e3:.4g} mm at equilibrium (porosity "
-            f"{porosity_of(L0 / omega - 1.0):.1%} to {porosity_of(L_inf / omega - 1.0):.1%}), which no squeeze "
-            "does; check this reading (a slipped decimal point?) and the readings' unit")
+            f"{100 * porosity_of(L0 / omega - 1.0):.1f} % to {100 * porosity_of(L_inf / omega - 1.0):.1f} %), which no "
+            "squeeze does; check this reading (a slipped decimal point?) and the readings' unit")
     e0, e_inf = L0 / omega - 1.0, L_inf / omega - 1.0
     eps_inf = float(porosity_of(e_inf))
     eps_se = omega / L_inf**2 * L_inf_se if L_inf_se is not None else None  # eps = 1 - omega/L
@@ -363,7 +363,7 @@ def fit_squeeze(test: SqueezeTest) -> SqueezeFit:
 
     warnings = []
     if U_last < 0.9:
-        warnings.append(f"The test stopped at {U_last:.0%} of the squeeze the model expects: the equilibrium "
+        warnings.append(f"The test stopped at {100 * U_last:.0f} % of the squeeze the model expects: the equilibrium "
                         "thickness (and the final porosity) is extrapolated. A longer test pins it down.")
     if test.creep and (B < 1e-6 or B > 0.94):
         warnings.append(f"The creep fraction came out at the edge of its range (B = {B:.3g}): fit without creep, "
@@ -374,7 +374,7 @@ def fit_squeeze(test: SqueezeTest) -> SqueezeFit:
         warnings.append(f"The consolidation coefficient came out at the edge of the range searched (C_e = {Ce:.3g} "
                         "m²/s): the readings do not show a squeeze the model can follow.")
     if porosity_of(e0) > 0.95:
-        warnings.append(f"The cake would be {porosity_of(e0):.1%} voids at the start of the squeeze: check the "
+        warnings.append(f"The cake would be {100 * porosity_of(e0):.1f} % voids at the start of the squeeze: check the "
                         "readings' unit, the dry solids mass, the solids density and the area.")
     if np.isfinite(r2) and r2 < 0.98:
         warnings.append(f"The model fits the readings only to R² = {r2:.3f}: check the readings.")

@@ -14,7 +14,7 @@ def _check_temperature(T: float) -> None:
     if not (T_MIN_K < T < T_MAX_K):
         raise SolverInputError(
             "temperature",
-            f"water-like filtrate needs 0 to 100 degC (273.15 to 373.15 K); got {T - 273.15:.6g} degC",
+            f"water-like filtrate needs 0 to 100 °C (273.15 to 373.15 K); got {T - 273.15:.6g} °C",
         )
 
 

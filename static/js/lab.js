@@ -7,6 +7,14 @@
   const status = document.getElementById("status");
   const results = document.getElementById("results");
 
+  // each unit menu shows the unit typed in its field, if any (entry.js)
+  function followUnits(block) {
+    block.querySelectorAll("select[data-unit]").forEach((menu) => {
+      const input = block.querySelector(`input[data-name="${menu.dataset.unit}"]`);
+      if (input) window.presscycleEntry.followTypedUnit(input, menu);
+    });
+  }
+
   function addTest() {
     const node = template.content.firstElementChild.cloneNode(true);
     const n = tests.children.length + 1;
@@ -15,6 +23,7 @@
       const key = el.dataset.name || el.dataset.unit;
       el.id = `t${n}-${key.replace(".", "-")}${el.dataset.unit ? "-unit" : ""}`;
     });
+    followUnits(node);
     node.querySelector(".remove").addEventListener("click", () => { if (tests.children.length > 1) node.remove(); });
     node.querySelector("input[type=file]").addEventListener("change", (e) => {
       const file = e.target.files[0];
@@ -116,6 +125,7 @@
     url: "/ui/lab-fit", form, results, status, collect, showErrors, what: "readings",
     edited: "You changed the readings: press Fit to see their results. These are for the earlier readings.",
   });
+  window.presscycleEntry.followTypedUnit(document.getElementById("ref-p"), document.getElementById("ref-p-unit"));
   document.getElementById("add-test").addEventListener("click", addTest);
   form.addEventListener("submit", (e) => { e.preventDefault(); fit(); });
   addTest();

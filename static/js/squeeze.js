@@ -53,6 +53,11 @@
     reader.onerror = () => { status.textContent = `The file ${file.name} could not be read.`; };
     reader.readAsText(file);
   });
+  // each unit menu shows the unit typed in its field, if any (entry.js)
+  form.querySelectorAll("select[data-unit]").forEach((menu) => {
+    const input = form.querySelector(`input[data-name="${menu.dataset.unit}"]`);
+    if (input) window.presscycleEntry.followTypedUnit(input, menu);
+  });
   form.addEventListener("submit", (e) => { e.preventDefault(); fit(); });
   document.getElementById("fit-squeeze").disabled = false;
   window.presscycleSqueeze = { collect, fit };

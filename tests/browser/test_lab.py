@@ -92,3 +92,55 @@ def test_readings_to_fit_the_server_cannot_read_are_said_at_the_field(page):
     err = block.locator(".field[data-path='use'] .error")
     err.wait_for(state="visible")
     assert "e.g. 1, 5" in err.inner_text() and "required" not in err.inner_text()
+
+
+def test_a_unit_typed_in_a_field_is_shown_by_its_menu_and_flagged_by_its_true_factor(page):
+    # "2.5 m^2" typed beside a menu still saying cm², and a flag saying "a factor of 100" of a
+    # value 50 times the usual top (a plant-engineer check)
+    page.goto(page.base + "/lab")
+    block = page.locator("#tests > fieldset").nth(0)
+    fill_test(block, "Example 14.2-1", "338", (DATA / "geankoplis_14_2_1.csv").read_text())
+    area, menu = block.locator('[data-name="area"]'), block.locator('[data-unit="area"]')
+    assert menu.input_value() == "cm^2" and not menu.is_disabled()
+    for typed in ("2.5 m^2", "2.5 m²", "2.5 m2"):
+        area.fill(typed)
+        # the menu shows the unit typed, and takes no other choice while it is typed
+        assert menu.input_value() == "m^2" and menu.is_disabled(), typed
+        assert page.evaluate("window.presscycleLab.collect().tests[0].area") == typed
+    page.click("#fit")
+    flag = page.locator("[data-testid=lab-input-warning]")
+    flag.wait_for(state="visible")
+    assert "2.5 m² is outside the usual 0.001–0.05 m²" in flag.inner_text()
+    assert "It is 50 times too large for the usual range: check the unit." in flag.inner_text()
+    # the unit cleared: the number keeps the unit it had (the menu stays at m², free again)
+    area.fill("2.5")
+    assert menu.input_value() == "m^2" and not menu.is_disabled()
+    assert page.evaluate("window.presscycleLab.collect().tests[0].area") == "2.5 m^2"
+    # a unit the menu does not list is shown as typed; cleared, the menu's own choice comes back
+    menu.select_option("cm^2")
+    area.fill("250 dm^2")
+    assert menu.input_value() == "dm^2" and menu.is_disabled()
+    assert menu.locator("option:checked").inner_text() == "dm^2"
+    area.fill("439")
+    assert menu.input_value() == "cm^2" and not menu.is_disabled()
+    assert menu.locator("option[value='dm^2']").count() == 0
+    assert page.evaluate("window.presscycleLab.collect().tests[0].area") == "439 cm^2"
+    # the same on the squeeze test and the reference pressure, and on a test added later
+    page.fill("#squeeze [data-name=area]", "50 m^2")
+    assert page.locator("#squeeze [data-unit=area]").input_value() == "m^2"
+    page.fill("#ref-p", "1 atm")
+    assert page.locator("#ref-p-unit").input_value() == "atm"
+    page.click("#add-test")
+    second = page.locator("#tests > fieldset").nth(1)
+    second.locator('[data-name="pressure"]').fill("46.2 kPa")
+    assert second.locator('[data-unit="pressure"]').input_value() == "kPa"
+    clean(page)
+
+
+def test_the_dry_cake_mass_has_a_unit_menu(page):
+    # the field had no menu and "12" went as 12 kg (the API's bare mass), whatever "g" was meant
+    page.goto(page.base + "/lab")
+    block = page.locator("#tests > fieldset").nth(0)
+    assert block.locator('[data-unit="dry_cake_mass"]').input_value() == "g"
+    block.locator('[data-name="dry_cake_mass"]').fill("12")
+    assert page.evaluate("window.presscycleLab.collect().tests[0].dry_cake_mass") == "12 g"

@@ -264,7 +264,7 @@ def test_drift_needs_a_change_beyond_the_scatter_and_of_practical_size():
     big = logfit.alpha_drift(k, ALPHA * (1 + 0.08 * (k - 1) / 39) * wiggle)
     assert small.trend.slope_low > 0 and abs(small.change) > 3 * small.trend.scatter  # beyond the scatter
     assert not small.flagged
-    assert big.flagged and "+8.0%" in big.note
+    assert big.flagged and "+8.0 %" in big.note and "beyond 5 %" in big.note  # the house style: "8 %"
 
 
 def test_two_repeated_wash_intervals_do_not_make_the_clean_cloth_exact():
