@@ -42,8 +42,19 @@ CAKE_BASIS_Z_ROUND_OFF = 1e-16
 #: (phi < 1e-300^(1/r)); beyond, the cloth's share is below 1e-260
 CAKE_BASIS_Y_RANGE = (1e-300, 1e260)
 
-#: compiled, cached on disk; division by zero gives an infinity as numpy does (no check per division)
-_compiled = njit(cache=True, nogil=True, error_model="numpy")
+#: division by zero gives an infinity as numpy does (no check per division)
+_OPTIONS = {"nogil": True, "error_model": "numpy"}
+
+
+def _compiled(function):
+    """``function`` compiled by numba and kept on disk in the first writable folder numba finds
+    (``NUMBA_CACHE_DIR``, ``__pycache__`` beside this file, ``~/.cache/numba``); where it finds
+    none (a read-only install run by a user without a home), compiled afresh at each start
+    rather than refusing to start (numba raises "no locator available" then)."""
+    try:
+        return njit(cache=True, **_OPTIONS)(function)
+    except RuntimeError:
+        return njit(**_OPTIONS)(function)
 
 
 @lru_cache(maxsize=64)
@@ -367,7 +378,7 @@ class CakeBasisPressureCurve:
         """
         if not downtime > 0.0:
             return 0.0
-        tau = downtime / (self.medium_constant * self.V0)
+        tau = float(downtime) / (self.medium_constant * self.V0)  # a float: one compiled kind
         return self.V0 * _peak_volume(tau, float(wash_coefficient), *self._args)
 
     def first_volume_where(self, quantity: str, level: float, V_limit: float) -> float | None:
