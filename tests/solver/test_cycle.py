@@ -172,6 +172,23 @@ def test_low_chamber_fill_at_the_optimum_gives_a_warning():
     assert any("partly filled" in w for w in sol.warnings)
 
 
+def test_a_partly_filled_through_wash_says_what_filling_costs():
+    # a plant-engineer check: the warning told the engineer to fill the chambers without the
+    # figure; it now gives the chambers-full cycle's throughput as a share of the best's, the
+    # same cycle the results show beside it (also per thickness of a comparison)
+    system = make_system(L=0.5, wash_ratio=0.5)
+    sol = solve_cycle(system)
+    assert sol.best.chamber_fill < 0.95 and sol.best.wash_volume > 0.0
+    share = sol.chambers_full.filtrate_throughput / sol.best.filtrate_throughput
+    assert 0.0 < share < 1.0
+    (warning,) = [w for w in sol.warnings if w.startswith("Through-washing")]
+    assert f"the chambers-full cycle gives {100 * share:.0f} % of this cycle's throughput" in warning
+    ((_, row),) = compare_thicknesses(system, np.array([0.5]))
+    assert any(f"gives {100 * share:.0f} %" in w for w in row.warnings)
+    simple = solve_cycle(make_system(L=0.5, wash_ratio=0.5, washing="simple"))
+    assert not any(w.startswith("Through-washing") for w in simple.warnings)
+
+
 def test_zero_downtime_is_refused():
     with pytest.raises(SolverInputError) as err:
         CycleSettings(0.0)
