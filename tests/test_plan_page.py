@@ -287,6 +287,19 @@ def test_a_bare_season_temperature_on_a_us_page_is_refused_asking_for_its_unit(c
     assert 'data-testid="plan-verdict"' in si
 
 
+def test_the_season_temperatures_hint_follows_the_page_units(client):
+    # the hint said "8; 20; 32 in °C" on a US page too, where a bare number is refused (a
+    # plant-engineer check): there it asks for each temperature with its unit
+    import html
+
+    def hint(units):
+        page = html.unescape(client.get(HYDROXIDE, params={"units": units}).text)
+        return page.split("Season temperatures")[1].split('class="hint">')[1].split("</p>")[0]
+
+    assert "in °C" in hint("si") and "each with its unit" not in hint("si")
+    assert "each with its unit" in hint("us") and "in °C" not in hint("us") and "°F" in hint("us")
+
+
 def test_one_press_is_said_in_the_singular(client):
     # "1 press like this one meet" and "Presses needed 1 presses" (a second plant-engineer check)
     page = client.get(HYDROXIDE, params={"amount": "200 kg/h", "samples": "0", "spares": "0"}).text

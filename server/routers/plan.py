@@ -49,6 +49,20 @@ FORM_FIELDS = [
     ("samples", "Monte Carlo samples", "0 to 100,000"),
     ("seed", "Seed", "the same seed gives the same answer"),
 ]
+#: the season temperatures' hint on a page in US units, where a bare number is refused
+#: (temperatures_without_unit): the SI hint's bare "8; 20; 32 in °C" led a plant engineer there
+#: into that refusal
+US_TEMPERATURES_HINT = 'separated by ;, each with its unit (e.g. "46 °F; 68 °F; 90 °F")'
+
+
+def form_fields(units: str) -> list[tuple[str, str, str]]:
+    """The form's fields with the hints of the page's unit system."""
+    if units != "us":
+        return FORM_FIELDS
+    return [(name, label, US_TEMPERATURES_HINT if name == "temperatures" else hint)
+            for name, label, hint in FORM_FIELDS]
+
+
 DEFAULT_FORM = {"basis": "dry_solids_per_day", "amount": "", "hours_per_day": "24", "days_per_week": "7",
                 "availability": "100 %", "margin": "0 %", "spares": "1", "shift": "", "whole_cycles": "on",
                 "temperatures": "", "pump_efficiency": "50 %", "samples": "10000", "seed": "1"}
@@ -181,7 +195,7 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
         form = form_from_plan(saved_plan)
     else:
         form = form_from_scenario_target(inputs)
-    context = {"title": title, "form": form, "fields": FORM_FIELDS, "bases": BASES, "back": back,
+    context = {"title": title, "form": form, "fields": form_fields(units), "bases": BASES, "back": back,
                "plan": None, "errors": [], "field_errors": {}, "figures": "{}", "u": Units(units),
                "inputs_json": json.dumps(inputs),
                "plan_json": "", "parent_id": parent_id or "", "saved_plan": saved_plan, "cautions": CAUTIONS}
