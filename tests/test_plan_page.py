@@ -230,7 +230,7 @@ def test_the_headline_names_a_season_shortfall_and_no_probability_without_uncert
     # the seasons table's own figures: 4 presses at 12 °C and 25 °C, 3 planned (+1 spare)
     assert verdict.startswith("3 presses like this one meet")
     # (whole degrees without ".0": "12.0" and "8.00" read as more precise than typed)
-    assert ("Not in every season: at 12 and 25 °C the slurry needs 4 presses, more than the 3 planned: "
+    assert ("Not in every season: the slurry needs 4 presses at 12 °C and 4 at 25 °C, more than the 3 planned: "
             "the spare would have to run then (see Seasons).") in verdict
     assert "samples" not in verdict and "No input is uncertain" in r.text
     # nor percentiles and a histogram of samples that do not spread (all P10 = P50 = P90)
@@ -248,7 +248,7 @@ def test_us_units_show_season_temperatures_in_fahrenheit_and_the_page_switches_u
     # typed with their unit (a bare number on a US page is refused: see below)
     r = client.get(HYDROXIDE, params={**SEASONS, "temperatures": "12 °C; 25 °C; 38 °C", "units": "us"})
     verdict = _text(r.text, "plan-verdict")
-    assert "at 53.6 and 77 °F" in verdict  # 12 °C and 25 °C: °F = 1.8 °C + 32 (exact)
+    assert "at 53.6 °F and 4 at 77 °F" in verdict  # 12 °C and 25 °C: °F = 1.8 °C + 32 (exact)
     assert "°C" not in r.text.split('data-testid="plan-results"')[1].split("What to measure next")[0]
     assert '<input type="radio" name="units" value="us" checked>' in r.text
     si = client.get(HYDROXIDE, params=SEASONS).text
@@ -306,6 +306,45 @@ def test_one_press_is_said_in_the_singular(client):
     assert _text(page, "plan-verdict").startswith("1 press like this one meets ")
     tiles = " ".join(page.split('data-key="presses_needed"')[1].split("</div>")[0].split())
     assert '<span class="num">1</span> <span class="unit">press</span>' in tiles, tiles
+
+
+def test_each_short_season_has_its_own_count_and_only_those_beyond_the_installed_are_said_so(client):
+    # "at 8 and 20 °C the slurry needs 5 presses, more than the 3 planned and more than the 4
+    # installed" where the Seasons table said 20 °C needs 4 (a plant-engineer check)
+    page = client.get("/demo/iron_oxide_pigment/plan", params={"amount": "50 t/day", "temperatures": "8; 20; 32",
+                                                               "samples": "0"}).text
+    verdict = _text(page, "plan-verdict")
+    rows = re.findall(r"<tr><td>([\d.]+)</td>.*?</tr>", page, flags=re.S)
+    assert rows, "the Seasons table"
+    planned = int(re.search(r"^(\d+) press", verdict).group(1))
+    installed = int(re.search(r"install (\d+)\.", verdict).group(1))
+    short = {}
+    for row in re.findall(r"<tr><td>[\d.]+</td>.*?</tr>", page, flags=re.S):
+        cells = [re.sub(r"<[^>]+>", "", c).strip() for c in re.findall(r"<td[^>]*>(.*?)</td>", row, flags=re.S)]
+        needed = next(int(c) for c in cells[2:] if c.isdigit())
+        if needed > planned:
+            short[cells[0]] = needed
+    assert len(short) >= 2 and len(set(short.values())) >= 2, short  # the case the check found
+    said = re.search(r"the slurry needs (.*?), more than the", verdict).group(1)
+    for T, n in short.items():
+        assert re.search(rf"\b{n}( presses)? at {re.escape(T)} °C", said), (T, n, said)
+    over = [T for T, n in short.items() if n > installed]
+    tail = verdict.split("planned")[1]
+    assert ("also more than the" in tail) == bool(over)
+    for T in short:
+        assert (T in tail) == (T in over)
+
+
+def test_the_seasons_say_they_use_water_viscosity_when_the_scenario_gives_its_own(client):
+    # hydroxide sludge gives 1.1 mPa·s and no temperature; the seasons used water's (1.00 at
+    # 20 °C) without a word (a plant-engineer check)
+    page = client.get("/demo/hydroxide_sludge/plan", params={"amount": "5 t/day", "temperatures": "8; 20",
+                                                             "samples": "0"}).text
+    note = _text(page, "plan-seasons-viscosity")
+    assert "1.10 mPa·s" in note and "water's viscosity at each temperature" in note
+    copper = client.get("/demo/copper_concentrate/plan", params={"amount": "120 t/day", "temperatures": "8; 20",
+                                                                "samples": "0"}).text
+    assert 'data-testid="plan-seasons"' in copper and 'data-testid="plan-seasons-viscosity"' not in copper
 
 
 def test_the_seasons_note_agrees_in_number_with_one_planned_press(client):

@@ -198,6 +198,9 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
     context = {"title": title, "form": form, "fields": form_fields(units), "bases": BASES, "back": back,
                "plan": None, "errors": [], "field_errors": {}, "figures": "{}", "u": Units(units),
                "inputs_json": json.dumps(inputs),
+               # the seasons use water's viscosity at each temperature (server/plan.py _season): said
+               # when the scenario gives its own (a plant-engineer check found it silently dropped)
+               "viscosity_given": (inputs.get("slurry") or {}).get("viscosity") is not None,
                "plan_json": "", "parent_id": parent_id or "", "saved_plan": saved_plan, "cautions": CAUTIONS}
     # a plan is worked out when asked for (the form sent) or saved; a scenario's own target
     # only fills the form
