@@ -347,6 +347,19 @@ def test_the_seasons_say_they_use_water_viscosity_when_the_scenario_gives_its_ow
     assert 'data-testid="plan-seasons"' in copper and 'data-testid="plan-seasons-viscosity"' not in copper
 
 
+def test_plan_without_a_target_says_so_at_its_field(client):
+    # on a demo without a target, pressing Plan with the target empty did nothing and said
+    # nothing (a plant-engineer check)
+    page = client.get("/demo/hydroxide_sludge/plan", params={"amount": "", "samples": "0"}).text
+    assert 'data-testid="plan-verdict"' not in page
+    error = " ".join(page.split('data-field="amount"')[1].split("</p>")[0].split()).replace("&#34;", '"')
+    assert 'Target per calendar day:</strong> give one, with its unit, such as "120 t/day"' in error
+    us = client.get("/demo/hydroxide_sludge/plan", params={"amount": " ", "units": "us", "samples": "0"}).text
+    assert '"120 short ton/day"' in us.replace("&#34;", '"')
+    plain = client.get("/demo/hydroxide_sludge/plan").text  # the page opened, not sent: no refusal
+    assert 'data-testid="plan-error"' not in plain
+
+
 def test_the_seasons_note_agrees_in_number_with_one_planned_press(client):
     # "whether the 1 planned press (without the spare) meet the target" (a plant-engineer check)
     page = client.get("/demo/copper_concentrate/plan", params={"amount": "120 t/day", "temperatures": "8; 20; 32",

@@ -203,8 +203,13 @@ async def plan_page(request: Request, title: str, inputs: dict, saved_plan: dict
                "viscosity_given": (inputs.get("slurry") or {}).get("viscosity") is not None,
                "plan_json": "", "parent_id": parent_id or "", "saved_plan": saved_plan, "cautions": CAUTIONS}
     # a plan is worked out when asked for (the form sent) or saved; a scenario's own target
-    # only fills the form
-    if form["amount"].strip() and (given or saved_plan):
+    # only fills the form. The form sent without a target is said so at its field (Plan did
+    # nothing and said nothing: a plant-engineer check)
+    if given and not form["amount"].strip():
+        written = TARGET_UNITS[form["basis"]]["us" if units == "us" else "si"]
+        _place_errors(context, [(("body", "target"), f'give one, with its unit, such as '
+                                                     f'"120 {written}"')])
+    elif form["amount"].strip() and (given or saved_plan):
         plan_inputs = plan_from_form(form)
         context["plan_json"] = json.dumps(plan_inputs)
         bare = (amount_without_unit(form, units) or temperatures_without_unit(form, units)) if given else None
