@@ -240,6 +240,15 @@ def test_a_bare_number_refused_as_si_says_the_unit_it_fits_in(client):
     assert "without a unit" not in _msg(client, lambda b: b["feed"].update(pressure="7 Pa"), "feed.pressure")
 
 
+def test_an_exponent_refused_gets_no_percent_hint(client):
+    # a compressibility of 1.5 was answered 'for 1.5 %, send "1.5 %"': an exponent is never a
+    # percentage (a plant-engineer check); a mass fraction still gets the hint
+    msg = _msg(client, lambda b: b["cake"].update(compressibility=1.5), "cake.compressibility")
+    assert msg.endswith("must be at least 0 and below 1; got 1.5"), msg
+    msg = _msg(client, lambda b: b["slurry"].update(solids_mass_fraction=58), "slurry.solids_mass_fraction")
+    assert 'for 58 %, send "58 %"' in msg, msg
+
+
 @pytest.mark.parametrize("where, field, value, hint", [
     (("slurry",), "solids_mass_fraction", 20, 'a number without a unit is a fraction: for 20 %, send "20 %"'),
     (("slurry",), "solids_density", 4, 'for 4 g/cm³, send "4 g/cm³"'),

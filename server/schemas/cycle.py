@@ -73,11 +73,13 @@ class LocalLawsIn(Strict):
     resistance_at_zero_stress: quantity(
         "specific_resistance", ge=1e5, le=1e17, description="alpha_0 in alpha(p_s) = alpha_0 (1 + p_s/p_a)^n"
     ) = Field(description="[m/kg]")
-    resistance_exponent: quantity("fraction", ge=0.0, lt=2.0, description="n [-]") = Field(description="[-]")
+    resistance_exponent: quantity(
+        "fraction", ge=0.0, lt=2.0, description="n [-]", unit_hint=False) = Field(description="[-]")
     solidosity_at_zero_stress: quantity(
         "fraction", gt=0.0, lt=1.0, description="eps_s0 in eps_s(p_s) = eps_s0 (1 + p_s/p_a)^beta"
     ) = Field(description="Solids volume fraction at no stress [-]")
-    solidosity_exponent: quantity("fraction", ge=0.0, lt=1.0, description="beta [-]") = Field(description="[-]")
+    solidosity_exponent: quantity(
+        "fraction", ge=0.0, lt=1.0, description="beta [-]", unit_hint=False) = Field(description="[-]")
     stress_scale: LabPressure = Field(description="p_a [Pa]")
 
     def to_solver(self) -> TillerLeu:
@@ -98,10 +100,12 @@ class CakeIn(Strict):
                           "tabulated at 1 lbf/ft^2); needed when compressibility > 0"
     )
     compressibility: quantity(
-        "fraction", ge=0.0, lt=1.0, description="Cake compressibility s in alpha = alpha_ref (dP/p_ref)^s"
+        "fraction", ge=0.0, lt=1.0, description="Cake compressibility s in alpha = alpha_ref (dP/p_ref)^s",
+        unit_hint=False,
     ) = 0.0
     compressibility_stderr: quantity(
-        "fraction", ge=0.0, le=1.0, description="Standard error of compressibility, e.g. from a lab fit"
+        "fraction", ge=0.0, le=1.0, description="Standard error of compressibility, e.g. from a lab fit",
+        unit_hint=False,
     ) | None = None
     pressure_basis: Literal["cake", "total"] = Field(
         "cake", description="cake: the resistance belongs to the pressure across the cake, dP - mu R_m q / A "

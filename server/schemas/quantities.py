@@ -126,8 +126,10 @@ def _number_bounds(kind, gt, ge, lt, le) -> dict:
     return {name: value + shift for name, value in names.items() if value is not None}
 
 
-def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str = ""):
-    """An Annotated float field type for one kind of quantity with an allowed range (SI)."""
+def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str = "", unit_hint: bool = True):
+    """An Annotated float field type for one kind of quantity with an allowed range (SI).
+    ``unit_hint`` False: a refused bare number gets no "for 1.5 %, send ..." hint (an exponent
+    such as the compressibility is a fraction by kind but never a percentage: the hint misled)."""
     allowed = range_text(kind, gt, ge, lt, le)
 
     def inside(si: float) -> bool:
@@ -151,7 +153,7 @@ def quantity(kind: str, *, gt=None, ge=None, lt=None, le=None, description: str 
         # an inclusive bound given exactly in another unit may come out one rounding step past
         # it ("0.001 g/L" -> 0.0009999999999999998 kg/m^3): within 1e-9 it is the bound
         if not inside(si):
-            raise ValueError(_out_of_range(value, si, kind, allowed, gt, ge, lt, le, inside))
+            raise ValueError(_out_of_range(value, si, kind, allowed, gt, ge, lt, le, inside if unit_hint else None))
         # within the tolerance past an inclusive bound it is the bound, for every later check too
         if ge is not None and si < ge:
             return ge
