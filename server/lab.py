@@ -8,7 +8,7 @@ import numpy as np
 from . import solver
 from .errors import InputError
 from .labdata import CsvError, parse_compression, parse_readings
-from .plausibility import LAB_USUAL, fitted_resistance_warnings, input_warnings
+from .plausibility import LAB_USUAL, dry_cake_mass_warnings, fitted_resistance_warnings, input_warnings
 from .schemas.labfit import CompressionFitRequest, LabFitRequest, LabTestIn
 from .solve import first_non_finite, liquid_density
 from .solver import labfit, locallaws, water
@@ -171,6 +171,9 @@ def fit_request(lab_request: LabFitRequest) -> dict:
         label = t.name or f"test {i + 1}"
         warnings.extend(f"{label}: {w}" for w in fit.warnings)
     warnings.extend(combined.warnings)
+    warnings.extend(dry_cake_mass_warnings([(_test_label(t, i), test.solids_per_filtrate)
+                                            for i, ((t, _, _), test) in enumerate(zip(inputs, tests))
+                                            if t.c is None and t.dry_cake_mass is not None]))
     warnings.extend(fitted_resistance_warnings(
         combined.resistance_ref, [(_test_label(t, i), fit.resistance)
                                   for i, ((t, _, _), fit) in enumerate(zip(inputs, fits))]))

@@ -367,6 +367,19 @@ def fitted_resistance_warnings(resistance_ref: float, tests: list[tuple[str, flo
     return []
 
 
+def dry_cake_mass_warnings(tests: list[tuple[str, float]]) -> list[str]:
+    """A warning per lab test whose c, worked out from its dry cake mass and final filtrate
+    volume, lies outside the usual range (LAB_USUAL["tests.*.c"]): a mass typed in kg with g
+    chosen, or the other way, gave a c 1000 times off with no word but the resistance's (a
+    plant-engineer check). ``tests``: (label, c [kg/m^3]) of the tests that gave a dry cake mass."""
+    low, high = LAB_USUAL["tests.*.c"]
+    return [f"{label[:1].upper() + label[1:]}: the dry cake mass gives c = {_nice(c)} kg/m³ of filtrate, "
+            f"{times(low / c if c < low else c / high)} times {'below' if c < low else 'above'} the usual "
+            f"{usual_range('tests.*.c', 'kg/m^3')}; it was calculated as given: check the unit of the dry cake "
+            "mass (g or kg) and the final filtrate volume."
+            for label, c in tests if not low <= c <= high]
+
+
 def fitted_consolidation_warnings(consolidation_coefficient: float) -> list[str]:
     """A warning when a squeeze fit's C_e lies outside the usual range of cakes
     (USUAL["cycle.squeeze.consolidation_coefficient"])."""

@@ -90,6 +90,25 @@ def test_c_from_slurry_data_and_from_dry_cake_mass(client):
     assert b["c"] == pytest.approx(13.276 / 0.106)
 
 
+def test_a_dry_cake_mass_in_the_wrong_unit_is_flagged_through_its_c(client):
+    # 117.6 typed with kg chosen (meant g) gave c 1000 times the usual and no word but the
+    # resistance's, which did not name the mass (a plant-engineer check); the usual mass is quiet
+    base = {"pressure": "3 bar", "area": "2.72 m^2", "viscosity": "1 mPa*s",
+            "csv": (DATA / "holdich_constant_pressure.csv").read_text()}
+    quiet = post(client, {"tests": [{**base, "dry_cake_mass": "13.276 kg"}]}).json()
+    assert not any("dry cake mass" in w for w in quiet["warnings"])
+    slip = post(client, {"tests": [{**base, "dry_cake_mass": "13.276 g", "name": "leaf"}]}).json()  # meant kg
+    (said,) = [w for w in slip["warnings"] if "dry cake mass" in w]
+    c = slip["tests"][0]["c"]
+    assert c == pytest.approx(0.013276 / 0.106) and c < 10.0
+    assert said.startswith("Test 1 (leaf): the dry cake mass gives c = 0.125 kg/m³ of filtrate, 80 times below the "
+                           "usual 10–1500 kg/m³;"), said
+    assert "check the unit of the dry cake mass (g or kg)" in said
+    heavy = post(client, {"tests": [{**base, "dry_cake_mass": "1000 kg"}]}).json()
+    assert any(w.startswith("Test 1: the dry cake mass gives c = 9430 kg/m³ of filtrate, 6.3 times above")
+               for w in heavy["warnings"]), heavy["warnings"]
+
+
 def test_user_region_by_index(client):
     r = post(client, {"tests": [{**EXAMPLE, "use": [0, 9]}], **TEXTBOOK}).json()["tests"][0]
     assert r["points_used"] == list(range(10))
