@@ -19,6 +19,9 @@ def _msg(client, change, field, path="/api/v1/cycle", wrap=None):
 def test_a_percent_field_is_answered_in_percent(client):
     msg = _msg(client, lambda b: b["slurry"].update(solids_mass_fraction="120 %"), "slurry.solids_mass_fraction")
     assert "below 100 %" in msg and "got 120 %" in msg
+    # in % alone: "(above 0 and at most 1); got 150 % (1.5)" repeated the bounds as a fraction (a
+    # plant-engineer check)
+    assert msg.endswith("; got 120 %") and "(" not in msg, msg
 
 
 def test_a_pressure_in_bar_is_answered_in_bar_with_si_beside(client):

@@ -97,6 +97,8 @@ def _out_of_range(value, si: float, kind: str, allowed: str, gt, ge, lt, le, ins
     bounds = [(word, to_user(b)) for word, b in (("above", gt), ("at least", ge), ("below", lt), ("at most", le))
               if b is not None]
     in_user = " and ".join(f"{word} {bound_text(b, 4)} {unit}" for word, b in bounds)
+    if unit == "%":  # a share typed in % is answered in % alone: "(above 0 and at most 1)" beside it read as noise
+        return f"must be {in_user}; got {bound_text(to_user(si), 4)} %"
     return f"must be {in_user} ({allowed}); got {bound_text(to_user(si), 4)} {unit} ({_fmt(si, kind)})"
 
 
