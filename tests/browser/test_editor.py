@@ -10,7 +10,8 @@ pytestmark = [pytest.mark.browser, pytest.mark.slow]
 def headline(page) -> dict:
     out = {}
     for fig in page.locator("[data-testid=headline] .fig").all():
-        out[fig.get_attribute("data-key")] = fig.locator("dd").inner_text()
+        # (a figure and its unit are joined by a no-break space: read as the space a person sees)
+        out[fig.get_attribute("data-key")] = fig.locator("dd").inner_text().replace("\xa0", " ")
     return out
 
 
