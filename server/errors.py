@@ -66,6 +66,12 @@ def _field(loc) -> str:
     return ".".join(parts) if parts else "body"
 
 
+def _n(x) -> str:
+    """A limit as people write it: 24, not 24.0 ("must be at most 24.0" read as more precise than
+    meant: a plant-engineer check)."""
+    return f"{x:g}" if isinstance(x, float) else str(x)
+
+
 #: The library's other messages in the tool's words (ctx holds the limits).
 _WORDED = {
     "int_parsing": lambda c: "must be a whole number",
@@ -80,10 +86,10 @@ _WORDED = {
     "string_too_long": lambda c: f"must be at most {c.get('max_length')} characters",
     "too_short": lambda c: f"give at least {c.get('min_length')} entries",
     "too_long": lambda c: f"give at most {c.get('max_length')} entries",
-    "greater_than_equal": lambda c: f"must be at least {c.get('ge')}",
-    "greater_than": lambda c: f"must be above {c.get('gt')}",
-    "less_than_equal": lambda c: f"must be at most {c.get('le')}",
-    "less_than": lambda c: f"must be below {c.get('lt')}",
+    "greater_than_equal": lambda c: f"must be at least {_n(c.get('ge'))}",
+    "greater_than": lambda c: f"must be above {_n(c.get('gt'))}",
+    "less_than_equal": lambda c: f"must be at most {_n(c.get('le'))}",
+    "less_than": lambda c: f"must be below {_n(c.get('lt'))}",
     "literal_error": lambda c: f"must be one of {c.get('expected')}",
     "dict_type": lambda c: "must be an object",
     "model_type": lambda c: "must be an object",

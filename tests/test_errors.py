@@ -86,3 +86,12 @@ def test_every_solver_path_maps_to_a_field_of_the_request():
     assert api_path("nothing.known") == ("body",)
     assert api_path("water.temperature") == ("body", "slurry", "temperature")
     assert api_path("end.flow") == ("body", "cycle", "end", "flow")
+
+
+def test_a_limit_is_written_without_a_trailing_zero(client):
+    # "Hours a working day: must be at most 24.0" (a plant-engineer check): 24, as people write it
+    r = client.post("/api/v1/plan", json={"inputs": {}, "target": {"dry_solids_per_day": "100 t/day",
+                                                                   "hours_per_day": 30}, "samples": 0})
+    assert r.status_code == 422
+    msgs = {d["field"]: d["msg"] for d in r.json()["detail"]}
+    assert msgs["target.hours_per_day"] == "must be at most 24", msgs
