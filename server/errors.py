@@ -17,6 +17,7 @@ from pydantic import ValidationError
 from starlette.exceptions import HTTPException as StarletteHTTPException
 
 from .schemas.cycle import FEED_MODES
+from .schemas.quantities import bound_text
 from .store import StorageError
 
 log = logging.getLogger("presscycle")
@@ -67,9 +68,9 @@ def _field(loc) -> str:
 
 
 def _n(x) -> str:
-    """A limit as people write it: 24, not 24.0 ("must be at most 24.0" read as more precise than
-    meant: a plant-engineer check)."""
-    return f"{x:g}" if isinstance(x, float) else str(x)
+    """A limit as people write it, in the one spelling of bounds (quantities.bound_text): 24, not
+    24.0 ("must be at most 24.0" read as more precise than meant: a plant-engineer check)."""
+    return bound_text(x) if isinstance(x, float) else str(x)
 
 
 #: The library's other messages in the tool's words (ctx holds the limits).

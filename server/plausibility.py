@@ -335,8 +335,7 @@ def slip_hint(typed, value: float, low: float, high: float) -> str | None:
     for factor in (10, 100, 1000):
         for scaled, word in ((value * factor, "small"), (value / factor, "large")):
             if low <= scaled <= high:
-                ratio = value / high if word == "large" else low / value
-                return f"It is {times(ratio)} times too {word} for the usual range: check the unit."
+                return f"It is {times_off(value, low, high)} times too {word} for the usual range: check the unit."
     return None
 
 
@@ -348,6 +347,11 @@ def times(ratio: float) -> str:
     """
     rounded = float(f"{ratio:.2g}")
     return f"{rounded:,.0f}" if rounded >= 10 else f"{rounded:g}"
+
+
+def times_off(value: float, low: float, high: float) -> str:
+    """How many times a value outside [low, high] is off its nearer end, as people say it."""
+    return times(low / value if value < low else value / high)
 
 
 def fitted_resistance_warnings(resistance_ref: float, tests: list[tuple[str, float]]) -> list[str]:
@@ -374,7 +378,7 @@ def dry_cake_mass_warnings(tests: list[tuple[str, float]]) -> list[str]:
     plant-engineer check). ``tests``: (label, c [kg/m^3]) of the tests that gave a dry cake mass."""
     low, high = LAB_USUAL["tests.*.c"]
     return [f"{label[:1].upper() + label[1:]}: the dry cake mass gives c = {_nice(c)} kg/m³ of filtrate, "
-            f"{times(low / c if c < low else c / high)} times {'below' if c < low else 'above'} the usual "
+            f"{times_off(c, low, high)} times {'below' if c < low else 'above'} the usual "
             f"{usual_range('tests.*.c', 'kg/m^3')}; it was calculated as given: check the unit of the dry cake "
             "mass (g or kg) and the final filtrate volume."
             for label, c in tests if not low <= c <= high]

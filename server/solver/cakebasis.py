@@ -143,13 +143,20 @@ def _J(phi, psi, r, wj, Wj, cloth, cake, H):
 
 
 @_compiled
+def _shares_at(y, s, r, last_step):
+    """(phi, psi) at V = V_0 y > 0, y read within CAKE_BASIS_Y_RANGE."""
+    z = _z_of(math.log(min(max(y, CAKE_BASIS_Y_RANGE[0]), CAKE_BASIS_Y_RANGE[1])), s, r, last_step)
+    phi, psi, _ = _split(z)
+    return phi, psi
+
+
+@_compiled
 def _at_volume(y, s, r, last_step, wj, Wj, cloth, cake, H):
     """(psi, t/(B V_0)) at V = V_0 y: the cloth's share of the drop and the reduced time,
     t/(B V_0) = y (1/(2 psi) + (r + s psi)/2) + r s J/2."""
     if not y > 0.0:
         return 1.0, 0.0
-    z = _z_of(math.log(min(max(y, CAKE_BASIS_Y_RANGE[0]), CAKE_BASIS_Y_RANGE[1])), s, r, last_step)
-    phi, psi, _ = _split(z)
+    phi, psi = _shares_at(y, s, r, last_step)
     J = _J(phi, psi, r, wj, Wj, cloth, cake, H)
     return psi, y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * J
 
@@ -318,9 +325,7 @@ class CakeBasisPressureCurve:
         """(phi, psi) at a float volume [m^3] [-]."""
         if not V > 0.0:
             return 0.0, 1.0
-        y = min(max(V / self.V0, CAKE_BASIS_Y_RANGE[0]), CAKE_BASIS_Y_RANGE[1])
-        phi, psi, _ = _split(_z_of(math.log(y), self.s, self.r, self._args[2]))
-        return phi, psi
+        return _shares_at(V * (1.0 / self.V0), *self._args[:3])
 
     def _J(self, phi: float, psi: float) -> float:
         """J(phi) = \\int_0^phi u^r/(1 - u) du at a share and its complement."""
