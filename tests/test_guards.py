@@ -267,6 +267,88 @@ def test_a_client_that_stalls_mid_body_is_answered_408():
     assert answer["status"] == 408
 
 
+def test_body_deadlines_cut_off_only_the_stalled_body_and_keep_nothing():
+    # the body deadlines are watched by one periodic check (issue 12), not a timer per request:
+    # a stalled body is answered 408, no earlier than its deadline; a body that arrives at once,
+    # read meanwhile on the same loop, is served; afterwards nothing is left watched
+    served = []
+
+    async def app(scope, receive, send):
+        message = await receive()
+        served.append(message["body"])
+        await send({"type": "http.response.start", "status": 200, "headers": []})
+        await send({"type": "http.response.body", "body": b"{}"})
+
+    guard = EdgeGuard(app, max_bytes=1000, body_timeout=0.2)
+    headers = [(b"content-type", b"application/json"), (b"transfer-encoding", b"chunked")]
+    scope = {"type": "http", "method": "POST", "path": "/api/v1/cycle", "query_string": b"", "headers": headers}
+
+    async def stalled():
+        if not stalled.sent:
+            stalled.sent = True
+            return {"type": "http.request", "body": b"{", "more_body": True}
+        await asyncio.sleep(10)
+
+    stalled.sent = False
+
+    async def at_once():
+        return {"type": "http.request", "body": b"{}", "more_body": False}
+
+    async def run():
+        loop = asyncio.get_running_loop()
+        answers = {"slow": [], "fast": []}
+
+        async def request(name, receive):
+            async def send(message):
+                answers[name].append(message)
+            await guard(scope, receive, send)
+
+        started = loop.time()
+        slow = asyncio.create_task(request("slow", stalled))
+        await asyncio.sleep(0.05)
+        await request("fast", at_once)
+        await slow
+        return answers, loop.time() - started
+
+    with concurrent.futures.ThreadPoolExecutor(1) as pool:
+        answers, took = pool.submit(asyncio.run, run()).result()
+    assert answers["fast"][0]["status"] == 200 and served == [b"{}"]
+    assert answers["slow"][0]["status"] == 408 and b"did not arrive within 0.2 s" in answers["slow"][1]["body"]
+    assert took >= 0.2  # never before the deadline
+    assert guard.deadlines.reading == {} and guard.deadlines.expired == set()
+
+
+def test_a_request_cancelled_from_outside_is_not_answered_408():
+    # a cancellation that is not the body deadline's (a server shutting down) goes on up
+    async def app(scope, receive, send):
+        raise AssertionError("the route must not run")
+
+    guard = EdgeGuard(app, max_bytes=1000, body_timeout=30.0)
+    scope = {"type": "http", "method": "POST", "path": "/api/v1/cycle", "query_string": b"",
+             "headers": [(b"content-type", b"application/json"), (b"transfer-encoding", b"chunked")]}
+    answers = []
+
+    async def receive():
+        await asyncio.sleep(10)
+
+    async def send(message):
+        answers.append(message)
+
+    async def run():
+        task = asyncio.create_task(guard(scope, receive, send))
+        await asyncio.sleep(0.05)
+        task.cancel()
+        try:
+            await task
+        except asyncio.CancelledError:
+            return "cancelled"
+        return "finished"
+
+    with concurrent.futures.ThreadPoolExecutor(1) as pool:
+        assert pool.submit(asyncio.run, run()).result() == "cancelled"
+    assert answers == [] and guard.deadlines.reading == {}
+
+
 def test_a_calculation_past_the_time_budget_is_a_503_in_words(tmp_path):
     from fastapi.testclient import TestClient
 

@@ -50,6 +50,33 @@ def test_a_body_that_is_not_a_scenario_is_a_plain_422(client, body, field, words
     assert detail[0]["field"] == field and detail[0]["msg"] == words, detail
 
 
+def test_a_body_reads_as_the_standard_library_reads_it():
+    # read_json (orjson, then json.loads for what orjson refuses) gives json.loads' data for every
+    # body: strict JSON, and what only the standard library reads (issue 12; checked against
+    # json.loads itself, the reference FastAPI used)
+    import math
+    import random
+    import struct
+
+    from server.routers.jsonbody import read_json
+
+    bodies = [json.dumps(DEMO["inputs"]).encode(), json.dumps(DEMO["inputs"], indent=2).encode(),
+              b'{"a": NaN, "b": Infinity, "c": -Infinity}', b"1e400", b"123456789012345678901234567890",
+              b'\xef\xbb\xbf{"a": 1}', b'{"a": 1, "a": 2}', b'{"a": -0.0, "b": -0}', b'"\\u00e9 \\ud83d\\ude00"',
+              b"2.2250738585072011e-308", b"4.9406564584124654e-324", b"1.7976931348623157e308"]
+    rng = random.Random(12)
+    for _ in range(2000):  # doubles of every magnitude, written as people and programs write them
+        x = struct.unpack("d", struct.pack("Q", rng.getrandbits(64)))[0]
+        if math.isfinite(x):
+            bodies += [repr(x).encode(), f"{x:.6g}".encode(), f"[{x:.25e}]".encode()]
+
+    def same(a, b):
+        return repr(a) == repr(b)  # NaN equal to NaN, -0.0 told from 0.0
+
+    for body in bodies:
+        assert same(read_json(body), json.loads(body)), body
+
+
 def test_field_errors_keep_their_paths_under_the_body(client):
     inputs = json.loads(json.dumps(DEMO["inputs"]))
     inputs["press"]["chambers"] = 0

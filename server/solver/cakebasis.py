@@ -58,7 +58,7 @@ def _compiled(function):
 
 
 @lru_cache(maxsize=64)
-def _cake_basis_rules(r: float) -> tuple:
+def _cake_basis_rules(r: float) -> np.ndarray:
     r"""The constants of r that J(phi) = \int_0^phi u^r/(1 - u) du is summed with.
 
     For phi < 1/2: J = phi^(r+1) \int_0^1 w^r / (1 - phi w) dw, by Gauss–Jacobi with weight w^r
@@ -70,9 +70,11 @@ def _cake_basis_rules(r: float) -> tuple:
     (1 - q)^r; every term positive, a_k below 1/k: Horner's rule, cheaper than a Gauss rule's
     two logarithms per node). Checked against quadrature in tests/solver/test_cake_basis_exact.py.
 
-    Returns (Jacobi nodes, weights, the cloth's series coefficients highest power first
-    (CAKE_BASIS_CLOTH_TERMS), the cake's (CAKE_BASIS_SERIES_TERMS), H_r): what the compiled
-    :func:`_J` reads.
+    Returns one read-only array, what the compiled :func:`_J` reads: the Jacobi nodes and
+    weights (CAKE_BASIS_GAUSS_NODES each), the cloth's series coefficients highest power first
+    (CAKE_BASIS_CLOTH_TERMS), the cake's (CAKE_BASIS_SERIES_TERMS) and H_r, at the offsets
+    _NODES_AT, _WEIGHTS_AT, _CLOTH_AT, _CAKE_AT and _H_AT (one array: each array argument of a
+    compiled function costs its call a few tenths of a microsecond to hand over).
     """
     from scipy.special import digamma, roots_jacobi
 
@@ -83,10 +85,17 @@ def _cake_basis_rules(r: float) -> tuple:
         cloth.append(a / (k + 1.0))
         a *= (k + 1.0 - r) / (k + 2.0)
     cake = [1.0 / (k + r + 1.0) for k in range(CAKE_BASIS_SERIES_TERMS)]
-    arrays = [np.ascontiguousarray(v, dtype=float) for v in (wj, Wj, cloth[::-1], cake[::-1])]
-    for shared in arrays:
-        shared.flags.writeable = False
-    return (*arrays, float(digamma(r + 1.0)) + float(np.euler_gamma))
+    rules = np.concatenate([wj, Wj, cloth[::-1], cake[::-1], [float(digamma(r + 1.0)) + float(np.euler_gamma)]])
+    rules.flags.writeable = False  # shared by every curve of this r
+    return rules
+
+
+#: where each part of the rules array lies (see :func:`_cake_basis_rules`)
+_NODES_AT = 0
+_WEIGHTS_AT = CAKE_BASIS_GAUSS_NODES
+_CLOTH_AT = 2 * CAKE_BASIS_GAUSS_NODES
+_CAKE_AT = _CLOTH_AT + CAKE_BASIS_CLOTH_TERMS
+_H_AT = _CAKE_AT + CAKE_BASIS_SERIES_TERMS
 
 
 # ---- the compiled arithmetic -----------------------------------------------------------------
@@ -114,73 +123,74 @@ def _z_of(ly, s, r, last_step):
 
 @_compiled
 def _split(z):
-    """phi = 1/(1 + e^-z), psi = 1/(1 + e^z) and ln phi, each to round-off for any z: z =
-    ln(phi/psi) carries the shares where 1 - phi would lose them."""
-    a = abs(z)
-    e = math.exp(-a)
+    """phi = 1/(1 + e^-z) and psi = 1/(1 + e^z), each to round-off for any z: z = ln(phi/psi)
+    carries the shares where 1 - phi would lose them. One exponential, of -|z| (never an
+    overflow): the larger share is 1/(1 + e^-|z|), the smaller e^-|z| times it."""
+    e = math.exp(-abs(z))
     d = 1.0 + e
-    low = 0.5 * (a - z)  # -ln(phi (1 + e)): 0 for z >= 0, |z| below
-    return math.exp(-low) / d, math.exp(-(a - low)) / d, -(low + math.log1p(e))
+    if z >= 0.0:
+        return 1.0 / d, e / d
+    return e / d, 1.0 / d
 
 
 @_compiled
-def _J(phi, psi, r, wj, Wj, cloth, cake, H):
+def _J(phi, psi, r, rules):
     r"""J(phi) = \int_0^phi u^r/(1 - u) du (see :func:`_cake_basis_rules`)."""
     total = 0.0
     if phi < 0.5:
         if phi < CAKE_BASIS_SERIES_BELOW:
-            for c in cake:
-                total = total * phi + c
+            for k in range(_CAKE_AT, _CAKE_AT + CAKE_BASIS_SERIES_TERMS):
+                total = total * phi + rules[k]
         else:
-            for k in range(wj.size):
-                total += Wj[k] / (1.0 - phi * wj[k])
+            for k in range(CAKE_BASIS_GAUSS_NODES):
+                total += rules[_WEIGHTS_AT + k] / (1.0 - phi * rules[_NODES_AT + k])
         return phi ** (r + 1.0) * total
     # the lowest CAKE_BASIS_SERIES_TERMS powers where they suffice
     first = CAKE_BASIS_CLOTH_TERMS - CAKE_BASIS_SERIES_TERMS if psi < CAKE_BASIS_SERIES_BELOW else 0
-    for k in range(first, CAKE_BASIS_CLOTH_TERMS):
-        total = total * psi + cloth[k]
-    return -math.log(psi) - H + psi * total
+    for k in range(_CLOTH_AT + first, _CLOTH_AT + CAKE_BASIS_CLOTH_TERMS):
+        total = total * psi + rules[k]
+    return -math.log(psi) - rules[_H_AT] + psi * total
 
 
 @_compiled
 def _shares_at(y, s, r, last_step):
     """(phi, psi) at V = V_0 y > 0, y read within CAKE_BASIS_Y_RANGE."""
     z = _z_of(math.log(min(max(y, CAKE_BASIS_Y_RANGE[0]), CAKE_BASIS_Y_RANGE[1])), s, r, last_step)
-    phi, psi, _ = _split(z)
+    phi, psi = _split(z)
     return phi, psi
 
 
 @_compiled
-def _at_volume(y, s, r, last_step, wj, Wj, cloth, cake, H):
+def _at_volume(y, s, r, last_step, rules):
     """(psi, t/(B V_0)) at V = V_0 y: the cloth's share of the drop and the reduced time,
     t/(B V_0) = y (1/(2 psi) + (r + s psi)/2) + r s J/2."""
     if not y > 0.0:
         return 1.0, 0.0
     phi, psi = _shares_at(y, s, r, last_step)
-    J = _J(phi, psi, r, wj, Wj, cloth, cake, H)
+    J = _J(phi, psi, r, rules)
     return psi, y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * J
 
 
 @_compiled
-def _at_volumes(V, per_V0, scale, B, s, r, last_step, wj, Wj, cloth, cake, H, rate_out, time_out):
+def _at_volumes(V, per_V0, scale, B, s, r, last_step, rules, rate_out, time_out):
     """The rate psi/B [m^3/s] and the time ``scale`` t/(B V_0) [s] at every volume V [m^3]
     (y = V ``per_V0``), into ``rate_out`` and ``time_out``: the float path's operations, one by one."""
     for i in range(V.size):
-        psi, F = _at_volume(V[i] * per_V0, s, r, last_step, wj, Wj, cloth, cake, H)
+        psi, F = _at_volume(V[i] * per_V0, s, r, last_step, rules)
         rate_out[i] = psi / B
         time_out[i] = scale * F
 
 
 @_compiled
-def _time_in_z(z, s, r, wj, Wj, cloth, cake, H):
+def _time_in_z(z, s, r, rules):
     """(t/(B V_0), its derivative in z, y = V/V_0, phi, psi) at z."""
-    phi, psi, _ = _split(z)
+    phi, psi = _split(z)
     # ln(V/V_0) = z - s ln(phi), as r z + s ln(1 + e^z) where z < 0 (no cancellation)
     if z < 0.0:
         y = math.exp(r * z + s * math.log1p(math.exp(z)))
     else:
         y = math.exp(z + s * math.log1p(math.exp(-z)))
-    F = y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * _J(phi, psi, r, wj, Wj, cloth, cake, H)
+    F = y * (0.5 / psi + 0.5 * (r + s * psi)) + 0.5 * r * s * _J(phi, psi, r, rules)
     return F, y * (1.0 - s * psi) / psi, y, phi, psi
 
 
@@ -189,7 +199,7 @@ _SOLVE_TIME, _SOLVE_PEAK = 0, 1
 
 
 @_compiled
-def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, cloth, cake, H):
+def _bracketed_newton(kind, target, a, z, floor, s, r, rules):
     """The root in z of an increasing D(z) by Newton's method, bisecting in the bracket found so
     far when a step leaves it; each z kept within [floor, CAKE_BASIS_Z_MAX] (floor = -700/r: V
     below e^-700 V_0), where every quantity is finite. ``kind`` _SOLVE_TIME: D = ln(F(z)/target),
@@ -197,7 +207,7 @@ def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, cloth, cake, H):
     downtime ``target`` (see :meth:`CakeBasisPressureCurve.optimum_volume`)."""
     lo, hi = -math.inf, math.inf
     for _ in range(CAKE_BASIS_NEWTON_STEPS):
-        F, dF, y, phi, psi = _time_in_z(z, s, r, wj, Wj, cloth, cake, H)
+        F, dF, y, phi, psi = _time_in_z(z, s, r, rules)
         if kind == _SOLVE_TIME:
             D, dD = math.log(F / target), dF / F
         else:
@@ -221,32 +231,32 @@ def _bracketed_newton(kind, target, a, z, floor, s, r, wj, Wj, cloth, cake, H):
 
 
 @_compiled
-def _volume_at(F, s, r, last_step, wj, Wj, cloth, cake, H):
+def _volume_at(F, s, r, last_step, rules):
     """V/V_0 at the reduced time F = t/(B V_0): Newton's method on ln F in z, from Ruth's
     equation's volume at F (exact for s = 0, and at both ends for any s)."""
     if not F > 0.0:
         return 0.0
     y = 2.0 * F / (math.sqrt(1.0 + 2.0 * F) + 1.0)
     z = _bracketed_newton(_SOLVE_TIME, F, 0.0, _z_of(math.log(y), s, r, last_step), -700.0 / r,
-                          s, r, wj, Wj, cloth, cake, H)
-    return _time_in_z(z, s, r, wj, Wj, cloth, cake, H)[2]
+                          s, r, rules)
+    return _time_in_z(z, s, r, rules)[2]
 
 
 @_compiled
-def _volumes_at(t, per_scale, V0, s, r, last_step, wj, Wj, cloth, cake, H, out):
+def _volumes_at(t, per_scale, V0, s, r, last_step, rules, out):
     """The volume V_0 y [m^3] at every time t [s] (F = t ``per_scale``), into ``out``."""
     for i in range(t.size):
-        out[i] = V0 * _volume_at(t[i] * per_scale, s, r, last_step, wj, Wj, cloth, cake, H)
+        out[i] = V0 * _volume_at(t[i] * per_scale, s, r, last_step, rules)
 
 
 @_compiled
-def _peak_volume(tau, a, s, r, last_step, wj, Wj, cloth, cake, H):
+def _peak_volume(tau, a, s, r, last_step, rules):
     """V/V_0 of the highest throughput at reduced downtime tau and wash coefficient a, from the
     s = 0 optimum (see :meth:`CakeBasisPressureCurve.optimum_volume`)."""
     y = math.sqrt(tau / (0.5 + a))
     z = _bracketed_newton(_SOLVE_PEAK, tau, a, _z_of(math.log(y), s, r, last_step), -700.0 / r,
-                          s, r, wj, Wj, cloth, cake, H)
-    return _time_in_z(z, s, r, wj, Wj, cloth, cake, H)[2]
+                          s, r, rules)
+    return _time_in_z(z, s, r, rules)[2]
 
 
 # ---- the curve ------------------------------------------------------------------------------
@@ -291,7 +301,7 @@ class CakeBasisPressureCurve:
         last_step = CAKE_BASIS_Z_ROUND_OFF * 8.0 * self.r / self.s if self.s > 0.0 else math.inf
         self._rules = _cake_basis_rules(self.r)
         #: the compiled functions' arguments after the volume or time
-        self._args = (self.s, self.r, last_step, *self._rules)
+        self._args = (self.s, self.r, last_step, self._rules)
         self._last = (None, 1.0, 0.0)  # (V, psi, t/(B V_0)) of the last float volume
         self._last_array = (None, None, None)  # the same of the last read-only array
 
@@ -329,7 +339,7 @@ class CakeBasisPressureCurve:
 
     def _J(self, phi: float, psi: float) -> float:
         """J(phi) = \\int_0^phi u^r/(1 - u) du at a share and its complement."""
-        return _J(phi, psi, self.r, *self._rules)
+        return _J(phi, psi, self.r, self._rules)
 
     # -- the curve -------------------------------------------------------------------------------
     def _each(self, V, at_float, at_array):
@@ -346,10 +356,14 @@ class CakeBasisPressureCurve:
     def time(self, V):
         """Filtration time to collect V [m^3] [s], vectorised."""
         scale = self.medium_constant * self.V0
+        if type(V) is float:  # a cycle's few volumes: no closures made for them
+            return scale * self._point(V)[1]
         return self._each(V, lambda v: scale * self._point(v)[1], lambda v: self._points(v)[1])
 
     def rate(self, V):
         """Filtrate flow at V [m^3/s]: Q = psi / B, vectorised."""
+        if type(V) is float:
+            return self._point(V)[0] / self.medium_constant
         return self._each(V, lambda v: self._point(v)[0] / self.medium_constant, lambda v: self._points(v)[0])
 
     def pressure_at(self, V):

@@ -25,11 +25,13 @@ def compiled_kinds() -> dict:
 def test_the_module_compiles_something():
     # the check below would pass vacuously with no compiled function found (a refactor)
     kinds = compiled_kinds()
-    called_from_python = {"_z_of", "_split", "_J", "_at_volume", "_at_volumes", "_volume_at", "_volumes_at",
+    called_from_python = {"_shares_at", "_J", "_at_volume", "_at_volumes", "_volume_at", "_volumes_at",
                           "_peak_volume"}
-    assert called_from_python <= set(kinds)
-    # the import's warm-up ran each (a function only called from compiled code, loaded from the
-    # cache inside its caller, lists no kind of its own)
+    only_compiled_callers = {"_z_of", "_split", "_time_in_z", "_bracketed_newton"}
+    assert called_from_python | only_compiled_callers == set(kinds)
+    # the import's warm-up ran each (a function only called from compiled code lists no kind of
+    # its own when its caller was loaded from numba's cache, one when it was compiled afresh: the
+    # test once named _z_of and _split here, and failed with a warm cache)
     assert all(kinds[name] >= 1 for name in called_from_python)
 
 
