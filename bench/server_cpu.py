@@ -11,6 +11,7 @@ table; never asserts on time.
 
 import json
 import os
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -25,6 +26,9 @@ sys.path.insert(0, str(ROOT))
 from tests.liveserver import free_port  # noqa: E402
 
 TARGETS = {"cycle": 2.5, "pump": 6.0, "page": 8.0}  # issue 12: times /healthz
+#: short batches of each request, each between two of /healthz (see per_request)
+ROUNDS = 9
+FLOOR_BATCH = 150
 
 
 def server_cpu(pid: int) -> float:
@@ -88,28 +92,31 @@ def main() -> None:
 
             floors = []  # every /healthz batch: (CPU seconds, requests)
 
-            def per_request(fn, n, rounds=3):
-                """Server CPU per request of ``fn`` over ``rounds`` batches, each between two
-                batches of /healthz (the floor of the same moments: a shared machine's load
-                drifts over a run); returns (seconds per request, the ratio to the floor
-                measured around it)."""
+            def per_request(fn, n, rounds=ROUNDS):
+                """Server CPU per request of ``fn`` in ``rounds`` short batches, each between two
+                batches of /healthz (the floor of the same moments: a shared machine's speed
+                drifts over a run); returns (median seconds per request, the median of the
+                rounds' ratios to their floor, its lower and upper quartile). A median keeps a
+                round that a busy neighbour slowed from moving the figure."""
                 for _ in range(5):
                     fn()
-                spent, floor_spent, floor_n = 0.0, 0.0, 0
+                each = max(1, n // rounds)
+                around = [batch(healthz, FLOOR_BATCH)]
+                seconds, ratios = [], []
                 for _ in range(rounds):
-                    f = batch(healthz, 400)
-                    floor_spent, floor_n = floor_spent + f, floor_n + 400
-                    spent += batch(fn, n // rounds)
-                f = batch(healthz, 400)
-                floor_spent, floor_n = floor_spent + f, floor_n + 400
-                floors.append((floor_spent, floor_n))
-                seconds = spent / (rounds * (n // rounds))
-                return seconds, seconds / (floor_spent / floor_n)
+                    t = batch(fn, each) / each
+                    around.append(batch(healthz, FLOOR_BATCH))
+                    floor_here = (around[-2] + around[-1]) / (2 * FLOOR_BATCH)
+                    seconds.append(t)
+                    ratios.append(t / floor_here)
+                floors.append((sum(around), FLOOR_BATCH * len(around)))
+                q1, _, q3 = statistics.quantiles(ratios, n=4)
+                return statistics.median(seconds), statistics.median(ratios), q1, q3
 
             for _ in range(50):
                 healthz()
             floor = batch(healthz, 3000) / 3000
-            rows = [("GET /healthz", (floor, 1.0), None)]
+            rows = [("GET /healthz", (floor, 1.0, 1.0, 1.0), None)]
             todo = []  # (name, request, how many, target kind)
             for name, inputs in demos.items():
                 kind = "pump" if inputs["feed"]["mode"] != "constant_pressure" else "cycle"
@@ -143,11 +150,13 @@ def main() -> None:
                 if (k + 1) % 2_500 == 0:
                     rss.append(resident_kb(server.pid))
         spent, n = map(sum, zip(*floors))
-        print(f"{'request':60s} {'server CPU':>11s} {'x /healthz':>11s}  target")
-        for name, (seconds, ratio), kind in rows:
+        print(f"{'request':60s} {'server CPU':>11s} {'x /healthz':>11s} {'(quartiles)':>13s}  target")
+        for name, (seconds, ratio, q1, q3), kind in rows:
             target = f"<= {TARGETS[kind]:g}x" if kind else ""
-            print(f"{name:60s} {seconds * 1e3:8.3f} ms {ratio:10.2f}x  {target}")
-        print(f"(each ratio against /healthz batches taken around it; /healthz over the whole run "
+            spread = f"({q1:.2f}-{q3:.2f})" if kind or q1 != q3 else ""
+            print(f"{name:60s} {seconds * 1e3:8.3f} ms {ratio:10.2f}x {spread:>13s}  {target}")
+        print(f"(each ratio: the median over {ROUNDS} rounds, each against the /healthz batches just before and "
+              f"after it; /healthz over the whole run "
               f"{spent / n * 1e3:.3f} ms, at the start {floor * 1e3:.3f} ms)")
         print(f"({cpu_clock_text(server.pid)}; server on core {server_core}, client on core {client_core})")
         print("server resident memory over 10,000 mixed requests: "
