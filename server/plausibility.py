@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 from pydantic import BaseModel
 
-from .schemas.quantities import user_unit
+from .schemas.quantities import bound_text, user_unit
 
 #: usual range per request field, in SI (the editor's hints show it in the unit chosen)
 USUAL = {
@@ -306,15 +306,15 @@ def _in_typed_unit(typed, value: float, kind: str) -> str:
     if given is not None:
         unit, to_user = given
         # in the unit typed, written as the range beside it is ("m²", not "m^2": a plant-engineer check)
-        return f"{to_user(value):.4g} {pretty_unit(kind, unit)}"
+        return f"{bound_text(to_user(value), 4)} {pretty_unit(kind, unit)}"
     if kind == "fraction":
-        return f"{value:.4g}"
+        return bound_text(value, 4)
     from .units import parse_quantity
 
     unit = _SI_SPELLING[kind]  # a bare number's unit: SI, or °C for a temperature
     zero, one = parse_quantity(f"0 {unit}", kind), parse_quantity(f"1 {unit}", kind)
     where = "°C" if kind == "temperature" else "SI units"
-    return f"{(value - zero) / (one - zero):.4g} {pretty_unit(kind, unit)} (a bare number is in {where})"
+    return f"{bound_text((value - zero) / (one - zero), 4)} {pretty_unit(kind, unit)} (a bare number is in {where})"
 
 
 def slip_hint(typed, value: float, low: float, high: float) -> str | None:
@@ -323,8 +323,8 @@ def slip_hint(typed, value: float, low: float, high: float) -> str | None:
     Only a value well outside the range (SLIP_MARGIN) is suspected: 35 bar is unusual, not a slip.
     """
     if isinstance(typed, str) and typed.strip().endswith("%") and low <= value * 100 <= high:
-        return (f"It looks like a fraction typed where % is chosen: {value * 100:.4g} as a fraction would be "
-                f"{value * 1e4:.4g} %.")
+        return (f"It looks like a fraction typed where % is chosen: {bound_text(value * 100, 4)} as a fraction "
+                f"would be {bound_text(value * 1e4, 4)} %.")
     if low / SLIP_MARGIN <= value <= high * SLIP_MARGIN:
         return None
     if isinstance(typed, str) and "." in typed and low <= value * 1000 <= high:

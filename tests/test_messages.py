@@ -49,8 +49,13 @@ def _temperature(value):
      "must be at least 0.1 g/cm³ and at most 25 g/cm³ (at least 100 kg/m³ and at most 25000 kg/m³); "
      "got 30 g/cm³ (30000 kg/m³)"),
     (lambda b: b["slurry"].update(viscosity="20000 mPa*s"), "slurry.viscosity",
-     "must be at least 0.01 mPa·s and at most 1e4 mPa·s (at least 1e-5 Pa·s and at most 10 Pa·s); "
-     "got 2e4 mPa·s (20 Pa·s)"),
+     "must be at least 0.01 mPa·s and at most 10000 mPa·s (at least 1e-5 Pa·s and at most 10 Pa·s); "
+     "got 20000 mPa·s (20 Pa·s)"),
+    # below a million, digits as people write them, not a power of ten ("1.45e4 psi" read as a
+    # slip of the tool: a plant-engineer check)
+    (lambda b: b["feed"].update(pressure="20000 psi"), "feed.pressure",
+     "must be at least 0.0145 psi and at most 14500 psi (at least 100 Pa and at most 1e8 Pa); "
+     "got 20000 psi (1.37895e8 Pa)"),
 ])
 def test_a_refusal_writes_units_as_people_write_them(client, change, field, expected):
     assert _msg(client, change, field) == expected

@@ -19,10 +19,15 @@ def bound_text(value: float, digits: int = 6) -> str:
     ``digits`` significant figures, powers of ten as people type them ("8.64e6", "1e-3"), so the
     same bound reads the same in every message and can be typed back.
 
-    >>> bound_text(8640000.000000001, 4), bound_text(1e-3), bound_text(100000.0)
-    ('8.64e6', '0.001', '100000')
+    Below a million, digits as people write them, not a power of ten ("14500 psi", not
+    "1.45e4 psi": a plant-engineer check).
+
+    >>> bound_text(8640000.000000001, 4), bound_text(1e-3), bound_text(100000.0), bound_text(14503.7, 4)
+    ('8.64e6', '0.001', '100000', '14500')
     """
     text = f"{value:.{digits}g}"
+    if "e+" in text and abs(value) < 1e6:
+        text = f"{float(text):f}".rstrip("0").rstrip(".")
     return text.replace("e+0", "e").replace("e+", "e").replace("e-0", "e-")
 
 
