@@ -29,6 +29,10 @@ CAKE_BASIS_GAUSS_NODES = 11
 CAKE_BASIS_CLOTH_TERMS = 48
 CAKE_BASIS_SERIES_BELOW = 0.05
 CAKE_BASIS_SERIES_TERMS = 14
+#: fewer of the cloth's terms where psi is smaller: (psi below, terms), each leaving less than
+#: psi^n/(n^2 (1 - psi)) < 6e-19 of the sum, as the first tier (issue 12: most of a cake's curve
+#: lies at psi of 0.05-0.3, where all 48 terms cost a third of the time at a volume)
+CAKE_BASIS_CLOTH_TIERS = ((CAKE_BASIS_SERIES_BELOW, CAKE_BASIS_SERIES_TERMS), (0.1, 16), (0.2, 23), (0.3, 30))
 #: Newton steps at most (each solve converges in well under ten; the bracket keeps it safe)
 CAKE_BASIS_NEWTON_STEPS = 100
 #: z = ln(phi/psi) at most (psi > e^-350: the time, ~ e^(2z), stays finite)
@@ -145,9 +149,13 @@ def _J(phi, psi, r, rules):
             for k in range(CAKE_BASIS_GAUSS_NODES):
                 total += rules[_WEIGHTS_AT + k] / (1.0 - phi * rules[_NODES_AT + k])
         return phi ** (r + 1.0) * total
-    # the lowest CAKE_BASIS_SERIES_TERMS powers where they suffice
-    first = CAKE_BASIS_CLOTH_TERMS - CAKE_BASIS_SERIES_TERMS if psi < CAKE_BASIS_SERIES_BELOW else 0
-    for k in range(_CLOTH_AT + first, _CLOTH_AT + CAKE_BASIS_CLOTH_TERMS):
+    # the lowest powers only, as many as this psi needs (CAKE_BASIS_CLOTH_TIERS)
+    terms = CAKE_BASIS_CLOTH_TERMS
+    for below, fewer in CAKE_BASIS_CLOTH_TIERS:
+        if psi < below:
+            terms = fewer
+            break
+    for k in range(_CLOTH_AT + CAKE_BASIS_CLOTH_TERMS - terms, _CLOTH_AT + CAKE_BASIS_CLOTH_TERMS):
         total = total * psi + rules[k]
     return -math.log(psi) - rules[_H_AT] + psi * total
 
