@@ -15,6 +15,7 @@ from fastapi.templating import Jinja2Templates
 from . import errors
 from .guards import EdgeGuard, one_shot_receive
 from .routers import cycle, health, labfit, pages, plan, presslog, scenarios, squeezefit, ui
+from .routers.jsonbody import JSONBodyRoute
 from .settings import PROJECT_ROOT, Settings
 from .solver import SOLVER_VERSION
 from .store import StorageError, open_store
@@ -83,9 +84,22 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.add_middleware(EdgeGuard, max_bytes=settings.max_body_bytes, body_timeout=settings.body_timeout,
                        on_error=lambda path, accept: errors.unexpected_answer(templates, path, accept),
                        allowed_hosts=settings.allowed_hosts,
-                       path_limits={path: settings.max_log_bytes for path in presslog.LOG_PATHS})
+                       path_limits={path: settings.max_log_bytes for path in presslog.LOG_PATHS},
+                       direct=_served_at_the_edge(app, cycle.router))
     _warm(app, templates)
     return app
+
+
+def _served_at_the_edge(app: FastAPI, *routers) -> dict:
+    """The routes the edge guard answers itself once their body is read: the JSON-body routes of
+    ``routers`` (POST /api/v1/cycle, where engineers wait: issue 12;
+    routers/jsonbody.JSONBodyRoute.served_at_the_edge). Each stays in the app's router too: its
+    OpenAPI entry, and its answer to any other method."""
+    served = {("POST", route.path): route.served_at_the_edge(app) for router in routers for route in router.routes
+              if isinstance(route, JSONBodyRoute) and route.methods == {"POST"}}
+    if not served:  # a refactor that lost them would only be slower: say so at start-up
+        raise RuntimeError("no JSON-body route found to serve at the edge")
+    return served
 
 
 #: How often each warm-up cycle request runs at start-up (a few milliseconds in all)

@@ -105,8 +105,11 @@ class EdgeGuard:
     """Pure ASGI middleware applying the guards above to every HTTP request."""
 
     def __init__(self, app, max_bytes: int, body_timeout: float = 30.0, on_error=None, allowed_hosts=(),
-                 path_limits=None):
+                 path_limits=None, direct=None):
         self.app = app
+        #: (method, path) -> serve(scope, receive, send, body): a write route answered here once
+        #: its body is read, past the framework's routing (JSONBodyRoute.served_at_the_edge)
+        self.direct = dict(direct or {})
         #: paths that take larger bodies than max_bytes (a plant log): path -> bytes
         self.path_limits = dict(path_limits or {})
         #: host names this server answers to (empty: any); refuses DNS-rebinding pages
@@ -192,6 +195,9 @@ class EdgeGuard:
             self.deadlines.stop(task)
         if body is None:  # the client went away
             return None
+        serve = self.direct.get((method, path))
+        if serve is not None:
+            return await serve(scope, one_shot_receive(body, receive), send_with_headers, body)
         return await self.app(scope, one_shot_receive(body, receive), send_with_headers)
 
     async def _read(self, receive, limit: int) -> bytes | None:

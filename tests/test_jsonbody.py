@@ -131,3 +131,59 @@ def test_an_integer_beyond_any_float_is_a_plain_422(client):
     assert r.status_code == 422, r.text
     assert r.json()["detail"][0]["field"] == "press.filter_area"
     assert r.json()["detail"][0]["msg"] == "must be a finite number"
+
+
+def _edge_guard(app):
+    from server.guards import EdgeGuard
+
+    layer = app.middleware_stack or app.build_middleware_stack()
+    while not isinstance(layer, EdgeGuard):
+        layer = layer.app
+    return layer
+
+
+def test_the_edge_answers_the_cycle_route_as_the_router_did(tmp_path, monkeypatch):
+    # POST /api/v1/cycle is answered by the edge guard once it has the body (issue 12: past the
+    # framework's routing and middlewares); the oracle is the same app answering through its
+    # router, the way it answered before. Every kind of answer: a result, a body that is not
+    # JSON, a field refusal, a solver refusal (InputError), the time budget's 503, and an
+    # unexpected error (the guard's 500 in words)
+    import server.routers.cycle as cycle_route
+    from server.app import create_app
+    from tests.conftest import app_settings
+
+    bodies = [json.dumps(DEMO["inputs"]).encode(), b'{"slurry": ', b"[1, 2]",
+              json.dumps({**DEMO["inputs"], "press": {**DEMO["inputs"]["press"], "chambers": 0}}).encode(),
+              json.dumps({**DEMO["inputs"], "cycle": {**DEMO["inputs"]["cycle"], "fill_time": "pump"}}).encode()]
+    answers = {}
+    for way in ("edge", "router"):
+        app = create_app(app_settings(tmp_path / way))
+        with TestClient(app, raise_server_exceptions=False) as c:
+            guard = _edge_guard(app)
+            assert set(guard.direct) == {("POST", "/api/v1/cycle")}
+            if way == "router":
+                guard.direct.clear()
+            got = [c.post("/api/v1/cycle", content=b, headers={"content-type": "application/json"}) for b in bodies]
+            with monkeypatch.context() as m:
+                m.setattr(cycle_route, "solves_quickly", lambda inputs: False)
+                m.setattr(app.state.settings, "solve_seconds", 1e-9)
+                got.append(c.post("/api/v1/cycle", content=bodies[0], headers={"content-type": "application/json"}))
+
+            def planted(*args, **kwargs):
+                raise RuntimeError("a fault the tests plant")
+
+            with monkeypatch.context() as m:
+                m.setattr(cycle_route, "solve", planted)
+                got.append(c.post("/api/v1/cycle", content=bodies[0], headers={"content-type": "application/json"}))
+        answers[way] = [(r.status_code, r.headers.get("content-type"), r.headers.get("content-security-policy"),
+                         r.content) for r in got]
+    assert [a[0] for a in answers["edge"]] == [200, 422, 422, 422, 422, 503, 500]
+    assert b"the pump's highest flow" in answers["edge"][4][3]  # the solve's own refusal (InputError)
+    assert answers["edge"] == answers["router"]
+
+
+def test_the_cycle_route_keeps_its_other_methods_and_its_schema(client):
+    # the route stays in the router: GET is refused as before, and the OpenAPI schema lists it
+    r = client.get("/api/v1/cycle")
+    assert r.status_code == 405 and r.headers["allow"] == "POST"
+    assert "post" in client.get("/openapi.json").json()["paths"]["/api/v1/cycle"]
