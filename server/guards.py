@@ -76,13 +76,12 @@ class BodyDeadlines:
             self.watched.add(loop)
             loop.call_later(self.every, self._check, loop)
 
-    def stop(self, task) -> None:
+    def stop(self, task) -> bool:
+        """``task`` no longer reads; whether it was cancelled here, for reading past its deadline."""
         self.reading.pop(task, None)
+        ran_out = task in self.expired
         self.expired.discard(task)
-
-    def ran_out(self, task) -> bool:
-        """Whether ``task`` was cancelled here, for reading past its deadline."""
-        return task in self.expired
+        return ran_out
 
     def _check(self, loop) -> None:
         now, pending = loop.time(), False
@@ -182,17 +181,18 @@ class EdgeGuard:
         task = asyncio.current_task()  # ASGI runs each request in a task (asyncio.timeout needed one too)
         self.deadlines.start(task)
         try:
-            body = await self._read(receive, limit)
+            try:
+                body = await self._read(receive, limit)
+            finally:
+                ran_out = self.deadlines.stop(task)  # the deadline is the body's only, not the answer's
         except _TooLarge:
             return await _answer(send_with_headers, 413, self._too_large(limit))
         except asyncio.CancelledError:
-            if not self.deadlines.ran_out(task):
-                raise  # cancelled by someone else: not ours to answer
-            task.uncancel()
+            # ours alone (as asyncio.timeout decides): a cancellation from elsewhere too goes on up
+            if not ran_out or task.uncancel() > 0:
+                raise
             return await _answer(send_with_headers, 408,
                                  f"the request body did not arrive within {self.body_timeout:g} s")
-        finally:
-            self.deadlines.stop(task)
         if body is None:  # the client went away
             return None
         serve = self.direct.get((method, path))

@@ -297,3 +297,15 @@ def test_a_field_missing_from_an_optional_group_says_the_group_needs_it(client):
         "cycle.blow.curve": "required with an air blow", "cycle.blow.lab_thickness": "required with an air blow"}
     # a top-level field is plainly required
     assert _msg(client, lambda b: b.pop("medium_resistance"), "medium_resistance") == "required"
+
+
+def test_a_bound_reads_the_same_in_every_message():
+    # quantities.bound_text: digits below a million, a power of ten from a million on, judged
+    # on the number as rounded (a review: 999999.5 and 10 / 1e-5 were written "1000000" where
+    # 1e6 was "1e6"); the docstring's examples, run here (pytest collects no doctests there)
+    from server.schemas.quantities import bound_text
+
+    assert [bound_text(8640000.000000001, 4), bound_text(1e-3), bound_text(100000.0), bound_text(14503.7, 4)] == \
+        ["8.64e6", "0.001", "100000", "14500"]
+    assert {bound_text(999999.5), bound_text(10 / 1e-5, 4), bound_text(1e6, 4), bound_text(1e6)} == {"1e6"}
+    assert [bound_text(-14503.7, 4), bound_text(123456.0, 2), bound_text(2.5e6)] == ["-14500", "120000", "2.5e6"]

@@ -24,9 +24,11 @@ def bound_text(value: float, digits: int = 6) -> str:
 
     >>> bound_text(8640000.000000001, 4), bound_text(1e-3), bound_text(100000.0), bound_text(14503.7, 4)
     ('8.64e6', '0.001', '100000', '14500')
+    >>> bound_text(999999.5), bound_text(10 / 1e-5, 4), bound_text(1e6, 4)
+    ('1e6', '1e6', '1e6')
     """
     text = f"{value:.{digits}g}"
-    if "e+" in text and abs(value) < 1e6:
+    if "e+" in text and abs(float(text)) < 1e6:  # as rounded: 999999.5 is 1e6, as 1e6 is
         text = f"{float(text):f}".rstrip("0").rstrip(".")
     return text.replace("e+0", "e").replace("e+", "e").replace("e-0", "e-")
 

@@ -231,6 +231,26 @@ def test_pressure_steps_follow_the_closed_form_within_their_tables():
     np.testing.assert_allclose(curve.time(V) - 600.0, held.time(V) - held.time(V1), rtol=1e-5)
 
 
+@pytest.mark.parametrize("r", [0.05, 0.3, 0.5, 0.82, 0.99])
+def test_the_cloth_series_tiers_lose_nothing(r):
+    # beyond phi = 1/2, J = -ln(psi) - H_r + psi sum_k a_k psi^k/(k + 1); the compiled J takes
+    # 14, 16, 23 or 30 terms below psi = 0.05, 0.1, 0.2, 0.3 (issue 12). Oracle: the same
+    # series written out here in Python, 400 terms added by math.fsum (exactly rounded), H_r by
+    # scipy's digamma. Agreement to 5e-15 holds with the tiers (seen: a few ulp); tiers of 9, 13
+    # and 18 terms miss it at psi just below their edges (seen: 4 of these cases fail).
+    from scipy.special import digamma
+
+    curve = CakeBasisPressureCurve(P, 1.0, B, 1.0 - r)
+    H = float(digamma(r + 1.0)) + float(np.euler_gamma)
+    for psi in (0.0499999, 0.05, 0.0999999, 0.1, 0.1999999, 0.2, 0.2999999, 0.3, 0.45):
+        a, terms = r, []
+        for k in range(400):
+            terms.append(a * psi ** k / (k + 1.0))
+            a *= (k + 1.0 - r) / (k + 2.0)
+        exact = -math.log(psi) - H + psi * math.fsum(terms)
+        assert curve._J(1.0 - psi, psi) == pytest.approx(exact, rel=5e-15, abs=0.0), psi
+
+
 @pytest.mark.parametrize("r", [1e-4, 0.01, 0.1, 0.4, 0.95, 0.9999, 1.0])
 def test_the_incomplete_beta_part_is_quads(r):
     # oracle: scipy.integrate.quad of u^r/(1 - u) (largest difference seen: 1.6e-15), on both
