@@ -89,9 +89,11 @@ def test_every_solver_path_maps_to_a_field_of_the_request():
 
 
 def test_a_limit_is_written_without_a_trailing_zero(client):
-    # "Hours a working day: must be at most 24.0" (a plant-engineer check): 24, as people write it
+    # "Hours a working day: must be at most 24.0" (a plant-engineer check): 24, as people write it,
+    # and with its unit (a later check: "must be at most 24" said neither hours nor the range)
     r = client.post("/api/v1/plan", json={"inputs": {}, "target": {"dry_solids_per_day": "100 t/day",
                                                                    "hours_per_day": 30}, "samples": 0})
     assert r.status_code == 422
     msgs = {d["field"]: d["msg"] for d in r.json()["detail"]}
-    assert msgs["target.hours_per_day"] == "must be at most 24", msgs
+    assert msgs["target.hours_per_day"] == "must be at least 0.1 h and at most 24 h; got 30 h", msgs
+

@@ -43,7 +43,9 @@ class PlanTargetIn(Strict):
     filtrate_per_day: quantity(
         "flow", gt=0.0, le=MAX_FLOW, description="Filtrate to produce, averaged over every calendar day"
     ) | None = None
-    hours_per_day: float = Field(24.0, ge=0.1, le=24.0, description="Hours a working day the presses run [h]")
+    hours_per_day: quantity(
+        "hours", ge=0.1, le=24.0, description="Hours a working day the presses run"
+    ) = 24.0  # a quantity, as the cycle target's: its refusal names the unit ("at most 24 h")
     days_per_week: float = Field(7.0, ge=1.0, le=7.0, description="Working days a week [-]")
     availability: quantity(
         "fraction", gt=0.0, le=1.0, description="Fraction of running hours the press is actually cycling"
